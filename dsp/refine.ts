@@ -1,0 +1,460 @@
+/**
+ * High-precision refinement of a fundamental frequency by a harmonic phase-slope fit.
+ *
+ * Method. The window is cut into M consecutive, non-overlapping segments, each as close as the sample grid
+ * allows to C whole periods of the coarse fundamental f̂. For every harmonic k the segment's Hann-windowed
+ * Fourier coefficient at k·f̂ is taken (complex demodulation, phase referred to the window start). For a
+ * harmonic at k·(f̂ + δ) the phase of segment m is exactly `a_k + 2π·k·δ·t_m`, where t_m is the segment's
+ * centre, because a symmetric window has a real transform. δ follows from a weighted least-squares line
+ * through the unwrapped phases of all harmonics jointly (one slope, one intercept per harmonic), with weights
+ * |c|², the inverse of each phase's noise variance at high SNR.
+ *
+ * Sources: linear regression on the phase of a sinusoid attains the Cramér–Rao bound at high SNR
+ * (S. Tretter, "Estimating the frequency of a noisy sinusoid by linear regression", IEEE Trans. Inf.
+ * Theory 31(6), 1985; S. Kay, "A fast and accurate single frequency estimator", IEEE Trans. ASSP 37(12), 1989);
+ * for a harmonic signal the per-harmonic information adds with weight k² (the bound of D. Rife and
+ * R. Boorstyn, IEEE Trans. Inf. Theory 20(5), 1974, extended to harmonic sums). Short-time phase of a
+ * windowed DFT as a frequency measurement: J. L. Flanagan and R. M. Golden, "Phase vocoder", Bell System
+ * Technical Journal 45, 1966.
+ *
+ * Why period-synchronous segments: the other harmonics and the negative-frequency image lie a whole number
+ * of cycles per segment away, so their leakage into a coefficient has the same phase in every segment and
+ * falls into the intercept instead of the slope. Mains hum is not synchronous: where a hum line falls close
+ * to a harmonic, the hum's own coefficient is measured and its known leakage subtracted (a 2×2 solve per
+ * segment); a harmonic too close to a hum line to separate is left out.
+ *
+ * The uncertainty is the slope's standard error from the fit's own residuals (weighted least squares with
+ * unknown scale), widened by the ratio of Student's t to the normal quantile for the residual degrees of
+ * freedom so that ±2 standard errors keep their coverage with few segments. Outlying segments (a DC step,
+ * a click) are down-weighted by two Huber re-weighting passes (P. J. Huber, "Robust Statistics", 1981).
+ *
+ * The class allocates its buffers once, for the largest window, harmonic count and segment count it is
+ * built for; `refine` then allocates nothing.
+ */
+
+import type { Hertz } from './units.ts';
+
+/** Mains hum lines that are cancelled or avoided: 50 and 60 Hz and their 2nd and 3rd harmonics. */
+export const HUM_LINES_HZ: readonly Hertz[] = [50, 100, 150, 60, 120, 180];
+
+/** Result of one refinement, written into a reusable object. */
+export interface RefineResult {
+  /** True when the fit succeeded. */
+  ok: boolean;
+  /** Refined fundamental, Hz. */
+  hz: number;
+  /** Standard error of `hz`, Hz (already widened for the degrees of freedom). */
+  stdErrHz: number;
+  /** Harmonics that entered the fit. */
+  harmonicsUsed: number;
+  /** Segments per harmonic. */
+  segments: number;
+  /** Power of the fitted harmonics as a fraction of the window's power (0…1, about 1 for a clean tone). */
+  explainedFraction: number;
+  /** Residual degrees of freedom. */
+  dof: number;
+}
+
+/** Creates an empty {@link RefineResult}. */
+export function emptyRefineResult(): RefineResult {
+  return { ok: false, hz: 0, stdErrHz: 0, harmonicsUsed: 0, segments: 0, explainedFraction: 0, dof: 0 };
+}
+
+// Two-sided 97.5 % quantiles of Student's t for 1…30 degrees of freedom (any statistics handbook,
+// e.g. Abramowitz & Stegun, Handbook of Mathematical Functions, table 26.10).
+const T975 = [
+  12.706, 4.303, 3.182, 2.776, 2.571, 2.447, 2.365, 2.306, 2.262, 2.228, 2.201, 2.179, 2.16, 2.145, 2.131,
+  2.12, 2.11, 2.101, 2.093, 2.086, 2.08, 2.074, 2.069, 2.064, 2.06, 2.056, 2.052, 2.048, 2.045, 2.042,
+];
+
+/** t(0.975, dof)/1.96: the factor that widens a residual-based standard error for few degrees of freedom. */
+export function smallSampleFactor(dof: number): number {
+  if (dof < 1) return 6.5;
+  if (dof <= 30) return T975[Math.floor(dof) - 1] / 1.959964;
+  // Cornish–Fisher expansion of t about the normal quantile (A&S 26.7.5), first two terms.
+  const z = 1.959964;
+  return (z + (z * z * z + z) / (4 * dof)) / z;
+}
+
+const TWO_PI = 2 * Math.PI;
+
+function wrapPi(a: number): number {
+  return a - TWO_PI * Math.round(a / TWO_PI);
+}
+
+/** Harmonic phase-slope refiner with preallocated buffers. */
+export class HarmonicRefiner {
+  readonly maxSamples: number;
+  readonly maxHarmonics: number;
+  readonly maxSegments: number;
+  private readonly win: Float64Array;
+  private readonly xw: Float64Array;
+  // Per harmonic slot × segment: complex coefficient and weights.
+  private readonly re: Float64Array;
+  private readonly im: Float64Array;
+  private readonly phase: Float64Array;
+  private readonly w: Float64Array;
+  private readonly wr: Float64Array;
+  private readonly t: Float64Array;
+  private readonly hk: Int32Array;
+  private readonly active: Uint8Array;
+  // Hum coefficients per hum line × segment.
+  private readonly humRe: Float64Array;
+  private readonly humIm: Float64Array;
+  private readonly humNeeded: Uint8Array;
+  private readonly humFor: Int32Array;
+  private readonly humG: Float64Array;
+
+  /**
+   * @param maxSamples - Longest window to refine, samples.
+   * @param maxHarmonics - Most harmonics to fit. Default 64.
+   * @param maxSegments - Most segments per window. Default 48.
+   */
+  constructor(maxSamples: number, maxHarmonics = 64, maxSegments = 48) {
+    if (!Number.isInteger(maxSamples) || maxSamples < 16) {
+      throw new RangeError(`maxSamples must be an integer ≥ 16, got ${maxSamples}`);
+    }
+    this.maxSamples = maxSamples;
+    this.maxHarmonics = maxHarmonics;
+    this.maxSegments = maxSegments;
+    this.win = new Float64Array(maxSamples);
+    this.xw = new Float64Array(maxSamples);
+    const cells = maxHarmonics * maxSegments;
+    this.re = new Float64Array(cells);
+    this.im = new Float64Array(cells);
+    this.phase = new Float64Array(cells);
+    this.w = new Float64Array(cells);
+    this.wr = new Float64Array(cells);
+    this.t = new Float64Array(maxSegments);
+    this.hk = new Int32Array(maxHarmonics);
+    this.active = new Uint8Array(maxHarmonics);
+    this.humRe = new Float64Array(HUM_LINES_HZ.length * maxSegments);
+    this.humIm = new Float64Array(HUM_LINES_HZ.length * maxSegments);
+    this.humNeeded = new Uint8Array(HUM_LINES_HZ.length);
+    this.humFor = new Int32Array(maxHarmonics);
+    this.humG = new Float64Array(maxHarmonics);
+  }
+
+  /**
+   * Refines `f0Hz` on the first `n` samples of `x` (conditioned: no DC, no non-finite values).
+   *
+   * @param x - Conditioned samples.
+   * @param n - Window length, samples, ≤ maxSamples.
+   * @param fs - Sample rate, Hz.
+   * @param f0Hz - Coarse fundamental, Hz; within a few cents of the truth is ideal, within ±1/(4C) of an
+   *   octave works (C cycles per segment).
+   * @param harmonics - Harmonic numbers to fit (ascending), as chosen by the caller from the spectrum.
+   * @param harmonicCount - How many entries of `harmonics` to use.
+   * @param totalPower - Mean square of the window, for `explainedFraction`.
+   * @param out - Receives the result.
+   * @param segmentsTarget - Desired number of segments. Default 16.
+   */
+  refine(
+    x: Float64Array,
+    n: number,
+    fs: number,
+    f0Hz: number,
+    harmonics: Int32Array,
+    harmonicCount: number,
+    totalPower: number,
+    out: RefineResult,
+    segmentsTarget = 16,
+  ): RefineResult {
+    out.ok = false;
+    const K = Math.min(harmonicCount, this.maxHarmonics);
+    const periods = (n * f0Hz) / fs;
+    if (K < 1 || periods < 2 || n > this.maxSamples) return out;
+    // At least two periods per segment once the window allows it: then a slowly varying baseline sits at
+    // the Hann window's first zero (two bins) instead of on its main lobe.
+    let C = periods >= 8 ? Math.max(2, Math.floor(periods / segmentsTarget)) : 1;
+    let L = Math.round((C * fs) / f0Hz);
+    let M = Math.floor(n / L);
+    while (M > this.maxSegments) {
+      C++;
+      L = Math.round((C * fs) / f0Hz);
+      M = Math.floor(n / L);
+    }
+    if (M < 3 || L < 4) return out;
+    const offset = Math.floor((n - M * L) / 2);
+    const win = this.win;
+    let wsum = 0;
+    for (let i = 0; i < L; i++) {
+      const s = Math.sin((Math.PI * (i + 0.5)) / L);
+      win[i] = s * s;
+      wsum += s * s;
+    }
+    const invW = 1 / wsum;
+    const segSeconds = L / fs;
+    for (let m = 0; m < M; m++) this.t[m] = (offset + m * L + (L - 1) / 2) / fs;
+
+    // Which hum lines lie close enough to a harmonic to leak into it.
+    this.humNeeded.fill(0);
+    for (let j = 0; j < K; j++) {
+      const k = harmonics[j];
+      this.hk[j] = k;
+      this.active[j] = 1;
+      this.humFor[j] = -1;
+      this.humG[j] = 0;
+      const nu = k * f0Hz;
+      let bestG = 0;
+      let best = -1;
+      for (let h = 0; h < HUM_LINES_HZ.length; h++) {
+        const bins = Math.abs(HUM_LINES_HZ[h] - nu) * segSeconds;
+        if (bins > 6) continue;
+        const g = this.windowLeak(HUM_LINES_HZ[h] - nu, L, fs) * invW;
+        if (Math.abs(g) > Math.abs(bestG)) {
+          bestG = g;
+          best = h;
+        }
+      }
+      if (best >= 0 && Math.abs(bestG) > 2e-3) {
+        if (Math.abs(bestG) >= 0.8) {
+          if (K > 1) this.active[j] = 0; // too close to separate: leave this harmonic out
+        } else {
+          this.humFor[j] = best;
+          this.humG[j] = bestG;
+          this.humNeeded[best] = 1;
+        }
+      }
+    }
+
+    // Segment coefficients.
+    const ms = this.maxSegments;
+    for (let m = 0; m < M; m++) {
+      const s0 = offset + m * L;
+      const xw = this.xw;
+      for (let i = 0; i < L; i++) xw[i] = x[s0 + i] * win[i];
+      for (let j = 0; j < K; j++) {
+        // Harmonics left out of the fit are still measured: their power counts in `explainedFraction`.
+        this.coefficient(xw, L, s0, this.hk[j] * f0Hz, fs);
+        this.re[j * ms + m] = this.pair[0] * invW;
+        this.im[j * ms + m] = this.pair[1] * invW;
+      }
+      for (let h = 0; h < HUM_LINES_HZ.length; h++) {
+        if (!this.humNeeded[h]) continue;
+        this.coefficient(xw, L, s0, HUM_LINES_HZ[h], fs);
+        this.humRe[h * ms + m] = this.pair[0] * invW;
+        this.humIm[h * ms + m] = this.pair[1] * invW;
+      }
+    }
+
+    // Hum correction, phases and weights.
+    let strongest = -1;
+    let strongestPow = 0;
+    let explained = 0;
+    for (let j = 0; j < K; j++) {
+      if (!this.active[j]) {
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          explained += (2 * (this.re[idx] * this.re[idx] + this.im[idx] * this.im[idx])) / M;
+        }
+        continue;
+      }
+      const h = this.humFor[j];
+      const g = this.humG[j];
+      let pow = 0;
+      for (let m = 0; m < M; m++) {
+        const idx = j * ms + m;
+        let cr = this.re[idx];
+        let ci = this.im[idx];
+        if (h >= 0) {
+          // c' = c − g·r·u with r = exp(j2π(h − ν)t): removes the hum line's leakage (see module comment).
+          const ang = TWO_PI * (HUM_LINES_HZ[h] - this.hk[j] * f0Hz) * this.t[m];
+          const rr = Math.cos(ang);
+          const ri = Math.sin(ang);
+          const ur = this.humRe[h * ms + m];
+          const ui = this.humIm[h * ms + m];
+          cr -= g * (rr * ur - ri * ui);
+          ci -= g * (rr * ui + ri * ur);
+          const scale = 1 / (1 - g * g);
+          cr *= scale;
+          ci *= scale;
+        }
+        const p = cr * cr + ci * ci;
+        this.phase[idx] = Math.atan2(ci, cr);
+        // Noise of the corrected coefficient grows by (1 + g²)/(1 − g²)²: weight accordingly.
+        this.w[idx] = h >= 0 ? (p * (1 - g * g) * (1 - g * g)) / (1 + g * g) : p;
+        this.wr[idx] = 1;
+        pow += p;
+      }
+      // Amplitude of harmonic = 2·|coefficient|; its power A²/2 (rotation across segments does not matter).
+      explained += (2 * pow) / M;
+      if (pow > strongestPow) {
+        strongestPow = pow;
+        strongest = j;
+      }
+    }
+    if (strongest < 0 || strongestPow <= 0) return out;
+
+    // Stage A: slope of the strongest harmonic alone, with sequential unwrapping.
+    const kA = this.hk[strongest];
+    let prev = this.phase[strongest * ms];
+    let unwrapped = prev;
+    let sw = 0;
+    let swt = 0;
+    let swy = 0;
+    let swtt = 0;
+    let swty = 0;
+    for (let m = 0; m < M; m++) {
+      const idx = strongest * ms + m;
+      if (m > 0) {
+        unwrapped += wrapPi(this.phase[idx] - prev);
+        prev = this.phase[idx];
+      }
+      const wt = this.w[idx];
+      const tm = this.t[m];
+      sw += wt;
+      swt += wt * tm;
+      swy += wt * unwrapped;
+      swtt += wt * tm * tm;
+      swty += wt * tm * unwrapped;
+    }
+    const den = sw * swtt - swt * swt;
+    if (!(den > 0)) return out;
+    const slopeA = (sw * swty - swt * swy) / den;
+    const deltaA = slopeA / (TWO_PI * kA);
+
+    // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
+    // Huber re-weighting.
+    let activeCount = 0;
+    for (let j = 0; j < K; j++) {
+      if (!this.active[j]) continue;
+      activeCount++;
+      const k = this.hk[j];
+      // Circular weighted mean of the residual phase sets the intercept used for wrapping.
+      let cr = 0;
+      let ci = 0;
+      for (let m = 0; m < M; m++) {
+        const idx = j * ms + m;
+        const r = this.phase[idx] - TWO_PI * k * deltaA * this.t[m];
+        cr += this.w[idx] * Math.cos(r);
+        ci += this.w[idx] * Math.sin(r);
+      }
+      const a0 = Math.atan2(ci, cr);
+      for (let m = 0; m < M; m++) {
+        const idx = j * ms + m;
+        this.phase[idx] = wrapPi(this.phase[idx] - TWO_PI * k * deltaA * this.t[m] - a0);
+      }
+    }
+    const nPoints = activeCount * M;
+    const dof = nPoints - activeCount - 1;
+    if (dof < 1) return out;
+
+    let delta = 0;
+    let s2 = 0;
+    let sxx = 0;
+    for (let pass = 0; pass < 3; pass++) {
+      let sxy = 0;
+      sxx = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        const k = this.hk[j];
+        let swj = 0;
+        let swtj = 0;
+        let swyj = 0;
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const ww = this.w[idx] * this.wr[idx];
+          swj += ww;
+          swtj += ww * this.t[m];
+          swyj += ww * this.phase[idx];
+        }
+        if (swj <= 0) continue;
+        const tb = swtj / swj;
+        const yb = swyj / swj;
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const ww = this.w[idx] * this.wr[idx];
+          const dt = this.t[m] - tb;
+          sxy += ww * k * dt * (this.phase[idx] - yb);
+          sxx += ww * k * k * dt * dt;
+        }
+      }
+      if (!(sxx > 0)) return out;
+      // Model: phase = a_k + (2π·k·d)·t  ⇒  d = Σ w k Δt Δy / (2π Σ w k² Δt²).
+      delta = sxy / (TWO_PI * sxx);
+      // Residuals and scale.
+      let ss = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        const k = this.hk[j];
+        let swj = 0;
+        let swtj = 0;
+        let swyj = 0;
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const ww = this.w[idx] * this.wr[idx];
+          swj += ww;
+          swtj += ww * this.t[m];
+          swyj += ww * this.phase[idx];
+        }
+        const tb = swj > 0 ? swtj / swj : 0;
+        const yb = swj > 0 ? swyj / swj : 0;
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const e = this.phase[idx] - yb - TWO_PI * k * delta * (this.t[m] - tb);
+          // Store the residual temporarily in xw-free scratch: reuse `re` (no longer needed).
+          this.re[idx] = e;
+          ss += this.w[idx] * this.wr[idx] * e * e;
+        }
+      }
+      s2 = ss / dof;
+      if (pass === 2) break;
+      const s = Math.sqrt(s2);
+      if (!(s > 0)) break;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const z = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / s;
+          this.wr[idx] = z > 3 ? 3 / z : 1;
+        }
+      }
+    }
+    const hz = f0Hz + deltaA + delta;
+    // var(d) = s² / (4π² Σ w k² Δt²)  (weighted least squares with unknown scale).
+    const se = Math.sqrt(s2 / (TWO_PI * TWO_PI * sxx)) * smallSampleFactor(dof);
+    out.ok = Number.isFinite(hz) && hz > 0 && Number.isFinite(se);
+    out.hz = hz;
+    out.stdErrHz = se;
+    out.harmonicsUsed = activeCount;
+    out.segments = M;
+    out.explainedFraction = totalPower > 0 ? Math.min(1, explained / totalPower) : 0;
+    out.dof = dof;
+    return out;
+  }
+
+  /** Real part of the Hann window's transform at offset `dHz`, about the window centre (unnormalised). */
+  private windowLeak(dHz: number, L: number, fs: number): number {
+    const c = (L - 1) / 2;
+    let acc = 0;
+    const step = (TWO_PI * dHz) / fs;
+    for (let i = 0; i < L; i++) acc += this.win[i] * Math.cos(step * (i - c));
+    return acc;
+  }
+
+  private readonly pair = new Float64Array(2);
+
+  /** Σ xw[i]·exp(−j2πν(s0+i)/fs) for i < L; phase referred to sample 0 of the window. */
+  private coefficient(xw: Float64Array, L: number, s0: number, nuHz: number, fs: number): void {
+    const cyc = (nuHz * s0) / fs;
+    const a0 = -TWO_PI * (cyc - Math.floor(cyc));
+    let pr = Math.cos(a0);
+    let pi = Math.sin(a0);
+    const st = (-TWO_PI * nuHz) / fs;
+    const sr = Math.cos(st);
+    const si = Math.sin(st);
+    let accR = 0;
+    let accI = 0;
+    for (let i = 0; i < L; i++) {
+      const v = xw[i];
+      accR += v * pr;
+      accI += v * pi;
+      const npr = pr * sr - pi * si;
+      pi = pr * si + pi * sr;
+      pr = npr;
+    }
+    this.pair[0] = accR;
+    this.pair[1] = accI;
+  }
+}
