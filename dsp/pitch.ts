@@ -16,7 +16,7 @@ import FFT from 'fft.js';
 import { PitchDetector } from 'pitchy';
 import { conditionInto, levelOf, type ConditionStats } from './condition.ts';
 import type { NoPitchReason, PitchReading, SignalLevel } from './reading.ts';
-import { emptyRefineResult, HarmonicRefiner, type RefineResult } from './refine.ts';
+import { emptyRefineResult, HarmonicRefiner, HUM_LINES_HZ, type RefineResult } from './refine.ts';
 import type { Decibels, Hertz, Seconds } from './units.ts';
 
 /** Lowest supported sample rate, Hz. */
@@ -42,6 +42,8 @@ export interface PitchOptions {
   readonly maxHarmonics?: number;
   /** Highest harmonic frequency used, as a fraction of the sample rate. Default 0.45. */
   readonly harmonicLimitFraction?: number;
+  /** Segments per window in the phase fit (3 to 48). Default 16; live readings use fewer for speed. */
+  readonly segments?: number;
   /** A frequency the caller expects (the previous reading), Hz: shortens the coarse window. */
   readonly hintHz?: Hertz;
 }
@@ -68,6 +70,7 @@ interface Resolved {
   clippedFractionLimit: number;
   maxHarmonics: number;
   harmonicLimitFraction: number;
+  segments: number;
 }
 
 function resolve(fs: number, o: PitchOptions): Resolved {
@@ -77,6 +80,10 @@ function resolve(fs: number, o: PitchOptions): Resolved {
     throw new RangeError(
       `minHz and maxHz must satisfy 0 < minHz < maxHz ≤ sampleRate/2 (${fs / 2} Hz), got ${minHz} and ${maxHz}`,
     );
+  }
+  const segments = o.segments ?? 16;
+  if (!Number.isInteger(segments) || segments < 3 || segments > 48) {
+    throw new RangeError(`segments must be an integer from 3 to 48, got ${segments}`);
   }
   const maxHarmonics = o.maxHarmonics ?? 64;
   if (!Number.isInteger(maxHarmonics) || maxHarmonics < 1 || maxHarmonics > 256) {
@@ -89,6 +96,7 @@ function resolve(fs: number, o: PitchOptions): Resolved {
     clippedFractionLimit: o.clippedFractionLimit ?? 0.01,
     maxHarmonics,
     harmonicLimitFraction: o.harmonicLimitFraction ?? 0.45,
+    segments: o.segments ?? 16,
   };
 }
 
@@ -113,6 +121,9 @@ export class PitchEstimator {
   private fftSize = 0;
   private readonly harmonics: Int32Array;
   private readonly noiseScratch = new Float64Array(64);
+  private noiseFloor = 0;
+  private readonly hann: Float64Array;
+  private hannLength = 0;
 
   /**
    * @param maxSamples - Longest window, samples (integer ≥ 64).
@@ -132,6 +143,7 @@ export class PitchEstimator {
     this.refiner = new HarmonicRefiner(maxSamples, this.opts.maxHarmonics, 48);
     const nfft = ceilPow2(maxSamples);
     this.fftIn = new Float64Array(nfft);
+    this.hann = new Float64Array(maxSamples);
     this.fftOut = new Float64Array(2 * nfft);
     this.spec = new Float64Array(nfft / 2 + 1);
     this.harmonics = new Int32Array(this.opts.maxHarmonics);
@@ -212,10 +224,14 @@ export class PitchEstimator {
     const periods = (count * f) / fs;
     if (periods < 3) return none('below-range', f);
     f = this.peakInterpolatedHz(f);
+    // A live hint within half a cent of the spectral estimate is the better centre for the phase fit: the
+    // fit is most exact at its demodulation frequency, and a steady tone then needs one pass, not two.
+    if (hint > 0 && Math.abs(f / hint - 1) < 3e-4) f = hint;
 
     // Harmonics to fit, chosen from the spectrum.
     const kCount = this.chooseHarmonics(f, periods);
     if (kCount === 0) return none('no-pitch', f);
+    const humMask = this.humPresent(f);
     const r = this.refiner.refine(
       this.work,
       count,
@@ -225,13 +241,26 @@ export class PitchEstimator {
       kCount,
       st.rms * st.rms,
       this.refined,
+      o.segments,
+      humMask,
     );
     if (!r.ok) return none('no-pitch', f);
     // A second pass, centred on the first pass's answer, when that moved by more than ~0.02 cent: the phase
     // model is exact only at the demodulation frequency, and its small leakage terms grow with the offset.
     if (Math.abs(r.hz / f - 1) > 1e-5) {
       const f2 = r.hz;
-      this.refiner.refine(this.work, count, fs, f2, this.harmonics, kCount, st.rms * st.rms, this.refined);
+      this.refiner.refine(
+        this.work,
+        count,
+        fs,
+        f2,
+        this.harmonics,
+        kCount,
+        st.rms * st.rms,
+        this.refined,
+        o.segments,
+        humMask,
+      );
       if (!this.refined.ok) return none('no-pitch', f);
     }
     const res = this.refined;
@@ -265,10 +294,14 @@ export class PitchEstimator {
       this.ffts.set(nfft, fft);
     }
     const inp = this.fftIn;
-    for (let i = 0; i < count; i++) {
-      const s = Math.sin((Math.PI * (i + 0.5)) / count);
-      inp[i] = this.work[i] * s * s;
+    if (this.hannLength !== count) {
+      for (let i = 0; i < count; i++) {
+        const s = Math.sin((Math.PI * (i + 0.5)) / count);
+        this.hann[i] = s * s;
+      }
+      this.hannLength = count;
     }
+    for (let i = 0; i < count; i++) inp[i] = this.work[i] * this.hann[i];
     for (let i = count; i < nfft; i++) inp[i] = 0;
     // fft.js reads the first `nfft` entries of the input and writes 2·nfft interleaved values.
     fft.realTransform(this.fftOut, inp);
@@ -405,6 +438,27 @@ export class PitchEstimator {
     return den > 0 ? num / den : f;
   }
 
+  /**
+   * Which mains hum lines ({@link HUM_LINES_HZ}) are present, as a bit mask. A line counts as measurable
+   * where it lies at least three bins of this window's spectrum from every harmonic; it is present when its
+   * power stands 20 dB over the noise floor. Hum comes as a family (50, 100, 150 Hz or 60, 120, 180 Hz),
+   * so one present, measurable member marks its whole family, including members hidden under a harmonic.
+   */
+  private humPresent(f: number): number {
+    const binHz = this.sampleRateHz / this.fftSize;
+    let families = 0;
+    for (let h = 0; h < HUM_LINES_HZ.length; h++) {
+      const hz = HUM_LINES_HZ[h];
+      const k = Math.max(1, Math.round(hz / f));
+      let nearest = Math.abs(hz - k * f);
+      if (k > 1) nearest = Math.min(nearest, Math.abs(hz - (k - 1) * f));
+      nearest = Math.min(nearest, Math.abs(hz - (k + 1) * f));
+      if (nearest < 3 * binHz) continue;
+      if (this.powerAt(hz) > 100 * this.noiseFloor) families |= h < 3 ? 1 : 2;
+    }
+    return (families & 1 ? 0b000111 : 0) | (families & 2 ? 0b111000 : 0);
+  }
+
   /** Picks harmonics whose spectral peak stands clear of the noise floor; returns how many. */
   private chooseHarmonics(f: number, periods: number): number {
     const limit = this.harmonicLimitHz();
@@ -431,6 +485,7 @@ export class PitchEstimator {
       }
       floor = ns[Math.floor(nn / 2)];
     }
+    this.noiseFloor = floor;
     const segments = Math.max(3, Math.min(16, Math.floor(periods)));
     let pmax = 0;
     for (let k = 1; k * f < limit && k <= this.opts.maxHarmonics; k++)

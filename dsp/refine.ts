@@ -159,6 +159,7 @@ export class HarmonicRefiner {
     totalPower: number,
     out: RefineResult,
     segmentsTarget = 16,
+    humMask = 0b111111,
   ): RefineResult {
     out.ok = false;
     const K = Math.min(harmonicCount, this.maxHarmonics);
@@ -199,6 +200,7 @@ export class HarmonicRefiner {
       let bestG = 0;
       let best = -1;
       for (let h = 0; h < HUM_LINES_HZ.length; h++) {
+        if (!(humMask & (1 << h))) continue;
         const bins = Math.abs(HUM_LINES_HZ[h] - nu) * segSeconds;
         if (bins > 6) continue;
         const g = this.windowLeak(HUM_LINES_HZ[h] - nu, L, fs) * invW;
@@ -208,6 +210,7 @@ export class HarmonicRefiner {
         }
       }
       if (best >= 0 && Math.abs(bestG) > 2e-3) {
+        this.humG[j] = bestG;
         if (Math.abs(bestG) >= 0.8) {
           if (K > 1) this.active[j] = 0; // too close to separate: leave this harmonic out
         } else {
@@ -216,6 +219,15 @@ export class HarmonicRefiner {
           this.humNeeded[best] = 1;
         }
       }
+    }
+
+    // Never leave every harmonic out: keep the one least troubled by hum, uncorrected if need be.
+    let anyActive = false;
+    for (let j = 0; j < K; j++) if (this.active[j]) anyActive = true;
+    if (!anyActive) {
+      let keep = 0;
+      for (let j = 1; j < K; j++) if (Math.abs(this.humG[j]) < Math.abs(this.humG[keep])) keep = j;
+      this.active[keep] = 1;
     }
 
     // Segment coefficients.
@@ -435,25 +447,32 @@ export class HarmonicRefiner {
 
   private readonly pair = new Float64Array(2);
 
-  /** Σ xw[i]·exp(−j2πν(s0+i)/fs) for i < L; phase referred to sample 0 of the window. */
+  /**
+   * Σ xw[i]·exp(−j2πν(s0+i)/fs) for i < L, phase referred to sample 0 of the window, by the Goertzel
+   * recurrence s[n] = x[n] + 2cos(ω)·s[n−1] − s[n−2] (G. Goertzel, "An algorithm for the evaluation of finite
+   * trigonometric series", Amer. Math. Monthly 65(1), 1958): one multiply and two adds per sample. Then
+   * Σ x[n]e^(−jωn) = e^(−jω(L−1))·(s[L−1] − e^(−jω)·s[L−2]).
+   */
   private coefficient(xw: Float64Array, L: number, s0: number, nuHz: number, fs: number): void {
-    const cyc = (nuHz * s0) / fs;
-    const a0 = -TWO_PI * (cyc - Math.floor(cyc));
-    let pr = Math.cos(a0);
-    let pi = Math.sin(a0);
-    const st = (-TWO_PI * nuHz) / fs;
-    const sr = Math.cos(st);
-    const si = Math.sin(st);
-    let accR = 0;
-    let accI = 0;
+    const w = (TWO_PI * nuHz) / fs;
+    const coeff = 2 * Math.cos(w);
+    let s1 = 0;
+    let s2 = 0;
     for (let i = 0; i < L; i++) {
-      const v = xw[i];
-      accR += v * pr;
-      accI += v * pi;
-      const npr = pr * sr - pi * si;
-      pi = pr * si + pi * sr;
-      pr = npr;
+      const s = xw[i] + coeff * s1 - s2;
+      s2 = s1;
+      s1 = s;
     }
+    // y = s1 − e^(−jω)·s2
+    const yr = s1 - Math.cos(w) * s2;
+    const yi = Math.sin(w) * s2;
+    // Total phase factor e^(−jω(L−1 + s0)), with the cycle count reduced first for accuracy.
+    const cyc = (nuHz * (L - 1 + s0)) / fs;
+    const a0 = -TWO_PI * (cyc - Math.floor(cyc));
+    const pr = Math.cos(a0);
+    const pi = Math.sin(a0);
+    const accR = yr * pr - yi * pi;
+    const accI = yr * pi + yi * pr;
     this.pair[0] = accR;
     this.pair[1] = accI;
   }
