@@ -226,12 +226,14 @@ export class PitchEstimator {
     f = this.peakInterpolatedHz(f);
     // A live hint within half a cent of the spectral estimate is the better centre for the phase fit: the
     // fit is most exact at its demodulation frequency, and a steady tone then needs one pass, not two.
-    if (hint > 0 && Math.abs(f / hint - 1) < 3e-4) f = hint;
+    const hinted = hint > 0 && Math.abs(f / hint - 1) < 3e-4;
+    if (hinted) f = hint;
 
     // Harmonics to fit, chosen from the spectrum.
     const kCount = this.chooseHarmonics(f, periods);
     if (kCount === 0) return none('no-pitch', f);
     const humMask = this.humPresent(f);
+    const power = st.rms * st.rms;
     const r = this.refiner.refine(
       this.work,
       count,
@@ -239,24 +241,23 @@ export class PitchEstimator {
       f,
       this.harmonics,
       kCount,
-      st.rms * st.rms,
+      power,
       this.refined,
       o.segments,
       humMask,
     );
     if (!r.ok) return none('no-pitch', f);
-    // A second pass, centred on the first pass's answer, when that moved by more than ~0.02 cent: the phase
-    // model is exact only at the demodulation frequency, and its small leakage terms grow with the offset.
-    if (Math.abs(r.hz / f - 1) > 1e-5) {
-      const f2 = r.hz;
+    // A second pass centred on the first pass's answer, where the phase model is exact. Skipped only when
+    // a hinted first pass landed within ~0.02 cent of its centre.
+    if (!hinted || Math.abs(r.hz / f - 1) > 1e-5) {
       this.refiner.refine(
         this.work,
         count,
         fs,
-        f2,
+        r.hz,
         this.harmonics,
         kCount,
-        st.rms * st.rms,
+        power,
         this.refined,
         o.segments,
         humMask,

@@ -78,6 +78,34 @@ export function smallSampleFactor(dof: number): number {
 
 const TWO_PI = 2 * Math.PI;
 
+/** Median of the first `n` entries of `a` by quickselect (Hoare); reorders them, allocates nothing. */
+export function selectMedian(a: Float64Array, n: number): number {
+  if (n <= 0) return 0;
+  const k = n >> 1;
+  let lo = 0;
+  let hi = n - 1;
+  while (lo < hi) {
+    const pivot = a[(lo + hi) >> 1];
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        const t = a[i];
+        a[i] = a[j];
+        a[j] = t;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else break;
+  }
+  return a[k];
+}
+
 function wrapPi(a: number): number {
   return a - TWO_PI * Math.round(a / TWO_PI);
 }
@@ -104,6 +132,7 @@ export class HarmonicRefiner {
   private readonly humNeeded: Uint8Array;
   private readonly humFor: Int32Array;
   private readonly humG: Float64Array;
+  private readonly scratch: Float64Array;
 
   /**
    * @param maxSamples - Longest window to refine, samples.
@@ -133,6 +162,7 @@ export class HarmonicRefiner {
     this.humNeeded = new Uint8Array(HUM_LINES_HZ.length);
     this.humFor = new Int32Array(maxHarmonics);
     this.humG = new Float64Array(maxHarmonics);
+    this.scratch = new Float64Array(cells);
   }
 
   /**
@@ -148,6 +178,7 @@ export class HarmonicRefiner {
    * @param totalPower - Mean square of the window, for `explainedFraction`.
    * @param out - Receives the result.
    * @param segmentsTarget - Desired number of segments. Default 16.
+   * @param humMask - Bit h set: hum line HUM_LINES_HZ[h] is present and is cancelled or avoided.
    */
   refine(
     x: Float64Array,
@@ -355,7 +386,8 @@ export class HarmonicRefiner {
     let delta = 0;
     let s2 = 0;
     let sxx = 0;
-    for (let pass = 0; pass < 3; pass++) {
+    let dofOut = dof;
+    for (let pass = 0; pass < 4; pass++) {
       let sxy = 0;
       sxx = 0;
       for (let j = 0; j < K; j++) {
@@ -410,29 +442,46 @@ export class HarmonicRefiner {
           ss += this.w[idx] * this.wr[idx] * e * e;
         }
       }
-      s2 = ss / dof;
-      if (pass === 2) break;
-      const s = Math.sqrt(s2);
-      if (!(s > 0)) break;
+      // Robust scale from the median absolute standardised residual (1.4826·MAD estimates σ for normal
+      // errors), then Tukey's biweight with c = 4.685·σ: a segment hit by a click or a DC step gets weight 0
+      // instead of pulling the slope (Huber, "Robust Statistics"; Mosteller & Tukey, 1977).
+      let nu = 0;
+      let nEff = 0;
       for (let j = 0; j < K; j++) {
         if (!this.active[j]) continue;
         for (let m = 0; m < M; m++) {
           const idx = j * ms + m;
-          const z = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / s;
-          this.wr[idx] = z > 3 ? 3 / z : 1;
+          this.scratch[nu++] = Math.abs(this.re[idx]) * Math.sqrt(this.w[idx]);
+          nEff += this.wr[idx];
+        }
+      }
+      const effDof = nEff - activeCount - 1;
+      s2 = effDof > 0 ? ss / effDof : 0;
+      dofOut = effDof;
+      if (pass === 3) break;
+      const scale = 1.4826 * selectMedian(this.scratch, nu);
+      if (!(scale > 0)) break;
+      const c = 4.685 * scale;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const u = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / c;
+          this.wr[idx] = u < 1 ? (1 - u * u) * (1 - u * u) : 0;
         }
       }
     }
     const hz = f0Hz + deltaA + delta;
     // var(d) = s² / (4π² Σ w k² Δt²)  (weighted least squares with unknown scale).
-    const se = Math.sqrt(s2 / (TWO_PI * TWO_PI * sxx)) * smallSampleFactor(dof);
+    if (!(dofOut >= 1)) return out;
+    const se = Math.sqrt(s2 / (TWO_PI * TWO_PI * sxx)) * smallSampleFactor(dofOut);
     out.ok = Number.isFinite(hz) && hz > 0 && Number.isFinite(se);
     out.hz = hz;
     out.stdErrHz = se;
     out.harmonicsUsed = activeCount;
     out.segments = M;
     out.explainedFraction = totalPower > 0 ? Math.min(1, explained / totalPower) : 0;
-    out.dof = dof;
+    out.dof = dofOut;
     return out;
   }
 
