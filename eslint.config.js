@@ -19,7 +19,10 @@ export default tseslint.config(
         'error',
         {
           patterns: [
-            { group: ['node:*', 'fs', 'path', 'os', 'child_process'], message: 'dsp/ must not use Node APIs.' },
+            {
+              group: ['node:*', 'fs', 'path', 'os', 'child_process'],
+              message: 'dsp/ must not use Node APIs.',
+            },
             { group: ['electron', 'electron/*'], message: 'dsp/ must not use Electron.' },
             { group: ['react', 'react-dom', 'react/*', 'react-dom/*'], message: 'dsp/ must not use React.' },
           ],

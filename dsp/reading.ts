@@ -11,13 +11,7 @@ import type { Cents, Decibels, Hertz, Seconds } from './units.ts';
  * - `bad-samples`: the block held NaN or infinite values (they are replaced by zeros and the window restarts).
  */
 export type NoPitchReason =
-  | 'silent'
-  | 'clipped'
-  | 'no-pitch'
-  | 'below-range'
-  | 'above-range'
-  | 'warming-up'
-  | 'bad-samples';
+  'silent' | 'clipped' | 'no-pitch' | 'below-range' | 'above-range' | 'warming-up' | 'bad-samples';
 
 /** Signal level of the analysed window. */
 export interface SignalLevel {

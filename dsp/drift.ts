@@ -1,0 +1,205 @@
+/**
+ * Warm-up and drift at one fixed control voltage. Practice is to warm up for 15–30 minutes, or until
+ * the drift stays under about 0.1 cent per minute (FIELD-NOTES, common practice). The rate is the
+ * ordinary least-squares slope of cents against time over a trailing window (the regression slope
+ * of any statistics text, e.g. Bevington & Robinson ch. 6), computed for every window end from
+ * running sums in O(n).
+ */
+import type { Cents, Hertz, Seconds } from './units.ts';
+
+/** One pitch reading at the fixed voltage. */
+export interface DriftReading {
+  /** Time of the reading, s; strictly increasing through the array. */
+  readonly timeSeconds: Seconds;
+  /** Measured frequency, Hz, > 0. */
+  readonly hz: Hertz;
+}
+
+/** Options for {@link analyzeDrift} and {@link driftRateSeries}. */
+export interface DriftOptions {
+  /** Length of the trailing window for the rate, s, > 0. Default 120. */
+  readonly windowSeconds?: Seconds;
+  /** Rate under which the oscillator counts as settled, cents per minute, > 0. Default 0.1. */
+  readonly thresholdCentsPerMinute?: number;
+  /** How long the rate must have stayed under the threshold, after it first did, to call it settled, s, ≥ 0. Default 60. */
+  readonly confirmSeconds?: Seconds;
+}
+
+/** The rate stayed under the threshold from `warmUpSeconds` to the end. */
+export interface DriftSettled {
+  readonly kind: 'settled';
+  /**
+   * Time from the first reading to the end of the first trailing window whose rate, and every later
+   * one's, stayed under the threshold, s: the moment the oscillator could be called warm.
+   */
+  readonly warmUpSeconds: Seconds;
+  /** Absolute time of that moment (same clock as the readings), s. */
+  readonly settledAtSeconds: Seconds;
+  /** Last reading minus the first reading at or after `settledAtSeconds`, cents. */
+  readonly totalDriftCents: Cents;
+  /** Rate over the final trailing window, cents per minute. */
+  readonly driftRateCentsPerMinute: number;
+  /** Largest |rate| of any full window after settling, cents per minute. */
+  readonly maxSettledRateCentsPerMinute: number;
+}
+
+/** The rate has not stayed under the threshold (long enough) yet. */
+export interface DriftNotSettled {
+  readonly kind: 'not-yet-settled';
+  /** Last reading minus the first reading, cents. */
+  readonly totalDriftCents: Cents;
+  /** Rate over the final trailing window, cents per minute. */
+  readonly driftRateCentsPerMinute: number;
+}
+
+/** Not enough data: fewer than 3 readings, or the readings span less than one window. */
+export interface DriftNone {
+  readonly kind: 'none';
+  readonly reason: 'too-few-readings' | 'shorter-than-window';
+}
+
+/** Outcome of {@link analyzeDrift}. */
+export type DriftResult = DriftSettled | DriftNotSettled | DriftNone;
+
+/** One point of the rate-versus-time curve. */
+export interface DriftRatePoint {
+  /** End time of the trailing window, s. */
+  readonly timeSeconds: Seconds;
+  /** Least-squares slope over the window, cents per minute. */
+  readonly centsPerMinute: number;
+}
+
+function validate(readings: readonly DriftReading[], opts: DriftOptions) {
+  const windowSeconds = opts.windowSeconds ?? 120;
+  const threshold = opts.thresholdCentsPerMinute ?? 0.1;
+  const confirm = opts.confirmSeconds ?? 60;
+  if (!Number.isFinite(windowSeconds) || windowSeconds <= 0) {
+    throw new RangeError(`windowSeconds must be a finite number greater than 0, got ${windowSeconds}`);
+  }
+  if (!Number.isFinite(threshold) || threshold <= 0) {
+    throw new RangeError(`thresholdCentsPerMinute must be a finite number greater than 0, got ${threshold}`);
+  }
+  if (!Number.isFinite(confirm) || confirm < 0) {
+    throw new RangeError(`confirmSeconds must be a finite number at least 0, got ${confirm}`);
+  }
+  readings.forEach((r, i) => {
+    if (!Number.isFinite(r.timeSeconds)) {
+      throw new RangeError(`readings[${i}].timeSeconds must be a finite number, got ${r.timeSeconds}`);
+    }
+    if (i > 0 && !(r.timeSeconds > readings[i - 1].timeSeconds)) {
+      throw new RangeError(
+        `readings[${i}].timeSeconds must be greater than readings[${i - 1}].timeSeconds (${readings[i - 1].timeSeconds}), got ${r.timeSeconds}`,
+      );
+    }
+    if (!Number.isFinite(r.hz) || r.hz <= 0) {
+      throw new RangeError(`readings[${i}].hz must be a finite number greater than 0, got ${r.hz}`);
+    }
+  });
+  return { windowSeconds, threshold, confirm };
+}
+
+/** Rate series over full windows with at least 3 readings, from prefix sums of t, t², c and t·c. */
+function rates(readings: readonly DriftReading[], windowSeconds: number): DriftRatePoint[] {
+  const n = readings.length;
+  if (n === 0) return [];
+  const t0 = readings[0].timeSeconds;
+  const f0 = readings[0].hz;
+  const st = new Float64Array(n + 1);
+  const stt = new Float64Array(n + 1);
+  const sc = new Float64Array(n + 1);
+  const stc = new Float64Array(n + 1);
+  for (let i = 0; i < n; i++) {
+    const t = readings[i].timeSeconds - t0;
+    const c = 1200 * Math.log2(readings[i].hz / f0);
+    st[i + 1] = st[i] + t;
+    stt[i + 1] = stt[i] + t * t;
+    sc[i + 1] = sc[i] + c;
+    stc[i + 1] = stc[i] + t * c;
+  }
+  const out: DriftRatePoint[] = [];
+  let start = 0;
+  for (let j = 0; j < n; j++) {
+    const tEnd = readings[j].timeSeconds;
+    if (tEnd - t0 < windowSeconds) continue;
+    while (readings[start].timeSeconds < tEnd - windowSeconds) start++;
+    const m = j - start + 1;
+    if (m < 3) continue;
+    const sT = st[j + 1] - st[start];
+    const sTT = stt[j + 1] - stt[start];
+    const sC = sc[j + 1] - sc[start];
+    const sTC = stc[j + 1] - stc[start];
+    const varT = sTT - (sT * sT) / m;
+    if (!(varT > 0)) continue;
+    const slope = (sTC - (sT * sC) / m) / varT; // cents per second
+    out.push({ timeSeconds: tEnd, centsPerMinute: slope * 60 });
+  }
+  return out;
+}
+
+/**
+ * Drift rate against time: the least-squares slope of cents (relative to the first reading) over
+ * each trailing window `[t − windowSeconds, t]`, for every reading time t at least one window after
+ * the first reading whose window holds at least 3 readings.
+ *
+ * @param readings - Readings at one voltage, strictly increasing in time, Hz > 0.
+ * @param opts - `windowSeconds` (default 120).
+ * @returns One point per qualifying reading, in time order (empty when none qualify).
+ * @throws RangeError naming the first invalid field or option.
+ * @example
+ * // One reading a second drifting a steady 0.25 cent per minute:
+ * driftRateSeries(readings, { windowSeconds: 60 })[0] // { timeSeconds: 60, centsPerMinute: 0.25 }
+ */
+export function driftRateSeries(
+  readings: readonly DriftReading[],
+  opts: DriftOptions = {},
+): DriftRatePoint[] {
+  const { windowSeconds } = validate(readings, opts);
+  return rates(readings, windowSeconds);
+}
+
+/**
+ * Total drift, current drift rate and warm-up time of an oscillator held at one voltage.
+ *
+ * The warm-up time is the end of the first full trailing window from which every later window's rate
+ * stays under `thresholdCentsPerMinute` (default 0.1 cent/min, FIELD-NOTES common practice), provided
+ * that stretch lasts at least `confirmSeconds`; otherwise the result is `'not-yet-settled'`.
+ *
+ * @param readings - Readings at one voltage, strictly increasing in time, Hz > 0.
+ * @param opts - Window, threshold and confirmation time.
+ * @returns Settled, not yet settled, or `{ kind: 'none', reason }` when there is too little data.
+ * @throws RangeError naming the first invalid field or option.
+ * @example
+ * // One reading a second for an hour, settling as 5·(1 − e^(−t/300 s)) cents:
+ * analyzeDrift(readings) // { kind: 'settled', warmUpSeconds: 752, totalDriftCents: 0.408…, driftRateCentsPerMinute: 0.000 008…, … }
+ */
+export function analyzeDrift(readings: readonly DriftReading[], opts: DriftOptions = {}): DriftResult {
+  const { windowSeconds, threshold, confirm } = validate(readings, opts);
+  if (readings.length < 3) return { kind: 'none', reason: 'too-few-readings' };
+  const series = rates(readings, windowSeconds);
+  if (series.length === 0) return { kind: 'none', reason: 'shorter-than-window' };
+  const last = readings[readings.length - 1];
+  const finalRate = series[series.length - 1].centsPerMinute;
+  // First index from which every rate stays under the threshold.
+  let k = series.length;
+  while (k > 0 && Math.abs(series[k - 1].centsPerMinute) < threshold) k--;
+  const cents = (a: DriftReading, b: DriftReading) => 1200 * Math.log2(b.hz / a.hz);
+  if (k === series.length || last.timeSeconds - series[k].timeSeconds < confirm) {
+    return {
+      kind: 'not-yet-settled',
+      totalDriftCents: cents(readings[0], last),
+      driftRateCentsPerMinute: finalRate,
+    };
+  }
+  const settledAt = series[k].timeSeconds;
+  const firstSettled = readings.find((r) => r.timeSeconds >= settledAt) ?? last;
+  let maxRate = 0;
+  for (let i = k; i < series.length; i++) maxRate = Math.max(maxRate, Math.abs(series[i].centsPerMinute));
+  return {
+    kind: 'settled',
+    warmUpSeconds: settledAt - readings[0].timeSeconds,
+    settledAtSeconds: settledAt,
+    totalDriftCents: cents(firstSettled, last),
+    driftRateCentsPerMinute: finalRate,
+    maxSettledRateCentsPerMinute: maxRate,
+  };
+}

@@ -1,0 +1,105 @@
+import { describe, it, expect } from 'vitest';
+import { linearRegression } from 'simple-statistics';
+import { analyzeDrift, driftRateSeries, type DriftReading } from '../dsp/drift.ts';
+import { gaussianNoise } from './signals.ts';
+
+/** Readings every `dt` s for `seconds`, with pitch offset `cents(t)` on 220 Hz plus noise. */
+function readings(
+  seconds: number,
+  dt: number,
+  cents: (t: number) => number,
+  noise = 0,
+  seed = 1,
+): DriftReading[] {
+  const n = Math.floor(seconds / dt) + 1;
+  const nz = gaussianNoise(n, noise, seed);
+  return Array.from({ length: n }, (_, i) => ({
+    timeSeconds: i * dt,
+    hz: 220 * 2 ** ((cents(i * dt) + nz[i]) / 1200),
+  }));
+}
+
+describe('driftRateSeries', () => {
+  it('is the least-squares slope over each trailing window (simple-statistics linearRegression)', () => {
+    const r = readings(600, 2, (t) => 3 * (1 - Math.exp(-t / 200)), 0.02, 3);
+    const series = driftRateSeries(r, { windowSeconds: 120 });
+    expect(series.length).toBeGreaterThan(0);
+    for (const p of [series[0], series[Math.floor(series.length / 2)], series[series.length - 1]]) {
+      const win = r.filter((x) => x.timeSeconds >= p.timeSeconds - 120 && x.timeSeconds <= p.timeSeconds);
+      // simple-statistics 7.12 linearRegression on (t, cents).
+      const ref = linearRegression(win.map((x) => [x.timeSeconds, 1200 * Math.log2(x.hz / r[0].hz)]));
+      expect(p.centsPerMinute).toBeCloseTo(ref.m * 60, 9);
+    }
+    expect(series[0].timeSeconds).toBe(120);
+  });
+
+  it('is exact for a linear drift', () => {
+    const series = driftRateSeries(
+      readings(300, 1, (t) => (0.25 * t) / 60),
+      { windowSeconds: 60 },
+    );
+    series.forEach((p) => expect(p.centsPerMinute).toBeCloseTo(0.25, 9));
+  });
+});
+
+describe('analyzeDrift', () => {
+  it('finds the warm-up time of an exponential settling', () => {
+    // Thermal tail: c(t) = 5·(1 − e^(−t/τ)), τ = 300 s; rate = 5/τ·e^(−t/τ)·60 cents/min. Over a 120 s
+    // window the slope of an exponential is (e^(W/τ) − 1)/(W/τ) times the rate at the window's end, so it
+    // first falls under 0.1 cent/min at the end time t = τ·ln(60·5/τ/0.1 · (e^(W/τ) − 1)/(W/τ)) to within the
+    // least-squares weighting (derived); 0.1 cent/min is the FIELD-NOTES warm-up criterion (common practice).
+    const tau = 300;
+    const W = 120;
+    const r = readings(3600, 1, (t) => 5 * (1 - Math.exp(-t / tau)), 0.001, 4);
+    const d = analyzeDrift(r, { windowSeconds: W });
+    expect(d.kind).toBe('settled');
+    if (d.kind !== 'settled') return;
+    const predicted = tau * Math.log(((60 * 5) / tau / 0.1) * ((Math.exp(W / tau) - 1) / (W / tau)));
+    expect(Math.abs(d.warmUpSeconds - predicted)).toBeLessThan(3);
+    expect(Math.abs(d.driftRateCentsPerMinute)).toBeLessThan(0.1);
+    expect(d.maxSettledRateCentsPerMinute).toBeLessThan(0.1);
+    const expectedTotal = 5 * (Math.exp(-d.settledAtSeconds / tau) - Math.exp(-3600 / tau));
+    expect(d.totalDriftCents).toBeCloseTo(expectedTotal, 2);
+  });
+
+  it('reports not-yet-settled while the rate stays above the threshold', () => {
+    const d = analyzeDrift(readings(900, 1, (t) => (0.5 * t) / 60));
+    expect(d.kind).toBe('not-yet-settled');
+    if (d.kind !== 'not-yet-settled') return;
+    expect(d.driftRateCentsPerMinute).toBeCloseTo(0.5, 6);
+    expect(d.totalDriftCents).toBeCloseTo(7.5, 6);
+  });
+
+  it('needs the settled stretch to last confirmSeconds', () => {
+    // Drifts at 0.5 cent/min for 600 s, then stops: the last 120 s window is flat only at the very end.
+    const r = readings(730, 1, (t) => (Math.min(t, 600) * 0.5) / 60);
+    expect(analyzeDrift(r).kind).toBe('not-yet-settled');
+    expect(analyzeDrift(r, { confirmSeconds: 0 }).kind).toBe('settled');
+  });
+
+  it('gives typed non-answers', () => {
+    expect(analyzeDrift(readings(2, 1, () => 0).slice(0, 2))).toEqual({
+      kind: 'none',
+      reason: 'too-few-readings',
+    });
+    expect(analyzeDrift(readings(60, 1, () => 0))).toEqual({ kind: 'none', reason: 'shorter-than-window' });
+  });
+
+  it('rejects invalid input', () => {
+    expect(() =>
+      analyzeDrift([
+        { timeSeconds: 0, hz: 1 },
+        { timeSeconds: 0, hz: 1 },
+      ]),
+    ).toThrow('readings[1].timeSeconds must be greater than readings[0].timeSeconds (0), got 0');
+    expect(() => analyzeDrift([{ timeSeconds: 0, hz: 0 }])).toThrow(
+      'readings[0].hz must be a finite number greater than 0, got 0',
+    );
+    expect(() => analyzeDrift([], { windowSeconds: 0 })).toThrow(
+      'windowSeconds must be a finite number greater than 0, got 0',
+    );
+    expect(() => analyzeDrift([], { thresholdCentsPerMinute: -1 })).toThrow(
+      'thresholdCentsPerMinute must be a finite number greater than 0, got -1',
+    );
+  });
+});
