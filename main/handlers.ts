@@ -1,0 +1,164 @@
+/**
+ * The IPC handlers: what each channel does. Electron's `dialog` and the records store come in as
+ * parameters, so every handler runs in plain Node tests with a fake dialog and a temporary folder.
+ */
+import { readFile, stat } from 'node:fs/promises';
+import path from 'node:path';
+import { atomicWriteFile } from './atomic-file.ts';
+import { MAX_RECORD_FILE_BYTES, MAX_WAV_BYTES, MiB, type AppInfo } from './ipc-contract.ts';
+import { IpcError, type IpcHandlers } from './ipc.ts';
+import { WINDOWS_RESERVED_NAMES } from './record-id.ts';
+import { parseRecordText, type RecordsStore } from './records-store.ts';
+
+/** The subset of Electron's dialog options used here. */
+export interface FileFilter {
+  name: string;
+  extensions: string[];
+}
+
+/** Electron's `dialog`, bound to the main window by main.ts, or a fake. */
+export interface DialogLike {
+  showSaveDialog(options: {
+    title?: string;
+    defaultPath?: string;
+    filters?: FileFilter[];
+  }): Promise<{ canceled: boolean; filePath?: string }>;
+  showOpenDialog(options: {
+    title?: string;
+    filters?: FileFilter[];
+    properties?: Array<'openFile'>;
+  }): Promise<{ canceled: boolean; filePaths: string[] }>;
+}
+
+export interface HandlerDeps {
+  store: RecordsStore;
+  dialog: DialogLike;
+  appInfo(): AppInfo;
+  /** Folder the export dialog opens in (the user's documents folder in main.ts). */
+  exportDir?(): string;
+}
+
+/**
+ * Makes a name safe to offer in a save dialog on every platform: no folders, none of
+ * `< > : " / \ | ? *` or control characters (reserved on Windows: Microsoft Learn, "Naming Files,
+ * Paths, and Namespaces"), no leading or trailing dots or spaces, at most 120 characters, and the
+ * format's extension. A reserved device name (`CON`, `NUL`, `COM1`…, reserved even with an
+ * extension, same source) gets a trailing `_`.
+ *
+ * @example safeExportName('../../VCO 2: before/after', 'csv') // → 'after.csv'
+ * @example safeExportName('VCO 2: before', 'json') // → 'VCO 2 before.json'
+ */
+export function safeExportName(suggested: string, format: 'json' | 'csv'): string {
+  const base = suggested.split(/[/\\]/).pop() ?? '';
+  let name = base
+    // eslint-disable-next-line no-control-regex -- control characters are exactly what is removed
+    .replace(/[<>:"|?*\u0000-\u001f\u007f]/g, '')
+    .replace(/\s+/g, ' ')
+    .replace(/^[\s.]+|[\s.]+$/g, '')
+    .slice(0, 120)
+    .trim();
+  const ext = `.${format}`;
+  if (name.toLowerCase().endsWith(ext)) name = name.slice(0, -ext.length).replace(/[\s.]+$/g, '');
+  if (name === '') name = 'spanmeter-export';
+  if (WINDOWS_RESERVED_NAMES.includes(name.split('.')[0].trim().toLowerCase())) name = `${name}_`;
+  return `${name}${ext}`;
+}
+
+/**
+ * True when the bytes start like a WAV file: `RIFF`, `RF64` or `BW64` at 0 and `WAVE` at 8.
+ * Sources: Microsoft/IBM "Multimedia Programming Interface and Data Specifications 1.0" (1991,
+ * RIFF/WAVE); EBU Tech 3306 (RF64); ITU-R BS.2088 (BW64).
+ *
+ * @example looksLikeWav(new TextEncoder().encode('RIFF\0\0\0\0WAVEfmt ')) // → true
+ */
+export function looksLikeWav(bytes: Uint8Array): boolean {
+  if (bytes.byteLength < 12) return false;
+  const tag = (offset: number) => String.fromCharCode(...bytes.subarray(offset, offset + 4));
+  return ['RIFF', 'RF64', 'BW64'].includes(tag(0)) && tag(8) === 'WAVE';
+}
+
+function mib(bytes: number): string {
+  return `${(bytes / MiB).toFixed(1)} MiB`;
+}
+
+/** Builds the handler of every channel. */
+export function createHandlers(deps: HandlerDeps): IpcHandlers {
+  const { store, dialog } = deps;
+
+  async function pickOne(title: string, filters: FileFilter[]): Promise<string | null> {
+    const picked = await dialog.showOpenDialog({ title, filters, properties: ['openFile'] });
+    if (picked.canceled || picked.filePaths.length === 0) return null;
+    return picked.filePaths[0];
+  }
+
+  return {
+    'records:list': () => store.list(),
+    'records:load': ({ id }) => store.load(id),
+    'records:save': (draft) => store.save(draft),
+    'records:delete': ({ id }) => store.delete(id),
+
+    'records:export': async ({ format, suggestedName, content }) => {
+      const name = safeExportName(suggestedName, format);
+      const chosen = await dialog.showSaveDialog({
+        title: format === 'csv' ? 'Export as CSV' : 'Export as JSON',
+        defaultPath: deps.exportDir ? path.join(deps.exportDir(), name) : name,
+        filters:
+          format === 'csv'
+            ? [{ name: 'CSV (comma-separated values)', extensions: ['csv'] }]
+            : [{ name: 'JSON', extensions: ['json'] }],
+      });
+      if (chosen.canceled || !chosen.filePath) return { kind: 'cancelled' as const };
+      const target = path.extname(chosen.filePath) === '' ? `${chosen.filePath}.${format}` : chosen.filePath;
+      await atomicWriteFile(target, content);
+      return { kind: 'saved' as const, fileName: path.basename(target) };
+    },
+
+    'records:import': async () => {
+      const file = await pickOne('Import a unit record', [
+        { name: 'Spanmeter record (JSON)', extensions: ['json'] },
+      ]);
+      if (file === null) return { kind: 'cancelled' as const };
+      const fileName = path.basename(file);
+      const info = await stat(file);
+      if (info.size > MAX_RECORD_FILE_BYTES) {
+        throw new IpcError(
+          'file-too-large',
+          `${fileName} is ${mib(info.size)}; a record file is at most ${mib(MAX_RECORD_FILE_BYTES)}.`,
+        );
+      }
+      const parsed = parseRecordText(await readFile(file, 'utf8'));
+      if (parsed.kind === 'unsupported') {
+        throw new IpcError('unsupported-schema-version', `${fileName} cannot be imported: ${parsed.reason}.`);
+      }
+      if (parsed.kind === 'corrupt') {
+        throw new IpcError('invalid-file', `${fileName} is not a Spanmeter record: ${parsed.reason}.`);
+      }
+      return { kind: 'imported' as const, fileName, record: parsed.record };
+    },
+
+    'run:autosave': ({ state }) => store.saveAutosave(state),
+    'run:load-autosave': () => store.loadAutosave(),
+    'run:clear-autosave': () => store.clearAutosave(),
+    'app:info': () => deps.appInfo(),
+
+    'wav:open': async () => {
+      const file = await pickOne('Open a recording', [{ name: 'WAV audio', extensions: ['wav', 'wave'] }]);
+      if (file === null) return { kind: 'cancelled' as const };
+      const fileName = path.basename(file);
+      const info = await stat(file);
+      if (!info.isFile()) throw new IpcError('invalid-file', `${fileName} is not a file.`);
+      if (info.size > MAX_WAV_BYTES) {
+        throw new IpcError(
+          'file-too-large',
+          `${fileName} is ${mib(info.size)}; the limit is ${mib(MAX_WAV_BYTES)}. Trim the recording and try again.`,
+        );
+      }
+      const buffer = await readFile(file);
+      const bytes = new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
+      if (!looksLikeWav(bytes)) {
+        throw new IpcError('invalid-file', `${fileName} is not a WAV file (no RIFF/WAVE header).`);
+      }
+      return { kind: 'opened' as const, fileName, sizeBytes: bytes.byteLength, bytes };
+    },
+  };
+}

@@ -1,0 +1,54 @@
+// Shared fixtures for the main-process tests. The unit, its serial and notes are an invented demo
+// scenario; the frequencies are derived, not invented (see sampleRun).
+import type { UnitRecord, UnitRecordDraft } from '../main/ipc-contract.ts';
+
+/** C2 in 12-TET with A4 = 440 Hz: 440·2^((36 − 69)/12) = 65.4064 Hz (ISO 16:1975 tuning, MIDI note 36). */
+export const C2_HZ = 440 * 2 ** ((36 - 69) / 12);
+
+/** A run over 0–4 V of an ideal 1 V/oct oscillator pivoted at C2: f = C2·2^V. */
+export function sampleRun(id = '3f2a9c1e-0b7d-4e5a-9c61-2d8e4f7a1b90', label = 'before') {
+  const volts = [0, 1, 2, 3, 4];
+  return {
+    id,
+    takenAt: '2031-03-14T09:30:00.000Z',
+    label,
+    plan: { volts },
+    result: {
+      steps: volts.map((v, i) => ({
+        volts: v,
+        hz: C2_HZ * 2 ** v,
+        uncertaintyCents: 0.05,
+        centsFromIdeal: 0,
+        intervalErrorCents: i === 0 ? null : 0,
+      })),
+      fit: { octavesPerVolt: 1, scaleErrorCentsPerOctave: 0, hzAt0V: C2_HZ, maxResidualCents: 0 },
+      advice: [{ text: 'Tracking is within ±2 cents over four octaves.', severity: 'info' }],
+    },
+  };
+}
+
+/** A new record (no id yet) for the invented bench unit "Kestrel VCO rev C". */
+export function sampleDraft(overrides: Partial<UnitRecordDraft> = {}): UnitRecordDraft {
+  return {
+    schemaVersion: 1,
+    unitName: 'Kestrel VCO rev C',
+    serial: 'KS-0042',
+    notes: 'Left on the bench overnight before the first run.',
+    roomTempC: 22.5,
+    meterUsed: '4½-digit bench meter, 20 V range',
+    warmUpMinutes: 30,
+    runs: [sampleRun()],
+    ...overrides,
+  };
+}
+
+/** A complete stored record. */
+export function sampleRecord(overrides: Partial<UnitRecord> = {}): UnitRecord {
+  return {
+    ...(sampleDraft() as UnitRecord),
+    id: 'kestrel-vco-rev-c-k3m9x2qa',
+    createdAt: '2031-03-14T09:00:00.000Z',
+    updatedAt: '2031-03-14T10:00:00.000Z',
+    ...overrides,
+  };
+}
