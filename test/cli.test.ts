@@ -1,0 +1,379 @@
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { spawnSync } from 'node:child_process';
+import { chmodSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { Midi } from '@tonaljs/tonal';
+import wavefile from 'wavefile';
+import { run } from '../cli/main.ts';
+import {
+  formatHz,
+  formatSignedCents,
+  formatUncertainty,
+  stepsToJson,
+  type AnalysisStep,
+} from '../cli/format.ts';
+import { parseAnalyzeArgs } from '../cli/analyze.ts';
+import { gaussianNoise, tone } from './signals.ts';
+
+// In-process runs of `bench` hit this stand-in, which fails the way a bug would; spawned runs (the real
+// command line, through the bundle) are not affected by vi.mock.
+vi.mock('../cli/bench.ts', () => ({
+  main: async () => {
+    throw new Error('simulated bug\nwith a second line');
+  },
+}));
+
+const ROOT = join(import.meta.dirname, '..');
+let dir = '';
+
+interface Ran {
+  readonly code: number | null;
+  readonly stdout: string;
+  readonly stderr: string;
+}
+
+/** Run `node scripts/run-cli.mjs …args` as a user would (`npm run analyze -- …` does exactly this). */
+function cli(...args: string[]): Ran {
+  const r = spawnSync(process.execPath, [join(ROOT, 'scripts', 'run-cli.mjs'), ...args], {
+    cwd: ROOT,
+    encoding: 'utf8',
+    env: { ...process.env, SPANMETER_DEBUG: '' },
+    timeout: 60_000,
+  });
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+}
+
+/** Expect a failure: exactly one line on stderr, nothing on stdout, the given exit code. */
+function expectFailure(r: Ran, code: number, pattern: RegExp): void {
+  expect(r.stdout, 'stdout').toBe('');
+  expect(r.stderr.endsWith('\n'), `stderr: ${r.stderr}`).toBe(true);
+  expect(r.stderr.trimEnd().split('\n'), 'one line on stderr').toHaveLength(1);
+  expect(r.stderr.trimEnd()).toMatch(pattern);
+  expect(r.code).toBe(code);
+}
+
+function writeWav(name: string, channels: Float64Array[], rate: number, depth: '16' | '24' | '32f'): string {
+  const full = depth === '16' ? 32767 : depth === '24' ? 8388607 : 1;
+  const coded = channels.map((c) => Array.from(c, (x) => (depth === '32f' ? x : Math.round(x * full))));
+  const wav = new wavefile.WaveFile();
+  wav.fromScratch(channels.length, rate, depth, channels.length === 1 ? coded[0] : coded);
+  const path = join(dir, name);
+  writeFileSync(path, wav.toBuffer());
+  return path;
+}
+
+interface JsonStep {
+  volts: number | null;
+  hz: number;
+  uncertaintyCents: number;
+  note: string;
+  centsFromNote: number;
+  [k: string]: unknown;
+}
+
+/** Parse `--json` output, checking it is exactly one JSON object on one line with only `steps` at the top. */
+function parseJsonOutput(r: Ran): JsonStep[] {
+  expect(r.stderr).toBe('');
+  expect(r.code).toBe(0);
+  expect(r.stdout.endsWith('\n')).toBe(true);
+  expect(r.stdout.trimEnd().split('\n')).toHaveLength(1);
+  const parsed = JSON.parse(r.stdout) as { steps: JsonStep[] };
+  expect(Object.keys(parsed)).toEqual(['steps']);
+  return parsed.steps;
+}
+
+let files: Record<string, string> = {};
+
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'spanmeter-cli-'));
+  // Tones at published 12-TET frequencies (A4 = 440 Hz, ISO 16:1975), from tonal's Midi.midiToFreq.
+  const c4 = Midi.midiToFreq(60);
+  const a2 = Midi.midiToFreq(45);
+  // 12.5 cents sharp of A4: 440·2^(12.5/1200) (Ellis, 1885).
+  const a4Sharp = 440 * 2 ** (12.5 / 1200);
+  files = {
+    c4: writeWav('c4.wav', [tone('sine', c4, 48000, 1, { amplitude: 0.5 })], 48000, '16'),
+    a2saw24: writeWav('a2-saw.wav', [tone('saw', a2, 96000, 1, { amplitude: 0.4 })], 96000, '24'),
+    stereo: writeWav(
+      'stereo.wav',
+      [new Float64Array(44100), tone('square', a4Sharp, 44100, 1, { amplitude: 0.3 })],
+      44100,
+      '32f',
+    ),
+    tuned432: writeWav('a432.wav', [tone('triangle', 432, 48000, 1, { amplitude: 0.5 })], 48000, '16'),
+    silence: writeWav('silence.wav', [new Float64Array(48000)], 48000, '16'),
+    noise: writeWav('noise.wav', [gaussianNoise(48000, 0.2, 7)], 48000, '16'),
+  };
+  const good = new Uint8Array(readFileSync(files.c4));
+  files.truncated = join(dir, 'truncated.wav');
+  writeFileSync(files.truncated, good.subarray(0, 44 + 1200));
+  files.headerOnly = join(dir, 'header-only.wav');
+  const header = good.slice(0, 44);
+  new DataView(header.buffer).setUint32(40, 0, true);
+  new DataView(header.buffer).setUint32(4, 36, true);
+  writeFileSync(files.headerOnly, header);
+  files.mp3 = join(dir, 'take.mp3.wav');
+  writeFileSync(files.mp3, Uint8Array.from([0x49, 0x44, 0x33, 4, 0, 0, 0, 0, 0, 0]));
+  files.folder = join(dir, 'folder.wav');
+  mkdirSync(files.folder);
+  // Build the bundle once up front, so each test below times only its own run.
+  cli('--help');
+});
+
+afterAll(() => {
+  if (dir) rmSync(dir, { recursive: true, force: true });
+});
+
+describe('spanmeter analyze --json', () => {
+  it('prints exactly one JSON object and nothing else; C4 reads as C4 at 0.00 cents', () => {
+    const [step, ...more] = parseJsonOutput(cli('analyze', files.c4, '--json'));
+    expect(more).toHaveLength(0);
+    expect(step.volts).toBeNull();
+    expect(step.note).toBe(Midi.midiToNoteName(60, { sharps: true })); // 'C4' (tonal)
+    // To a hundredth of a cent of 261.6256 Hz (ISO 16 / tonal), checked in cents (Ellis, 1885).
+    expect(Math.abs(1200 * Math.log2(step.hz / Midi.midiToFreq(60)))).toBeLessThan(0.01);
+    expect(Math.abs(step.centsFromNote)).toBeLessThan(0.01);
+    expect(step.uncertaintyCents).toBeGreaterThan(0);
+    expect(step.uncertaintyCents).toBeLessThan(0.01);
+  });
+
+  it('a 24-bit saw at A2 (110 Hz) reads as A2', () => {
+    const [step] = parseJsonOutput(cli('analyze', files.a2saw24, '--json'));
+    expect(step.note).toBe(Midi.midiToNoteName(45, { sharps: true })); // 'A2'
+    expect(Math.abs(step.centsFromNote)).toBeLessThan(0.01);
+  });
+
+  it('--channel 2 picks the right channel of a stereo file: a square 12.50 cents sharp of A4', () => {
+    const [step] = parseJsonOutput(cli('analyze', files.stereo, '--channel', '2', '--json'));
+    expect(step.note).toBe('A4');
+    expect(step.centsFromNote).toBeCloseTo(12.5, 2);
+  });
+
+  it('--a4 432 names notes against 432 Hz; at 440 the same tone is −31.77 cents from A4', () => {
+    const [at432] = parseJsonOutput(cli('analyze', files.tuned432, '--a4', '432', '--json'));
+    expect(at432.note).toBe('A4');
+    expect(Math.abs(at432.centsFromNote)).toBeLessThan(0.01);
+    expect(at432.a4Hz).toBe(432);
+    const [at440] = parseJsonOutput(cli('analyze', files.tuned432, '--json'));
+    expect(at440.centsFromNote).toBeCloseTo(1200 * Math.log2(432 / 440), 2); // Ellis, 1885
+  });
+});
+
+describe('spanmeter analyze (report)', () => {
+  it('prints frequency, note, cents, uncertainty (1σ), level and window', () => {
+    const r = cli('analyze', files.c4);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const out = r.stdout;
+    expect(out).toMatch(/^c4\.wav: channel 1 of 1, 48000 Hz, 16-bit PCM, 1\.000 s\n/);
+    expect(out).toMatch(/^frequency\s+261\.6255\d\d Hz$/m);
+    expect(out).toMatch(/^note\s+C4 [+-]0\.00 cents \(C4 = 261\.625565 Hz\)$/m);
+    expect(out).toMatch(/^reference\s+A4 = 440 Hz, middle C = C4$/m);
+    expect(out).toMatch(/^uncertainty\s+±[\d.]+ cents \(1σ, standard error\), ±[\d.]+ Hz$/m);
+    expect(out).toMatch(/^level\s+-\d+\.\d dBFS RMS, -\d+\.\d dBFS peak$/m);
+    expect(out).toMatch(/^window\s+1\.000 s, \d+ harmonics?, clarity [01]\.\d{3}$/m);
+  });
+
+  it('--help prints the usage on stdout', () => {
+    const r = cli('analyze', '--help');
+    expect(r.code).toBe(0);
+    expect(r.stderr).toBe('');
+    expect(r.stdout).toMatch(/^usage: spanmeter analyze FILE\.wav/);
+    expect(r.stdout).toContain('--channel N');
+  });
+});
+
+describe('spanmeter analyze: errors are one line on stderr, nothing on stdout, non-zero exit', () => {
+  it.each<[string, string[], number, RegExp]>([
+    ['a missing file', ['nope.wav'], 1, /^spanmeter analyze: no such file: '.*nope\.wav'$/],
+    ['a directory', ['<folder>'], 1, /^spanmeter analyze: '.*folder\.wav' is a directory, not a WAV file$/],
+    ['not a WAV', ['<mp3>'], 1, /: not a WAV file: it starts with 'ID3' \(an MP3 file\) instead of 'RIFF'$/],
+    [
+      'a truncated file',
+      ['<truncated>'],
+      1,
+      /: truncated: the data chunk declares 96000 bytes but only 1200 are present \(0\.013 s of 1\.000 s\)$/,
+    ],
+    ['a header with no frames', ['<headerOnly>'], 1, /: empty: the file holds no audio frames$/],
+    [
+      'digital silence',
+      ['<silence>'],
+      1,
+      /^spanmeter analyze: no pitch: the channel holds only digital silence/,
+    ],
+    ['noise', ['<noise>'], 1, /^spanmeter analyze: no pitch: /],
+    [
+      'a channel the file lacks',
+      ['<stereo>', '--channel', '3'],
+      1,
+      /: no channel 3: the file has 2 channels, numbered 1 to 2$/,
+    ],
+    [
+      '--channel 0',
+      ['<c4>', '--channel', '0'],
+      2,
+      /--channel must be a whole number from 1 to 65535, got '0'$/,
+    ],
+    [
+      '--channel x',
+      ['<c4>', '--channel', 'x'],
+      2,
+      /--channel must be a whole number from 1 to 65535, got 'x'$/,
+    ],
+    ['--channel with no value', ['<c4>', '--channel'], 2, /option --channel needs a value: --channel N$/],
+    ['--a4 1000', ['<c4>', '--a4', '1000'], 2, /--a4 must be a number from 380 to 500 Hz, got '1000'$/],
+    ['--a4 abc', ['<c4>', '--a4', 'abc'], 2, /--a4 must be a number from 380 to 500 Hz, got 'abc'$/],
+    ['--a4 -440', ['<c4>', '--a4', '-440'], 2, /--a4 must be a number from 380 to 500 Hz, got '-440'$/],
+    [
+      'an unknown option',
+      ['<c4>', '--frobnicate'],
+      2,
+      /unknown option '--frobnicate'; analyze takes --channel N/,
+    ],
+    ['no file', [], 2, /missing the WAV file to analyse/],
+    ['two files', ['<c4>', '<c4>'], 2, /expected one WAV file, got 2/],
+    [
+      '--points (not yet)',
+      ['<c4>', '--points', '-1,0,1'],
+      1,
+      /--points \(a multi-step run\) is not yet supported/,
+    ],
+    ['a bad --points list', ['<c4>', '--points', '0,x'], 2, /item 2 is 'x'$/],
+    ['--settle alone', ['<c4>', '--settle', '2'], 2, /--settle applies only to a multi-step run/],
+  ])('%s', (_name, args, code, pattern) => {
+    const resolved = args.map((a) =>
+      a.startsWith('<') ? files[a.slice(1, -1)] : a === 'nope.wav' ? join(dir, a) : a,
+    );
+    expectFailure(cli('analyze', ...resolved), code, pattern);
+    // The same with --json: still nothing on stdout.
+    if (code === 1) expectFailure(cli('analyze', ...resolved, '--json'), code, pattern);
+  });
+
+  it.skipIf(process.getuid?.() === 0)('an unreadable file (skipped as root, who can read anything)', () => {
+    const p = join(dir, 'locked.wav');
+    writeFileSync(p, 'RIFF');
+    chmodSync(p, 0o000);
+    expectFailure(cli('analyze', p), 1, /cannot read '.*locked\.wav': permission denied$/);
+  });
+});
+
+describe('spanmeter (dispatcher)', () => {
+  it('--help lists the commands on stdout', () => {
+    const r = cli('--help');
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/^usage: spanmeter <command> \[args\]/);
+    for (const c of ['analyze', 'simulate', 'bench']) expect(r.stdout).toMatch(new RegExp(`^  ${c} `, 'm'));
+  });
+
+  it('no command prints the usage on stderr with exit code 2', () => {
+    const r = cli();
+    expect(r.code).toBe(2);
+    expect(r.stdout).toBe('');
+    expect(r.stderr).toMatch(/^usage: spanmeter/);
+  });
+
+  it('an unknown command', () => {
+    expectFailure(
+      cli('frobnicate'),
+      2,
+      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, bench/,
+    );
+  });
+
+  it('any other error is an internal error: one line, exit 70, no stack unless SPANMETER_DEBUG=1', async () => {
+    const out: string[] = [];
+    const err: string[] = [];
+    const io = { stdout: (t: string) => void out.push(t), stderr: (t: string) => void err.push(t) };
+    const before = process.env.SPANMETER_DEBUG;
+    try {
+      delete process.env.SPANMETER_DEBUG;
+      expect(await run(['bench'], io)).toBe(70);
+      expect(out).toEqual([]);
+      expect(err).toEqual(['spanmeter: internal error: simulated bug with a second line\n']);
+      err.length = 0;
+      process.env.SPANMETER_DEBUG = '1';
+      expect(await run(['bench'], io)).toBe(70);
+      expect(err[0]).toBe('spanmeter: internal error: simulated bug with a second line\n');
+      expect(err[1]).toMatch(/^Error: simulated bug\n/);
+    } finally {
+      if (before === undefined) delete process.env.SPANMETER_DEBUG;
+      else process.env.SPANMETER_DEBUG = before;
+    }
+  });
+});
+
+describe('argument parsing (in process)', () => {
+  it('defaults: channel 1, A4 = 440 Hz, report', () => {
+    expect(parseAnalyzeArgs(['vco.wav'])).toEqual({
+      file: 'vco.wav',
+      channel: 1,
+      a4Hz: 440,
+      json: false,
+      points: undefined,
+      settleSeconds: undefined,
+    });
+  });
+
+  it('parses --points (negative values need no =) and --settle for the multi-step run', () => {
+    expect(parseAnalyzeArgs(['vco.wav', '--points', '-2,-1,0,1.5,+3', '--settle', '0.75'])).toMatchObject({
+      points: [-2, -1, 0, 1.5, 3],
+      settleSeconds: 0.75,
+    });
+    expect(parseAnalyzeArgs(['--points=-1,1', 'vco.wav'])).toMatchObject({ points: [-1, 1] });
+  });
+
+  it('--help', () => {
+    expect(parseAnalyzeArgs(['-h'])).toBe('help');
+  });
+});
+
+describe('output formatting', () => {
+  it('frequency with 6 decimals resolves a hundredth of a cent down to 1 Hz (a ratio of 5.78e-6, Ellis 1885)', () => {
+    expect(formatHz(261.6255653005986)).toBe('261.625565');
+    expect(10 ** -6 / 1).toBeLessThan(2 ** (0.01 / 1200) - 1);
+  });
+
+  it.each([
+    [0, '+0.00'],
+    [-0.004, '+0.00'],
+    [-0.005001, '-0.01'],
+    [3.14159, '+3.14'],
+    [-49.999, '-50.00'],
+  ])('signed cents %f → %s', (c, s) => {
+    expect(formatSignedCents(c)).toBe(s);
+  });
+
+  // Two significant digits for an uncertainty: JCGM 100:2008 (GUM), 7.2.6.
+  it.each([
+    [0.0001234, '0.00012'],
+    [0.0012, '0.0012'],
+    [0.0999, '0.100'],
+    [2.345, '2.3'],
+    [17.2, '17'],
+    [0, '0'],
+  ])('uncertainty %f → %s', (u, s) => {
+    expect(formatUncertainty(u)).toBe(s);
+  });
+
+  it('JSON: volts, hz and uncertaintyCents first; non-finite levels become null', () => {
+    const step: AnalysisStep = {
+      volts: null,
+      a4Hz: 440,
+      note: { name: 'A4', midi: 69, noteHz: 440, cents: 0 },
+      reading: {
+        kind: 'ok',
+        hz: 440,
+        uncertaintyCents: 0.001,
+        clarity: 0.99,
+        level: { rmsDbfs: -Infinity, peakDbfs: -6, clippedFraction: 0 },
+        windowSeconds: 1,
+        harmonicsUsed: 3,
+        timeSeconds: 0,
+      },
+    };
+    const text = stepsToJson([step]);
+    expect(text.startsWith('{"steps":[{"volts":null,"hz":440,"uncertaintyCents":0.001,')).toBe(true);
+    expect(JSON.parse(text).steps[0].rmsDbfs).toBeNull();
+  });
+});
