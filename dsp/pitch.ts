@@ -44,6 +44,8 @@ export interface PitchOptions {
   readonly harmonicLimitFraction?: number;
   /** Segments per window in the phase fit (3 to 48). Default 16; live readings use fewer for speed. */
   readonly segments?: number;
+  /** Use a spectrum no longer than the window (faster; for live readings). Default false. */
+  readonly fastSpectrum?: boolean;
   /** A frequency the caller expects (the previous reading), Hz: shortens the coarse window. */
   readonly hintHz?: Hertz;
 }
@@ -55,6 +57,12 @@ export function checkSampleRate(fs: number): void {
       `sampleRateHz must be between ${MIN_SAMPLE_RATE_HZ} and ${MAX_SAMPLE_RATE_HZ} Hz, got ${fs}`,
     );
   }
+}
+
+function floorPow2(v: number): number {
+  let p = 1;
+  while (p * 2 <= v) p *= 2;
+  return p;
 }
 
 function ceilPow2(v: number): number {
@@ -71,6 +79,7 @@ interface Resolved {
   maxHarmonics: number;
   harmonicLimitFraction: number;
   segments: number;
+  fastSpectrum: boolean;
 }
 
 function resolve(fs: number, o: PitchOptions): Resolved {
@@ -97,6 +106,7 @@ function resolve(fs: number, o: PitchOptions): Resolved {
     maxHarmonics,
     harmonicLimitFraction: o.harmonicLimitFraction ?? 0.45,
     segments: o.segments ?? 16,
+    fastSpectrum: o.fastSpectrum ?? false,
   };
 }
 
@@ -189,8 +199,8 @@ export class PitchEstimator {
     // Coarse: McLeod pitch method on the central part of the window.
     const hint = hintHz > 0 ? hintHz : 0;
     const coarseWanted = hint > 0 ? (4 * fs) / hint : (3 * fs) / o.minHz;
-    let lc = Math.min(ceilPow2(Math.max(1024, coarseWanted)), count);
-    if (lc < 64) lc = count;
+    // Always a power of two, so the per-size detectors stay few (one per size, made on first use).
+    const lc = Math.min(ceilPow2(Math.max(1024, coarseWanted)), floorPow2(count));
     const c0 = Math.floor((count - lc) / 2);
     let coarse = this.detectors.get(lc);
     if (!coarse) {
@@ -248,8 +258,8 @@ export class PitchEstimator {
     );
     if (!r.ok) return none('no-pitch', f);
     // A second pass centred on the first pass's answer, where the phase model is exact. Skipped only when
-    // a hinted first pass landed within ~0.02 cent of its centre.
-    if (!hinted || Math.abs(r.hz / f - 1) > 1e-5) {
+    // a hinted first pass landed within ~0.05 cent of its centre (its bias is a few per cent of that offset).
+    if (!hinted || Math.abs(r.hz / f - 1) > 3e-5) {
       this.refiner.refine(
         this.work,
         count,
@@ -287,7 +297,13 @@ export class PitchEstimator {
 
   /** Hann-windowed power spectrum of the conditioned window into `spec` (bins 0…nfft/2). */
   private spectrum(count: number): void {
-    const nfft = ceilPow2(Math.max(count, 64));
+    // The spectrum only guides the octave decision, the choice of harmonics and the hum check. Live
+    // readings use the largest power of two inside the window (half the work, ≥ 5 cycles by construction);
+    // settled measurements zero-pad to cover all of it.
+    const fit = this.opts.fastSpectrum && count >= 128;
+    const nfft = fit ? floorPow2(count) : ceilPow2(Math.max(count, 64));
+    const len = fit ? nfft : count;
+    const off = fit ? (count - nfft) >> 1 : 0;
     this.fftSize = nfft;
     let fft = this.ffts.get(nfft);
     if (!fft) {
@@ -295,15 +311,15 @@ export class PitchEstimator {
       this.ffts.set(nfft, fft);
     }
     const inp = this.fftIn;
-    if (this.hannLength !== count) {
-      for (let i = 0; i < count; i++) {
-        const s = Math.sin((Math.PI * (i + 0.5)) / count);
+    if (this.hannLength !== len) {
+      for (let i = 0; i < len; i++) {
+        const s = Math.sin((Math.PI * (i + 0.5)) / len);
         this.hann[i] = s * s;
       }
-      this.hannLength = count;
+      this.hannLength = len;
     }
-    for (let i = 0; i < count; i++) inp[i] = this.work[i] * this.hann[i];
-    for (let i = count; i < nfft; i++) inp[i] = 0;
+    for (let i = 0; i < len; i++) inp[i] = this.work[off + i] * this.hann[i];
+    for (let i = len; i < nfft; i++) inp[i] = 0;
     // fft.js reads the first `nfft` entries of the input and writes 2·nfft interleaved values.
     fft.realTransform(this.fftOut, inp);
     const out = this.fftOut;
@@ -455,7 +471,7 @@ export class PitchEstimator {
       if (k > 1) nearest = Math.min(nearest, Math.abs(hz - (k - 1) * f));
       nearest = Math.min(nearest, Math.abs(hz - (k + 1) * f));
       if (nearest < 3 * binHz) continue;
-      if (this.powerAt(hz) > 100 * this.noiseFloor) families |= h < 3 ? 1 : 2;
+      if (this.noiseFloor > 0 && this.powerAt(hz) > 100 * this.noiseFloor) families |= h < 3 ? 1 : 2;
     }
     return (families & 1 ? 0b000111 : 0) | (families & 2 ? 0b111000 : 0);
   }

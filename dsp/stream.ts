@@ -29,7 +29,7 @@ export interface TrackerOptions extends Omit<PitchOptions, 'timeSeconds' | 'hint
   readonly channelCount?: number;
   /** Zero-based channel to analyse. Default 0. */
   readonly channel?: number;
-  /** Harmonics fitted per live reading (settled averages use up to 64). Default 16. */
+  /** Harmonics fitted per live reading (settled averages use up to 64). Default 12. */
   readonly liveHarmonics?: number;
 }
 
@@ -78,7 +78,7 @@ export class PitchTracker {
     this.minCycles = req('minCycles', options.minCycles ?? 10, 3, 1000);
     this.channelCount = req('channelCount', options.channelCount ?? 1, 1, 64, true);
     this.channel = req('channel', options.channel ?? 0, 0, this.channelCount - 1, true);
-    const liveHarmonics = req('liveHarmonics', options.liveHarmonics ?? 16, 1, 256, true);
+    const liveHarmonics = req('liveHarmonics', options.liveHarmonics ?? 12, 1, 256, true);
     this.hop = Math.max(1, Math.round(fs / this.readingsPerSecond));
     this.minWindow = Math.round(minW * fs);
     this.maxWindow = Math.round(maxW * fs);
