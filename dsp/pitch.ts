@@ -198,7 +198,8 @@ export class PitchEstimator {
 
     // Coarse: McLeod pitch method on the central part of the window.
     const hint = hintHz > 0 ? hintHz : 0;
-    const coarseWanted = hint > 0 ? (4 * fs) / hint : (3 * fs) / o.minHz;
+    // With a hint, 2.5 periods are enough for the NSDF peak; without one, 3 periods of the lowest pitch.
+    const coarseWanted = hint > 0 ? (2.5 * fs) / hint : (3 * fs) / o.minHz;
     // Always a power of two, so the per-size detectors stay few (one per size, made on first use).
     const lc = Math.min(ceilPow2(Math.max(1024, coarseWanted)), floorPow2(count));
     const c0 = Math.floor((count - lc) / 2);
