@@ -1,15 +1,21 @@
 /**
  * `spanmeter analyze FILE.wav`: measure the pitch of a recorded oscillator.
  *
- * Today it measures one steady tone over the whole file. The multi-step run (`--points V1,V2,… --settle S`:
- * one plateau per control voltage, each measured after it settles) is parsed already and refused with a
- * clear message until it lands; it will produce more {@link AnalysisStep}s through the same formatters.
+ * Without `--points` it measures one steady tone over the whole file. With `--points V1,V2,…` it analyses a
+ * recorded calibration pass (`dsp/recording.ts`): finds the settled steps in order, maps them to the
+ * voltages, and prints the error table, the tracking fit and the trim advice.
  */
 import { readFileSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
 import { A4_HZ, nearestNote } from '../dsp/notes.ts';
 import { estimatePitch } from '../dsp/pitch.ts';
 import type { Hertz, Seconds, Volts } from '../dsp/units.ts';
+import {
+  analyzeRecording,
+  describePlateauSpans,
+  recordingToJson,
+  type RecordingAnalysisError,
+} from '../dsp/recording.ts';
 import { decodeWav, pickChannel, type WavDecoded } from '../dsp/wav.ts';
 import {
   EXIT_USAGE,
@@ -20,7 +26,14 @@ import {
   parseNumberOption,
 } from './args.ts';
 import { CliError } from './errors.ts';
-import { describeNoPitch, describeWav, formatStepReport, stepsToJson, type AnalysisStep } from './format.ts';
+import {
+  describeNoPitch,
+  describeWav,
+  formatRecordingReport,
+  formatStepReport,
+  stepsToJson,
+  type AnalysisStep,
+} from './format.ts';
 
 /** Range accepted for `--a4`, Hz: wide enough for every concert pitch in use, narrow enough to catch typos. */
 export const A4_RANGE_HZ: readonly [Hertz, Hertz] = [380, 500];
@@ -38,9 +51,13 @@ const OPTIONS = {
   points: {
     type: 'string',
     value: 'V1,V2,…',
-    help: 'control voltages of a multi-step run (not yet supported)',
+    help: 'control voltages of a recorded calibration pass, in the order played',
   },
-  settle: { type: 'string', value: 'SECONDS', help: 'settling time per step of a multi-step run' },
+  settle: {
+    type: 'string',
+    value: 'SECONDS',
+    help: 'time each step must hold still before it is measured (default 0.5)',
+  },
 } as const;
 
 /** Parsed, validated options of `spanmeter analyze`. */
@@ -65,11 +82,17 @@ export const ANALYZE_USAGE = `usage: spanmeter analyze FILE.wav [options]
 Measures the pitch of a steady tone recorded from an oscillator: frequency, nearest
 equal-tempered note (middle C = C4), cents from it, and the reading's uncertainty.
 
+With --points it analyses a calibration pass instead: the oscillator stepped through
+the listed control voltages (1 V/oct), each held until it settles. It finds the
+settled steps in order, one per voltage, and prints the error table, the tracking
+fit (octaves per volt, scale error) and which trimmer to turn.
+
 options:
 ${formatOptionsHelp(OPTIONS)}
 
 Reads 8/16/24/32-bit PCM and 32/64-bit float WAV files at 8000-384000 Hz.
-Exit status: 0 on a reading, 1 when the file cannot be read or holds no pitch, 2 on misuse.
+Exit status: 0 on a result, 1 when the file cannot be read, holds no pitch or its settled
+steps do not match --points, 2 on misuse.
 
 Recording: a modular oscillator's audio (about 10 V peak to peak) overloads a line
 input; attenuate it first, keep phantom power off, and follow your interface's manual.`;
@@ -155,6 +178,23 @@ export function measureSteadyTone(samples: Float32Array, sampleRateHz: Hertz, a4
 }
 
 /**
+ * The one-line message for a recording that gave no analysis. A plateau-count mismatch names how many
+ * settled steps were found, when, and how many voltages `--points` lists.
+ *
+ * @example describeRecordingError(mismatch)
+ * // 'found 4 plateaus (at 0.6–2.0 s, 2.8–4.1 s, 5.0–6.3 s, 7.2–8.5 s) but --points lists 5 voltages: …'
+ */
+export function describeRecordingError(err: RecordingAnalysisError): string {
+  if (err.code !== 'plateau-count-mismatch') return err.message;
+  const n = err.plateaus.length;
+  return (
+    `found ${n} plateau${n === 1 ? '' : 's'} (at ${describePlateauSpans(err.plateaus)}) but --points lists ` +
+    `${err.expected} voltage${err.expected === 1 ? '' : 's'}: each voltage needs its own settled step, ` +
+    'held still for at least the settle time'
+  );
+}
+
+/**
  * Run `spanmeter analyze` with the arguments after the command name.
  *
  * Writes the report (or, with `--json`, exactly one JSON line) to stdout; errors are thrown as
@@ -168,14 +208,24 @@ export async function main(args: string[]): Promise<number> {
     process.stdout.write(`${ANALYZE_USAGE}\n`);
     return 0;
   }
-  if (opts.points !== undefined) {
-    throw new CliError(
-      '--points (a multi-step run) is not yet supported; for now analyze measures one steady tone: leave out --points and --settle',
-    );
-  }
   const decoded = readWavFile(opts.file);
   const picked = pickChannel(decoded, opts.channel);
   if (picked.kind === 'error') throw new CliError(`${opts.file}: ${picked.message}`);
+  if (opts.points !== undefined) {
+    const analysis = analyzeRecording(picked.samples, decoded.sampleRateHz, {
+      points: opts.points,
+      a4Hz: opts.a4Hz,
+      ...(opts.settleSeconds === undefined ? {} : { settleSeconds: opts.settleSeconds }),
+    });
+    if (analysis.kind === 'error') throw new CliError(describeRecordingError(analysis));
+    if (opts.json) {
+      process.stdout.write(`${JSON.stringify(recordingToJson(analysis))}\n`);
+    } else {
+      const header = describeWav(basename(opts.file), decoded, opts.channel);
+      process.stdout.write(`${header}\n${formatRecordingReport(analysis)}\n`);
+    }
+    return 0;
+  }
   const steps = [measureSteadyTone(picked.samples, decoded.sampleRateHz, opts.a4Hz)];
 
   if (opts.json) {

@@ -1,7 +1,8 @@
 /**
  * Text and JSON output of the command-line tools. Pure functions: numbers in, strings out.
  */
-import type { NearestNote } from '../dsp/notes.ts';
+import { nearestNote, type NearestNote } from '../dsp/notes.ts';
+import type { RecordingAnalysisOk } from '../dsp/recording.ts';
 import type { PitchNone, PitchOk } from '../dsp/reading.ts';
 import type { Cents, Decibels, Hertz, Seconds, Volts } from '../dsp/units.ts';
 import type { WavDecoded } from '../dsp/wav.ts';
@@ -179,4 +180,164 @@ export function describeNoPitch(r: PitchNone): string {
     case 'bad-samples':
       return 'no pitch: the file holds samples that are not numbers (NaN or infinite)';
   }
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Multi-step recordings
+// ---------------------------------------------------------------------------------------------------
+
+/**
+ * A voltage with three decimals (a millivolt, 1.2 cents at 1 V/oct, FIELD-NOTES), or `—` when unknown.
+ *
+ * @example formatVolts(2) // '2.000'
+ */
+export function formatVolts(v: Volts | null): string {
+  return v === null ? '—' : v.toFixed(3);
+}
+
+/** Left- or right-aligned columns under a header, two spaces apart. */
+function alignColumns(
+  header: readonly string[],
+  rows: readonly (readonly string[])[],
+  left: ReadonlySet<number>,
+) {
+  const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => r[c].length)));
+  const line = (cells: readonly string[]) =>
+    cells
+      .map((cell, c) => (left.has(c) ? cell.padEnd(widths[c]) : cell.padStart(widths[c])))
+      .join('  ')
+      .trimEnd();
+  return [line(header), ...rows.map(line)].join('\n');
+}
+
+/**
+ * The error table of a multi-step recording: one aligned row per step with the control voltage, the
+ * frequency, the nearest note and the cents from it, the cents from the ideal 1 V/oct line through the
+ * first step, the interval error to the previous step, the standard uncertainty (1σ, JCGM 100:2008) and
+ * the settled span it was measured in.
+ *
+ * @example formatRecordingTable(analysis).split('\n')[0]
+ * // '    V           Hz  note  from note  from ideal  interval error  ±1σ cents  settled'
+ */
+export function formatRecordingTable(analysis: RecordingAnalysisOk): string {
+  const hasMeasured = analysis.steps.some((s) => s.measuredVolts !== null);
+  const header = [
+    'V',
+    ...(hasMeasured ? ['meter V'] : []),
+    'Hz',
+    'note',
+    'from note',
+    'from ideal',
+    'interval error',
+    '±1σ cents',
+    'settled',
+  ];
+  const dash = (v: Cents | null) => (v === null ? '—' : formatSignedCents(v));
+  const rows = analysis.steps.map((s) => [
+    formatVolts(s.volts),
+    ...(hasMeasured ? [formatVolts(s.measuredVolts)] : []),
+    formatHz(s.hz),
+    s.note.name,
+    formatSignedCents(s.note.cents),
+    dash(s.centsFromIdeal),
+    dash(s.intervalErrorCents),
+    formatUncertainty(s.uncertaintyCents),
+    `${s.startSeconds.toFixed(1)}–${s.endSeconds.toFixed(1)} s${s.source === 'readings' ? ' *' : ''}`,
+  ]);
+  const noteCol = hasMeasured ? 3 : 2;
+  return alignColumns(header, rows, new Set([noteCol, header.length - 1]));
+}
+
+/**
+ * The tracking fit in two or three lines: octaves per volt and the scale error with their standard
+ * errors, the pitch at 0 V, the largest residual and the span; the trusted middle and the end bends
+ * when the bend analysis found any.
+ *
+ * @example formatFitSummary(analysis).split('\n')[0]
+ * // 'scale     1.000012 octaves per volt: +0.01 ± 0.0010 cents per octave (0.000 to 4.000 V)'
+ */
+export function formatFitSummary(analysis: RecordingAnalysisOk): string {
+  const fit = analysis.fit;
+  if (fit === null) return 'fit       none: needs two or more steps at different voltages';
+  const lines: Array<[string, string]> = [
+    [
+      'scale',
+      `${fit.octavesPerVolt.toFixed(6)} octaves per volt: ${formatSignedCents(fit.scaleErrorCentsPerOctave)} ± ` +
+        `${formatUncertainty(fit.scaleErrorStdErrCents)} cents per octave ` +
+        `(${formatVolts(fit.fromVolts)} to ${formatVolts(fit.toVolts)} V)`,
+    ],
+    [
+      'at 0 V',
+      `${formatHz(fit.hzAt0V)} Hz (${nearestNoteText(fit.hzAt0V, analysis.a4Hz)}), ±${formatUncertainty(fit.hzAt0VStdErrCents)} cents`,
+    ],
+    ['residual', `largest ${formatUncertainty(fit.maxAbsResidualCents)} cents from the fitted line`],
+  ];
+  const b = analysis.bends;
+  if (b !== null) {
+    const ends: string[] = [];
+    for (const [label, e] of [
+      ['top', b.highEnd],
+      ['bottom', b.lowEnd],
+    ] as const) {
+      if (e.kind === 'bent') {
+        const which =
+          e.steps.length === 1 ? `the ${label} step bends` : `the ${label} ${e.steps.length} steps bend`;
+        ends.push(
+          `${which} ${e.direction} of the middle line, ${Math.abs(e.centsAtEnd).toFixed(2)} cents at ` +
+            `${formatVolts(e.steps[0].volts)} V`,
+        );
+      }
+    }
+    if (ends.length > 0) {
+      const m = b.middle;
+      lines.push([
+        'bends',
+        `${ends.join('; ')}; middle ${formatVolts(m.fromVolts)} to ${formatVolts(m.toVolts)} V: ` +
+          `${formatSignedCents(m.scaleErrorCentsPerOctave)} cents per octave`,
+      ]);
+    }
+  }
+  const width = Math.max(...lines.map(([l]) => l.length)) + 2;
+  return lines.map(([l, v]) => `${l.padEnd(width)}${v}`).join('\n');
+}
+
+function nearestNoteText(hz: Hertz, a4Hz: Hertz): string {
+  const n = nearestNote(hz, a4Hz);
+  return `${n.name} ${formatSignedCents(n.cents)} cents`;
+}
+
+/**
+ * The advice as numbered lines (trimmer in brackets), then the next measurement and the caution.
+ *
+ * @example formatAdvice(analysis).split('\n')[0] // '1. [scale] The scale is within tolerance: …'
+ */
+export function formatAdvice(analysis: RecordingAnalysisOk): string {
+  const a = analysis.advice;
+  if (a === null) return '';
+  const lines = a.items.map((it, i) => `${i + 1}. [${it.trimmer}] ${it.text}`);
+  lines.push(`next: ${a.next}`, `caution: ${a.caution}`);
+  return lines.join('\n');
+}
+
+/**
+ * The whole report of a multi-step recording: a summary line, the table, the fit and the advice.
+ *
+ * @example formatRecordingReport(analysis).split('\n')[0]
+ * // '5 settled steps (each measured after 0.5 s to settle); A4 = 440 Hz, middle C = C4'
+ */
+export function formatRecordingReport(analysis: RecordingAnalysisOk): string {
+  const n = analysis.steps.length;
+  const parts = [
+    `${n} settled step${n === 1 ? '' : 's'} (each measured after ${analysis.settleSeconds} s to settle); ` +
+      `A4 = ${analysis.a4Hz} Hz, middle C = C4`,
+    '',
+    formatRecordingTable(analysis),
+  ];
+  if (analysis.steps.some((s) => s.source === 'readings')) {
+    parts.push('* too short to measure as one window: the mean of its live readings');
+  }
+  parts.push('', formatFitSummary(analysis));
+  const advice = formatAdvice(analysis);
+  if (advice !== '') parts.push('', advice);
+  return parts.join('\n');
 }

@@ -373,6 +373,17 @@ export class PitchEstimator {
     return this.opts.harmonicLimitFraction * this.sampleRateHz;
   }
 
+  /** Whether `hz` lies within two spectrum bins (at least 1 Hz) of a multiple of 50 or 60 Hz up to 360 Hz. */
+  private nearMains(hz: number): boolean {
+    if (hz > 365) return false;
+    const tol = Math.max(1, (2 * this.sampleRateHz) / this.fftSize);
+    for (const base of [50, 60]) {
+      const j = Math.round(hz / base);
+      if (j >= 1 && Math.abs(hz - j * base) <= tol) return true;
+    }
+    return false;
+  }
+
   /** Harmonic-sieve octave decision (see module comment). */
   private octaveCheck(f0: number): number {
     let f = f0;
@@ -386,9 +397,8 @@ export class PitchEstimator {
         let onF = 0;
         let between = 0;
         for (let m = 1; m * sub < limit && m <= 48; m++) {
-          const p = this.powerAt(m * sub);
-          if (m % d === 0) onF += p;
-          else between += p;
+          if (m % d === 0) onF += this.powerAt(m * sub);
+          else if (!this.nearMains(m * sub)) between += this.powerAt(m * sub); // hum is no subharmonic
         }
         if (between > 0.1 * onF) {
           f = sub;

@@ -38,7 +38,11 @@ export interface PitchOk {
   readonly windowSeconds: Seconds;
   /** Number of harmonics that entered the refinement. */
   readonly harmonicsUsed: number;
-  /** Time of the window's centre, seconds since the stream started (0 for one-shot analysis of a buffer). */
+  /**
+   * When the reading was made, seconds since the stream started: the end of its window, so stamps rise
+   * evenly whatever the window length (the window's centre is `timeSeconds − windowSeconds/2`). A one-shot
+   * analysis carries the time stamp its caller gave (default 0).
+   */
   readonly timeSeconds: Seconds;
 }
 
@@ -48,7 +52,7 @@ export interface PitchNone {
   readonly reason: NoPitchReason;
   /** Level of the window, when one could be measured. */
   readonly level: SignalLevel;
-  /** Time of the window's centre, seconds since the stream started. */
+  /** When the reading was made, seconds since the stream started (the end of its window). */
   readonly timeSeconds: Seconds;
   /** A coarse frequency, when one was found but rejected (for example above the range). */
   readonly coarseHz?: Hertz;

@@ -135,7 +135,9 @@ export class PitchTracker {
         : this.maxWindow;
     const available = Math.min(this.total, this.ring.length);
     const n = Math.min(wanted, available);
-    const t = (this.total - n / 2) / fs;
+    // Stamped with the moment the reading is made (the end of its window): stamps then rise evenly
+    // whatever the window length; the window's centre is timeSeconds − windowSeconds/2.
+    const t = this.total / fs;
     if (n < wanted && n < this.maxWindow) {
       // Not yet a full window for the lowest pitch we might be hearing: try what there is, and say
       // 'warming-up' rather than 'below-range' if it is not enough.
@@ -165,7 +167,7 @@ export class PitchTracker {
       req('seconds', seconds, 0.05, this.ring.length / this.sampleRateHz) * this.sampleRateHz,
     );
     const available = Math.min(this.total, this.ring.length);
-    const t = (this.total - Math.min(n, available) / 2) / this.sampleRateHz;
+    const t = this.total / this.sampleRateHz;
     if (available < n) {
       return { kind: 'none', reason: 'warming-up', level: this.live.lastLevel(), timeSeconds: t };
     }
@@ -189,7 +191,7 @@ export class PitchTracker {
     const fs = this.sampleRateHz;
     const s = Math.max(0, Math.round(startSeconds * fs));
     const e = Math.round(endSeconds * fs);
-    const t = (s + e) / 2 / fs;
+    const t = e / fs;
     if (e > this.total)
       return { kind: 'none', reason: 'warming-up', level: this.live.lastLevel(), timeSeconds: t };
     if (s < this.total - this.ring.length || e - s > this.ring.length) {
