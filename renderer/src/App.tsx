@@ -1,0 +1,490 @@
+/**
+ * Spanmeter's window: the input and live reading on the left, the work on the right (a guided run,
+ * the two-point scale trim, the drift hold, the unit book), and a status line. State that the
+ * engine owns arrives through {@link EngineClient}; this component holds only what the user chose.
+ */
+import { useCallback, useEffect, useMemo, useRef, useState, useSyncExternalStore } from 'react';
+import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
+import { serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
+import type { JsonValue, UnitRecord } from '../../main/api-types.ts';
+import { listInputs, openInput, type InputDevice, type OpenInput } from './audio/input.ts';
+import { EngineClient } from './engine/client.ts';
+import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
+import { analyzeRun, toAnalyzeJson } from './lib/analysis.ts';
+import { runToCsv } from './lib/export.ts';
+import { formatClock } from './lib/format.ts';
+import { parseStartupParams } from './lib/params.ts';
+import { DEFAULT_SIM_UNIT, simOptions, simSettingsForUnit, type SimSettings } from './lib/sim-settings.ts';
+import { pickStore } from './storage/store.ts';
+import { StripChart } from './ui/charts.tsx';
+import { DriftPanel } from './ui/DriftPanel.tsx';
+import { FrameMeter } from './ui/FrameMeter.tsx';
+import { InputPanel } from './ui/InputPanel.tsx';
+import { LiveReadout } from './ui/LiveReadout.tsx';
+import { PrintReport } from './ui/PrintReport.tsx';
+import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.tsx';
+import { RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
+import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
+
+type Tab = 'run' | 'pair' | 'drift' | 'book';
+
+const TABS: { id: Tab; label: string }[] = [
+  { id: 'run', label: 'Span run' },
+  { id: 'pair', label: 'Scale pair' },
+  { id: 'drift', label: 'Hold & drift' },
+  { id: 'book', label: 'Unit book' },
+];
+
+function modeFor(tab: Tab): EngineMode {
+  return tab === 'pair' ? 'two-point' : tab === 'drift' ? 'drift' : 'run';
+}
+
+function capturedCount(s: RunState): number {
+  return s.steps.filter((x) => x.capture !== null).length;
+}
+
+function fileSlug(s: string): string {
+  const t = s
+    .toLowerCase()
+    .replace(/[^a-z0-9]+/g, '-')
+    .replace(/^-+|-+$/g, '');
+  return t || 'spanmeter-run';
+}
+
+export function App() {
+  const params = useMemo(() => parseStartupParams(window.location.search), []);
+  const client = useMemo(() => new EngineClient(), []);
+  const view = useSyncExternalStore(client.subscribe, client.getView);
+  const store = useMemo(() => pickStore(), []);
+
+  const [source, setSource] = useState<'device' | 'sim'>(params.input);
+  const [devices, setDevices] = useState<InputDevice[]>([]);
+  const [deviceId, setDeviceId] = useState<string | null>(null);
+  const [channel, setChannel] = useState(0);
+  const [channelCount, setChannelCount] = useState(1);
+  const [inputMsg, setInputMsg] = useState<{ kind: 'info' | 'warn' | 'error'; text: string } | null>(
+    params.problems.length > 0 ? { kind: 'warn', text: params.problems.join(' ') } : null,
+  );
+  const [suspended, setSuspended] = useState(false);
+  const inputRef = useRef<OpenInput | null>(null);
+  const [sim, setSim] = useState<SimSettings>(() =>
+    simSettingsForUnit(params.unitId ?? DEFAULT_SIM_UNIT, params.simRateHz ?? 48_000),
+  );
+  const [planText, setPlanText] = useState(params.planText ?? formatPlan(presetPlan().volts));
+  const [tab, setTab] = useState<Tab>('run');
+  const [info, setInfo] = useState<UnitInfo>(EMPTY_UNIT_INFO);
+  const [pairConfig, setPairConfig] = useState<TwoPointConfig>({
+    voltsLow: 1,
+    voltsHigh: 3,
+    toleranceCents: 1,
+    alternateSeconds: 3,
+  });
+  const [resumeOffer, setResumeOffer] = useState<{ state: RunState; text: string } | null>(null);
+  const [exportMsg, setExportMsg] = useState<string | null>(null);
+  const [openRecord, setOpenRecord] = useState<UnitRecord | null>(null);
+
+  // ---- Input source ------------------------------------------------------------------------
+  const inputGone = useCallback(
+    (why: string) => {
+      inputRef.current?.close();
+      inputRef.current = null;
+      client.send({ type: 'source-stop', reason: why });
+      setInputMsg({
+        kind: 'error',
+        text: `${why} The run is kept and paused: reconnect the interface and choose the input again, then resume.`,
+      });
+    },
+    [client],
+  );
+
+  useEffect(() => {
+    let cancelled = false;
+    inputRef.current?.close();
+    inputRef.current = null;
+    if (source === 'sim') {
+      client.send({ type: 'source-sim', sampleRateHz: sim.sampleRateHz, options: simOptions(sim), volts: 0 });
+      setSuspended(false);
+      return;
+    }
+    void (async () => {
+      const r = await openInput({
+        deviceId,
+        channel,
+        connectEngine: (port, rate) => client.send({ type: 'source-live', sampleRateHz: rate, port }, [port]),
+        onChannels: (n) => setChannelCount(n),
+        onEnded: () => inputGone('The audio input stopped (unplugged or taken by the system).'),
+      });
+      if (cancelled) {
+        if (r.ok) r.input.close();
+        return;
+      }
+      if (!r.ok) {
+        setInputMsg({ kind: 'error', text: r.failure.message });
+        client.send({ type: 'source-stop', reason: r.failure.kind });
+        return;
+      }
+      inputRef.current = r.input;
+      setInputMsg(params.problems.length > 0 ? { kind: 'warn', text: params.problems.join(' ') } : null);
+      const ctx = r.input.context;
+      setSuspended(ctx.state === 'suspended');
+      ctx.onstatechange = () => setSuspended(ctx.state === 'suspended');
+      setDevices(await listInputs());
+    })();
+    return () => {
+      cancelled = true;
+    };
+    // The sim's knobs are sent separately below; only its sample rate restarts the source.
+  }, [source, deviceId, sim.sampleRateHz, client, inputGone]);
+
+  useEffect(() => {
+    if (source === 'sim') client.send({ type: 'sim-options', options: simOptions(sim) });
+  }, [sim, source, client]);
+
+  useEffect(() => {
+    inputRef.current?.setChannel(channel);
+  }, [channel]);
+
+  useEffect(() => {
+    const md = navigator.mediaDevices;
+    if (!md?.addEventListener) return;
+    const onChange = async () => {
+      const list = await listInputs();
+      setDevices(list);
+      if (source === 'device' && deviceId !== null && !list.some((d) => d.deviceId === deviceId)) {
+        inputGone('The chosen audio input was disconnected.');
+      }
+    };
+    md.addEventListener('devicechange', onChange);
+    return () => md.removeEventListener('devicechange', onChange);
+  }, [source, deviceId, inputGone]);
+
+  const resumeAudio = useCallback(() => {
+    void inputRef.current?.resume();
+  }, []);
+
+  useEffect(() => {
+    const f = () => resumeAudio();
+    window.addEventListener('pointerdown', f);
+    window.addEventListener('keydown', f);
+    return () => {
+      window.removeEventListener('pointerdown', f);
+      window.removeEventListener('keydown', f);
+    };
+  }, [resumeAudio]);
+
+  // ---- Modes ---------------------------------------------------------------------------------
+  useEffect(() => {
+    client.send({ type: 'mode', mode: modeFor(tab) });
+  }, [tab, client]);
+
+  useEffect(() => {
+    client.send({ type: 'two-point-config', config: pairConfig });
+  }, [pairConfig, client]);
+
+  // ---- Autosave and resume -------------------------------------------------------------------
+  useEffect(() => {
+    let last = -1;
+    return client.onMessage((m) => {
+      const run = m.type === 'run' ? m.run : m.type === 'tick' ? m.run : undefined;
+      if (!run || run.origin.kind !== 'live') return;
+      const n = capturedCount(run.state);
+      if (n !== last) {
+        if (n > 0) void store.autosave(JSON.parse(serializeRun(run.state)) as JsonValue);
+        last = n;
+      }
+    });
+  }, [client, store]);
+
+  useEffect(() => {
+    void (async () => {
+      const r = await store.loadAutosave();
+      if (!r.ok || r.value.kind !== 'found') return;
+      const v = validateRunState(r.value.state);
+      if (v.kind !== 'ok' || capturedCount(v.state) === 0) return;
+      const fin = v.state.phase === 'finished' || v.state.phase === 'aborted';
+      setResumeOffer({
+        state: v.state,
+        text: `${fin ? 'The last run' : 'An unfinished run'} from ${new Date(r.value.savedAt).toLocaleString()}: ${capturedCount(v.state)} of ${v.state.steps.length} steps captured.`,
+      });
+    })();
+  }, [store]);
+
+  // ---- Run -----------------------------------------------------------------------------------
+  const run = view.run;
+  const runState = run?.state ?? null;
+  const captureKey = runState
+    ? JSON.stringify(
+        runState.steps.map((s) => [
+          s.capture?.hz ?? null,
+          s.capture?.uncertaintyCents ?? null,
+          s.measuredVolts,
+        ]),
+      )
+    : '';
+  // Recomputed only when a capture or a meter reading changes, not on every reading.
+  const analysis = useMemo(() => (runState ? analyzeRun(runState) : null), [captureKey]);
+  const active = runState !== null && runState.phase !== 'finished' && runState.phase !== 'aborted';
+
+  const startRun = useCallback(() => {
+    const p = parsePlan(planText);
+    if (p.kind !== 'ok') return;
+    const preset = PLAN_PRESETS.find((x) => formatPlan(x.volts) === formatPlan(p.volts));
+    client.send({
+      type: 'run-start',
+      plan: {
+        id: preset?.id ?? 'custom',
+        label: preset?.label ?? `Custom: ${formatPlan(p.volts)} V`,
+        volts: [...p.volts],
+      },
+    });
+    setResumeOffer(null);
+    setTab('run');
+    resumeAudio();
+  }, [planText, client, resumeAudio]);
+
+  const sendEvent = useCallback((e: UserRunEvent) => client.send({ type: 'run-event', event: e }), [client]);
+
+  const runRef = useRef<RunState | null>(null);
+  runRef.current = runState;
+  useEffect(() => {
+    const onKey = (e: KeyboardEvent) => {
+      const t = e.target as HTMLElement | null;
+      if (
+        t &&
+        (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.tagName === 'SELECT' || t.isContentEditable)
+      )
+        return;
+      if (e.ctrlKey || e.metaKey || e.altKey) return;
+      const s = runRef.current;
+      if (!s || tab !== 'run') return;
+      const k = e.key.length === 1 ? e.key.toLowerCase() : e.key;
+      let ev: UserRunEvent | null = null;
+      if (k === RUN_KEYS.captureNow) ev = { type: 'capture-now' };
+      else if (k === RUN_KEYS.redo)
+        ev = { type: 'redo', stepIndex: s.warning ? s.current : (s.lastCapturedStep ?? s.current) };
+      else if (k === RUN_KEYS.skip) ev = { type: 'skip' };
+      else if (k === RUN_KEYS.back) ev = { type: 'back' };
+      else if (k === RUN_KEYS.pause) ev = { type: s.phase === 'paused' ? 'resume' : 'pause' };
+      else if (k === RUN_KEYS.accept && s.warning) ev = { type: 'accept-pitch' };
+      if (ev) {
+        e.preventDefault();
+        sendEvent(ev);
+      }
+    };
+    window.addEventListener('keydown', onKey);
+    return () => window.removeEventListener('keydown', onKey);
+  }, [sendEvent, tab]);
+
+  const onOpenWav = useCallback(
+    async (file: File | null) => {
+      if (!file) return;
+      const p = parsePlan(planText);
+      if (p.kind !== 'ok') return;
+      const bytes = await file.arrayBuffer();
+      client.send(
+        {
+          type: 'wav-analyze',
+          bytes,
+          fileName: file.name,
+          channel: channel + 1,
+          plan: { id: 'recording', label: `Recording ${file.name}`, volts: [...p.volts] },
+        },
+        [bytes],
+      );
+      setTab('run');
+    },
+    [client, planText, channel],
+  );
+
+  const doExport = useCallback(
+    async (format: 'csv' | 'json') => {
+      if (!analysis) return;
+      const name = `${fileSlug(info.unitName || info.serial)}-${new Date().toISOString().slice(0, 10)}`;
+      const rt = Number(info.roomTempC);
+      const content =
+        format === 'csv'
+          ? runToCsv(analysis, {
+              unitName: info.unitName,
+              serial: info.serial,
+              notes: info.notes,
+              meterUsed: info.meterUsed,
+              takenAt: new Date().toISOString(),
+              ...(info.roomTempC.trim() !== '' && Number.isFinite(rt) ? { roomTempC: rt } : {}),
+            })
+          : toAnalyzeJson(analysis, run?.details ?? {});
+      const r = await store.exportFile({ format, suggestedName: name, content });
+      setExportMsg(
+        r.ok
+          ? r.value.kind === 'saved'
+            ? `Exported ${r.value.fileName}.`
+            : 'Export cancelled.'
+          : r.error.message,
+      );
+    },
+    [analysis, info, run, store],
+  );
+
+  const wavStatus = view.wav
+    ? view.wav.done
+      ? view.wav.message
+      : `Analysing ${view.wav.fileName}: ${Math.round(view.wav.fraction * 100)} %`
+    : null;
+
+  const stats = view.stats;
+  return (
+    <>
+      <div className="app">
+        <header className="topbar">
+          <div className="brand">
+            <svg className="logo" viewBox="0 0 32 32" width="24" height="24" aria-hidden="true">
+              <path
+                d="M5 25 L11 19 L17 13 L23 7"
+                stroke="currentColor"
+                strokeWidth="3"
+                fill="none"
+                strokeLinecap="round"
+              />
+              <circle cx="5" cy="25" r="2.6" fill="#9ab8ff" />
+              <circle cx="14" cy="16" r="2.6" fill="#9ab8ff" />
+              <circle cx="23" cy="7" r="2.6" fill="#9ab8ff" />
+            </svg>
+            Spanmeter
+          </div>
+          <nav className="tabs" role="tablist">
+            {TABS.map((t) => (
+              <button
+                key={t.id}
+                role="tab"
+                aria-selected={tab === t.id}
+                className={tab === t.id ? 'on' : ''}
+                onClick={() => setTab(t.id)}
+                data-testid={`tab-${t.id}`}
+              >
+                {t.label}
+              </button>
+            ))}
+          </nav>
+          <div className="status" data-testid="engine-stats">
+            <span>
+              {view.source.kind === 'sim' ? 'Simulator' : view.source.kind === 'live' ? 'Input' : 'No input'}
+            </span>
+            <span>{formatClock(view.streamSeconds)}</span>
+            <span
+              data-testid="engine-load"
+              data-load-percent={stats ? stats.loadPercent.toFixed(2) : ''}
+              data-sim-load-percent={stats ? stats.simLoadPercent.toFixed(2) : ''}
+              data-max-capture-ms={stats ? stats.maxCaptureMs.toFixed(1) : ''}
+              data-rate={stats ? String(stats.sampleRateHz) : ''}
+            >
+              engine {stats ? `${stats.loadPercent.toFixed(1)} %` : '—'}
+            </span>
+            {stats && stats.droppedBlocks > 0 && (
+              <span className="warn-text">{stats.droppedBlocks} blocks dropped</span>
+            )}
+            <FrameMeter />
+          </div>
+        </header>
+        <main className="layout">
+          <div className="left">
+            <LiveReadout reading={view.reading} settled={view.settled} streamSeconds={view.streamSeconds} />
+            <section className="panel strip-panel">
+              <StripChart history={view.history} now={view.streamSeconds} />
+            </section>
+            <InputPanel
+              source={source}
+              onSource={setSource}
+              devices={devices}
+              deviceId={deviceId}
+              onDevice={setDeviceId}
+              channel={channel}
+              channelCount={channelCount}
+              onChannel={setChannel}
+              sampleRateHz={view.source.sampleRateHz}
+              message={inputMsg}
+              suspended={suspended && source === 'device'}
+              onResumeAudio={resumeAudio}
+              reading={view.reading}
+              sim={sim}
+              onSim={setSim}
+              simVolts={view.simVolts}
+              onSimVolts={(v) => client.send({ type: 'sim-volts', volts: v, glideSeconds: 0.05 })}
+              runDrivesSim={active && tab === 'run'}
+            />
+          </div>
+          <div className="right panel">
+            {view.lastError && (
+              <p className="message error" role="alert">
+                {view.lastError}
+              </p>
+            )}
+            {tab === 'run' && (
+              <RunPanel
+                run={run}
+                analysis={analysis}
+                planText={planText}
+                onPlanText={setPlanText}
+                onStart={startRun}
+                onEvent={sendEvent}
+                onClose={() => {
+                  client.send({ type: 'run-close' });
+                  void store.clearAutosave();
+                }}
+                simulated={source === 'sim'}
+                resumeOffer={
+                  resumeOffer && !runState
+                    ? {
+                        text: resumeOffer.text,
+                        onResume: () => {
+                          client.send({ type: 'run-restore', state: resumeOffer.state });
+                          setResumeOffer(null);
+                        },
+                        onDiscard: () => {
+                          void store.clearAutosave();
+                          setResumeOffer(null);
+                        },
+                      }
+                    : null
+                }
+                onOpenWav={(f) => void onOpenWav(f)}
+                wavStatus={wavStatus}
+              />
+            )}
+            {tab === 'pair' && (
+              <TwoPointPanel
+                view={view.twoPoint}
+                config={pairConfig}
+                onConfig={setPairConfig}
+                onReset={() => client.send({ type: 'two-point-reset' })}
+                simulated={source === 'sim'}
+              />
+            )}
+            {tab === 'drift' && (
+              <DriftPanel
+                view={view.drift}
+                onStart={(v, w) => client.send({ type: 'drift-start', volts: v, windowSeconds: w })}
+                onStop={() => client.send({ type: 'drift-stop' })}
+                simulated={source === 'sim'}
+              />
+            )}
+            {tab === 'book' && (
+              <RecordsPanel
+                store={store}
+                info={info}
+                onInfo={setInfo}
+                analysis={analysis}
+                planVolts={runState?.plan.volts ?? []}
+                onExport={(f) => void doExport(f)}
+                onPrint={() => window.print()}
+                onSaved={() => void store.clearAutosave()}
+                openRecord={openRecord}
+                onOpenRecord={setOpenRecord}
+              />
+            )}
+            {exportMsg && tab === 'book' && <p className="message info">{exportMsg}</p>}
+          </div>
+        </main>
+      </div>
+      <PrintReport analysis={analysis} info={info} planVolts={runState?.plan.volts ?? []} />
+    </>
+  );
+}

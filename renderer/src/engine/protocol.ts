@@ -1,0 +1,177 @@
+/**
+ * Messages between the page and the engine worker. Everything is structured-clone data; the run state
+ * is the plain JSON of `dsp/run.ts`.
+ *
+ * Audio does not travel through these messages: the capture worklet posts its blocks straight to the
+ * worker over a MessagePort (`AudioBlockMessage`), and the worker hands each buffer back for reuse.
+ */
+import type { TwoPointResult } from '../../../dsp/advice.ts';
+import type { DriftRatePoint, DriftResult } from '../../../dsp/drift.ts';
+import type { PitchReading } from '../../../dsp/reading.ts';
+import type { RunEvent, RunOptionsInput, RunState } from '../../../dsp/run.ts';
+import type { OscillatorOptions } from '../../../dsp/simulate.ts';
+import type { CaptureDetail } from '../lib/analysis.ts';
+
+/** What the engine is doing with the readings besides showing them. */
+export type EngineMode = 'run' | 'two-point' | 'drift';
+
+/** Run events the page may send (readings and capture results come from inside the engine). */
+export type UserRunEvent = Exclude<RunEvent, { type: 'reading' } | { type: 'capture-result' }>;
+
+/** A plan as the engine takes it. */
+export interface PlanSpec {
+  readonly id: string;
+  readonly label: string;
+  readonly volts: readonly number[];
+}
+
+/** Settings of the two-point scale check. */
+export interface TwoPointConfig {
+  /** Lower and higher control voltage, V. */
+  readonly voltsLow: number;
+  readonly voltsHigh: number;
+  /** Allowed |interval error|, cents. */
+  readonly toleranceCents: number;
+  /** With the simulated oscillator: seconds at each voltage before switching. */
+  readonly alternateSeconds: number;
+}
+
+/** Page → engine. */
+export type ToEngine =
+  | { readonly type: 'source-live'; readonly sampleRateHz: number; readonly port: MessagePort }
+  | {
+      readonly type: 'source-sim';
+      readonly sampleRateHz: number;
+      readonly options: OscillatorOptions;
+      readonly volts: number;
+    }
+  | { readonly type: 'source-stop'; readonly reason: string }
+  | { readonly type: 'sim-options'; readonly options: OscillatorOptions }
+  | { readonly type: 'sim-volts'; readonly volts: number; readonly glideSeconds: number }
+  | { readonly type: 'mode'; readonly mode: EngineMode }
+  | { readonly type: 'run-start'; readonly plan: PlanSpec; readonly options?: RunOptionsInput }
+  | { readonly type: 'run-restore'; readonly state: RunState }
+  | { readonly type: 'run-event'; readonly event: UserRunEvent }
+  | { readonly type: 'run-close' }
+  | { readonly type: 'two-point-config'; readonly config: TwoPointConfig }
+  | { readonly type: 'two-point-reset' }
+  | { readonly type: 'drift-start'; readonly volts: number; readonly windowSeconds: number }
+  | { readonly type: 'drift-stop' }
+  | {
+      readonly type: 'wav-analyze';
+      readonly bytes: ArrayBuffer;
+      readonly fileName: string;
+      readonly channel: number;
+      readonly plan: PlanSpec;
+    };
+
+/** Where the run came from: live input (device or simulator) or a WAV recording. */
+export type RunOrigin = { readonly kind: 'live' } | { readonly kind: 'recording'; readonly fileName: string };
+
+/** The run as the page sees it. */
+export interface RunSnapshot {
+  readonly state: RunState;
+  /** Engine detail of each captured step, by step index. */
+  readonly details: Readonly<Record<number, CaptureDetail>>;
+  /** Stream time the run moved to each step (the simulator's voltage change), seconds, by step index. */
+  readonly stepStartedAt: readonly (number | null)[];
+  /** Stream time each step's capture was stored, seconds, by step index. */
+  readonly capturedAt: readonly (number | null)[];
+  readonly origin: RunOrigin;
+}
+
+/** One side of the two-point check. */
+export interface TwoPointSide {
+  readonly hz: number;
+  /** True while this side's plateau is the one being heard (its pitch updates live). */
+  readonly live: boolean;
+}
+
+/** The two-point check as it stands. */
+export interface TwoPointView {
+  readonly low: TwoPointSide | null;
+  readonly high: TwoPointSide | null;
+  readonly result: TwoPointResult | null;
+  /** 'settling' while a new pitch settles, 'settled' on a plateau, 'no-signal'. */
+  readonly status: 'settling' | 'settled' | 'no-signal';
+}
+
+/** The drift hold as it stands. */
+export interface DriftView {
+  readonly volts: number;
+  /** Seconds since the hold started and cents against the first second's mean. */
+  readonly points: readonly { readonly t: number; readonly cents: number }[];
+  readonly result: DriftResult | { readonly kind: 'error'; readonly message: string };
+  readonly rates: readonly DriftRatePoint[];
+  readonly windowSeconds: number;
+}
+
+/** Engine → page. */
+export type FromEngine =
+  | {
+      readonly type: 'tick';
+      readonly reading: PitchReading;
+      readonly streamSeconds: number;
+      /** True while the pitch sits on a plateau (dsp/plateau.ts with its defaults). */
+      readonly settled: boolean;
+      /** The simulator's control voltage, V, when the simulator is the source. */
+      readonly simVolts: number | null;
+      readonly run?: RunSnapshot | null;
+      readonly twoPoint?: TwoPointView;
+    }
+  | { readonly type: 'run'; readonly run: RunSnapshot | null }
+  | { readonly type: 'drift'; readonly drift: DriftView | null }
+  | {
+      readonly type: 'source';
+      readonly kind: 'none' | 'live' | 'sim';
+      readonly sampleRateHz: number | null;
+      readonly reason?: string;
+    }
+  | {
+      readonly type: 'stats';
+      /** Engine time over audio time in the last interval, percent. */
+      readonly loadPercent: number;
+      /** Time spent rendering the simulated oscillator over audio time, percent (0 for a device). */
+      readonly simLoadPercent: number;
+      /** Longest time one block took, ms. */
+      readonly maxBlockMs: number;
+      readonly sampleRateHz: number;
+      /** Audio blocks the worklet had to drop because no buffer was free. */
+      readonly droppedBlocks: number;
+      /** Longest capture measurement (averageOfSpan) so far, ms. */
+      readonly maxCaptureMs: number;
+    }
+  | { readonly type: 'wav-progress'; readonly fileName: string; readonly fraction: number }
+  | {
+      readonly type: 'wav-done';
+      readonly fileName: string;
+      readonly ok: boolean;
+      readonly message: string;
+    }
+  | { readonly type: 'error'; readonly message: string };
+
+/** Worklet → worker over the audio port. */
+export interface AudioBlockMessage {
+  readonly type: 'audio';
+  /** The block's samples (the selected channel only); its buffer is transferred and handed back. */
+  readonly buffer: ArrayBuffer;
+  readonly frames: number;
+  /** Channels the input has (for the channel picker). */
+  readonly inputChannels: number;
+  /** Blocks dropped since the last message because no buffer was free. */
+  readonly dropped: number;
+}
+
+/** Worker → worklet over the audio port: a buffer back for reuse. */
+export interface RecycleMessage {
+  readonly type: 'recycle';
+  readonly buffer: ArrayBuffer;
+}
+
+/** Page → worklet over its node port. */
+export type ToWorklet =
+  | { readonly type: 'connect'; readonly port: MessagePort }
+  | { readonly type: 'channel'; readonly channel: number };
+
+/** Worklet → page over its node port. */
+export type FromWorklet = { readonly type: 'format'; readonly inputChannels: number };

@@ -1,0 +1,55 @@
+/**
+ * Start-up settings from the page's query string, so a run can be set up from a link or a test:
+ * `?input=sim&plan=0,1,2,3&unit=ol3-0417&rate=96000`.
+ */
+import { parsePlan } from '../../../dsp/plan.ts';
+import { findDemoUnit } from '../../../dsp/simulate.ts';
+
+/** Start-up settings; absent keys fall back to the app's defaults. */
+export interface StartupParams {
+  /** `sim` selects the simulated oscillator; anything else (or nothing) the default audio input. */
+  readonly input: 'device' | 'sim';
+  /** Plan text (already checked by parsePlan), or null. */
+  readonly planText: string | null;
+  /** Demo unit id for the simulated oscillator, or null. */
+  readonly unitId: string | null;
+  /** Sample rate of the simulated oscillator, Hz, or null. */
+  readonly simRateHz: number | null;
+  /** Problems found in the query, one line each, to show the user. */
+  readonly problems: readonly string[];
+}
+
+const SIM_RATES = [44_100, 48_000, 88_200, 96_000, 192_000];
+
+/**
+ * Reads the query string. Never throws; bad values are reported in `problems` and ignored.
+ *
+ * @param search - `location.search`, e.g. `'?input=sim&plan=0,1,2'`.
+ * @example parseStartupParams('?input=sim&plan=0,1,2').planText // '0,1,2'
+ */
+export function parseStartupParams(search: string): StartupParams {
+  const q = new URLSearchParams(search);
+  const problems: string[] = [];
+  const input = q.get('input') === 'sim' ? 'sim' : 'device';
+  let planText: string | null = null;
+  const plan = q.get('plan');
+  if (plan !== null) {
+    const p = parsePlan(plan);
+    if (p.kind === 'ok') planText = plan;
+    else problems.push(`plan in the address: ${p.message}`);
+  }
+  let unitId: string | null = null;
+  const unit = q.get('unit');
+  if (unit !== null) {
+    if (findDemoUnit(unit)) unitId = unit;
+    else problems.push(`unit in the address: no demo unit "${unit}"`);
+  }
+  let simRateHz: number | null = null;
+  const rate = q.get('rate');
+  if (rate !== null) {
+    const r = Number(rate);
+    if (SIM_RATES.includes(r)) simRateHz = r;
+    else problems.push(`rate in the address: ${rate} is not one of ${SIM_RATES.join(', ')} Hz`);
+  }
+  return { input, planText, unitId, simRateHz, problems };
+}

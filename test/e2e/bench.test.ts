@@ -1,0 +1,227 @@
+/**
+ * The bench workflow in a real browser: `npm run web` served on a free port, Debian's Chromium driven by
+ * playwright-core, the audio coming from Chromium's fake capture device (a WAV file it loops) or from the
+ * app's own simulated oscillator. Each run must capture every step hands-free, and every captured row
+ * must match the simulator's truth within 0.1 cent (cents after A. J. Ellis, 1885).
+ *
+ * The truth comes from dsp/simulate.ts, which the simulator's own tests check against the converter
+ * physics of FIELD-NOTES.md; here it is the reference outside the browser, the UI and the pitch engine.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { chromium, type Browser, type Page } from 'playwright-core';
+import path from 'node:path';
+import { findDemoUnit, trueHz } from '../../dsp/simulate.ts';
+import { simOptions, simSettingsForUnit } from '../../renderer/src/lib/sim-settings.ts';
+import {
+  ARTIFACTS,
+  CHROMIUM,
+  centsBetween,
+  chromiumArgs,
+  chromiumAvailable,
+  startWebServer,
+  writeSteppedRecording,
+  type WebServer,
+} from './helpers.ts';
+
+const VIEWPORT = { width: 1280, height: 720 };
+const PLAN = [0, 1, 2, 3];
+const UNIT = 'ol3-0417';
+/** Agreement asked of every captured step, cents. */
+const TOLERANCE_CENTS = 0.1;
+
+interface Row {
+  volts: number;
+  hz: number;
+  capturedAt: number;
+  stepStartedAt: number;
+}
+
+async function readRows(page: Page): Promise<Row[]> {
+  return page.$$eval('[data-testid="step-row"]', (els) =>
+    els.map((e) => ({
+      volts: Number(e.getAttribute('data-volts')),
+      hz: Number(e.getAttribute('data-hz')),
+      capturedAt: Number(e.getAttribute('data-captured-at')),
+      stepStartedAt: Number(e.getAttribute('data-step-started-at')),
+    })),
+  );
+}
+
+async function attr(page: Page, testId: string, name: string): Promise<string> {
+  return (await page.getAttribute(`[data-testid="${testId}"]`, name)) ?? '';
+}
+
+async function frameFigures(page: Page): Promise<{ fps: number; worstMs: number }> {
+  return {
+    fps: Number(await attr(page, 'fps', 'data-fps')),
+    worstMs: Number(await attr(page, 'fps', 'data-worst-ms')),
+  };
+}
+
+const enabled = chromiumAvailable();
+
+describe.skipIf(!enabled)('bench workflow in Chromium', () => {
+  let server: WebServer;
+  let browser: Browser | null = null;
+
+  beforeAll(async () => {
+    server = await startWebServer();
+  }, 120_000);
+
+  afterAll(async () => {
+    await browser?.close();
+    await server?.stop();
+  });
+
+  it('captures a stepped recording from the fake audio input hands-free, each step within 0.1 cent', async () => {
+    const unit = findDemoUnit(UNIT);
+    expect(unit).toBeDefined();
+    // First plateau 8 s, so that the run can start inside it after the page has loaded.
+    const rec = writeSteppedRecording('e2e-steps.wav', { ...unit!.options, snrDb: 70 }, PLAN, 8);
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: chromiumArgs(rec.file) });
+    const page = await browser.newPage({ viewport: VIEWPORT });
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    await page.goto(`${server.url}?plan=${PLAN.join(',')}`);
+
+    // The signal is there: the level meter reads a usable level and the readout shows a pitch.
+    await page.waitForFunction(
+      () => document.querySelector('[data-testid="level-meter"]')?.getAttribute('data-level') === 'ok',
+      undefined,
+      { timeout: 20_000 },
+    );
+    const rate = await page.innerText('[data-testid="sample-rate"]');
+    // Wait until the fake device is early in the first plateau of a loop (it loops the file).
+    let startStream = 0;
+    const deadline = Date.now() + 45_000;
+    for (;;) {
+      const hz = Number(await attr(page, 'live-hz', 'data-hz'));
+      const t = Number(await attr(page, 'readout', 'data-stream-seconds'));
+      const inLoop = t % rec.durationSeconds;
+      if (hz > 0 && Math.abs(centsBetween(hz, rec.truth[0].recordedHz)) < 50 && inLoop > 0.5 && inLoop < 4) {
+        startStream = t;
+        break;
+      }
+      if (Date.now() > deadline) throw new Error(`never saw the first plateau (last ${hz} Hz at ${t} s)`);
+      await page.waitForTimeout(100);
+    }
+    await page.click('[data-testid="start-run"]');
+
+    await page.waitForFunction(
+      () => document.querySelectorAll('[data-testid="step-row"]').length >= 2,
+      undefined,
+      {
+        timeout: 30_000,
+      },
+    );
+    await page.screenshot({ path: path.join(ARTIFACTS, 'run-mid-1280x720.png') });
+    const midFrames = await frameFigures(page);
+    await page.waitForFunction(
+      (n) => document.querySelectorAll('[data-testid="step-row"]').length >= n,
+      PLAN.length,
+      { timeout: 30_000 },
+    );
+    await page.waitForTimeout(600);
+    await page.screenshot({ path: path.join(ARTIFACTS, 'run-end-1280x720.png') });
+
+    const rows = await readRows(page);
+    expect(rows.map((r) => r.volts)).toEqual(PLAN);
+    const loopStart = Math.floor(startStream / rec.durationSeconds) * rec.durationSeconds;
+    const report = rows.map((r, i) => {
+      const truth = rec.truth[i];
+      const off = centsBetween(r.hz, truth.recordedHz);
+      // The step change in the file: the glide into step i starts 0.15 s before its hold.
+      const changeAt = loopStart + (i === 0 ? 0 : truth.startSeconds - 0.15);
+      return {
+        volts: r.volts,
+        hz: r.hz,
+        truthHz: truth.recordedHz,
+        offCents: off,
+        latency: r.capturedAt - changeAt,
+      };
+    });
+    console.log(`e2e fake input (${rate}):`, JSON.stringify(report));
+    console.log('e2e fake input, frames mid-run:', JSON.stringify(midFrames));
+    for (const r of report)
+      expect(Math.abs(r.offCents), `${r.volts} V: ${r.hz} Hz vs ${r.truthHz} Hz`).toBeLessThan(
+        TOLERANCE_CENTS,
+      );
+    expect(await attr(page, 'run-prompt', 'data-phase')).toBe('finished');
+    expect(errors).toEqual([]);
+    await browser.close();
+    browser = null;
+  }, 90_000);
+
+  it('completes a run with the simulated oscillator, each step within 0.1 cent of its true pitch', async () => {
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: chromiumArgs() });
+    const page = await browser.newPage({ viewport: VIEWPORT });
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=${PLAN.join(',')}`);
+    await page.waitForFunction(
+      () => Number(document.querySelector('[data-testid="live-hz"]')?.getAttribute('data-hz')) > 0,
+      undefined,
+      {
+        timeout: 20_000,
+      },
+    );
+    await page.click('[data-testid="start-run"]');
+    await page.waitForFunction(
+      (n) => document.querySelectorAll('[data-testid="step-row"]').length >= n,
+      PLAN.length,
+      { timeout: 40_000 },
+    );
+    const frames = await frameFigures(page);
+    await page.waitForTimeout(600);
+    await page.screenshot({ path: path.join(ARTIFACTS, 'sim-run-end-1280x720.png') });
+    const rows = await readRows(page);
+    const options = simOptions(simSettingsForUnit(UNIT));
+    const report = rows.map((r) => {
+      const truth = trueHz(r.volts, options);
+      return {
+        volts: r.volts,
+        hz: r.hz,
+        truthHz: truth,
+        offCents: centsBetween(r.hz, truth),
+        latency: r.capturedAt - r.stepStartedAt,
+      };
+    });
+    console.log('e2e simulator:', JSON.stringify(report));
+    console.log('e2e simulator, frames:', JSON.stringify(frames));
+    console.log(
+      'e2e simulator, engine load % at 48 kHz:',
+      await attr(page, 'engine-load', 'data-load-percent'),
+      'capture ms:',
+      await attr(page, 'engine-load', 'data-max-capture-ms'),
+    );
+    expect(rows.map((r) => r.volts)).toEqual(PLAN);
+    for (const r of report)
+      expect(Math.abs(r.offCents), `${r.volts} V: ${r.hz} Hz vs ${r.truthHz} Hz`).toBeLessThan(
+        TOLERANCE_CENTS,
+      );
+    expect(errors).toEqual([]);
+    await browser.close();
+    browser = null;
+  }, 90_000);
+
+  it('keeps up with a 96 kHz stream (engine time well under audio time)', async () => {
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: chromiumArgs() });
+    const page = await browser.newPage({ viewport: VIEWPORT });
+    await page.goto(`${server.url}?input=sim&unit=${UNIT}&rate=96000`);
+    await page.waitForFunction(
+      () => document.querySelector('[data-testid="engine-load"]')?.getAttribute('data-rate') === '96000',
+      undefined,
+      {
+        timeout: 20_000,
+      },
+    );
+    await page.waitForTimeout(4000);
+    const load = Number(await attr(page, 'engine-load', 'data-load-percent'));
+    const sim = Number(await attr(page, 'engine-load', 'data-sim-load-percent'));
+    console.log(`e2e 96 kHz: engine ${load} % of audio time (analysis), simulator rendering ${sim} %`);
+    expect(load).toBeGreaterThan(0);
+    expect(load).toBeLessThan(50);
+    await browser.close();
+    browser = null;
+  }, 60_000);
+});

@@ -1,0 +1,130 @@
+/**
+ * Helpers of the browser end-to-end tests: find Chromium, start `scripts/web.mjs` on a free port, write
+ * the stepped recording the fake capture device plays, and read the app's state from the page.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import wavefile from 'wavefile';
+import {
+  planSchedule,
+  renderOscillator,
+  type OscillatorOptions,
+  type StepTruth,
+} from '../../dsp/simulate.ts';
+
+export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
+export const ARTIFACTS = path.join(ROOT, 'test-artifacts');
+export const CHROMIUM = '/usr/bin/chromium';
+
+/** Launch arguments for Debian's Chromium in a container with a fake audio capture device. */
+export function chromiumArgs(fakeAudioFile?: string): string[] {
+  return [
+    '--no-sandbox',
+    '--disable-gpu',
+    '--disable-background-networking',
+    '--disable-component-update',
+    '--disable-sync',
+    '--no-first-run',
+    '--use-fake-ui-for-media-stream',
+    '--use-fake-device-for-media-stream',
+    ...(fakeAudioFile ? [`--use-file-for-fake-audio-capture=${fakeAudioFile}`] : []),
+  ];
+}
+
+/**
+ * Whether the browser tests can run: true with Chromium present. Without it they are skipped, except on
+ * CI (`CI=true`), where a missing browser is a failure.
+ */
+export function chromiumAvailable(): boolean {
+  if (existsSync(CHROMIUM)) return true;
+  if (process.env.CI === 'true') {
+    throw new Error(`${CHROMIUM} is missing: CI must install Debian's chromium package (see .ci/run)`);
+  }
+  console.warn(`e2e: skipped, ${CHROMIUM} is missing (apt-get install chromium)`);
+  return false;
+}
+
+/** A running `npm run web`. */
+export interface WebServer {
+  readonly url: string;
+  stop(): Promise<void>;
+}
+
+/** Starts scripts/web.mjs on a free port (PORT=0) and waits for the line that names its address. */
+export function startWebServer(timeoutMs = 90_000): Promise<WebServer> {
+  return new Promise((resolve, reject) => {
+    const child: ChildProcess = spawn(process.execPath, [path.join(ROOT, 'scripts', 'web.mjs')], {
+      cwd: ROOT,
+      env: { ...process.env, PORT: '0' },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
+    let out = '';
+    const timer = setTimeout(() => {
+      child.kill('SIGKILL');
+      reject(new Error(`web server did not start within ${timeoutMs} ms:\n${out}`));
+    }, timeoutMs);
+    const onData = (d: Buffer) => {
+      out += d.toString();
+      const m = /http:\/\/127\.0\.0\.1:(\d+)\//.exec(out);
+      if (m) {
+        clearTimeout(timer);
+        resolve({
+          url: m[0],
+          stop: () =>
+            new Promise<void>((done) => {
+              if (child.exitCode !== null) return done();
+              child.once('exit', () => done());
+              child.kill('SIGTERM');
+              setTimeout(() => child.kill('SIGKILL'), 3000).unref();
+            }),
+        });
+      }
+    };
+    child.stdout?.on('data', onData);
+    child.stderr?.on('data', (d: Buffer) => (out += d.toString()));
+    child.once('exit', (code) => {
+      clearTimeout(timer);
+      reject(new Error(`web server exited with ${code}:\n${out}`));
+    });
+  });
+}
+
+/** A stepped recording for the fake capture device, with the simulator's truth per step. */
+export interface SteppedRecording {
+  readonly file: string;
+  readonly truth: readonly StepTruth[];
+  readonly durationSeconds: number;
+}
+
+/**
+ * Renders a stepped oscillator (dsp/simulate.ts renderOscillator + planSchedule) at 48 kHz and writes it
+ * as 32-bit float WAV (Chromium's fake device reads 16/32-bit PCM and float; 24-bit plays as silence).
+ *
+ * @param volts - Plan voltages.
+ * @param firstHoldSeconds - Length of the first plateau, so a run started after page load begins inside it.
+ */
+export function writeSteppedRecording(
+  name: string,
+  options: OscillatorOptions,
+  volts: readonly number[],
+  firstHoldSeconds: number,
+  holdSeconds = 3,
+  glideSeconds = 0.15,
+): SteppedRecording {
+  mkdirSync(ARTIFACTS, { recursive: true });
+  const schedule = planSchedule(volts, { holdSeconds, glideSeconds });
+  schedule[0] = { ...schedule[0], holdSeconds: firstHoldSeconds };
+  const r = renderOscillator({ ...options, sampleRateHz: 48_000 }, schedule);
+  const w = new wavefile.WaveFile();
+  w.fromScratch(1, r.sampleRateHz, '32f', r.samples);
+  const file = path.join(ARTIFACTS, name);
+  writeFileSync(file, w.toBuffer());
+  return { file, truth: r.truth, durationSeconds: r.samples.length / r.sampleRateHz };
+}
+
+/** Cents from `refHz` to `hz` (A. J. Ellis, 1885). */
+export function centsBetween(hz: number, refHz: number): number {
+  return 1200 * Math.log2(hz / refHz);
+}
