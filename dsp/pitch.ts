@@ -245,27 +245,12 @@ export class PitchEstimator {
     if (kCount === 0) return none('no-pitch', f);
     const humMask = this.humPresent(f);
     const power = st.rms * st.rms;
-    const r = this.refiner.refine(
-      this.work,
-      count,
-      fs,
-      f,
-      this.harmonics,
-      kCount,
-      power,
-      this.refined,
-      o.segments,
-      humMask,
-    );
-    if (!r.ok) return none('no-pitch', f);
-    // A second pass centred on the first pass's answer, where the phase model is exact. Skipped only when
-    // a hinted first pass landed within ~0.05 cent of its centre (its bias is a few per cent of that offset).
-    if (!hinted || Math.abs(r.hz / f - 1) > 3e-5) {
+    const pass = (centreHz: number) =>
       this.refiner.refine(
         this.work,
         count,
         fs,
-        r.hz,
+        centreHz,
         this.harmonics,
         kCount,
         power,
@@ -273,7 +258,12 @@ export class PitchEstimator {
         o.segments,
         humMask,
       );
-      if (!this.refined.ok) return none('no-pitch', f);
+    const r = pass(f);
+    if (!r.ok) return none('no-pitch', f);
+    // A second pass centred on the first pass's answer, where the phase model is exact. Skipped only when
+    // a hinted first pass landed within ~0.05 cent of its centre (its bias is a few per cent of that offset).
+    if (!hinted || Math.abs(r.hz / f - 1) > 3e-5) {
+      if (!pass(r.hz).ok) return none('no-pitch', f);
     }
     const res = this.refined;
     if (res.explainedFraction < 0.3) return none('no-pitch', res.hz);

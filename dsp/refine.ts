@@ -393,19 +393,9 @@ export class HarmonicRefiner {
       for (let j = 0; j < K; j++) {
         if (!this.active[j]) continue;
         const k = this.hk[j];
-        let swj = 0;
-        let swtj = 0;
-        let swyj = 0;
-        for (let m = 0; m < M; m++) {
-          const idx = j * ms + m;
-          const ww = this.w[idx] * this.wr[idx];
-          swj += ww;
-          swtj += ww * this.t[m];
-          swyj += ww * this.phase[idx];
-        }
-        if (swj <= 0) continue;
-        const tb = swtj / swj;
-        const yb = swyj / swj;
+        if (!this.weightedMeans(j, M)) continue;
+        const tb = this.meanT;
+        const yb = this.meanY;
         for (let m = 0; m < M; m++) {
           const idx = j * ms + m;
           const ww = this.w[idx] * this.wr[idx];
@@ -422,18 +412,9 @@ export class HarmonicRefiner {
       for (let j = 0; j < K; j++) {
         if (!this.active[j]) continue;
         const k = this.hk[j];
-        let swj = 0;
-        let swtj = 0;
-        let swyj = 0;
-        for (let m = 0; m < M; m++) {
-          const idx = j * ms + m;
-          const ww = this.w[idx] * this.wr[idx];
-          swj += ww;
-          swtj += ww * this.t[m];
-          swyj += ww * this.phase[idx];
-        }
-        const tb = swj > 0 ? swtj / swj : 0;
-        const yb = swj > 0 ? swyj / swj : 0;
+        this.weightedMeans(j, M);
+        const tb = this.meanT;
+        const yb = this.meanY;
         for (let m = 0; m < M; m++) {
           const idx = j * ms + m;
           const e = this.phase[idx] - yb - TWO_PI * k * delta * (this.t[m] - tb);
@@ -483,6 +464,27 @@ export class HarmonicRefiner {
     out.explainedFraction = totalPower > 0 ? Math.min(1, explained / totalPower) : 0;
     out.dof = dofOut;
     return out;
+  }
+
+  private meanT = 0;
+  private meanY = 0;
+
+  /** Weighted means of segment time and phase of harmonic slot `j` into meanT/meanY; false if no weight. */
+  private weightedMeans(j: number, M: number): boolean {
+    const ms = this.maxSegments;
+    let sw = 0;
+    let swt = 0;
+    let swy = 0;
+    for (let m = 0; m < M; m++) {
+      const idx = j * ms + m;
+      const ww = this.w[idx] * this.wr[idx];
+      sw += ww;
+      swt += ww * this.t[m];
+      swy += ww * this.phase[idx];
+    }
+    this.meanT = sw > 0 ? swt / sw : 0;
+    this.meanY = sw > 0 ? swy / sw : 0;
+    return sw > 0;
   }
 
   /** Real part of the Hann window's transform at offset `dHz`, about the window centre (unnormalised). */
