@@ -10,7 +10,12 @@ import { YIN } from 'pitchfinder';
 import { estimatePitch } from '../dsp/pitch.ts';
 import { PitchTracker } from '../dsp/stream.ts';
 import { addDcStep, addHum, addNoise, centsError, tone, toFloat32, type Shape } from '../test/signals.ts';
-import { cpus, loadavg } from 'node:os';
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { cpus, loadavg, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { encodeWav } from './simulate.ts';
 import { CliError } from './errors.ts';
 
 const SHAPES: Shape[] = ['saw', 'square', 'pulse10', 'triangle', 'sine'];
@@ -406,18 +411,108 @@ function throughputCase(seconds: number): boolean {
   return pass;
 }
 
+/** Wall time of a child process, ms, and its exit status. */
+function timeChild(args: string[], cwd: string): { ms: number; status: number | null; stderr: string } {
+  const t0 = performance.now();
+  const r = spawnSync(process.execPath, args, { cwd, encoding: 'utf8' });
+  return { ms: performance.now() - t0, status: r.status, stderr: r.stderr };
+}
+
+/**
+ * Whole-file analysis of a 15 s stereo recording of a stepped simulated oscillator: wall time of
+ * `spanmeter analyze FILE --points …` including process start, against a bare pass of pitchy over the same
+ * file in its own process (wavefile decode, 8192-sample windows at 20 per second on one channel).
+ */
+function recordingCase(runs: number): boolean {
+  const dir = mkdtempSync(join(tmpdir(), 'spanmeter-bench-'));
+  try {
+    const points = [0, 1, 2, 3, 4];
+    const unit = findDemoUnit('ol3-0417');
+    const sim = renderOscillator(
+      { ...unit?.options, snrDb: 45, humHz: 50, humDb: -35, seed: 7 },
+      planSchedule(points, { holdSeconds: 2.9, glideSeconds: 0.15 }),
+    );
+    const file = join(dir, 'steps-15s-stereo.wav');
+    writeFileSync(file, encodeWav(sim.samples, sim.sampleRateHz, '16', 2));
+    const seconds = sim.samples.length / sim.sampleRateHz;
+    const bundle = process.argv[1];
+    const cwd = process.cwd();
+    const bare = [
+      '--input-type=module',
+      '-e',
+      `import { readFileSync } from 'node:fs';
+       import wavefile from 'wavefile';
+       import { PitchDetector } from 'pitchy';
+       const w = new wavefile.WaveFile(readFileSync(${JSON.stringify(file)}));
+       const fs = w.fmt.sampleRate;
+       const ch = w.getSamples(false, Float32Array)[0].map((v) => v / 32768);
+       const det = PitchDetector.forFloat32Array(8192);
+       let n = 0;
+       for (let i = 8192; i <= ch.length; i += fs / 20) { det.findPitch(ch.subarray(i - 8192, i), fs); n++; }
+       if (n === 0) process.exit(3);`,
+    ];
+    const ours: number[] = [];
+    const theirs: number[] = [];
+    let failure = '';
+    for (let k = 0; k < runs; k++) {
+      const a = timeChild([bundle, 'analyze', file, '--points', points.join(','), '--json'], cwd);
+      if (a.status !== 0) failure = a.stderr.trim();
+      ours.push(a.ms);
+      const b = timeChild(bare, cwd);
+      if (b.status !== 0) failure ||= `bare pitchy pass failed: ${b.stderr.trim().split('\n')[0]}`;
+      theirs.push(b.ms);
+    }
+    const best = (xs: number[]) => Math.min(...xs);
+    const med = (xs: number[]) => median(xs) ?? NaN;
+    const speed = (seconds * 1000) / best(ours);
+    const r = best(ours) / best(theirs);
+    const ok = failure === '' && speed >= 20 && r <= 4;
+    table(
+      `Whole-file analysis of a ${seconds.toFixed(1)} s stereo 16-bit recording, 5 steps, process start included, best and median of ${runs} runs (targets: ≥ 20× real time, ≤ 4× a bare pitchy pass)`,
+      ['command', 'best ms', 'median ms', 'speed', 'ratio', 'meets'],
+      [
+        [
+          'spanmeter analyze --points',
+          best(ours).toFixed(0),
+          med(ours).toFixed(0),
+          `${speed.toFixed(0)}×`,
+          r.toFixed(2),
+          ok ? 'yes' : 'NO',
+        ],
+        [
+          'bare pitchy pass',
+          best(theirs).toFixed(0),
+          med(theirs).toFixed(0),
+          `${((seconds * 1000) / best(theirs)).toFixed(0)}×`,
+          '1',
+          '',
+        ],
+      ],
+    );
+    if (failure) console.log(`\nfailure: ${failure}`);
+    return ok;
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
 /** `spanmeter bench [--quick]`. Exit code 0 when every target is met, 1 otherwise. */
 export async function main(args: string[]): Promise<number> {
   let quick = false;
-  for (const a of args) {
+  let only: Set<string> | null = null;
+  for (let i = 0; i < args.length; i++) {
+    const a = args[i];
     if (a === '--quick') quick = true;
+    else if (a === '--only' && i + 1 < args.length) only = new Set(args[++i].split(','));
     else if (a === '--help' || a === '-h') {
       console.log(
-        'usage: spanmeter bench [--quick]\n  --quick  a smaller grid and fewer trials, for a first look',
+        'usage: spanmeter bench [--quick] [--only CASES]\n  --quick  a smaller grid and fewer trials, for a first look\n' +
+          '  --only   comma list of: clean, noise, hum, crb, live, uncertainty, throughput, recording',
       );
       return 0;
     } else throw new CliError(`unknown option '${a}' (try --help)`, 2);
   }
+  const want = (name: string) => only === null || only.has(name);
   const t0 = performance.now();
   const shapes = quick ? (['saw', 'sine'] as Shape[]) : SHAPES;
   const rates = quick ? [48000] : RATES;
@@ -432,18 +527,21 @@ export async function main(args: string[]): Promise<number> {
   console.log('pitchy: McLeod pitch method alone, 8192-sample windows, median over the second.');
   console.log('YIN: pitchfinder, 8192-sample windows, median of five over the second.');
   const results: [string, boolean][] = [];
-  results.push(['clean', accuracyCase('Clean band-limited tones', '0.01', shapes, rates, grid, null)]);
+  if (want('clean'))
+    results.push(['clean', accuracyCase('Clean band-limited tones', '0.01', shapes, rates, grid, null)]);
   const noise40: Impair = (x, _fs, _f, seed) => void addNoise(x, 40, seed);
   const noise20: Impair = (x, _fs, _f, seed) => void addNoise(x, 20, seed);
-  results.push([
-    '40 dB',
-    accuracyCase('White noise at 40 dB SNR, 48 kHz', '0.01', shapes, [48000], grid, noise40),
-  ]);
-  results.push([
-    '20 dB',
-    accuracyCase('White noise at 20 dB SNR, 48 kHz', '0.1', shapes, [48000], grid, noise20, 30),
-  ]);
-  for (const hum of [50, 60]) {
+  if (want('noise')) {
+    results.push([
+      '40 dB',
+      accuracyCase('White noise at 40 dB SNR, 48 kHz', '0.01', shapes, [48000], grid, noise40),
+    ]);
+    results.push([
+      '20 dB',
+      accuracyCase('White noise at 20 dB SNR, 48 kHz', '0.1', shapes, [48000], grid, noise20, 30),
+    ]);
+  }
+  for (const hum of want('hum') ? [50, 60] : []) {
     const humDc: Impair = (x, fs, _f, seed) => {
       addHum(x, hum, fs, -30);
       addDcStep(x, fs, 0, 0.05, 0.43);
@@ -461,10 +559,11 @@ export async function main(args: string[]): Promise<number> {
       ),
     ]);
   }
-  results.push(['CRB', crbCase(quick ? 10 : 40)]);
-  results.push(['live', liveCase(quick ? 2 : 4)]);
-  results.push(['uncertainty', coverageCase(quick ? 20 : 60)]);
-  results.push(['throughput', throughputCase(quick ? 5 : 20)]);
+  if (want('crb')) results.push(['CRB', crbCase(quick ? 10 : 40)]);
+  if (want('live')) results.push(['live', liveCase(quick ? 2 : 4)]);
+  if (want('uncertainty')) results.push(['uncertainty', coverageCase(quick ? 20 : 60)]);
+  if (want('throughput')) results.push(['throughput', throughputCase(quick ? 5 : 20)]);
+  if (want('recording')) results.push(['recording', recordingCase(quick ? 3 : 7)]);
   console.log('\n### Summary\n');
   for (const [name, ok] of results) console.log(`- ${name}: ${ok ? 'meets target' : 'MISSES target'}`);
   console.log(`\nBench time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);
