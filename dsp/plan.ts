@@ -119,8 +119,11 @@ export type PlanParse =
 
 const NUM = String.raw`[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?`;
 const NUMBER_RE = new RegExp(`^(${NUM})\\s*[vV]?$`);
+// Each optional unit after a number is written `(?:\s*[vV])?`, not `\s*[vV]?`, so that a run of spaces can be
+// matched in only one way: `\s*[vV]?\s*` let the engine split n spaces n ways, and a long pasted line took
+// time quadratic in its length (seconds for 100 000 characters).
 const RANGE_RE = new RegExp(
-  `^(${NUM})\\s*[vV]?\\s*(?:-|–|\\.\\.|to)\\s*(${NUM})\\s*[vV]?(?:\\s*(?:/|by|step)\\s*(${NUM})\\s*[vV]?)?$`,
+  `^(${NUM})(?:\\s*[vV])?\\s*(?:-|–|\\.\\.|to)\\s*(${NUM})(?:\\s*[vV])?(?:\\s*(?:/|by|step)\\s*(${NUM})\\s*[vV]?)?$`,
 );
 
 function fmt(v: number): string {

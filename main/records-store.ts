@@ -347,7 +347,20 @@ export function createRecordsStore(options: RecordsStoreOptions): RecordsStore {
         createdAt: givenCreatedAt ?? existingCreatedAt ?? now().toISOString(),
         updatedAt: now().toISOString(),
       });
-      await atomicWriteFile(fileOf(record.id), `${JSON.stringify(record, null, 2)}\n`);
+      // Indenting can take a record that fits the load limit as compact JSON (the IPC payload) past it,
+      // and the file could then not be opened again: write it compact then, and refuse, before writing,
+      // only a record that could never be read back.
+      let text = `${JSON.stringify(record, null, 2)}\n`;
+      if (Buffer.byteLength(text) > MAX_RECORD_FILE_BYTES) text = `${JSON.stringify(record)}\n`;
+      const bytes = Buffer.byteLength(text);
+      if (bytes > MAX_RECORD_FILE_BYTES) {
+        throw new StoreError(
+          'file-too-large',
+          `The record is ${bytes} bytes as JSON; record files are at most ${MAX_RECORD_FILE_BYTES} bytes. Nothing was written.`,
+          fileOf(record.id),
+        );
+      }
+      await atomicWriteFile(fileOf(record.id), text);
       return record;
     },
 
