@@ -1,8 +1,8 @@
 // npm start: build the app, then run it with the Electron binary from node_modules.
-// The binary is downloaded by electron's own install step, which needs the network once. This
-// script never triggers that download itself: it checks for the binary first, the way
-// node_modules/electron/index.js does, and explains what to do when it is missing.
-import { spawn } from 'node:child_process';
+// Electron fetches its binary on first run (node_modules/electron/index.js), which needs the network
+// once. This script looks for the binary first; when it is missing it lets Electron fetch it, and when
+// that fails (offline) it says what to do instead of printing a stack trace.
+import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import path from 'node:path';
@@ -30,10 +30,31 @@ function electronBinary() {
   return require('electron');
 }
 
-const binary = electronBinary();
+let binary = electronBinary();
+if (binary === null) {
+  console.log('start: fetching the Electron binary (first run only; this needs the network once)…');
+  // Electron's own installer, with its output kept: a failed download prints a stack trace we do not show.
+  let installer = null;
+  try {
+    installer = path.join(
+      path.dirname(require.resolve('electron/package.json', { paths: [root] })),
+      'install.js',
+    );
+  } catch {
+    installer = null;
+  }
+  if (installer && existsSync(installer)) {
+    const r = spawnSync(process.execPath, [installer], { cwd: root, encoding: 'utf8' });
+    if (r.status === 0) binary = electronBinary();
+    else {
+      const firstLine = `${r.stderr ?? ''}`.split('\n').find((l) => /error/i.test(l));
+      if (firstLine) console.error(`start: ${firstLine.trim()}`);
+    }
+  }
+}
 if (binary === null) {
   console.error(
-    'start: the Electron binary is not installed (Electron downloads it on first install and needs the network once: run "npx install-electron" when online); meanwhile "npm run web" runs Spanmeter in a browser.',
+    'start: the Electron binary could not be fetched (no network?). Run "npm start" again when online, or "npx install-electron"; meanwhile "npm run web" runs Spanmeter in a browser.',
   );
   process.exit(1);
 }
