@@ -11,7 +11,8 @@ import { findDemoUnit, planSchedule, renderOscillator, trueHz } from '../dsp/sim
 import { EngineCore } from '../renderer/src/engine/core.ts';
 import { foldEngineMessage, HISTORY_SECONDS, INITIAL_VIEW } from '../renderer/src/engine/client.ts';
 import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
-import { analyzeRecording } from '../renderer/src/engine/recording.ts';
+import { analyzeRecording } from '../dsp/recording.ts';
+import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
 import { answerPendingCapture, feedReading, rebaseRun } from '../renderer/src/engine/run-host.ts';
 import { formatHz, hzDecimalsForHundredthCent } from '../renderer/src/lib/format.ts';
 import { parseStartupParams } from '../renderer/src/lib/params.ts';
@@ -69,33 +70,56 @@ describe('EngineCore with the simulated oscillator', () => {
     expect(validateRunState(JSON.parse(JSON.stringify(run!.state))).kind).toBe('ok');
   });
 
-  it('analyses a WAV recording (decodeWav in the engine), each step within 0.1 cent of the truth', () => {
+  it('moves a run onto a new sample rate: captures kept, paused, the change reported, then resumes', () => {
+    const options = simOptions(simSettingsForUnit('ol3-0412'));
+    const { core, messages, lastRun } = collect();
+    core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
+    core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
+    for (let i = 0; i < 200 && (lastRun()?.state.steps[0].capture ?? null) === null; i++) core.tickSim(0.05);
+    const hz0 = lastRun()!.state.steps[0].capture!.hz;
+    core.handle({ type: 'source-sim', sampleRateHz: 96_000, options, volts: 0 });
+    const src = messages.filter((m) => m.type === 'source').at(-1);
+    expect(src).toMatchObject({ sampleRateHz: 96_000, previousSampleRateHz: 48_000, runRebased: true });
+    expect(lastRun()?.state.phase).toBe('paused');
+    expect(lastRun()?.state.steps[0].capture?.hz).toBe(hz0);
+    core.handle({ type: 'run-event', event: { type: 'resume' } });
+    for (let i = 0; i < 400 && lastRun()?.state.phase !== 'finished'; i++) core.tickSim(0.05);
+    const run = lastRun()!;
+    expect(run.state.phase).toBe('finished');
+    // The steps captured at 96 kHz agree with the simulator's truth too (dsp/simulate.ts trueHz).
+    for (const st of run.state.steps)
+      expect(Math.abs(cents(st.capture!.hz, trueHz(st.nominalVolts, options)))).toBeLessThan(0.1);
+  });
+
+  it('analyses a WAV with analyzeRecording in the engine and keeps the live run, paused', () => {
     const unit = findDemoUnit('ol3-0423')!;
     const rec = renderOscillator({ ...unit.options, snrDb: 70 }, planSchedule([0, 2, 4], { holdSeconds: 3 }));
-    const w = new wavefile.WaveFile();
-    w.fromScratch(
-      1,
-      rec.sampleRateHz,
-      '16',
-      Int16Array.from(rec.samples, (x) => Math.round(x * 32767)),
-    );
-    const bytes = new Uint8Array(w.toBuffer()).buffer;
+    const bytes = new Uint8Array(wav16(rec.samples, rec.sampleRateHz)).buffer;
     const { core, messages, lastRun } = collect();
+    core.handle({
+      type: 'source-sim',
+      sampleRateHz: 48_000,
+      options: simOptions(simSettingsForUnit('ol3-0412')),
+      volts: 0,
+    });
+    core.handle({ type: 'run-start', plan: { id: 'custom', label: 'live', volts: [0, 1] } });
+    core.tickSim(0.5);
     core.handle({
       type: 'wav-analyze',
       bytes,
       fileName: 'x.wav',
-      channel: 1,
-      plan: { id: 'r', label: 'r', volts: [0, 2, 4] },
+      request: { points: [0, 2, 4], channel: 1 },
     });
     const done = messages.find((m) => m.type === 'wav-done');
-    expect(done?.type === 'wav-done' && done.ok).toBe(true);
-    const run = lastRun();
-    expect(run?.origin).toEqual({ kind: 'recording', fileName: 'x.wav' });
-    run!.state.steps.forEach((st, i) => {
+    expect(done?.type === 'wav-done' && done.outcome.kind).toBe('ok');
+    if (done?.type !== 'wav-done' || done.outcome.kind !== 'ok') return;
+    done.outcome.analysis.steps.forEach((st, i) => {
       // 16-bit PCM scales by 32767/32768 and quantises: amplitude only, the pitch is untouched.
-      expect(Math.abs(cents(st.capture!.hz, rec.truth[i].recordedHz))).toBeLessThan(0.1);
+      expect(Math.abs(cents(st.hz, rec.truth[i].recordedHz))).toBeLessThan(0.1);
     });
+    // The live run is still the user's two-step plan, paused.
+    expect(lastRun()?.state.plan.volts).toEqual([0, 1]);
+    expect(lastRun()?.state.phase).toBe('paused');
   });
 
   it('reports a WAV it cannot read, with the decoder’s message', () => {
@@ -104,26 +128,91 @@ describe('EngineCore with the simulated oscillator', () => {
       type: 'wav-analyze',
       bytes: new TextEncoder().encode('ID3\u0004').buffer as ArrayBuffer,
       fileName: 'a.mp3',
-      channel: 1,
-      plan: { id: 'r', label: 'r', volts: [0, 1] },
+      request: { points: [0, 1], channel: 1 },
     });
     const done = messages.find((m) => m.type === 'wav-done');
-    expect(done?.type === 'wav-done' && done.ok).toBe(false);
-    expect(done?.type === 'wav-done' && done.message).toMatch(/not a WAV file/);
+    expect(done?.type === 'wav-done' && done.outcome.kind).toBe('error');
+    expect(done?.type === 'wav-done' && done.outcome.kind === 'error' && done.outcome.message).toMatch(
+      /not a WAV file/,
+    );
   });
 });
 
-describe('analyzeRecording', () => {
-  it('captures a rendered schedule at 96 kHz within 0.1 cent of StepTruth.recordedHz', () => {
-    const unit = findDemoUnit('ol3-0412')!;
+function wav16(samples: Float32Array, sampleRateHz: number): Uint8Array {
+  const w = new wavefile.WaveFile();
+  w.fromScratch(
+    1,
+    sampleRateHz,
+    '16',
+    Int16Array.from(samples, (x) => Math.round(x * 32767)),
+  );
+  return w.toBuffer();
+}
+
+function wav32f(samples: Float32Array, sampleRateHz: number): Uint8Array {
+  const w = new wavefile.WaveFile();
+  w.fromScratch(1, sampleRateHz, '32f', samples);
+  return w.toBuffer();
+}
+
+describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
+  // The reference is dsp/recording.ts analyzeRecording itself, the analysis `spanmeter analyze` runs:
+  // the app must give the same Hz, bit for bit, for the same file and options.
+  it.each([
+    { unit: 'ol3-0412', rate: 48_000, volts: [0, 1, 2, 3] },
+    { unit: 'ol3-0423', rate: 96_000, volts: [1, 3] },
+  ])('returns the same Hz as analyzeRecording for $unit at $rate Hz', ({ unit, rate, volts }) => {
+    const u = findDemoUnit(unit)!;
     const rec = renderOscillator(
-      { ...unit.options, sampleRateHz: 96_000, snrDb: 60 },
-      planSchedule([1, 3], { holdSeconds: 3 }),
+      { ...u.options, sampleRateHz: rate, snrDb: 60 },
+      planSchedule(volts, { holdSeconds: 2.5 }),
     );
-    const r = analyzeRecording(rec.samples, rec.sampleRateHz, { id: 'x', label: 'x', volts: [1, 3] });
-    expect(r.state.phase).toBe('finished');
-    r.state.steps.forEach((st, i) =>
-      expect(Math.abs(cents(st.capture!.hz, rec.truth[i].recordedHz))).toBeLessThan(0.1),
+    // 32-bit float WAV holds the samples exactly, so both analyses see the same numbers.
+    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), { points: volts, channel: 1 });
+    const ref = analyzeRecording(rec.samples, rec.sampleRateHz, { points: volts });
+    expect(out.kind).toBe('ok');
+    expect(ref.kind).toBe('ok');
+    if (out.kind !== 'ok' || ref.kind !== 'ok') return;
+    expect(out.analysis.steps.map((s) => s.hz)).toEqual(ref.steps.map((s) => s.hz));
+    expect(out.analysis.fit?.scaleErrorCentsPerOctave).toBe(ref.fit?.scaleErrorCentsPerOctave);
+    expect(out.file).toMatchObject({ sampleRateHz: rate, channelCount: 1, channelNumber: 1 });
+    // And the simulator's truth (dsp/simulate.ts StepTruth) within 0.1 cent (Ellis, 1885).
+    out.analysis.steps.forEach((s, i) =>
+      expect(Math.abs(cents(s.hz, rec.truth[i].recordedHz))).toBeLessThan(0.1),
+    );
+  });
+
+  it('passes settle and a4 through, as the command line does', () => {
+    const u = findDemoUnit('ol3-0412')!;
+    const rec = renderOscillator({ ...u.options, snrDb: 60 }, planSchedule([0, 1], { holdSeconds: 2.5 }));
+    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), {
+      points: [0, 1],
+      channel: 1,
+      settleSeconds: 0.8,
+      a4Hz: 432,
+    });
+    expect(out.kind === 'ok' && [out.analysis.settleSeconds, out.analysis.a4Hz]).toEqual([0.8, 432]);
+  });
+
+  it('gives the typed plateau-count mismatch, naming how many plateaus were found and when', () => {
+    const u = findDemoUnit('ol3-0412')!;
+    const rec = renderOscillator({ ...u.options, snrDb: 60 }, planSchedule([0, 1, 2], { holdSeconds: 2.5 }));
+    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), { points: [0, 1], channel: 1 });
+    expect(out.kind).toBe('error');
+    if (out.kind !== 'error') return;
+    expect(out.code).toBe('plateau-count-mismatch');
+    expect(out.plateaus).toHaveLength(3);
+    expect(out.message).toMatch(/^found 3 plateaus \(at \d+\.\d–\d+\.\d s, .*\) but 2 voltages were given$/);
+  });
+
+  it('refuses a channel the file does not have, and bad options, without throwing', () => {
+    const bytes = wav32f(new Float32Array(48_000).fill(0.1), 48_000);
+    const ch = analyzeWavBytes(bytes, { points: [0], channel: 2 });
+    expect(ch.kind === 'error' && ch.message).toMatch(/channel/);
+    const bad = analyzeWavBytes(bytes, { points: [0], channel: 1, a4Hz: 1000 });
+    expect(bad).toMatchObject({ kind: 'error', code: 'bad-request' });
+    expect(bad.kind === 'error' && bad.message).toMatch(
+      /a4Hz must be a finite number from 380 to 500, got 1000/,
     );
   });
 });

@@ -4,13 +4,15 @@
  * engine owns arrives through {@link EngineClient}; this component holds only what the user chose.
  */
 import { useCallback, useEffect, useMemo, useRef, useState, useSyncExternalStore } from 'react';
+import { A4_HZ } from '../../dsp/notes.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
+import { recordingToJson, recordingToRecordResult } from '../../dsp/recording.ts';
 import { serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
-import type { JsonValue, UnitRecord } from '../../main/api-types.ts';
+import type { AnalysisResult, JsonValue, UnitRecord } from '../../main/api-types.ts';
 import { listInputs, openInput, type InputDevice, type OpenInput } from './audio/input.ts';
 import { EngineClient } from './engine/client.ts';
 import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
-import { analyzeRun, toAnalyzeJson } from './lib/analysis.ts';
+import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult, toAnalyzeJson } from './lib/analysis.ts';
 import { runToCsv } from './lib/export.ts';
 import { formatClock } from './lib/format.ts';
 import { parseStartupParams } from './lib/params.ts';
@@ -23,7 +25,8 @@ import { InputPanel } from './ui/InputPanel.tsx';
 import { LiveReadout } from './ui/LiveReadout.tsx';
 import { PrintReport } from './ui/PrintReport.tsx';
 import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.tsx';
-import { RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
+import { RecordingPanel } from './ui/RecordingPanel.tsx';
+import { OpenWavControl, RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
 import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
 
 type Tab = 'run' | 'pair' | 'drift' | 'book';
@@ -38,6 +41,15 @@ const TABS: { id: Tab; label: string }[] = [
 function modeFor(tab: Tab): EngineMode {
   return tab === 'pair' ? 'two-point' : tab === 'drift' ? 'drift' : 'run';
 }
+
+/**
+ * Settle time used when a recording is analysed, s: `analyzeRecording`'s default, the same as
+ * `spanmeter analyze` without `--settle` (dsp/recording.ts).
+ */
+const RECORDING_SETTLE_SECONDS = 0.5;
+
+/** Said wherever a fault stops the input while a run is in progress. */
+const RUN_KEPT = 'The run is kept with its captured steps, paused: press Resume once the input is back.';
 
 function capturedCount(s: RunState): number {
   return s.steps.filter((x) => x.capture !== null).length;
@@ -82,6 +94,11 @@ export function App() {
   const [resumeOffer, setResumeOffer] = useState<{ state: RunState; text: string } | null>(null);
   const [exportMsg, setExportMsg] = useState<string | null>(null);
   const [openRecord, setOpenRecord] = useState<UnitRecord | null>(null);
+  /** Whether the Span run tab shows the opened recording (true) or the live run. */
+  const [showRecording, setShowRecording] = useState(false);
+  /** Bumped by "Open the input again" to reopen the audio input after a failure. */
+  const [inputAttempt, setInputAttempt] = useState(0);
+  const [inputClosed, setInputClosed] = useState(false);
 
   // ---- Input source ------------------------------------------------------------------------
   const inputGone = useCallback(
@@ -89,9 +106,10 @@ export function App() {
       inputRef.current?.close();
       inputRef.current = null;
       client.send({ type: 'source-stop', reason: why });
+      setInputClosed(true);
       setInputMsg({
         kind: 'error',
-        text: `${why} The run is kept and paused: reconnect the interface and choose the input again, then resume.`,
+        text: `${why} Reconnect the interface and press “Open the input again”.`,
       });
     },
     [client],
@@ -120,10 +138,12 @@ export function App() {
       }
       if (!r.ok) {
         setInputMsg({ kind: 'error', text: r.failure.message });
+        setInputClosed(true);
         client.send({ type: 'source-stop', reason: r.failure.kind });
         return;
       }
       inputRef.current = r.input;
+      setInputClosed(false);
       setInputMsg(params.problems.length > 0 ? { kind: 'warn', text: params.problems.join(' ') } : null);
       const ctx = r.input.context;
       setSuspended(ctx.state === 'suspended');
@@ -134,7 +154,7 @@ export function App() {
       cancelled = true;
     };
     // The sim's knobs are sent separately below; only its sample rate restarts the source.
-  }, [source, deviceId, sim.sampleRateHz, client, inputGone]);
+  }, [source, deviceId, sim.sampleRateHz, client, inputGone, inputAttempt]);
 
   useEffect(() => {
     if (source === 'sim') client.send({ type: 'sim-options', options: simOptions(sim) });
@@ -186,7 +206,7 @@ export function App() {
     let last = -1;
     return client.onMessage((m) => {
       const run = m.type === 'run' ? m.run : m.type === 'tick' ? m.run : undefined;
-      if (!run || run.origin.kind !== 'live') return;
+      if (!run) return;
       const n = capturedCount(run.state);
       if (n !== last) {
         if (n > 0) void store.autosave(JSON.parse(serializeRun(run.state)) as JsonValue);
@@ -275,35 +295,74 @@ export function App() {
     return () => window.removeEventListener('keydown', onKey);
   }, [sendEvent, tab]);
 
+  // ---- Recording (Open WAV…) -------------------------------------------------------------------
+  const [wavPlanProblem, setWavPlanProblem] = useState<string | null>(null);
   const onOpenWav = useCallback(
     async (file: File | null) => {
       if (!file) return;
+      setTab('run');
       const p = parsePlan(planText);
-      if (p.kind !== 'ok') return;
+      if (p.kind !== 'ok') {
+        setWavPlanProblem(
+          `${file.name} was not analysed: the plan’s voltages are needed to map the steps (${p.message}).`,
+        );
+        return;
+      }
+      setWavPlanProblem(null);
       const bytes = await file.arrayBuffer();
       client.send(
         {
           type: 'wav-analyze',
           bytes,
           fileName: file.name,
-          channel: channel + 1,
-          plan: { id: 'recording', label: `Recording ${file.name}`, volts: [...p.volts] },
+          request: {
+            points: [...p.volts],
+            channel: channel + 1,
+            settleSeconds: RECORDING_SETTLE_SECONDS,
+            a4Hz: A4_HZ,
+          },
         },
         [bytes],
       );
-      setTab('run');
     },
     [client, planText, channel],
   );
+  useEffect(
+    () =>
+      client.onMessage((m) => {
+        if (m.type === 'wav-done' && m.outcome.kind === 'ok') setShowRecording(true);
+      }),
+    [client],
+  );
+  const wavOk =
+    view.wav?.outcome?.kind === 'ok' ? { fileName: view.wav.fileName, ...view.wav.outcome } : null;
+  const recordingView = showRecording && wavOk ? wavOk : null;
+  const recordingAnalysis = useMemo(
+    () => (wavOk ? recordingAsRunAnalysis(wavOk.analysis) : null),
+    [wavOk?.analysis],
+  );
+  /** What the unit book, the exports and the printed report work on: the recording shown, else the run. */
+  const shownAnalysis = recordingView ? recordingAnalysis : analysis;
+  const shownPlanVolts = recordingView
+    ? recordingView.analysis.steps.map((s) => s.volts ?? 0)
+    : (runState?.plan.volts ?? []);
+  const recordResult = useMemo((): AnalysisResult | null => {
+    if (recordingView) {
+      const r = recordingToRecordResult(recordingView.analysis);
+      return r ? { steps: [...r.steps], fit: r.fit, advice: r.advice.map((a) => ({ ...a })) } : null;
+    }
+    return analysis && (analysis.table?.rows.length ?? 0) > 0 ? toAnalysisResult(analysis) : null;
+  }, [recordingView?.analysis, analysis]);
 
   const doExport = useCallback(
     async (format: 'csv' | 'json') => {
-      if (!analysis) return;
+      const a = shownAnalysis;
+      if (!a) return;
       const name = `${fileSlug(info.unitName || info.serial)}-${new Date().toISOString().slice(0, 10)}`;
       const rt = Number(info.roomTempC);
       const content =
         format === 'csv'
-          ? runToCsv(analysis, {
+          ? runToCsv(a, {
               unitName: info.unitName,
               serial: info.serial,
               notes: info.notes,
@@ -311,7 +370,10 @@ export function App() {
               takenAt: new Date().toISOString(),
               ...(info.roomTempC.trim() !== '' && Number.isFinite(rt) ? { roomTempC: rt } : {}),
             })
-          : toAnalyzeJson(analysis, run?.details ?? {});
+          : recordingView
+            ? // The recording's JSON is the command line's (`spanmeter analyze --json`).
+              JSON.stringify(recordingToJson(recordingView.analysis))
+            : toAnalyzeJson(a, run?.details ?? {});
       const r = await store.exportFile({ format, suggestedName: name, content });
       setExportMsg(
         r.ok
@@ -321,14 +383,40 @@ export function App() {
           : r.error.message,
       );
     },
-    [analysis, info, run, store],
+    [shownAnalysis, recordingView, info, run, store],
   );
 
-  const wavStatus = view.wav
-    ? view.wav.done
-      ? view.wav.message
-      : `Analysing ${view.wav.fileName}: ${Math.round(view.wav.fraction * 100)} %`
-    : null;
+  const wavStatus = useMemo((): { kind: 'info' | 'error'; text: string } | null => {
+    if (wavPlanProblem) return { kind: 'error', text: wavPlanProblem };
+    const w = view.wav;
+    if (!w) return null;
+    const o = w.outcome;
+    if (!o) return { kind: 'info', text: `Analysing ${w.fileName}…` };
+    if (o.kind === 'ok') {
+      const n = o.analysis.steps.length;
+      return {
+        kind: 'info',
+        text: `${w.fileName}: ${o.file.durationSeconds.toFixed(1)} s at ${o.file.sampleRateHz} Hz, channel ${o.file.channelNumber} of ${o.file.channelCount}: ${n} step${n === 1 ? '' : 's'} measured.`,
+      };
+    }
+    const hint =
+      o.code === 'plateau-count-mismatch'
+        ? ' Set the plan’s voltages to the ones the recording steps through, then open it again.'
+        : '';
+    return { kind: 'error', text: `${w.fileName} gave no analysis: ${o.message}.${hint}` };
+  }, [view.wav, wavPlanProblem]);
+  const runKeptNote =
+    wavStatus?.kind === 'error' && runState
+      ? ` Your run is kept${runState.phase === 'paused' ? ' (paused: press Resume to go on)' : ''}.`
+      : '';
+  // Shown while the run it paused is still waiting; the rate readout shows the new rate in any case.
+  const rateMsg =
+    view.rateChange?.runRebased && runState?.phase === 'paused'
+      ? {
+          kind: 'warn' as const,
+          text: `The sample rate changed from ${view.rateChange.fromHz.toLocaleString('en-US')} Hz to ${view.rateChange.toHz.toLocaleString('en-US')} Hz. The run is kept with its captured steps and paused on the new stream: press Resume to go on.`,
+        }
+      : null;
 
   const stats = view.stats;
   return (
@@ -400,7 +488,12 @@ export function App() {
               channelCount={channelCount}
               onChannel={setChannel}
               sampleRateHz={view.source.sampleRateHz}
-              message={inputMsg}
+              message={
+                inputMsg?.kind === 'error' && active
+                  ? { ...inputMsg, text: `${inputMsg.text} ${RUN_KEPT}` }
+                  : (inputMsg ?? rateMsg)
+              }
+              onReopen={inputClosed ? () => setInputAttempt((n) => n + 1) : null}
               suspended={suspended && source === 'device'}
               onResumeAudio={resumeAudio}
               reading={view.reading}
@@ -417,7 +510,18 @@ export function App() {
                 {view.lastError}
               </p>
             )}
-            {tab === 'run' && (
+            {tab === 'run' && recordingView && recordingAnalysis && (
+              <RecordingPanel
+                fileName={recordingView.fileName}
+                file={recordingView.file}
+                recording={recordingView.analysis}
+                analysis={recordingAnalysis}
+                onBackToRun={runState ? () => setShowRecording(false) : null}
+                onClose={() => setShowRecording(false)}
+                openWav={<OpenWavControl onOpenWav={(f) => void onOpenWav(f)} />}
+              />
+            )}
+            {tab === 'run' && !recordingView && (
               <RunPanel
                 run={run}
                 analysis={analysis}
@@ -446,7 +550,7 @@ export function App() {
                     : null
                 }
                 onOpenWav={(f) => void onOpenWav(f)}
-                wavStatus={wavStatus}
+                wavStatus={wavStatus && { ...wavStatus, text: wavStatus.text + runKeptNote }}
               />
             )}
             {tab === 'pair' && (
@@ -471,8 +575,8 @@ export function App() {
                 store={store}
                 info={info}
                 onInfo={setInfo}
-                analysis={analysis}
-                planVolts={runState?.plan.volts ?? []}
+                result={recordResult}
+                planVolts={shownPlanVolts}
                 onExport={(f) => void doExport(f)}
                 onPrint={() => window.print()}
                 onSaved={() => void store.clearAutosave()}
@@ -484,7 +588,7 @@ export function App() {
           </div>
         </main>
       </div>
-      <PrintReport analysis={analysis} info={info} planVolts={runState?.plan.volts ?? []} />
+      <PrintReport analysis={shownAnalysis} info={info} planVolts={shownPlanVolts} />
     </>
   );
 }

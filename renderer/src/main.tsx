@@ -1,4 +1,5 @@
 /** Entry of the renderer: mounts the app. */
+import './lib/zod-jitless.ts';
 import { StrictMode } from 'react';
 import { createRoot } from 'react-dom/client';
 import { App } from './App.tsx';

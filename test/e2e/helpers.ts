@@ -3,9 +3,10 @@
  * the stepped recording the fake capture device plays, and read the app's state from the page.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import type { Page } from 'playwright-core';
 import wavefile from 'wavefile';
 import {
   planSchedule,
@@ -52,8 +53,48 @@ export interface WebServer {
   stop(): Promise<void>;
 }
 
-/** Starts scripts/web.mjs on a free port (PORT=0) and waits for the line that names its address. */
-export function startWebServer(timeoutMs = 90_000): Promise<WebServer> {
+/**
+ * Held while one test file's server may be building the renderer, so that files started together do
+ * not build into build/renderer at once: the others wait, then find the build fresh.
+ */
+const BUILD_LOCK = path.join(ROOT, 'build', '.e2e-build-lock');
+/** A lock older than this is left over from a killed run, ms. */
+const STALE_LOCK_MS = 180_000;
+
+async function takeBuildLock(timeoutMs: number): Promise<() => void> {
+  mkdirSync(path.dirname(BUILD_LOCK), { recursive: true });
+  const deadline = Date.now() + timeoutMs;
+  for (;;) {
+    try {
+      mkdirSync(BUILD_LOCK);
+      return () => rmSync(BUILD_LOCK, { recursive: true, force: true });
+    } catch {
+      try {
+        if (Date.now() - statSync(BUILD_LOCK).mtimeMs > STALE_LOCK_MS)
+          rmSync(BUILD_LOCK, { recursive: true, force: true });
+      } catch {
+        // gone meanwhile
+      }
+      if (Date.now() > deadline) throw new Error(`e2e: ${BUILD_LOCK} was held for ${timeoutMs} ms`);
+      await new Promise((r) => setTimeout(r, 250));
+    }
+  }
+}
+
+/**
+ * Starts scripts/web.mjs on a free port (PORT=0) and waits for the line that names its address. One
+ * file's server builds the renderer when it is stale; the others wait for it (a lock in build/).
+ */
+export async function startWebServer(timeoutMs = 90_000): Promise<WebServer> {
+  const release = await takeBuildLock(timeoutMs);
+  try {
+    return await spawnWebServer(timeoutMs);
+  } finally {
+    release();
+  }
+}
+
+function spawnWebServer(timeoutMs: number): Promise<WebServer> {
   return new Promise((resolve, reject) => {
     const child: ChildProcess = spawn(process.execPath, [path.join(ROOT, 'scripts', 'web.mjs')], {
       cwd: ROOT,
@@ -127,4 +168,39 @@ export function writeSteppedRecording(
 /** Cents from `refHz` to `hz` (A. J. Ellis, 1885). */
 export function centsBetween(hz: number, refHz: number): number {
   return 1200 * Math.log2(hz / refHz);
+}
+
+/** Writes samples as a mono 32-bit float WAV into test-artifacts/ and returns its path. */
+export function writeWav(name: string, samples: Float32Array, sampleRateHz: number): string {
+  mkdirSync(ARTIFACTS, { recursive: true });
+  const w = new wavefile.WaveFile();
+  w.fromScratch(1, sampleRateHz, '32f', samples);
+  const file = path.join(ARTIFACTS, name);
+  writeFileSync(file, w.toBuffer());
+  return file;
+}
+
+/** One row of the error table as the page shows it. */
+export interface StepRow {
+  readonly volts: number;
+  readonly hz: number;
+}
+
+/** The error table's captured rows (`data-testid="step-row"`), in order. */
+export function readStepRows(page: Page): Promise<StepRow[]> {
+  return page.$$eval('[data-testid="step-row"]', (els) =>
+    els.map((e) => ({ volts: Number(e.getAttribute('data-volts')), hz: Number(e.getAttribute('data-hz')) })),
+  );
+}
+
+/** Waits until the page shows at least `n` step rows. */
+export async function waitForStepRows(page: Page, n: number, timeoutMs = 30_000): Promise<void> {
+  await page.waitForFunction((k) => document.querySelectorAll('[data-testid="step-row"]').length >= k, n, {
+    timeout: timeoutMs,
+  });
+}
+
+/** The run prompt's phase (`data-phase`), or '' without a run. */
+export async function runPhase(page: Page): Promise<string> {
+  return (await page.getAttribute('[data-testid="run-prompt"]', 'data-phase').catch(() => null)) ?? '';
 }

@@ -70,7 +70,7 @@ export function describeInputError(err: unknown): InputFailure {
       return {
         kind: 'permission-denied',
         message:
-          'Spanmeter may not use the audio input. Allow microphone access for this page (the browser’s or the system’s privacy settings), then choose the input again, or use the simulated oscillator.',
+          'Spanmeter may not use the audio input. Allow microphone access for this page (the browser’s or the system’s privacy settings), then press “Open the input again”, or use the simulated oscillator.',
       };
     case 'NotFoundError':
     case 'OverconstrainedError':

@@ -5,6 +5,7 @@
  */
 import type { PitchReading } from '../../../dsp/reading.ts';
 import type { DriftView, FromEngine, RunSnapshot, ToEngine, TwoPointView } from './protocol.ts';
+import type { WavAnalysisOutcome } from './wav-analysis.ts';
 
 /** One point of the strip chart's history. */
 export interface HistoryPoint {
@@ -39,14 +40,18 @@ export interface EngineView {
     readonly sampleRateHz: number | null;
     readonly reason?: string;
   };
-  readonly stats: EngineStats | null;
-  readonly wav: {
-    readonly fileName: string;
-    readonly fraction: number;
-    readonly done: boolean;
-    readonly ok: boolean;
-    readonly message: string;
+  /**
+   * The last time a source started at a rate other than the one before, with whether a run in progress
+   * was moved onto the new clock; cleared when a source starts at the same rate or stops.
+   */
+  readonly rateChange: {
+    readonly fromHz: number;
+    readonly toHz: number;
+    readonly runRebased: boolean;
   } | null;
+  readonly stats: EngineStats | null;
+  /** The last "Open WAV…": being analysed (outcome null), or its outcome. */
+  readonly wav: { readonly fileName: string; readonly outcome: WavAnalysisOutcome | null } | null;
   readonly lastError: string | null;
 }
 
@@ -64,6 +69,7 @@ export const INITIAL_VIEW: EngineView = {
   twoPoint: null,
   drift: null,
   source: { kind: 'none', sampleRateHz: null },
+  rateChange: null,
   stats: null,
   wav: null,
   lastError: null,
@@ -106,6 +112,12 @@ export function foldEngineMessage(v: EngineView, m: FromEngine): EngineView {
       return {
         ...v,
         source: { kind: m.kind, sampleRateHz: m.sampleRateHz, ...(m.reason ? { reason: m.reason } : {}) },
+        rateChange:
+          m.kind === 'none'
+            ? v.rateChange
+            : m.previousSampleRateHz !== undefined && m.sampleRateHz !== null
+              ? { fromHz: m.previousSampleRateHz, toHz: m.sampleRateHz, runRebased: m.runRebased === true }
+              : null,
         history: [],
         reading: m.kind === 'none' ? null : v.reading,
         settled: false,
@@ -122,13 +134,10 @@ export function foldEngineMessage(v: EngineView, m: FromEngine): EngineView {
           maxCaptureMs: m.maxCaptureMs,
         },
       };
-    case 'wav-progress':
-      return {
-        ...v,
-        wav: { fileName: m.fileName, fraction: m.fraction, done: false, ok: true, message: '' },
-      };
+    case 'wav-started':
+      return { ...v, wav: { fileName: m.fileName, outcome: null } };
     case 'wav-done':
-      return { ...v, wav: { fileName: m.fileName, fraction: 1, done: true, ok: m.ok, message: m.message } };
+      return { ...v, wav: { fileName: m.fileName, outcome: m.outcome } };
     case 'error':
       return { ...v, lastError: m.message };
   }

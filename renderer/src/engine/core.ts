@@ -19,21 +19,18 @@ import {
   type OscillatorStream,
 } from '../../../dsp/simulate.ts';
 import { PitchTracker } from '../../../dsp/stream.ts';
-import { decodeWav, pickChannel } from '../../../dsp/wav.ts';
-import type { CaptureDetail } from '../lib/analysis.ts';
+import { captureDetail, type CaptureDetail } from '../lib/analysis.ts';
 import type {
   DriftView,
   EngineMode,
   FromEngine,
-  PlanSpec,
-  RunOrigin,
   RunSnapshot,
   ToEngine,
   TwoPointConfig,
   TwoPointView,
 } from './protocol.ts';
-import { analyzeRecording, captureDetail } from './recording.ts';
 import { feedReading, rebaseRun } from './run-host.ts';
+import { analyzeWavBytes, type WavAnalysisRequest } from './wav-analysis.ts';
 
 /** How the engine talks back and tells time. */
 export interface EngineHost {
@@ -96,7 +93,6 @@ export class EngineCore {
   private manualVolts = 0;
   // Run.
   private run: RunState | null = null;
-  private origin: RunOrigin = { kind: 'live' };
   private details: Record<number, CaptureDetail> = {};
   private stepStartedAt: (number | null)[] = [];
   private capturedAt: (number | null)[] = [];
@@ -177,20 +173,19 @@ export class EngineCore {
         return;
       case 'run-start':
         this.run = createRun({ id: msg.plan.id, label: msg.plan.label, volts: msg.plan.volts }, msg.options);
-        this.resetRunSide(msg.plan.volts.length, { kind: 'live' });
+        this.resetRunSide(msg.plan.volts.length);
         this.setMode('run');
         this.afterRunChange();
         this.postRun();
         return;
       case 'run-restore':
         this.run = rebaseRun(msg.state);
-        this.resetRunSide(this.run.steps.length, { kind: 'live' });
+        this.resetRunSide(this.run.steps.length);
         this.afterRunChange();
         this.postRun();
         return;
       case 'run-event':
         if (!this.run) return;
-        if (msg.event.type === 'resume' && this.origin.kind === 'recording') return;
         this.run = runReducer(this.run, msg.event);
         this.afterRunChange();
         this.postRun();
@@ -239,12 +234,13 @@ export class EngineCore {
         this.postDrift();
         return;
       case 'wav-analyze':
-        this.analyzeWav(msg.bytes, msg.fileName, msg.channel, msg.plan);
+        this.analyzeWav(msg.bytes, msg.fileName, msg.request);
         return;
     }
   }
 
   private startSource(kind: 'live' | 'sim', sampleRateHz: number): void {
+    const previousRate = this.sampleRateHz;
     this.tracker = new PitchTracker({ sampleRateHz });
     this.sampleRateHz = sampleRateHz;
     this.sourceKind = kind;
@@ -253,36 +249,39 @@ export class EngineCore {
     this.statAudioSeconds = 0;
     this.maxBlockMs = 0;
     this.dropped = 0;
+    let runRebased = false;
     if (this.run) {
-      // A new stream clock: the run keeps its captures and waits, paused, for the user.
+      // A new stream clock (and perhaps a new rate): the run keeps its captures and waits, paused, for
+      // the user.
       const was = this.run.phase;
+      runRebased = was !== 'finished' && was !== 'aborted';
       this.run = rebaseRun(this.run);
       if (was !== this.run.phase || this.run.lastSeconds === null) this.postRun();
       this.stepStartedAt = this.stepStartedAt.map(() => null);
     }
     if (this.twoPoint) this.twoPoint.detector.reset();
     this.liveDetector.reset();
-    this.host.post({ type: 'source', kind, sampleRateHz });
+    this.host.post({
+      type: 'source',
+      kind,
+      sampleRateHz,
+      ...(previousRate > 0 && previousRate !== sampleRateHz ? { previousSampleRateHz: previousRate } : {}),
+      ...(runRebased ? { runRebased } : {}),
+    });
   }
 
   private stopSource(reason: string): void {
     this.tracker = null;
     this.sim = null;
     this.sourceKind = 'none';
-    if (
-      this.run &&
-      this.run.phase !== 'finished' &&
-      this.run.phase !== 'aborted' &&
-      this.origin.kind === 'live'
-    ) {
+    if (this.run && this.run.phase !== 'finished' && this.run.phase !== 'aborted') {
       this.run = rebaseRun(this.run);
       this.postRun();
     }
     this.host.post({ type: 'source', kind: 'none', sampleRateHz: null, reason });
   }
 
-  private resetRunSide(steps: number, origin: RunOrigin): void {
-    this.origin = origin;
+  private resetRunSide(steps: number): void {
     this.details = {};
     this.stepStartedAt = new Array(steps).fill(null);
     this.capturedAt = new Array(steps).fill(null);
@@ -291,7 +290,7 @@ export class EngineCore {
 
   private setMode(mode: EngineMode): void {
     if (mode === this.mode) return;
-    if (this.mode === 'run' && this.run && this.origin.kind === 'live') {
+    if (this.mode === 'run' && this.run) {
       const p = this.run.phase;
       if (p !== 'paused' && p !== 'finished' && p !== 'aborted') {
         this.run = runReducer(this.run, { type: 'pause' });
@@ -311,7 +310,7 @@ export class EngineCore {
   /** Simulator follows the run: each new step's voltage, with a short glide. */
   private afterRunChange(): void {
     const s = this.run;
-    if (!s || this.origin.kind !== 'live') return;
+    if (!s) return;
     if (s.current !== this.lastCurrent && s.phase !== 'finished' && s.phase !== 'aborted') {
       this.lastCurrent = s.current;
       this.stepStartedAt[s.current] = this.streamSeconds;
@@ -410,7 +409,7 @@ export class EngineCore {
     const tracker = this.tracker;
     if (!tracker) return;
     let runChanged = false;
-    if (this.run && this.mode === 'run' && this.origin.kind === 'live') {
+    if (this.run && this.mode === 'run') {
       const before = this.run;
       const f = feedReading(before, r, (a, b) => {
         const t0 = this.host.nowMs();
@@ -451,7 +450,6 @@ export class EngineCore {
       details: { ...this.details },
       stepStartedAt: [...this.stepStartedAt],
       capturedAt: [...this.capturedAt],
-      origin: this.origin,
     };
   }
 
@@ -554,38 +552,21 @@ export class EngineCore {
     });
   }
 
-  private analyzeWav(bytes: ArrayBuffer, fileName: string, channel: number, plan: PlanSpec): void {
-    const decoded = decodeWav(new Uint8Array(bytes));
-    if (decoded.kind === 'error') {
-      this.host.post({ type: 'wav-done', fileName, ok: false, message: decoded.message });
-      return;
-    }
-    const picked = pickChannel(decoded, Math.min(Math.max(1, channel), decoded.channelCount));
-    if (picked.kind === 'error') {
-      this.host.post({ type: 'wav-done', fileName, ok: false, message: picked.message });
-      return;
-    }
-    if (this.run && this.origin.kind === 'live') {
+  /**
+   * A recording through `analyzeRecording` (see wav-analysis.ts). A live run in progress is paused (the
+   * engine is busy with the file meanwhile, so live audio would arrive late) and otherwise left as it
+   * is: its captures stay, whatever the file gives.
+   */
+  private analyzeWav(bytes: ArrayBuffer, fileName: string, request: WavAnalysisRequest): void {
+    this.host.post({ type: 'wav-started', fileName });
+    if (this.run) {
       const p = this.run.phase;
-      if (p !== 'paused' && p !== 'finished' && p !== 'aborted')
+      if (p !== 'paused' && p !== 'finished' && p !== 'aborted') {
         this.run = runReducer(this.run, { type: 'pause' });
+        this.postRun();
+      }
     }
-    const result = analyzeRecording(picked.samples, picked.sampleRateHz, plan, {}, (fraction) =>
-      this.host.post({ type: 'wav-progress', fileName, fraction }),
-    );
-    this.run = result.state;
-    this.resetRunSide(plan.volts.length, { kind: 'recording', fileName });
-    this.details = result.details;
-    this.capturedAt = result.capturedAt;
-    this.postRun();
-    const captured = result.state.steps.filter((s) => s.status === 'captured').length;
-    this.host.post({
-      type: 'wav-done',
-      fileName,
-      ok: true,
-      message:
-        `${fileName}: ${decoded.durationSeconds.toFixed(1)} s at ${decoded.sampleRateHz} Hz, channel ` +
-        `${picked.channelNumber} of ${decoded.channelCount}: ${captured} of ${plan.volts.length} steps captured.`,
-    });
+    const outcome = analyzeWavBytes(new Uint8Array(bytes), request);
+    this.host.post({ type: 'wav-done', fileName, outcome });
   }
 }

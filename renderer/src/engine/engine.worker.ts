@@ -3,6 +3,7 @@
  * worklet over a MessagePort; each buffer is handed back for reuse once analysed. With the simulated
  * oscillator as the source, a timer renders it in real time (by the clock, so a late timer catches up).
  */
+import '../lib/zod-jitless.ts';
 import { EngineCore } from './core.ts';
 import type { AudioBlockMessage, FromEngine, RecycleMessage, ToEngine } from './protocol.ts';
 

@@ -11,6 +11,7 @@ import type { PitchReading } from '../../../dsp/reading.ts';
 import type { RunEvent, RunOptionsInput, RunState } from '../../../dsp/run.ts';
 import type { OscillatorOptions } from '../../../dsp/simulate.ts';
 import type { CaptureDetail } from '../lib/analysis.ts';
+import type { WavAnalysisOutcome, WavAnalysisRequest } from './wav-analysis.ts';
 
 /** What the engine is doing with the readings besides showing them. */
 export type EngineMode = 'run' | 'two-point' | 'drift';
@@ -58,15 +59,12 @@ export type ToEngine =
   | { readonly type: 'drift-start'; readonly volts: number; readonly windowSeconds: number }
   | { readonly type: 'drift-stop' }
   | {
+      /** Analyse a recording with `analyzeRecording` (dsp/recording.ts); the live run is paused, not replaced. */
       readonly type: 'wav-analyze';
       readonly bytes: ArrayBuffer;
       readonly fileName: string;
-      readonly channel: number;
-      readonly plan: PlanSpec;
+      readonly request: WavAnalysisRequest;
     };
-
-/** Where the run came from: live input (device or simulator) or a WAV recording. */
-export type RunOrigin = { readonly kind: 'live' } | { readonly kind: 'recording'; readonly fileName: string };
 
 /** The run as the page sees it. */
 export interface RunSnapshot {
@@ -77,7 +75,6 @@ export interface RunSnapshot {
   readonly stepStartedAt: readonly (number | null)[];
   /** Stream time each step's capture was stored, seconds, by step index. */
   readonly capturedAt: readonly (number | null)[];
-  readonly origin: RunOrigin;
 }
 
 /** One side of the two-point check. */
@@ -126,6 +123,10 @@ export type FromEngine =
       readonly kind: 'none' | 'live' | 'sim';
       readonly sampleRateHz: number | null;
       readonly reason?: string;
+      /** The previous source's rate, Hz, when a new source starts at a different rate. */
+      readonly previousSampleRateHz?: number;
+      /** True when a run in progress was moved onto the new stream clock and paused (`rebaseRun`). */
+      readonly runRebased?: boolean;
     }
   | {
       readonly type: 'stats';
@@ -141,13 +142,8 @@ export type FromEngine =
       /** Longest capture measurement (averageOfSpan) so far, ms. */
       readonly maxCaptureMs: number;
     }
-  | { readonly type: 'wav-progress'; readonly fileName: string; readonly fraction: number }
-  | {
-      readonly type: 'wav-done';
-      readonly fileName: string;
-      readonly ok: boolean;
-      readonly message: string;
-    }
+  | { readonly type: 'wav-started'; readonly fileName: string }
+  | { readonly type: 'wav-done'; readonly fileName: string; readonly outcome: WavAnalysisOutcome }
   | { readonly type: 'error'; readonly message: string };
 
 /** Worklet → worker over the audio port. */

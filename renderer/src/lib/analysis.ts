@@ -6,6 +6,8 @@
 import { adviseTrim, type TrimAdvice } from '../../../dsp/advice.ts';
 import { analyzeBends, fitTracking, type BendAnalysis, type TrackingFit } from '../../../dsp/fit.ts';
 import { nearestNote } from '../../../dsp/notes.ts';
+import type { PitchOk } from '../../../dsp/reading.ts';
+import type { RecordingAnalysisOk } from '../../../dsp/recording.ts';
 import { runCaptures, type CapturedPoint, type RunState } from '../../../dsp/run.ts';
 import { buildErrorTable, type ErrorTable, type TableRow } from '../../../dsp/table.ts';
 import type { AnalysisResult, StepResult } from '../../../main/api-types.ts';
@@ -142,6 +144,48 @@ export interface CaptureDetail {
   readonly peakDbfs: number;
   readonly windowSeconds: number;
   readonly harmonicsUsed: number;
+}
+
+/**
+ * The detail of a precise measurement kept for the JSON export.
+ *
+ * @example captureDetail(reading).harmonicsUsed // 12
+ */
+export function captureDetail(m: PitchOk): CaptureDetail {
+  return {
+    clarity: m.clarity,
+    rmsDbfs: m.level.rmsDbfs,
+    peakDbfs: m.level.peakDbfs,
+    windowSeconds: m.windowSeconds,
+    harmonicsUsed: m.harmonicsUsed,
+  };
+}
+
+/**
+ * A recording's analysis (`analyzeRecording`, dsp/recording.ts) in the shape the run's views take
+ * (fit summary, advice, chart, CSV, printed report). Nothing is recomputed: the table, fit, bends and
+ * advice are the recording's own; only a missing fit becomes the typed "none".
+ *
+ * @param a - A completed analysis with points.
+ * @example recordingAsRunAnalysis(a).fit.kind // 'ok' with two or more steps
+ */
+export function recordingAsRunAnalysis(a: RecordingAnalysisOk): RunAnalysis {
+  const fit: TrackingFit = a.fit ?? NO_FIT;
+  const bends: BendAnalysis = a.bends ?? (NO_FIT as BendAnalysis);
+  return {
+    points: a.steps.map((s) => ({
+      stepIndex: s.index,
+      nominalVolts: s.volts ?? 0,
+      volts: s.measuredVolts ?? s.volts ?? 0,
+      hz: s.hz,
+      uncertaintyCents: s.uncertaintyCents,
+      source: 'host' as const,
+    })),
+    table: a.table,
+    fit,
+    bends,
+    advice: a.advice ?? adviseTrim({ fit, a4Hz: a.a4Hz }),
+  };
 }
 
 function jsonNumber(v: number | undefined): number | null {

@@ -97,6 +97,8 @@ export interface InputPanelProps {
   onChannel(c: number): void;
   sampleRateHz: number | null;
   message: { kind: 'info' | 'warn' | 'error'; text: string } | null;
+  /** Set while the audio input is closed after a failure: opens it again. */
+  onReopen: (() => void) | null;
   suspended: boolean;
   onResumeAudio(): void;
   reading: PitchReading | null;
@@ -218,6 +220,7 @@ export function InputPanel(p: InputPanelProps) {
               <span>Rate</span>
               <select
                 value={p.sim.sampleRateHz}
+                data-testid="sim-rate"
                 onChange={(e) => p.onSim({ ...p.sim, sampleRateHz: Number(e.target.value) })}
               >
                 {[44_100, 48_000, 96_000].map((r) => (
@@ -301,6 +304,11 @@ export function InputPanel(p: InputPanelProps) {
         >
           {p.message.text}
         </p>
+      )}
+      {p.onReopen && p.source === 'device' && (
+        <button className="wide" onClick={p.onReopen} data-testid="reopen-input">
+          Open the input again
+        </button>
       )}
       <LevelMeter reading={p.reading} />
       {p.source === 'device' && <Cautions />}

@@ -4,8 +4,13 @@
  * exports (CSV, JSON, printed report).
  */
 import { useCallback, useEffect, useState } from 'react';
-import type { RecordSummary, Run, UnitRecord, UnitRecordDraft } from '../../../main/api-types.ts';
-import { toAnalysisResult, type RunAnalysis } from '../lib/analysis.ts';
+import type {
+  AnalysisResult,
+  RecordSummary,
+  Run,
+  UnitRecord,
+  UnitRecordDraft,
+} from '../../../main/api-types.ts';
 import type { RecordStore } from '../storage/store.ts';
 import { CompareChart } from './charts.tsx';
 
@@ -80,7 +85,11 @@ export interface RecordsPanelProps {
   store: RecordStore;
   info: UnitInfo;
   onInfo(i: UnitInfo): void;
-  analysis: RunAnalysis | null;
+  /**
+   * What a save stores: the live run's analysis (`toAnalysisResult`) or an opened recording's
+   * (`recordingToRecordResult`), or null when there is nothing to save.
+   */
+  result: AnalysisResult | null;
   planVolts: readonly number[];
   onExport(format: 'csv' | 'json'): void;
   onPrint(): void;
@@ -108,16 +117,16 @@ export function RecordsPanel(p: RecordsPanelProps) {
     void refresh();
   }, [refresh]);
 
-  const canSave = p.analysis !== null && (p.analysis.table?.rows.length ?? 0) > 0;
+  const canSave = p.result !== null && p.result.steps.length > 0;
 
   const save = async () => {
-    if (!p.analysis) return;
+    if (!p.result) return;
     const run: Run = {
       id: newRunId(),
       takenAt: new Date().toISOString(),
       label: label.trim() || 'run',
       plan: { volts: [...p.planVolts] },
-      result: toAnalysisResult(p.analysis),
+      result: p.result,
     };
     const draft = draftFromInfo(p.info, [...(open?.runs ?? []), run], open ?? undefined);
     const r = await p.store.saveRecord(draft);

@@ -74,7 +74,30 @@ export interface RunPanelProps {
   simulated: boolean;
   resumeOffer: { text: string; onResume(): void; onDiscard(): void } | null;
   onOpenWav(file: File | null): void;
-  wavStatus: string | null;
+  /** The last "Open WAV…" status: analysing, done, or why the file gave no analysis. */
+  wavStatus: { kind: 'info' | 'error'; text: string } | null;
+}
+
+/**
+ * "Open WAV…": a file input inside a label styled as a button (in the browser build and in the
+ * desktop app alike; tests set its file with playwright's setInputFiles).
+ */
+export function OpenWavControl(props: { onOpenWav(file: File | null): void }) {
+  return (
+    <label className="button-like">
+      Open WAV…
+      <input
+        type="file"
+        accept=".wav,audio/wav,audio/x-wav"
+        className="hidden-file"
+        data-testid="open-wav"
+        onChange={(e) => {
+          props.onOpenWav(e.target.files?.[0] ?? null);
+          e.target.value = '';
+        }}
+      />
+    </label>
+  );
 }
 
 function MeterCell(props: { stepIndex: number; value: number | null; onSet(v: number | null): void }) {
@@ -104,7 +127,6 @@ export function RunPanel(p: RunPanelProps) {
   const parsed = parsePlan(p.planText);
   const s = p.run?.state ?? null;
   const active = s !== null && s.phase !== 'finished' && s.phase !== 'aborted';
-  const fromRecording = p.run?.origin.kind === 'recording';
   const presetMatch = PLAN_PRESETS.find(
     (pr) => parsed.kind === 'ok' && formatPlan(pr.volts) === formatPlan(parsed.volts),
   );
@@ -159,32 +181,24 @@ export function RunPanel(p: RunPanelProps) {
         >
           {active ? 'Restart run' : 'Start run'}
         </button>
-        <label className="button-like">
-          Open WAV…
-          <input
-            type="file"
-            accept=".wav,audio/wav,audio/x-wav"
-            className="hidden-file"
-            data-testid="open-wav"
-            onChange={(e) => {
-              p.onOpenWav(e.target.files?.[0] ?? null);
-              e.target.value = '';
-            }}
-          />
-        </label>
+        <OpenWavControl onOpenWav={p.onOpenWav} />
       </div>
       {parsed.kind === 'error' && <p className="message warn">{parsed.message}</p>}
-      {p.wavStatus && <p className="message info">{p.wavStatus}</p>}
+      {p.wavStatus && (
+        <p
+          className={`message ${p.wavStatus.kind}`}
+          role={p.wavStatus.kind === 'error' ? 'alert' : 'status'}
+          data-testid="wav-message"
+          data-kind={p.wavStatus.kind}
+        >
+          {p.wavStatus.text}
+        </p>
+      )}
       {s && prompt && (
         <div className={`prompt phase-${s.phase}`} data-testid="run-prompt" data-phase={s.phase}>
           <div className="prompt-main">
             <div className="prompt-title">{prompt.title}</div>
-            <div className="prompt-detail">
-              {fromRecording
-                ? `From the recording ${p.run?.origin.kind === 'recording' ? p.run.origin.fileName : ''}. `
-                : ''}
-              {prompt.detail}
-            </div>
+            <div className="prompt-detail">{prompt.detail}</div>
             <div className="progress" aria-label="Progress">
               <div
                 className={`progress-fill ${s.phase === 'capturing' || s.phase === 'measuring' ? 'capturing' : ''}`}
@@ -198,24 +212,21 @@ export function RunPanel(p: RunPanelProps) {
             </div>
           </div>
           <div className="controls">
-            <button onClick={() => p.onEvent({ type: 'capture-now' })} disabled={!active || fromRecording}>
+            <button onClick={() => p.onEvent({ type: 'capture-now' })} disabled={!active}>
               Capture now <Kbd k={RUN_KEYS.captureNow} />
             </button>
-            <button
-              onClick={() => p.onEvent({ type: 'redo', stepIndex: redoTarget })}
-              disabled={fromRecording}
-            >
+            <button onClick={() => p.onEvent({ type: 'redo', stepIndex: redoTarget })}>
               Redo step {redoTarget + 1} <Kbd k={RUN_KEYS.redo} />
             </button>
-            <button onClick={() => p.onEvent({ type: 'skip' })} disabled={!active || fromRecording}>
+            <button onClick={() => p.onEvent({ type: 'skip' })} disabled={!active}>
               Skip <Kbd k={RUN_KEYS.skip} />
             </button>
-            <button onClick={() => p.onEvent({ type: 'back' })} disabled={fromRecording}>
+            <button onClick={() => p.onEvent({ type: 'back' })}>
               Back <Kbd k={RUN_KEYS.back} />
             </button>
             <button
               onClick={() => p.onEvent({ type: s.phase === 'paused' ? 'resume' : 'pause' })}
-              disabled={!active || fromRecording}
+              disabled={!active}
               data-testid="pause"
             >
               {s.phase === 'paused' ? 'Resume' : 'Pause'} <Kbd k={RUN_KEYS.pause} />
@@ -324,7 +335,6 @@ export function RunPanel(p: RunPanelProps) {
                         <button
                           className="small"
                           onClick={() => p.onEvent({ type: 'redo', stepIndex: st.index })}
-                          disabled={fromRecording}
                         >
                           Redo
                         </button>
