@@ -106,6 +106,13 @@ export function selectMedian(a: Float64Array, n: number): number {
   return a[k];
 }
 
+/** Σ_{i<L} cos(x·(i − (L−1)/2)) = sin(Lx/2)/sin(x/2), with its limit L where sin(x/2) vanishes. */
+function dirichlet(x: number, L: number): number {
+  const sh = Math.sin(x / 2);
+  if (Math.abs(sh) < 1e-12) return L * Math.cos((L - 1) * Math.PI * Math.round(x / TWO_PI));
+  return Math.sin((L * x) / 2) / sh;
+}
+
 function wrapPi(a: number): number {
   return a - TWO_PI * Math.round(a / TWO_PI);
 }
@@ -487,13 +494,17 @@ export class HarmonicRefiner {
     return sw > 0;
   }
 
-  /** Real part of the Hann window's transform at offset `dHz`, about the window centre (unnormalised). */
+  /**
+   * The Hann window's transform at offset `dHz`, about the window centre (unnormalised, real). Closed form:
+   * with c = (L−1)/2 the window is w[i] = ½ + ½·cos(2π(i−c)/L), so
+   * W(θ) = ½·D(θ) + ¼·D(θ + 2π/L) + ¼·D(θ − 2π/L), where D(x) = Σ cos(x(i−c)) = sin(Lx/2)/sin(x/2)
+   * is the Dirichlet kernel (F. J. Harris, "On the use of windows for harmonic analysis with the discrete
+   * Fourier transform", Proc. IEEE 66(1), 1978).
+   */
   private windowLeak(dHz: number, L: number, fs: number): number {
-    const c = (L - 1) / 2;
-    let acc = 0;
-    const step = (TWO_PI * dHz) / fs;
-    for (let i = 0; i < L; i++) acc += this.win[i] * Math.cos(step * (i - c));
-    return acc;
+    const th = (TWO_PI * dHz) / fs;
+    const step = TWO_PI / L;
+    return 0.5 * dirichlet(th, L) + 0.25 * dirichlet(th + step, L) + 0.25 * dirichlet(th - step, L);
   }
 
   private readonly pair = new Float64Array(2);
