@@ -52,11 +52,14 @@ function Axes(props: {
           </text>
         </g>
       ))}
-      {xt.map((v) => (
-        <text key={`x${v}`} x={X(v)} y={f.h - 8} textAnchor="middle">
-          {fmt(v)}
-        </text>
-      ))}
+      {xt
+        // Leave room for the axis label at the right-hand end.
+        .filter((v) => !props.xLabel || X(v) < f.w - f.right - 16)
+        .map((v) => (
+          <text key={`x${v}`} x={X(v)} y={f.h - 8} textAnchor="middle">
+            {fmt(v)}
+          </text>
+        ))}
       <text x={f.w - f.right} y={f.h - 8} textAnchor="end" className="axis-label">
         {props.xLabel}
       </text>
@@ -233,7 +236,7 @@ export function CompareChart(props: { series: readonly CompareSeries[] }) {
           {s.points.map((p, i) => (
             <circle key={i} cx={X(p.volts)} cy={Y(p.cents)} r={4} className="dot" />
           ))}
-          <text x={f.w - f.right - 4} y={f.top + 14 + 16 * k} textAnchor="end" className="legend-text">
+          <text x={f.left + 8} y={f.top + 14 + 16 * k} textAnchor="start" className="legend-text">
             {s.label}
           </text>
         </g>
