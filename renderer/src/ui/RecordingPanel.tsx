@@ -9,7 +9,7 @@ import type { WavFileInfo } from '../engine/wav-analysis.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
 import { StepChart } from './charts.tsx';
-import { AdviceList, FitSummary } from './RunPanel.tsx';
+import { AdviceList, ErrorTableHead, FitSummary } from './RunPanel.tsx';
 
 export interface RecordingPanelProps {
   fileName: string;
@@ -51,19 +51,7 @@ export function RecordingPanel(p: RecordingPanelProps) {
       <div className="run-grid">
         <div className="table-wrap">
           <table className="error-table" data-testid="error-table">
-            <thead>
-              <tr>
-                <th>#</th>
-                <th>Set</th>
-                <th>Meter</th>
-                <th className="num">Hz</th>
-                <th>Note</th>
-                <th className="num">¢ ideal</th>
-                <th className="num">¢ interval</th>
-                <th className="num">±¢</th>
-                <th className="num">At, s</th>
-              </tr>
-            </thead>
+            <ErrorTableHead last="At, s" />
             <tbody>
               {r.steps.map((s) => (
                 <tr

@@ -260,19 +260,7 @@ export function RunPanel(p: RunPanelProps) {
         <div className="run-grid">
           <div className="table-wrap">
             <table className="error-table" data-testid="error-table">
-              <thead>
-                <tr>
-                  <th>#</th>
-                  <th>Set</th>
-                  <th>Meter</th>
-                  <th className="num">Hz</th>
-                  <th>Note</th>
-                  <th className="num">¢ ideal</th>
-                  <th className="num">¢ interval</th>
-                  <th className="num">±¢</th>
-                  <th />
-                </tr>
-              </thead>
+              <ErrorTableHead last={null} />
               <tbody>
                 {s.steps.map((st) => {
                   const row = rowByStep.get(st.index);
@@ -452,5 +440,24 @@ export function AdviceList(props: { analysis: RunAnalysis }) {
       </p>
       <p className="caution">{advice.caution}</p>
     </div>
+  );
+}
+
+/** Column heads of the error table, shared by the live run and the recording view. */
+export function ErrorTableHead(props: { last: string | null }) {
+  return (
+    <thead>
+      <tr>
+        <th>#</th>
+        <th>Set</th>
+        <th>Meter</th>
+        <th className="num">Hz</th>
+        <th>Note</th>
+        <th className="num">¢ ideal</th>
+        <th className="num">¢ interval</th>
+        <th className="num">±¢</th>
+        {props.last === null ? <th /> : <th className="num">{props.last}</th>}
+      </tr>
+    </thead>
   );
 }
