@@ -1,31 +1,13 @@
 // `spanmeter analyze FILE.wav --points …`: a recorded calibration pass, run as a user would run it.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import wavefile from 'wavefile';
 import { planSchedule, renderOscillator, type RenderedOscillator } from '../dsp/simulate.ts';
+import { cli } from './cli-run.ts';
 
-const ROOT = join(import.meta.dirname, '..');
 let dir = '';
-
-interface Ran {
-  readonly code: number | null;
-  readonly stdout: string;
-  readonly stderr: string;
-}
-
-/** Run `node scripts/run-cli.mjs …args` (what `npm run analyze -- …` runs). */
-function cli(...args: string[]): Ran {
-  const r = spawnSync(process.execPath, [join(ROOT, 'scripts', 'run-cli.mjs'), ...args], {
-    cwd: ROOT,
-    encoding: 'utf8',
-    env: { ...process.env, SPANMETER_DEBUG: '' },
-    timeout: 60_000,
-  });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
 
 /** 16-bit PCM WAV of the given channels (Float32 within ±1). */
 function writeWav(name: string, channels: Float32Array[], rate: number): string {

@@ -1,5 +1,4 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { spawnSync } from 'node:child_process';
 import { chmodSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -15,6 +14,7 @@ import {
 } from '../cli/format.ts';
 import { parseAnalyzeArgs } from '../cli/analyze.ts';
 import { gaussianNoise, tone } from './signals.ts';
+import { cli, type Ran } from './cli-run.ts';
 
 // In-process runs of `bench` hit this stand-in, which fails the way a bug would; spawned runs (the real
 // command line, through the bundle) are not affected by vi.mock.
@@ -24,25 +24,7 @@ vi.mock('../cli/bench.ts', () => ({
   },
 }));
 
-const ROOT = join(import.meta.dirname, '..');
 let dir = '';
-
-interface Ran {
-  readonly code: number | null;
-  readonly stdout: string;
-  readonly stderr: string;
-}
-
-/** Run `node scripts/run-cli.mjs …args` as a user would (`npm run analyze -- …` does exactly this). */
-function cli(...args: string[]): Ran {
-  const r = spawnSync(process.execPath, [join(ROOT, 'scripts', 'run-cli.mjs'), ...args], {
-    cwd: ROOT,
-    encoding: 'utf8',
-    env: { ...process.env, SPANMETER_DEBUG: '' },
-    timeout: 60_000,
-  });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
 
 /** Expect a failure: exactly one line on stderr, nothing on stdout, the given exit code. */
 function expectFailure(r: Ran, code: number, pattern: RegExp): void {
