@@ -3,13 +3,18 @@
  *
  * Without `--points` it measures one steady tone over the whole file. With `--points V1,V2,…` it analyses a
  * recorded calibration pass (`dsp/recording.ts`): finds the settled steps in order, maps them to the
- * voltages, and prints the error table, the tracking fit and the trim advice.
+ * voltages, and prints the error table, the tracking fit and the trim advice. `--clock-ppm` corrects every
+ * frequency for the interface's clock error, `--fit-from`/`--fit-to` narrow the fit, and `--divider` or
+ * `--summer` describe the input network for resistor values in the scale advice. With `--true-hz` it
+ * reads a recorded reference tone of known frequency and prints the interface's clock error instead.
  */
 import { readFileSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
+import type { InputNetwork } from '../dsp/advice.ts';
+import { applyClockPpm, clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/clock.ts';
 import { A4_HZ, nearestNote } from '../dsp/notes.ts';
 import { estimatePitch } from '../dsp/pitch.ts';
-import type { Hertz, Seconds, Volts } from '../dsp/units.ts';
+import type { Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
 import {
   analyzeRecording,
   describePlateauSpans,
@@ -24,11 +29,15 @@ import {
   parseIntegerOption,
   parseNumberListOption,
   parseNumberOption,
+  parseResistorPairOption,
 } from './args.ts';
 import { CliError } from './errors.ts';
 import {
+  clockReferenceToJson,
+  describeClockCorrection,
   describeNoPitch,
   describeWav,
+  formatClockReference,
   formatRecordingReport,
   formatStepReport,
   stepsToJson,
@@ -41,6 +50,8 @@ export const A4_RANGE_HZ: readonly [Hertz, Hertz] = [380, 500];
 export const POINTS_RANGE_V: readonly [Volts, Volts] = [-15, 15];
 /** Range accepted for `--settle`, s. */
 export const SETTLE_RANGE_S: readonly [Seconds, Seconds] = [0, 60];
+/** Range accepted for `--true-hz`, Hz: any tone a sound card can record. */
+export const TRUE_HZ_RANGE: readonly [Hertz, Hertz] = [1, 100_000];
 /** Highest channel number accepted by `--channel`: the most a WAV `fmt ` chunk can declare (a 16-bit field). */
 const MAX_CHANNEL = 65535;
 
@@ -58,6 +69,28 @@ const OPTIONS = {
     value: 'SECONDS',
     help: 'time each step must hold still before it is measured (default 0.5)',
   },
+  'clock-ppm': {
+    type: 'string',
+    value: 'PPM',
+    help: `interface clock error, −${MAX_CLOCK_PPM} to ${MAX_CLOCK_PPM} ppm (+ = fast): corrects every Hz`,
+  },
+  'true-hz': {
+    type: 'string',
+    value: 'HZ',
+    help: 'true Hz of a recorded reference tone: prints the clock error in ppm',
+  },
+  'fit-from': { type: 'string', value: 'V', help: 'lowest control voltage the fit and advice use' },
+  'fit-to': { type: 'string', value: 'V', help: 'highest control voltage the fit and advice use' },
+  divider: {
+    type: 'string',
+    value: 'SERIES,SHUNT',
+    help: 'input network, a divider: series and shunt ohms (e.g. 100k,1.8k)',
+  },
+  summer: {
+    type: 'string',
+    value: 'INPUT,FEEDBACK',
+    help: 'input network, an inverting summer: input and feedback ohms',
+  },
 } as const;
 
 /** Parsed, validated options of `spanmeter analyze`. */
@@ -74,6 +107,15 @@ export interface AnalyzeOptions {
   readonly points?: readonly Volts[];
   /** Settling time per step, s; undefined when not given. */
   readonly settleSeconds?: Seconds;
+  /** Interface clock error, ppm (positive = fast); undefined when not given. */
+  readonly clockPpm?: Ppm;
+  /** True frequency of a recorded reference tone, Hz: measure the clock error instead. */
+  readonly trueHz?: Hertz;
+  /** Fit range, V (inclusive); undefined when not given. */
+  readonly fitFromVolts?: Volts;
+  readonly fitToVolts?: Volts;
+  /** The input network, for resistor values in the scale advice. */
+  readonly network?: InputNetwork;
 }
 
 /** Usage text of the command. */
@@ -85,7 +127,13 @@ equal-tempered note (middle C = C4), cents from it, and the reading's uncertaint
 With --points it analyses a calibration pass instead: the oscillator stepped through
 the listed control voltages (1 V/oct), each held until it settles. It finds the
 settled steps in order, one per voltage, and prints the error table, the tracking
-fit (octaves per volt, scale error) and which trimmer to turn.
+fit (octaves per volt, scale error) and which trimmer to turn. --fit-from and --fit-to
+narrow the fit to a range of voltages; --divider or --summer describe the network from
+the 1 V/oct input to the converter, for resistor values that would correct the scale.
+
+--clock-ppm corrects every frequency for the interface's clock error; intervals, and so
+the scale, are not affected by it. To measure that error, record a reference tone of
+known frequency and run: spanmeter analyze ref.wav --true-hz 1000
 
 options:
 ${formatOptionsHelp(OPTIONS)}
@@ -130,7 +178,74 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
   if (settleSeconds !== undefined && points === undefined) {
     throw new CliError('--settle applies only to a multi-step run: give --points too', EXIT_USAGE);
   }
-  return { file: positionals[0], channel, a4Hz, json: values.json === true, points, settleSeconds };
+  const clockPpm =
+    values['clock-ppm'] === undefined
+      ? undefined
+      : parseNumberOption('clock-ppm', values['clock-ppm'], -MAX_CLOCK_PPM, MAX_CLOCK_PPM, 'ppm');
+  const trueHz =
+    values['true-hz'] === undefined
+      ? undefined
+      : parseNumberOption('true-hz', values['true-hz'], ...TRUE_HZ_RANGE, 'Hz');
+  const fitFromVolts =
+    values['fit-from'] === undefined
+      ? undefined
+      : parseNumberOption('fit-from', values['fit-from'], ...POINTS_RANGE_V, 'V');
+  const fitToVolts =
+    values['fit-to'] === undefined
+      ? undefined
+      : parseNumberOption('fit-to', values['fit-to'], ...POINTS_RANGE_V, 'V');
+  if (fitFromVolts !== undefined && fitToVolts !== undefined && fitFromVolts > fitToVolts) {
+    throw new CliError(
+      `--fit-from (${fitFromVolts} V) must not be above --fit-to (${fitToVolts} V)`,
+      EXIT_USAGE,
+    );
+  }
+  if (values.divider !== undefined && values.summer !== undefined) {
+    throw new CliError('give one input network: --divider or --summer, not both', EXIT_USAGE);
+  }
+  let network: InputNetwork | undefined;
+  if (values.divider !== undefined) {
+    const [seriesOhms, shuntOhms] = parseResistorPairOption('divider', values.divider, ['SERIES', 'SHUNT']);
+    network = { topology: 'divider', seriesOhms, shuntOhms };
+  } else if (values.summer !== undefined) {
+    const [inputOhms, feedbackOhms] = parseResistorPairOption('summer', values.summer, ['INPUT', 'FEEDBACK']);
+    network = { topology: 'inverting-summer', inputOhms, feedbackOhms };
+  }
+  if (points === undefined) {
+    const runOnly = (
+      [
+        ['fit-from', fitFromVolts],
+        ['fit-to', fitToVolts],
+        ['divider', values.divider],
+        ['summer', values.summer],
+      ] as const
+    ).find(([, v]) => v !== undefined);
+    if (runOnly) {
+      throw new CliError(`--${runOnly[0]} applies only to a multi-step run: give --points too`, EXIT_USAGE);
+    }
+  }
+  if (trueHz !== undefined && points !== undefined) {
+    throw new CliError(
+      '--true-hz reads one reference tone, not a multi-step run: leave out --points',
+      EXIT_USAGE,
+    );
+  }
+  if (trueHz !== undefined && clockPpm !== undefined) {
+    throw new CliError('--true-hz measures the clock error, so it takes no --clock-ppm', EXIT_USAGE);
+  }
+  return {
+    file: positionals[0],
+    channel,
+    a4Hz,
+    json: values.json === true,
+    points,
+    settleSeconds,
+    ...(clockPpm === undefined ? {} : { clockPpm }),
+    ...(trueHz === undefined ? {} : { trueHz }),
+    ...(fitFromVolts === undefined ? {} : { fitFromVolts }),
+    ...(fitToVolts === undefined ? {} : { fitToVolts }),
+    ...(network === undefined ? {} : { network }),
+  };
 }
 
 /**
@@ -216,6 +331,10 @@ export async function main(args: string[]): Promise<number> {
       points: opts.points,
       a4Hz: opts.a4Hz,
       ...(opts.settleSeconds === undefined ? {} : { settleSeconds: opts.settleSeconds }),
+      ...(opts.clockPpm === undefined ? {} : { clockPpm: opts.clockPpm }),
+      ...(opts.fitFromVolts === undefined ? {} : { fitFromVolts: opts.fitFromVolts }),
+      ...(opts.fitToVolts === undefined ? {} : { fitToVolts: opts.fitToVolts }),
+      ...(opts.network === undefined ? {} : { network: opts.network }),
     });
     if (analysis.kind === 'error') throw new CliError(describeRecordingError(analysis));
     if (opts.json) {
@@ -226,13 +345,35 @@ export async function main(args: string[]): Promise<number> {
     }
     return 0;
   }
-  const steps = [measureSteadyTone(picked.samples, decoded.sampleRateHz, opts.a4Hz)];
+  const measured = measureSteadyTone(picked.samples, decoded.sampleRateHz, opts.a4Hz);
+  if (opts.trueHz !== undefined) {
+    const clock = clockPpmFromReference(measured.reading.hz, opts.trueHz);
+    if (clock.kind === 'none') {
+      throw new CliError(
+        `the tone reads ${measured.reading.hz.toFixed(3)} Hz, ${Math.round(clock.ppm)} ppm from ` +
+          `${opts.trueHz} Hz: more than any interface clock is off (±${MAX_CLOCK_PPM} ppm); check --true-hz, ` +
+          'the reference and the sample-rate setting',
+      );
+    }
+    const report = { measuredHz: measured.reading.hz, trueHz: opts.trueHz, clock, reading: measured.reading };
+    if (opts.json) {
+      process.stdout.write(`${JSON.stringify(clockReferenceToJson(report))}\n`);
+    } else {
+      const header = describeWav(basename(opts.file), decoded, opts.channel);
+      process.stdout.write(`${header}\n${formatClockReference(report)}\n`);
+    }
+    return 0;
+  }
+  const ppm = opts.clockPpm ?? 0;
+  const hz = ppm === 0 ? measured.reading.hz : applyClockPpm(measured.reading.hz, ppm);
+  const steps = [{ ...measured, reading: { ...measured.reading, hz }, note: nearestNote(hz, opts.a4Hz) }];
 
   if (opts.json) {
     process.stdout.write(`${stepsToJson(steps)}\n`);
   } else {
     const header = describeWav(basename(opts.file), decoded, opts.channel);
-    process.stdout.write(`${header}\n${steps.map(formatStepReport).join('\n\n')}\n`);
+    const clockLine = ppm === 0 ? '' : `${describeClockCorrection(ppm)}\n`;
+    process.stdout.write(`${header}\n${clockLine}${steps.map(formatStepReport).join('\n\n')}\n`);
   }
   return 0;
 }

@@ -3,6 +3,7 @@
  * messages for unknown options, missing values and bad values.
  */
 import { parseArgs } from 'node:util';
+import { parseOhms } from '../dsp/eseries.ts';
 import { CliError } from './errors.ts';
 
 /**
@@ -190,6 +191,33 @@ export function parseNumberListOption(
     }
     return v;
   });
+}
+
+/**
+ * Parse two resistances separated by a comma, e.g. `--divider 100k,1.8k` (`dsp/eseries.ts` parseOhms:
+ * plain ohms, a `k` or `M` suffix, or the `4k02` form).
+ *
+ * @param name - Option name without dashes. @param text - The value as typed.
+ * @param labels - What the two values are, for the message, e.g. `['SERIES', 'SHUNT']`.
+ * @throws CliError (exit code {@link EXIT_USAGE}) naming the option and the bad item.
+ * @example parseResistorPairOption('divider', '100k,1.8k', ['SERIES', 'SHUNT']) // [100000, 1800]
+ */
+export function parseResistorPairOption(
+  name: string,
+  text: string,
+  labels: readonly [string, string],
+): [number, number] {
+  const items = text.split(',');
+  const usage = `--${name} ${labels.join(',')} takes two resistances in ohms (e.g. 100k,1.8k)`;
+  if (items.length !== 2) {
+    throw new CliError(`${usage}, got ${items.length === 1 ? 'one' : items.length}: '${text}'`, EXIT_USAGE);
+  }
+  const values = items.map((item, i) => {
+    const r = parseOhms(item);
+    if (r.kind === 'error') throw new CliError(`${usage}; ${labels[i]} ${r.message}`, EXIT_USAGE);
+    return r.ohms;
+  });
+  return [values[0], values[1]];
 }
 
 function parseDecimal(text: string): number | undefined {

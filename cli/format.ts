@@ -1,10 +1,13 @@
 /**
  * Text and JSON output of the command-line tools. Pure functions: numbers in, strings out.
  */
+import type { ResistorChange } from '../dsp/advice.ts';
+import { centsToPpm, ppmToCents, type ClockFromReferenceOk } from '../dsp/clock.ts';
+import { formatOhms } from '../dsp/eseries.ts';
 import { nearestNote, type NearestNote } from '../dsp/notes.ts';
 import type { RecordingAnalysisOk } from '../dsp/recording.ts';
 import type { PitchNone, PitchOk } from '../dsp/reading.ts';
-import type { Cents, Decibels, Hertz, Seconds, Volts } from '../dsp/units.ts';
+import type { Cents, Decibels, Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
 import type { WavDecoded } from '../dsp/wav.ts';
 
 /** One measured step: the control voltage it was taken at (null for a single steady tone) and its reading. */
@@ -307,14 +310,121 @@ function nearestNoteText(hz: Hertz, a4Hz: Hertz): string {
 }
 
 /**
- * The advice as numbered lines (trimmer in brackets), then the next measurement and the caution.
+ * A clock error in ppm with three decimals and its sign (a thousandth of a ppm is 2e-6 cent).
+ *
+ * @example formatPpm(37.5) // '+37.500'
+ */
+export function formatPpm(ppm: Ppm): string {
+  return formatSignedCents(ppm, 3);
+}
+
+/**
+ * The line saying that frequencies carry a clock correction, with its size in cents
+ * (`1200·log2(1 + ppm·10⁻⁶)`, `dsp/clock.ts` ppmToCents).
+ *
+ * @example describeClockCorrection(100) // 'clock     corrected by +100.000 ppm (+0.1731 cents); intervals are unaffected'
+ */
+export function describeClockCorrection(ppm: Ppm): string {
+  return (
+    `clock     corrected by ${formatPpm(ppm)} ppm (${formatSignedCents(ppmToCents(ppm), 4)} cents); ` +
+    'intervals are unaffected'
+  );
+}
+
+/** A reference tone read to find the interface's clock error (`analyze --true-hz`). */
+export interface ClockReference {
+  /** Frequency read through the interface, Hz. */
+  readonly measuredHz: Hertz;
+  /** The reference's true frequency, Hz. */
+  readonly trueHz: Hertz;
+  /** `clockPpmFromReference(measuredHz, trueHz)` (dsp/clock.ts). */
+  readonly clock: ClockFromReferenceOk;
+  /** The reading, for its uncertainty and level. */
+  readonly reading: PitchOk;
+}
+
+/** Standard uncertainty of the clock error, ppm: the reading's, as a ratio (`centsToPpm`). */
+function clockUncertaintyPpm(c: ClockReference): Ppm {
+  return centsToPpm(c.reading.uncertaintyCents);
+}
+
+/**
+ * The clock error from a reference tone, for a person: the reading, the error in ppm and cents, and the
+ * option to pass on.
+ *
+ * @example formatClockReference(c).split('\n')[1]
+ * // 'clock      +37.500 ppm ±0.0012 (1σ): the interface clock runs fast, so readings come out 0.0649 cents low'
+ */
+export function formatClockReference(c: ClockReference): string {
+  const ppm = c.clock.ppm;
+  const how =
+    ppm === 0
+      ? 'the interface clock is exact'
+      : `the interface clock runs ${ppm > 0 ? 'fast' : 'slow'}, so readings come out ` +
+        `${Math.abs(c.clock.cents).toFixed(4)} cents ${ppm > 0 ? 'low' : 'high'}`;
+  const rows: Array<[string, string]> = [
+    [
+      'reference',
+      `${formatHz(c.measuredHz)} Hz read, ${c.trueHz} Hz true (±${formatUncertainty(c.reading.uncertaintyCents)} cents, 1σ)`,
+    ],
+    ['clock', `${formatPpm(ppm)} ppm ±${formatUncertainty(clockUncertaintyPpm(c))} (1σ): ${how}`],
+    ['use', `--clock-ppm ${ppm.toFixed(3)} when analysing recordings made through this interface`],
+    ['note', 'the correction is only as good as the reference tone'],
+  ];
+  const width = Math.max(...rows.map(([l]) => l.length)) + 2;
+  return rows.map(([l, v]) => `${l.padEnd(width)}${v}`).join('\n');
+}
+
+/**
+ * The clock error from a reference tone as one JSON object: `{ measuredHz, trueHz, clockPpm,
+ * clockPpmUncertainty, cents, uncertaintyCents }` (uncertainties 1σ).
+ *
+ * @example clockReferenceToJson(c) // { measuredHz: 999.9625…, trueHz: 1000, clockPpm: 37.50…, … }
+ */
+export function clockReferenceToJson(c: ClockReference): Record<string, number> {
+  return {
+    measuredHz: c.measuredHz,
+    trueHz: c.trueHz,
+    clockPpm: c.clock.ppm,
+    clockPpmUncertainty: clockUncertaintyPpm(c),
+    cents: c.clock.cents,
+    uncertaintyCents: c.reading.uncertaintyCents,
+  };
+}
+
+function partLabel(part: ResistorChange['part']): string {
+  return { series: 'series Rs', shunt: 'shunt Rsh', input: 'input Rin', feedback: 'feedback Rf' }[part];
+}
+
+/**
+ * One line per resistor change of a scale item: the exact value and the nearest E24 and E96 values
+ * (IEC 60063) with the scale error each would leave.
+ *
+ * @example formatResistorChange(r)
+ * // 'series Rs 100 kΩ → 99.73 kΩ exact; E24 100 kΩ leaves +3.20, E96 100 kΩ leaves +3.20 cents per octave'
+ */
+export function formatResistorChange(r: ResistorChange): string {
+  const pick = (v: ResistorChange['e24']) =>
+    `${v.series} ${formatOhms(v.ohms)} leaves ${formatSignedCents(v.resultingScaleErrorCentsPerOctave)}`;
+  return (
+    `${partLabel(r.part)} ${formatOhms(r.fromOhms)} → ${formatOhms(r.toOhms)} exact; ` +
+    `${pick(r.e24)}, ${pick(r.e96)} cents per octave`
+  );
+}
+
+/**
+ * The advice as numbered lines (trimmer in brackets), each resistor change indented under its item,
+ * then the next measurement and the caution.
  *
  * @example formatAdvice(analysis).split('\n')[0] // '1. [scale] The scale is within tolerance: …'
  */
 export function formatAdvice(analysis: RecordingAnalysisOk): string {
   const a = analysis.advice;
   if (a === null) return '';
-  const lines = a.items.map((it, i) => `${i + 1}. [${it.trimmer}] ${it.text}`);
+  const lines = a.items.flatMap((it, i) => [
+    `${i + 1}. [${it.trimmer}] ${it.text}`,
+    ...(it.resistors ?? []).map((r) => `   resistor: ${formatResistorChange(r)}`),
+  ]);
   lines.push(`next: ${a.next}`, `caution: ${a.caution}`);
   return lines.join('\n');
 }
@@ -330,6 +440,7 @@ export function formatRecordingReport(analysis: RecordingAnalysisOk): string {
   const parts = [
     `${n} settled step${n === 1 ? '' : 's'} (each measured after ${analysis.settleSeconds} s to settle); ` +
       `A4 = ${analysis.a4Hz} Hz, middle C = C4`,
+    ...(analysis.clockPpm === 0 ? [] : [describeClockCorrection(analysis.clockPpm)]),
     '',
     formatRecordingTable(analysis),
   ];

@@ -126,3 +126,46 @@ export function formatOhms(ohms: Ohms, significantDigits = 4): string {
   const text = Number((rounded / div).toPrecision(significantDigits)).toString();
   return `${text} ${unit}`;
 }
+
+/** A resistance read from text by {@link parseOhms}. */
+export type ParsedOhms =
+  { readonly kind: 'ok'; readonly ohms: Ohms } | { readonly kind: 'error'; readonly message: string };
+
+/** Largest resistance {@link parseOhms} accepts, Ω: 1 GΩ, beyond any resistor in a CV input network. */
+export const MAX_PARSED_OHMS: Ohms = 1e9;
+
+const MULTIPLIERS: Readonly<Record<string, number>> = { R: 1, r: 1, k: 1e3, K: 1e3, M: 1e6 };
+
+/**
+ * A resistance typed by a person: plain ohms (`470`, `1800`), a value with a multiplier suffix
+ * (`100k`, `1.8k`, `2.2M`, `470R`), or the letter-for-decimal-point form printed on schematics and
+ * resistor bodies (`4k02` = 4.02 kΩ, `2M2`, `4R7`; the RKM code of IEC 60062). An optional `Ω` or
+ * `ohm` may follow; `k` and `K` both mean kilo, `M` mega (a lower-case `m` is refused: milliohms are
+ * never meant here). An unreadable value is a typed error, never a throw.
+ *
+ * @param text - The value as typed.
+ * @returns `{ kind: 'ok', ohms }` with 0 < ohms ≤ {@link MAX_PARSED_OHMS}, or `{ kind: 'error', message }`
+ *   naming the text and the accepted forms.
+ * @example parseOhms('1.8k') // { kind: 'ok', ohms: 1800 }
+ * @example parseOhms('4k02') // { kind: 'ok', ohms: 4020 }
+ * @example parseOhms('abc') // { kind: 'error', message: "'abc' is not a resistance: …" }
+ */
+export function parseOhms(text: string): ParsedOhms {
+  const t = String(text)
+    .trim()
+    .replace(/\s*(Ω|ohms?)$/i, '')
+    .trim();
+  const bad = (why: string): ParsedOhms => ({
+    kind: 'error',
+    message: `'${String(text).trim()}' is not a resistance: ${why}`,
+  });
+  const forms = 'type ohms like 470, 100k, 1.8k, 4k02 or 2.2M';
+  // 1.8k, 100k, 470R, 470 (suffix after the number) or 4k02, 2M2, 4R7 (the letter as the decimal point).
+  const m = /^(\d+(?:\.\d*)?|\.\d+)\s*([RrkKM]?)$/.exec(t) ?? /^(\d+)([RrkKM])(\d+)$/.exec(t);
+  if (!m) return bad(forms);
+  const digits = m[3] === undefined ? m[1] : `${m[1]}.${m[3]}`;
+  const ohms = Number(digits) * (MULTIPLIERS[m[2]] ?? 1);
+  if (!Number.isFinite(ohms) || ohms <= 0) return bad('it must be greater than 0 Ω');
+  if (ohms > MAX_PARSED_OHMS) return bad(`it must be at most 1 GΩ`);
+  return { kind: 'ok', ohms: Number(ohms.toPrecision(12)) };
+}

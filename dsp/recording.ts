@@ -28,9 +28,24 @@
  * pitch, no plateau, a plateau count that does not match the points) is a typed
  * {@link RecordingAnalysisError}; only misuse (bad options) throws.
  */
-import { adviseTrim, type AdviceItem, type TrimAdvice } from './advice.ts';
+import {
+  adviseTrim,
+  inputNetworkGain,
+  type AdviceItem,
+  type InputNetwork,
+  type ResistorChange,
+  type TrimAdvice,
+} from './advice.ts';
 import { applyClockPpm, MAX_CLOCK_PPM } from './clock.ts';
-import { analyzeBends, fitTracking, type BendAnalysisOk, type TrackingFitOk } from './fit.ts';
+import {
+  analyzeBends,
+  fitTracking,
+  type BendAnalysis,
+  type BendAnalysisOk,
+  type TrackingFit,
+  type TrackingFitOk,
+  type TrackingPoint,
+} from './fit.ts';
 import { A4_HZ, nearestNote, type NearestNote } from './notes.ts';
 import { PitchEstimator } from './pitch.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
@@ -85,6 +100,18 @@ export interface RecordingOptions {
    * `·(1 + ppm·10⁻⁶)` (`dsp/clock.ts`). Default 0.
    */
   readonly clockPpm?: Ppm;
+  /**
+   * Lowest control voltage the tracking fit, the bend analysis and the advice use, V (inclusive), within
+   * ±20. Default: no limit. The error table keeps every step.
+   */
+  readonly fitFromVolts?: Volts;
+  /** Highest control voltage they use, V (inclusive), within ±20, not below `fitFromVolts`. Default: no limit. */
+  readonly fitToVolts?: Volts;
+  /**
+   * The input network the scale trimmer acts on (`dsp/advice.ts` {@link InputNetwork}); with it the scale
+   * advice carries resistor values that would correct the scale, with the nearest E24 and E96 values.
+   */
+  readonly network?: InputNetwork;
   /** Plateaus spanning less than this, seconds, are ignored; ≥ 0. Default `settleSeconds`. */
   readonly minPlateauSeconds?: Seconds;
   /** Longest precise window per step, seconds, 0.25…30; longer steps are measured over their centre. Default 4. */
@@ -296,6 +323,7 @@ export function analyzeRecording(
   const settle = checkNumber('settleSeconds', opts.settleSeconds ?? 0.5, 0, 60);
   const a4Hz = checkNumber('a4Hz', opts.a4Hz ?? A4_HZ, 380, 500);
   const clockPpm = checkNumber('clockPpm', opts.clockPpm ?? 0, -MAX_CLOCK_PPM, MAX_CLOCK_PPM);
+  const calibration = checkCalibrationOptions(opts);
   const minPlateau = checkNumber('minPlateauSeconds', opts.minPlateauSeconds ?? settle, 0, 3600);
   const cap = checkNumber('maxWindowSeconds', opts.maxWindowSeconds ?? 4, 0.25, 30);
   const rps = checkNumber('readingsPerSecond', opts.readingsPerSecond ?? 10, 2, 50);
@@ -518,11 +546,10 @@ export function analyzeRecording(
   const trackingPoints = rows
     ? rows.map((r) => ({ volts: r.volts, hz: r.hz, uncertaintyCents: r.uncertaintyCents }))
     : [];
-  const fitResult = rows ? fitTracking(trackingPoints) : null;
-  const fit = fitResult?.kind === 'ok' ? fitResult : null;
-  const bendResult = fit ? analyzeBends(trackingPoints) : null;
-  const bends = bendResult?.kind === 'ok' ? bendResult : null;
-  const advice = rows && fitResult ? adviseTrim({ fit: fitResult, ...(bends ? { bends } : {}), a4Hz }) : null;
+  const calibrated = rows ? fitAndAdvise(trackingPoints, { ...calibration, a4Hz }) : null;
+  const fit = calibrated?.fit.kind === 'ok' ? calibrated.fit : null;
+  const bends = calibrated?.bends.kind === 'ok' ? calibrated.bends : null;
+  const advice = calibrated ? calibrated.advice : null;
 
   const steps: RecordingStep[] = measuredSteps.map((m, i) => {
     const row = rows ? rows[i] : null;
@@ -562,6 +589,81 @@ export function analyzeRecording(
     advice,
     readingCount: readings.length,
   };
+}
+
+/** The fit range and input network of {@link RecordingOptions} and {@link fitAndAdvise}. */
+export interface CalibrationOptions {
+  /** Lowest control voltage used, V (inclusive), within ±20. Default: no limit. */
+  readonly fitFromVolts?: Volts;
+  /** Highest control voltage used, V (inclusive), within ±20, not below `fitFromVolts`. Default: no limit. */
+  readonly fitToVolts?: Volts;
+  /** The input network, for resistor values in the scale advice. */
+  readonly network?: InputNetwork;
+}
+
+/** Checks the fit range and network (throwing a RangeError naming the option) and returns them. */
+function checkCalibrationOptions(opts: CalibrationOptions): CalibrationOptions {
+  const from = opts.fitFromVolts;
+  const to = opts.fitToVolts;
+  if (from !== undefined) checkNumber('fitFromVolts', from, -20, 20);
+  if (to !== undefined) checkNumber('fitToVolts', to, -20, 20);
+  if (from !== undefined && to !== undefined && from > to) {
+    throw new RangeError(`fitFromVolts (${from}) must not exceed fitToVolts (${to})`);
+  }
+  // inputNetworkGain checks every resistance and throws a RangeError naming the bad one.
+  if (opts.network !== undefined) inputNetworkGain(opts.network);
+  return {
+    ...(from === undefined ? {} : { fitFromVolts: from }),
+    ...(to === undefined ? {} : { fitToVolts: to }),
+    ...(opts.network === undefined ? {} : { network: opts.network }),
+  };
+}
+
+/** What {@link fitAndAdvise} returns. */
+export interface FitAndAdvice {
+  /** The weighted least-squares fit over the steps in the range (`dsp/fit.ts` fitTracking). */
+  readonly fit: TrackingFit;
+  /** The bend analysis of the same steps (`analyzeBends`); the fit's "none" when there is no fit. */
+  readonly bends: BendAnalysis;
+  /** The trim advice (`dsp/advice.ts` adviseTrim), with resistor values when a network is given. */
+  readonly advice: TrimAdvice;
+}
+
+/**
+ * The calibration step shared by a recording and a live run: the tracking fit over the steps whose
+ * voltage lies in `[fitFromVolts, fitToVolts]`, the bend analysis of those same steps (so the trusted
+ * middle, the HF check and the scale advice all stay inside the range the user chose) and the trim
+ * advice, with resistor values when the input network is given. Nothing is computed here: it only
+ * selects the steps and hands them to `fitTracking`, `analyzeBends` and `adviseTrim`.
+ *
+ * @param points - Measured steps (voltage, clock-corrected frequency, uncertainty), any order.
+ * @param opts - The fit range and network (see {@link CalibrationOptions}) and `a4Hz`, Hz, 380…500
+ *   (default 440, ISO 16:1975) for the offset target's note.
+ * @throws RangeError for invalid points, range or network, naming the field.
+ * @example
+ * fitAndAdvise(steps, { fitFromVolts: 1, fitToVolts: 5 }).fit // { kind: 'ok', fromVolts: 1, toVolts: 5, … }
+ */
+export function fitAndAdvise(
+  points: readonly TrackingPoint[],
+  opts: CalibrationOptions & { readonly a4Hz?: Hertz } = {},
+): FitAndAdvice {
+  const { fitFromVolts, fitToVolts, network } = checkCalibrationOptions(opts);
+  const a4Hz = checkNumber('a4Hz', opts.a4Hz ?? A4_HZ, 380, 500);
+  const fit = fitTracking(points, {
+    ...(fitFromVolts === undefined ? {} : { fromVolts: fitFromVolts }),
+    ...(fitToVolts === undefined ? {} : { toVolts: fitToVolts }),
+  });
+  const inRange = points.filter(
+    (p) => p.volts >= (fitFromVolts ?? -Infinity) && p.volts <= (fitToVolts ?? Infinity),
+  );
+  const bends: BendAnalysis = fit.kind === 'ok' ? analyzeBends(inRange) : fit;
+  const advice = adviseTrim({
+    fit,
+    ...(bends.kind === 'ok' ? { bends } : {}),
+    a4Hz,
+    ...(network === undefined ? {} : { network }),
+  });
+  return { fit, bends, advice };
 }
 
 /** Shortest window worth measuring at this pitch, seconds. */
@@ -719,6 +821,11 @@ export interface RecordingJsonAdvice {
   readonly errorCents: Cents | null;
   readonly gainChangePercent: number | null;
   readonly millivoltsAtInput: number | null;
+  /**
+   * Scale items with an input network: resistor values that would make the scale 1 V/oct, each with the
+   * nearest E24 and E96 values (IEC 60063) and the scale error each would leave; else null.
+   */
+  readonly resistors: readonly ResistorChange[] | null;
 }
 
 /** The machine-readable result of an analysis (`analyze --json`). */
@@ -802,6 +909,7 @@ export function recordingToJson(analysis: RecordingAnalysisOk): RecordingJson {
             errorCents: finiteOrNull(a.errorCents),
             gainChangePercent: finiteOrNull(a.gainChangePercent),
             millivoltsAtInput: finiteOrNull(a.millivoltsAtInput),
+            resistors: a.resistors,
           })),
           ...(
             [
@@ -817,6 +925,7 @@ export function recordingToJson(analysis: RecordingAnalysisOk): RecordingJson {
             errorCents: null,
             gainChangePercent: null,
             millivoltsAtInput: null,
+            resistors: null,
           })),
         ]
       : [],

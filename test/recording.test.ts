@@ -320,6 +320,17 @@ describe('analyzeRecording: misuse throws, naming the option and its range', () 
       { measuredVolts: [0] },
       'measuredVolts needs points: give the nominal voltages too',
     ],
+    ['fitFromVolts', { fitFromVolts: 30 }, 'fitFromVolts must be a finite number from -20 to 20, got 30'],
+    [
+      'fit range reversed',
+      { fitFromVolts: 3, fitToVolts: 1 },
+      'fitFromVolts (3) must not exceed fitToVolts (1)',
+    ],
+    [
+      'network',
+      { network: { topology: 'divider', seriesOhms: 100e3, shuntOhms: 0 } },
+      'network.shuntOhms must be a finite number greater than 0, got 0',
+    ],
   ])('%s', (_name, opts, message) => {
     expect(() => analyzeRecording(x, 48_000, opts)).toThrow(message);
   });
@@ -328,6 +339,39 @@ describe('analyzeRecording: misuse throws, naming the option and its range', () 
     expect(() => analyzeRecording(x, 1000)).toThrow(
       /sampleRateHz must be between 8000 and 384000 Hz, got 1000/,
     );
+  });
+});
+
+describe('analyzeRecording: fit range and input network', () => {
+  // 0…5 V at +3.6 cents per octave (1200·(1.003 − 1), the 1 V/oct definition), no HF error.
+  const points = [0, 1, 2, 3, 4, 5];
+  const rec = render(
+    { hz0: 55, snrDb: 45, humDb: -35, scaleOctPerVolt: 1.003, seed: 16 },
+    planSchedule(points, { holdSeconds: 2 }),
+  );
+  const network = { topology: 'divider', seriesOhms: 100e3, shuntOhms: 1.8e3 } as const;
+  const whole = ok(analyzeRecording(rec.samples, rec.sampleRateHz, { points }));
+  const narrow = ok(
+    analyzeRecording(rec.samples, rec.sampleRateHz, { points, fitFromVolts: 1, fitToVolts: 4, network }),
+  );
+
+  it('the fit and its bends use only the steps in the range; the table keeps every step', () => {
+    expect(whole.fit).toMatchObject({ fromVolts: 0, toVolts: 5, usedIndices: [0, 1, 2, 3, 4, 5] });
+    expect(narrow.fit).toMatchObject({ fromVolts: 1, toVolts: 4, usedIndices: [1, 2, 3, 4] });
+    expect(narrow.fit!.residualsCents).toHaveLength(4);
+    expect(narrow.bends!.middle.fromVolts).toBeGreaterThanOrEqual(1);
+    expect(narrow.bends!.middle.toVolts).toBeLessThanOrEqual(4);
+    expect(narrow.table!.rows).toHaveLength(points.length);
+    expect(narrow.steps.map((s) => s.hz)).toEqual(whole.steps.map((s) => s.hz));
+    expect(narrow.fit!.scaleErrorCentsPerOctave).toBeCloseTo(3.6, 1);
+  });
+
+  it('the scale advice carries resistor values for the network; JSON keeps them', () => {
+    const scale = narrow.advice!.items[0];
+    expect(scale).toMatchObject({ trimmer: 'scale', status: 'adjust', direction: 'narrow' });
+    expect(scale.resistors?.map((r) => r.part)).toEqual(['series', 'shunt']);
+    expect(whole.advice!.items[0].resistors).toBeNull();
+    expect(recordingToJson(narrow).advice[0].resistors).toEqual(scale.resistors);
   });
 });
 

@@ -16,6 +16,7 @@ import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult, toAnalyzeJson } f
 import { runToCsv } from './lib/export.ts';
 import { formatClock } from './lib/format.ts';
 import { parseStartupParams } from './lib/params.ts';
+import { loadSetup, saveSetup, setupOptions, type SetupForm, type SetupStorage } from './lib/setup.ts';
 import { DEFAULT_SIM_UNIT, simOptions, simSettingsForUnit, type SimSettings } from './lib/sim-settings.ts';
 import { pickStore } from './storage/store.ts';
 import { StripChart } from './ui/charts.tsx';
@@ -27,6 +28,7 @@ import { PrintReport } from './ui/PrintReport.tsx';
 import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.tsx';
 import { RecordingPanel } from './ui/RecordingPanel.tsx';
 import { OpenWavControl, RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
+import { SetupPanel } from './ui/SetupPanel.tsx';
 import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
 
 type Tab = 'run' | 'pair' | 'drift' | 'book';
@@ -53,6 +55,15 @@ const RUN_KEPT = 'The run is kept with its captured steps, paused: press Resume 
 
 function capturedCount(s: RunState): number {
   return s.steps.filter((x) => x.capture !== null).length;
+}
+
+/** `window.localStorage`, or null where the page may not use it. */
+function pageStorage(): SetupStorage | null {
+  try {
+    return window.localStorage;
+  } catch {
+    return null;
+  }
 }
 
 function fileSlug(s: string): string {
@@ -99,6 +110,10 @@ export function App() {
   /** Bumped by "Open the input again" to reopen the audio input after a failure. */
   const [inputAttempt, setInputAttempt] = useState(0);
   const [inputClosed, setInputClosed] = useState(false);
+  /** The Span run's Setup (clock correction, fit range, input network), kept between sessions. */
+  const [setupForm, setSetupForm] = useState<SetupForm>(() => loadSetup(pageStorage()));
+  const setup = useMemo(() => setupOptions(setupForm), [setupForm]);
+  useEffect(() => saveSetup(pageStorage(), setupForm), [setupForm]);
 
   // ---- Input source ------------------------------------------------------------------------
   const inputGone = useCallback(
@@ -242,7 +257,7 @@ export function App() {
       )
     : '';
   // Recomputed only when a capture or a meter reading changes, not on every reading.
-  const analysis = useMemo(() => (runState ? analyzeRun(runState) : null), [captureKey]);
+  const analysis = useMemo(() => (runState ? analyzeRun(runState, A4_HZ, setup) : null), [captureKey, setup]);
   const active = runState !== null && runState.phase !== 'finished' && runState.phase !== 'aborted';
 
   const startRun = useCallback(() => {
@@ -320,12 +335,16 @@ export function App() {
             channel: channel + 1,
             settleSeconds: RECORDING_SETTLE_SECONDS,
             a4Hz: A4_HZ,
+            clockPpm: setup.clockPpm,
+            ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
+            ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
+            ...(setup.network === undefined ? {} : { network: setup.network }),
           },
         },
         [bytes],
       );
     },
-    [client, planText, channel],
+    [client, planText, channel, setup],
   );
   useEffect(
     () =>
@@ -551,6 +570,15 @@ export function App() {
                 }
                 onOpenWav={(f) => void onOpenWav(f)}
                 wavStatus={wavStatus && { ...wavStatus, text: wavStatus.text + runKeptNote }}
+                setup={
+                  <SetupPanel
+                    form={setupForm}
+                    onForm={setSetupForm}
+                    problems={setup.problems}
+                    reading={view.reading}
+                    settled={view.settled}
+                  />
+                }
               />
             )}
             {tab === 'pair' && (

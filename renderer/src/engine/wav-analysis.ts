@@ -4,16 +4,20 @@
  * the command line give the same answer for the same file. Pure; no worker globals, so tests call it
  * in Node.
  */
+import type { InputNetwork } from '../../../dsp/advice.ts';
 import {
   analyzeRecording,
   type PlateauSpan,
   type RecordingAnalysisOk,
   type RecordingErrorCode,
 } from '../../../dsp/recording.ts';
-import type { Hertz, Seconds, Volts } from '../../../dsp/units.ts';
+import type { Hertz, Ppm, Seconds, Volts } from '../../../dsp/units.ts';
 import { decodeWav, pickChannel, type WavErrorCode } from '../../../dsp/wav.ts';
 
-/** What the page asks for: the plan's voltages, the settle time, the tuning reference and the channel. */
+/**
+ * What the page asks for: the plan's voltages, the settle time, the tuning reference and the channel,
+ * and the Setup's clock correction, fit range and input network.
+ */
 export interface WavAnalysisRequest {
   /** Control voltages of the steps in the order they were played, V, each within ±20 V (at least one). */
   readonly points: readonly Volts[];
@@ -23,6 +27,13 @@ export interface WavAnalysisRequest {
   readonly settleSeconds?: Seconds;
   /** Tuning reference for note names, Hz, 380…500 (default 440, ISO 16:1975). */
   readonly a4Hz?: Hertz;
+  /** Interface clock error, ppm (positive = fast), within ±1000 (dsp/clock.ts); default 0. */
+  readonly clockPpm?: Ppm;
+  /** Fit range, V (inclusive), within ±20; default every step (dsp/recording.ts). */
+  readonly fitFromVolts?: Volts;
+  readonly fitToVolts?: Volts;
+  /** The input network, for resistor values in the scale advice (dsp/advice.ts). */
+  readonly network?: InputNetwork;
 }
 
 /** The file as decoded, for the status line. */
@@ -87,6 +98,10 @@ export function analyzeWavBytes(bytes: Uint8Array, request: WavAnalysisRequest):
       points: request.points,
       ...(request.settleSeconds === undefined ? {} : { settleSeconds: request.settleSeconds }),
       ...(request.a4Hz === undefined ? {} : { a4Hz: request.a4Hz }),
+      ...(request.clockPpm === undefined ? {} : { clockPpm: request.clockPpm }),
+      ...(request.fitFromVolts === undefined ? {} : { fitFromVolts: request.fitFromVolts }),
+      ...(request.fitToVolts === undefined ? {} : { fitToVolts: request.fitToVolts }),
+      ...(request.network === undefined ? {} : { network: request.network }),
     });
     if (a.kind === 'error') {
       return { kind: 'error', code: a.code, message: a.message, plateaus: a.plateaus, file };

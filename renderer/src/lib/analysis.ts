@@ -1,13 +1,15 @@
 /**
  * What the renderer shows and stores about a run: the error table, the tracking fit, the bend analysis
- * and the trim advice, computed from the captured steps with `dsp/`; and the record's analysis shape
+ * and the trim advice, computed from the captured steps with `dsp/` (with the Setup's clock correction,
+ * fit range and input network); and the record's analysis shape
  * (`main/ipc-contract.ts`, schema version 1). Pure functions of plain data.
  */
 import { adviseTrim, type TrimAdvice } from '../../../dsp/advice.ts';
-import { analyzeBends, fitTracking, type BendAnalysis, type TrackingFit } from '../../../dsp/fit.ts';
+import { applyClockPpm } from '../../../dsp/clock.ts';
+import type { BendAnalysis, TrackingFit } from '../../../dsp/fit.ts';
 import { nearestNote } from '../../../dsp/notes.ts';
 import type { PitchOk } from '../../../dsp/reading.ts';
-import type { RecordingAnalysisOk } from '../../../dsp/recording.ts';
+import { fitAndAdvise, type CalibrationOptions, type RecordingAnalysisOk } from '../../../dsp/recording.ts';
 import { runCaptures, type CapturedPoint, type RunState } from '../../../dsp/run.ts';
 import { buildErrorTable, type ErrorTable, type TableRow } from '../../../dsp/table.ts';
 import type { AnalysisResult, StepResult } from '../../../main/api-types.ts';
@@ -33,16 +35,29 @@ function safe<T>(f: () => T, fallback: T): T {
 
 const NO_FIT: TrackingFit = { kind: 'none', reason: 'too-few-points' };
 
+/** The Setup's part in an analysis: the clock correction, the fit range and the input network. */
+export interface AnalysisSetup extends CalibrationOptions {
+  /** Interface clock error, ppm (positive = fast), within ±1000 (dsp/clock.ts). Default 0. */
+  readonly clockPpm?: number;
+}
+
+/** A frequency with the clock correction applied (unchanged when none or when it is refused). */
+function corrected(hz: number, clockPpm: number): number {
+  return clockPpm === 0 ? hz : safe(() => applyClockPpm(hz, clockPpm), hz);
+}
+
 /**
  * Analyses the captured steps of a run. Never throws (captures are checked by the run reducer; a
  * library refusal becomes the typed "none" result).
  *
  * @param state - A run.
  * @param a4Hz - Tuning reference for note names, Hz. Default 440 (ISO 16:1975).
+ * @param setup - Clock correction, fit range and input network. Default none.
  * @example analyzeRun(createRun([0, 1])).table // null
  */
-export function analyzeRun(state: RunState, a4Hz = 440): RunAnalysis {
-  const points = runCaptures(state);
+export function analyzeRun(state: RunState, a4Hz = 440, setup: AnalysisSetup = {}): RunAnalysis {
+  const ppm = setup.clockPpm ?? 0;
+  const points = runCaptures(state).map((p) => ({ ...p, hz: corrected(p.hz, ppm) }));
   return analyzePoints(
     points.map((p) => ({
       nominalVolts: p.nominalVolts,
@@ -52,6 +67,7 @@ export function analyzeRun(state: RunState, a4Hz = 440): RunAnalysis {
     })),
     a4Hz,
     points,
+    { ...setup, clockPpm: 0 }, // already applied
   );
 }
 
@@ -66,8 +82,10 @@ export interface MeasuredStep {
 /**
  * The same analysis from plain measured steps (a stored record's run).
  *
- * @param steps - Steps in measuring order.
+ * @param steps - Steps in measuring order (frequencies as read).
  * @param a4Hz - Tuning reference, Hz.
+ * @param points - The captured points, for their step indices.
+ * @param setup - Clock correction (applied to every frequency), fit range and input network.
  */
 export function analyzePoints(
   steps: readonly MeasuredStep[],
@@ -80,23 +98,33 @@ export function analyzePoints(
     uncertaintyCents: s.uncertaintyCents,
     source: 'host' as const,
   })),
+  setup: AnalysisSetup = {},
 ): RunAnalysis {
-  const clean = steps.map((s) =>
-    s.measuredVolts === undefined
-      ? { nominalVolts: s.nominalVolts, hz: s.hz, uncertaintyCents: s.uncertaintyCents }
-      : s,
-  );
+  const ppm = setup.clockPpm ?? 0;
+  const clean = steps.map((s) => {
+    const hz = corrected(s.hz, ppm);
+    return s.measuredVolts === undefined
+      ? { nominalVolts: s.nominalVolts, hz, uncertaintyCents: s.uncertaintyCents }
+      : { ...s, hz };
+  });
   const built = safe(() => buildErrorTable(clean, { a4Hz }), null);
   const table = built && built.kind === 'ok' ? built : null;
-  const tp = steps.map((s) => ({
+  const tp = clean.map((s) => ({
     volts: s.measuredVolts ?? s.nominalVolts,
     hz: s.hz,
     uncertaintyCents: s.uncertaintyCents,
   }));
-  const fit = safe(() => fitTracking(tp), NO_FIT);
-  const bends = safe(() => analyzeBends(tp), NO_FIT as BendAnalysis);
-  const advice = safe(() => adviseTrim({ fit, bends, a4Hz }), adviseTrim({ fit: NO_FIT }));
-  return { points, table, fit, bends, advice };
+  const calibration: CalibrationOptions = {
+    ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
+    ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
+    ...(setup.network === undefined ? {} : { network: setup.network }),
+  };
+  const done = safe(() => fitAndAdvise(tp, { ...calibration, a4Hz }), null);
+  if (done === null) {
+    const bends = NO_FIT as BendAnalysis;
+    return { points, table, fit: NO_FIT, bends, advice: adviseTrim({ fit: NO_FIT }) };
+  }
+  return { points, table, ...done };
 }
 
 /**
@@ -133,6 +161,7 @@ export function toAnalysisResult(a: RunAnalysis): AnalysisResult {
     status: it.status,
     direction: it.direction,
     errorCents: it.errorCents,
+    ...(it.resistors === null ? {} : { resistors: it.resistors.map((r) => ({ ...r })) }),
   }));
   return { steps, fit, advice };
 }

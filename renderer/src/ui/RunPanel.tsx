@@ -2,7 +2,9 @@
  * The guided run: plan, prompt with settling progress, controls on keys, the error table filling in,
  * the per-step chart, the fit summary and the trim advice.
  */
-import { useState } from 'react';
+import { useState, type ReactNode } from 'react';
+import type { ResistorChange } from '../../../dsp/advice.ts';
+import { formatOhms } from '../../../dsp/eseries.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/plan.ts';
 import type { RunState } from '../../../dsp/run.ts';
 import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
@@ -76,6 +78,8 @@ export interface RunPanelProps {
   onOpenWav(file: File | null): void;
   /** The last "Open WAV…" status: analysing, done, or why the file gave no analysis. */
   wavStatus: { kind: 'info' | 'error'; text: string } | null;
+  /** The Setup disclosure, shown under the plan. */
+  setup?: ReactNode;
 }
 
 /**
@@ -184,6 +188,7 @@ export function RunPanel(p: RunPanelProps) {
         <OpenWavControl onOpenWav={p.onOpenWav} />
       </div>
       {parsed.kind === 'error' && <p className="message warn">{parsed.message}</p>}
+      {p.setup}
       {p.wavStatus && (
         <p
           className={`message ${p.wavStatus.kind}`}
@@ -432,6 +437,13 @@ export function AdviceList(props: { analysis: RunAnalysis }) {
         {advice.items.map((it, i) => (
           <li key={i} className={`advice-${it.status}`}>
             <span className="chip">{it.trimmer === 'none' ? 'note' : it.trimmer}</span> {it.text}
+            {it.resistors && it.resistors.length > 0 && (
+              <ul className="resistors" data-testid="advice-resistors">
+                {it.resistors.map((r) => (
+                  <li key={r.part}>{resistorLine(r)}</li>
+                ))}
+              </ul>
+            )}
           </li>
         ))}
       </ol>
@@ -441,6 +453,20 @@ export function AdviceList(props: { analysis: RunAnalysis }) {
       <p className="caution">{advice.caution}</p>
     </div>
   );
+}
+
+const PART_NAMES: Record<ResistorChange['part'], string> = {
+  series: 'Series Rs',
+  shunt: 'Shunt Rsh',
+  input: 'Input Rin',
+  feedback: 'Feedback Rf',
+};
+
+/** One resistor change: exact value, then the nearest E24 and E96 values (IEC 60063) and what each leaves. */
+function resistorLine(r: ResistorChange): string {
+  const pick = (v: ResistorChange['e24']) =>
+    `${v.series} ${formatOhms(v.ohms)} (leaves ${formatCents(v.resultingScaleErrorCentsPerOctave)} ¢/oct)`;
+  return `${PART_NAMES[r.part]} ${formatOhms(r.fromOhms)} → ${formatOhms(r.toOhms)} · ${pick(r.e24)} · ${pick(r.e96)}`;
 }
 
 /** Column heads of the error table, shared by the live run and the recording view. */

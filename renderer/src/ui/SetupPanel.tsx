@@ -1,0 +1,193 @@
+/**
+ * The Span run's Setup: the interface clock correction (typed, or measured from a reference tone of
+ * known frequency now playing), the fit range and the input network for resistor values in the scale
+ * advice. A compact disclosure; what it holds is kept between sessions (lib/setup.ts).
+ */
+import { useState } from 'react';
+import { clockPpmFromReference, ppmToCents } from '../../../dsp/clock.ts';
+import type { PitchReading } from '../../../dsp/reading.ts';
+import { RESISTOR_NAMES, type SetupForm } from '../lib/setup.ts';
+
+export interface SetupPanelProps {
+  form: SetupForm;
+  onForm(form: SetupForm): void;
+  /** Fields that could not be used, one line each (from setupOptions). */
+  problems: readonly string[];
+  /** The live reading as read (no clock correction) and whether it has settled. */
+  reading: PitchReading | null;
+  settled: boolean;
+}
+
+/** One-line summary shown on the closed disclosure. */
+function summary(form: SetupForm): string {
+  const parts: string[] = [];
+  if (form.clockPpm.trim() !== '') parts.push(`clock ${form.clockPpm.trim()} ppm`);
+  if (form.fitFromVolts.trim() !== '' || form.fitToVolts.trim() !== '') {
+    parts.push(`fit ${form.fitFromVolts.trim() || '…'} to ${form.fitToVolts.trim() || '…'} V`);
+  }
+  if (form.topology !== 'none') {
+    parts.push(
+      `${form.topology === 'divider' ? 'divider' : 'summer'} ${form.firstOhms.trim()}, ${form.secondOhms.trim()}`,
+    );
+  }
+  return parts.length > 0 ? parts.join(' · ') : 'no clock correction, every step fitted, no network';
+}
+
+export function SetupPanel(p: SetupPanelProps) {
+  const [refHz, setRefHz] = useState('');
+  const [refMsg, setRefMsg] = useState<{ kind: 'info' | 'warn'; text: string } | null>(null);
+  const set = (patch: Partial<SetupForm>) => p.onForm({ ...p.form, ...patch });
+  const names = p.form.topology === 'none' ? null : RESISTOR_NAMES[p.form.topology];
+
+  const measure = () => {
+    const trueHz = Number(refHz.trim().replace(',', '.'));
+    if (!Number.isFinite(trueHz) || trueHz <= 0) {
+      setRefMsg({ kind: 'warn', text: 'Type the reference tone’s true frequency in Hz first.' });
+      return;
+    }
+    const r = p.reading;
+    if (!r || r.kind !== 'ok' || !p.settled) {
+      setRefMsg({
+        kind: 'warn',
+        text: 'No settled reading yet: play the reference tone into the input and wait for “Settled”.',
+      });
+      return;
+    }
+    const c = clockPpmFromReference(r.hz, trueHz);
+    if (c.kind === 'none') {
+      setRefMsg({
+        kind: 'warn',
+        text: `The input reads ${r.hz.toFixed(3)} Hz, ${Math.round(c.ppm)} ppm from ${trueHz} Hz: more than any interface clock is off. Check the frequency typed, the tone and the sample-rate setting.`,
+      });
+      return;
+    }
+    set({ clockPpm: c.ppm.toFixed(3) });
+    setRefMsg({
+      kind: 'info',
+      text: `Read ${r.hz.toFixed(4)} Hz for ${trueHz} Hz: the clock runs ${c.ppm >= 0 ? 'fast' : 'slow'} by ${Math.abs(c.ppm).toFixed(3)} ppm (${Math.abs(ppmToCents(c.ppm)).toFixed(4)} ¢). The correction is only as good as the reference.`,
+    });
+  };
+
+  return (
+    <details className="setup" data-testid="setup">
+      <summary>
+        Setup <span className="dim small">{summary(p.form)}</span>
+      </summary>
+      <div className="setup-body">
+        <fieldset>
+          <legend>Interface clock</legend>
+          <div className="row">
+            <label className="field">
+              <span>Correction, ppm (+ = clock fast)</span>
+              <input
+                className="num setup-num"
+                inputMode="decimal"
+                placeholder="0"
+                value={p.form.clockPpm}
+                onChange={(e) => set({ clockPpm: e.target.value })}
+                data-testid="setup-clock-ppm"
+              />
+            </label>
+            <label className="field">
+              <span>Reference tone now playing, true Hz</span>
+              <input
+                className="num setup-num"
+                inputMode="decimal"
+                placeholder="1000"
+                value={refHz}
+                onChange={(e) => setRefHz(e.target.value)}
+                data-testid="setup-ref-hz"
+              />
+            </label>
+            <button onClick={measure} data-testid="setup-measure-clock">
+              Measure from the tone
+            </button>
+          </div>
+          {refMsg && <p className={`message ${refMsg.kind} small`}>{refMsg.text}</p>}
+          <p className="dim small">
+            Corrects every frequency shown and stored; intervals, and so the scale, do not depend on it.
+          </p>
+        </fieldset>
+        <fieldset>
+          <legend>Fit range (optional)</legend>
+          <div className="row">
+            <label className="field">
+              <span>From, V</span>
+              <input
+                className="num setup-num"
+                inputMode="decimal"
+                placeholder="lowest"
+                value={p.form.fitFromVolts}
+                onChange={(e) => set({ fitFromVolts: e.target.value })}
+                data-testid="setup-fit-from"
+              />
+            </label>
+            <label className="field">
+              <span>To, V</span>
+              <input
+                className="num setup-num"
+                inputMode="decimal"
+                placeholder="highest"
+                value={p.form.fitToVolts}
+                onChange={(e) => set({ fitToVolts: e.target.value })}
+                data-testid="setup-fit-to"
+              />
+            </label>
+          </div>
+        </fieldset>
+        <fieldset>
+          <legend>Input network</legend>
+          <div className="row">
+            <label className="field">
+              <span>Topology</span>
+              <select
+                value={p.form.topology}
+                onChange={(e) => set({ topology: e.target.value as SetupForm['topology'] })}
+                data-testid="setup-topology"
+              >
+                <option value="none">Not set</option>
+                <option value="divider">Divider (series, shunt)</option>
+                <option value="inverting-summer">Inverting summer (input, feedback)</option>
+              </select>
+            </label>
+            {names && (
+              <>
+                <label className="field">
+                  <span>{names[0]}</span>
+                  <input
+                    className="num setup-num"
+                    placeholder="100k"
+                    value={p.form.firstOhms}
+                    onChange={(e) => set({ firstOhms: e.target.value })}
+                    data-testid="setup-ohms-1"
+                  />
+                </label>
+                <label className="field">
+                  <span>{names[1]}</span>
+                  <input
+                    className="num setup-num"
+                    placeholder={p.form.topology === 'divider' ? '1.8k' : '100k'}
+                    value={p.form.secondOhms}
+                    onChange={(e) => set({ secondOhms: e.target.value })}
+                    data-testid="setup-ohms-2"
+                  />
+                </label>
+              </>
+            )}
+          </div>
+          <p className="dim small">
+            Ohms as 100k, 1.8k, 4k02 or 470. Change resistors only with the unit unpowered.
+          </p>
+        </fieldset>
+        {p.problems.length > 0 && (
+          <ul className="message warn small setup-problems" data-testid="setup-problems">
+            {p.problems.map((t) => (
+              <li key={t}>{t}</li>
+            ))}
+          </ul>
+        )}
+        <p className="dim small">Applies to the run shown and to the next WAV opened.</p>
+      </div>
+    </details>
+  );
+}
