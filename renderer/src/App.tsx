@@ -493,7 +493,12 @@ export function App() {
         </header>
         <main className="layout">
           <div className="left">
-            <LiveReadout reading={view.reading} settled={view.settled} streamSeconds={view.streamSeconds} />
+            <LiveReadout
+              reading={view.reading}
+              settled={view.settled}
+              streamSeconds={view.streamSeconds}
+              clockPpm={setup.clockPpm}
+            />
             <section className="panel strip-panel">
               <StripChart history={view.history} now={view.streamSeconds} />
             </section>

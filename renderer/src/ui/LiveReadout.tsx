@@ -2,6 +2,7 @@
  * The big readout: frequency to a hundredth of a cent, nearest note and cents (middle C = C4), the
  * reading's uncertainty, and whether the pitch has settled.
  */
+import { applyClockPpm } from '../../../dsp/clock.ts';
 import { nearestNote } from '../../../dsp/notes.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
 import { formatCents, formatHz, formatUncertainty } from '../lib/format.ts';
@@ -20,10 +21,13 @@ export function LiveReadout(props: {
   reading: PitchReading | null;
   settled: boolean;
   streamSeconds: number;
+  /** The interface clock correction from the Setup, ppm: absolute readings carry it. */
+  clockPpm: number;
 }) {
   const r = props.reading;
   const ok = r && r.kind === 'ok' ? r : null;
-  const note = ok ? nearestNote(ok.hz) : null;
+  const hz = ok ? applyClockPpm(ok.hz, props.clockPpm) : null;
+  const note = hz !== null ? nearestNote(hz) : null;
   return (
     <section
       className="panel readout"
@@ -31,8 +35,8 @@ export function LiveReadout(props: {
       data-testid="readout"
       data-stream-seconds={String(props.streamSeconds)}
     >
-      <div className="hz" data-testid="live-hz" data-hz={ok ? String(ok.hz) : ''}>
-        {ok ? formatHz(ok.hz) : '—'}
+      <div className="hz" data-testid="live-hz" data-hz={hz !== null ? String(hz) : ''}>
+        {hz !== null ? formatHz(hz) : '—'}
         <span className="unit">Hz</span>
       </div>
       <div className="note-line">
@@ -54,7 +58,10 @@ export function LiveReadout(props: {
       </div>
       <div className="sub">
         <span>± {ok ? formatUncertainty(ok.uncertaintyCents) : '—'} ¢ (1σ)</span>
-        <span>A4 = 440 Hz · middle C = C4 = 261.63 Hz</span>
+        <span>
+          {props.clockPpm !== 0 ? `clock ${props.clockPpm > 0 ? '+' : ''}${props.clockPpm} ppm · ` : ''}A4 =
+          440 Hz · middle C = C4 = 261.63 Hz
+        </span>
       </div>
     </section>
   );

@@ -298,7 +298,7 @@ export function RunPanel(p: RunPanelProps) {
                       data-testid="step-row"
                       data-step={st.index}
                       data-volts={String(st.nominalVolts)}
-                      data-hz={String(st.capture.hz)}
+                      data-hz={String(row.hz)}
                       data-uncertainty-cents={String(st.capture.uncertaintyCents)}
                       data-source={st.capture.source}
                       data-captured-at={String(p.run?.capturedAt[st.index] ?? '')}
