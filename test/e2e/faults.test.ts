@@ -102,7 +102,19 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     await waitForPitch(page);
     await page.click('[data-testid="pause"]');
     await waitForPhase(page, 'not-paused');
-    await waitForStepRows(page, before.length + 1);
+    try {
+      await waitForStepRows(page, before.length + 1);
+    } catch (err) {
+      // Leave evidence: what the run and the readout showed when the capture did not come.
+      await page.screenshot({ path: 'test-artifacts/fault-rate-timeout.png' });
+      console.log(
+        'e2e fault, rate change, state at timeout:',
+        await page.innerText('[data-testid="run-prompt"]'),
+        '| live:',
+        await page.innerText('[data-testid="readout"]'),
+      );
+      throw err;
+    }
     expect(errors).toEqual([]);
   }, 60_000);
 
@@ -187,7 +199,19 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
 
     await page.click('[data-testid="pause"]');
     await waitForPhase(page, 'not-paused');
-    await waitForStepRows(page, before.length + 1);
+    try {
+      await waitForStepRows(page, before.length + 1);
+    } catch (err) {
+      // Leave evidence: what the run and the readout showed when the capture did not come.
+      await page.screenshot({ path: 'test-artifacts/fault-rate-timeout.png' });
+      console.log(
+        'e2e fault, rate change, state at timeout:',
+        await page.innerText('[data-testid="run-prompt"]'),
+        '| live:',
+        await page.innerText('[data-testid="readout"]'),
+      );
+      throw err;
+    }
     expect(await runPhase(page)).not.toBe('paused');
     expect(errors).toEqual([]);
   }, 60_000);

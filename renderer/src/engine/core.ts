@@ -151,7 +151,14 @@ export class EngineCore {
         this.simSamples = 0;
         this.simOwed = 0;
         this.manualVolts = msg.volts;
-        this.glide = { from: msg.volts, to: msg.volts, t0: 0, seconds: 0 };
+        {
+          // A run in progress keeps the simulator on its current step's voltage across a restart of the
+          // source (a new sample rate, say); otherwise the page's control voltage applies.
+          const r = this.run;
+          const active = r !== null && this.mode === 'run' && r.phase !== 'finished' && r.phase !== 'aborted';
+          const v = active ? r.steps[r.current].nominalVolts : msg.volts;
+          this.glide = { from: v, to: v, t0: 0, seconds: 0 };
+        }
         this.startSource('sim', msg.sampleRateHz);
         return;
       case 'source-stop':
@@ -241,6 +248,9 @@ export class EngineCore {
 
   private startSource(kind: 'live' | 'sim', sampleRateHz: number): void {
     const previousRate = this.sampleRateHz;
+    // The glide is timed on the stream clock, which restarts with the new tracker: settle it on its
+    // target, or the simulator would replay the old voltage until the new clock caught up with the old.
+    this.glide = { from: this.glide.to, to: this.glide.to, t0: 0, seconds: 0 };
     this.tracker = new PitchTracker({ sampleRateHz });
     this.sampleRateHz = sampleRateHz;
     this.sourceKind = kind;
