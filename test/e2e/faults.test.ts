@@ -63,6 +63,25 @@ function watchErrors(page: Page): string[] {
 
 const enabled = chromiumAvailable();
 
+/**
+ * Waits for the run to capture its next step; when it does not come, saves a screenshot and prints what
+ * the run and the readout showed, then fails.
+ */
+async function waitForNextCapture(page: Page, rows: number, fault: string): Promise<void> {
+  try {
+    await waitForStepRows(page, rows);
+  } catch (err) {
+    await page.screenshot({ path: `test-artifacts/fault-${fault}-timeout.png` });
+    console.log(
+      `e2e fault, ${fault}, state at timeout:`,
+      await page.innerText('[data-testid="run-prompt"]'),
+      '| live:',
+      await page.innerText('[data-testid="readout"]'),
+    );
+    throw err;
+  }
+}
+
 describe.skipIf(!enabled)('faults in Chromium', () => {
   let server: WebServer;
   const browsers: Browser[] = [];
@@ -102,19 +121,7 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     await waitForPitch(page);
     await page.click('[data-testid="pause"]');
     await waitForPhase(page, 'not-paused');
-    try {
-      await waitForStepRows(page, before.length + 1);
-    } catch (err) {
-      // Leave evidence: what the run and the readout showed when the capture did not come.
-      await page.screenshot({ path: 'test-artifacts/fault-rate-timeout.png' });
-      console.log(
-        'e2e fault, rate change, state at timeout:',
-        await page.innerText('[data-testid="run-prompt"]'),
-        '| live:',
-        await page.innerText('[data-testid="readout"]'),
-      );
-      throw err;
-    }
+    await waitForNextCapture(page, before.length + 1, 'permission');
     expect(errors).toEqual([]);
   }, 60_000);
 
@@ -199,19 +206,7 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
 
     await page.click('[data-testid="pause"]');
     await waitForPhase(page, 'not-paused');
-    try {
-      await waitForStepRows(page, before.length + 1);
-    } catch (err) {
-      // Leave evidence: what the run and the readout showed when the capture did not come.
-      await page.screenshot({ path: 'test-artifacts/fault-rate-timeout.png' });
-      console.log(
-        'e2e fault, rate change, state at timeout:',
-        await page.innerText('[data-testid="run-prompt"]'),
-        '| live:',
-        await page.innerText('[data-testid="readout"]'),
-      );
-      throw err;
-    }
+    await waitForNextCapture(page, before.length + 1, 'rate');
     expect(await runPhase(page)).not.toBe('paused');
     expect(errors).toEqual([]);
   }, 60_000);

@@ -270,21 +270,20 @@ export function RunPanel(p: RunPanelProps) {
                 {s.steps.map((st) => {
                   const row = rowByStep.get(st.index);
                   const cur = st.index === s.current && active;
+                  const meterCell = (
+                    <MeterCell
+                      key={`m${st.index}-${st.measuredVolts}`}
+                      stepIndex={st.index}
+                      value={st.measuredVolts}
+                      onSet={(v) => p.onEvent({ type: 'set-measured-volts', stepIndex: st.index, volts: v })}
+                    />
+                  );
                   if (!st.capture || !row) {
                     return (
                       <tr key={st.index} className={`pending ${cur ? 'current' : ''} ${st.status}`}>
                         <td>{st.index + 1}</td>
                         <td>{formatVolts(st.nominalVolts, false)}</td>
-                        <td>
-                          <MeterCell
-                            key={`m${st.index}-${st.measuredVolts}`}
-                            stepIndex={st.index}
-                            value={st.measuredVolts}
-                            onSet={(v) =>
-                              p.onEvent({ type: 'set-measured-volts', stepIndex: st.index, volts: v })
-                            }
-                          />
-                        </td>
+                        <td>{meterCell}</td>
                         <td colSpan={5} className="status-cell">
                           {st.status === 'skipped' ? 'skipped' : cur ? 'measuring…' : 'waiting'}
                         </td>
@@ -307,16 +306,7 @@ export function RunPanel(p: RunPanelProps) {
                     >
                       <td>{st.index + 1}</td>
                       <td>{formatVolts(st.nominalVolts, false)}</td>
-                      <td>
-                        <MeterCell
-                          key={`m${st.index}-${st.measuredVolts}`}
-                          stepIndex={st.index}
-                          value={st.measuredVolts}
-                          onSet={(v) =>
-                            p.onEvent({ type: 'set-measured-volts', stepIndex: st.index, volts: v })
-                          }
-                        />
-                      </td>
+                      <td>{meterCell}</td>
                       <td className="num mono">{formatHz(row.hz)}</td>
                       <td>
                         {row.noteName} <span className="dim">{formatCents(row.noteCents, 1)}</span>
