@@ -12,12 +12,12 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { build } from 'esbuild';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { TEMP_PREFIX } from '../main/atomic-file.ts';
-import { createRecordsStore } from '../main/records-store.ts';
-import { deserializeRun, runCaptures, serializeRun } from '../dsp/run.ts';
-import { CRASH_RECORD_ID, crashGeneration, scriptedRunStates } from './fixtures/crash-run.ts';
+import { TEMP_PREFIX } from '../../main/atomic-file.ts';
+import { createRecordsStore } from '../../main/records-store.ts';
+import { deserializeRun, runCaptures, serializeRun } from '../../dsp/run.ts';
+import { CRASH_RECORD_ID, crashGeneration, scriptedRunStates } from '../fixtures/crash-run.ts';
 
-const root = path.resolve(import.meta.dirname, '..');
+const root = path.resolve(import.meta.dirname, '../..');
 /** Writers killed one after another in each lane; the lanes run side by side. */
 const KILLS_PER_LANE = 125;
 const LANES = 4;

@@ -17,7 +17,7 @@ import path from 'node:path';
 import { build } from 'esbuild';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 
-const root = path.resolve(import.meta.dirname, '..');
+const root = path.resolve(import.meta.dirname, '../..');
 const AUDIO_SECONDS = Number(process.env.SPANMETER_SOAK_SECONDS ?? 7200);
 
 interface Figures {
