@@ -205,6 +205,20 @@ function componentsJson(c: CapturedStep['components']): StepComponents | null {
   };
 }
 
+function captureJson(c: StepCaptureInfo): StepCaptureInfo {
+  return {
+    source: c.source,
+    startSeconds: finiteOrNull(c.startSeconds),
+    endSeconds: finiteOrNull(c.endSeconds),
+    windowStartSeconds: finiteOrNull(c.windowStartSeconds),
+    windowEndSeconds: finiteOrNull(c.windowEndSeconds),
+    harmonicsUsed: c.harmonicsUsed,
+    clarity: finiteOrNull(c.clarity),
+    rmsDbfs: finiteOrNull(c.rmsDbfs),
+    peakDbfs: finiteOrNull(c.peakDbfs),
+  };
+}
+
 function endJson(e: BendAnalysisOk['highEnd'] | undefined): ResultFit['highEnd'] {
   if (!e || e.kind === 'straight') return { kind: 'straight', centsAtEnd: null };
   return { kind: e.direction, centsAtEnd: e.centsAtEnd };
@@ -322,7 +336,7 @@ export function calibrate(steps: readonly CapturedStep[], opts: CalibrateOptions
         components: componentsJson(s.components),
         likelyVolts: s.likelyVolts ?? null,
         budget: s.budget ?? null,
-        capture: s.capture ? { ...s.capture } : null,
+        capture: s.capture ? captureJson(s.capture) : null,
       };
     }),
     fit: fitOk
