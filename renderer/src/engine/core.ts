@@ -12,7 +12,7 @@ import { twoPointIntervalError, type TwoPointResult } from '../../../dsp/advice.
 import { analyzeDrift, driftRateSeries, type DriftReading } from '../../../dsp/drift.ts';
 import { createPlateauDetector, type PlateauDetector } from '../../../dsp/plateau.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
-import { createRun, runReducer, type RunState } from '../../../dsp/run.ts';
+import { createRun, isRunActive, runReducer, type RunState } from '../../../dsp/run.ts';
 import {
   createOscillatorStream,
   type OscillatorOptions,
@@ -29,7 +29,7 @@ import type {
   TwoPointConfig,
   TwoPointView,
 } from './protocol.ts';
-import { feedReading, rebaseRun, RunCalibrator } from './run-host.ts';
+import { feedReading, RunCalibrator } from './run-host.ts';
 import { analyzeWavBytes, type WavAnalysisRequest } from './wav-analysis.ts';
 
 /** How the engine talks back and tells time. */
@@ -156,7 +156,7 @@ export class EngineCore {
           // A run in progress keeps the simulator on its current step's voltage across a restart of the
           // source (a new sample rate, say); otherwise the page's control voltage applies.
           const r = this.run;
-          const active = r !== null && this.mode === 'run' && r.phase !== 'finished' && r.phase !== 'aborted';
+          const active = this.mode === 'run' && isRunActive(r);
           const v = active ? r.steps[r.current].nominalVolts : msg.volts;
           this.glide = { from: v, to: v, t0: 0, seconds: 0 };
         }
@@ -187,7 +187,7 @@ export class EngineCore {
         this.postRun();
         return;
       case 'run-restore':
-        this.run = rebaseRun(msg.state);
+        this.run = runReducer(msg.state, { type: 'rebase' });
         this.resetRunSide(this.run.steps.length);
         this.afterRunChange();
         this.postRun();
@@ -269,8 +269,8 @@ export class EngineCore {
       // A new stream clock (and perhaps a new rate): the run keeps its captures and waits, paused, for
       // the user.
       const was = this.run.phase;
-      runRebased = was !== 'finished' && was !== 'aborted';
-      this.run = rebaseRun(this.run);
+      runRebased = isRunActive(this.run);
+      this.run = runReducer(this.run, { type: 'rebase' });
       if (was !== this.run.phase || this.run.lastSeconds === null) this.postRun();
       this.stepStartedAt = this.stepStartedAt.map(() => null);
     }
@@ -289,8 +289,8 @@ export class EngineCore {
     this.tracker = null;
     this.sim = null;
     this.sourceKind = 'none';
-    if (this.run && this.run.phase !== 'finished' && this.run.phase !== 'aborted') {
-      this.run = rebaseRun(this.run);
+    if (isRunActive(this.run)) {
+      this.run = runReducer(this.run, { type: 'rebase' });
       this.postRun();
     }
     this.host.post({ type: 'source', kind: 'none', sampleRateHz: null, reason });
@@ -306,8 +306,7 @@ export class EngineCore {
   private setMode(mode: EngineMode): void {
     if (mode === this.mode) return;
     if (this.mode === 'run' && this.run) {
-      const p = this.run.phase;
-      if (p !== 'paused' && p !== 'finished' && p !== 'aborted') {
+      if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
         this.postRun();
       }
@@ -326,7 +325,7 @@ export class EngineCore {
   private afterRunChange(): void {
     const s = this.run;
     if (!s) return;
-    if (s.current !== this.lastCurrent && s.phase !== 'finished' && s.phase !== 'aborted') {
+    if (s.current !== this.lastCurrent && isRunActive(s)) {
       this.lastCurrent = s.current;
       this.stepStartedAt[s.current] = this.streamSeconds;
       if (this.sim && this.mode === 'run') this.glideTo(s.steps[s.current].nominalVolts, SIM_GLIDE_SECONDS);
@@ -576,8 +575,7 @@ export class EngineCore {
   private analyzeWav(bytes: ArrayBuffer, fileName: string, request: WavAnalysisRequest): void {
     this.host.post({ type: 'wav-started', fileName });
     if (this.run) {
-      const p = this.run.phase;
-      if (p !== 'paused' && p !== 'finished' && p !== 'aborted') {
+      if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
         this.postRun();
       }
