@@ -8,10 +8,17 @@
  * Buffers for audio are allocated when a source starts; per block, the engine allocates only the
  * readings and messages it emits.
  */
-import { twoPointIntervalError, type TwoPointResult } from '../../../dsp/advice.ts';
-import { analyzeDrift, driftRateSeries, type DriftReading } from '../../../dsp/drift.ts';
+import { analyzeDrift, driftRateSeries } from '../../../dsp/drift.ts';
+import { DriftBinner } from '../../../dsp/drift-bins.ts';
 import { createPlateauDetector, type PlateauDetector } from '../../../dsp/plateau.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
+import {
+  EMPTY_PAIRING,
+  pairingResult,
+  pairPlateau,
+  type TwoPointPairing,
+  type TwoPointSideState,
+} from '../../../dsp/two-point.ts';
 import { createRun, isRunActive, runReducer, type RunState } from '../../../dsp/run.ts';
 import {
   createOscillatorStream,
@@ -51,14 +58,10 @@ interface Glide {
 export const SIM_GLIDE_SECONDS = 0.15;
 
 const SIM_CHUNK = 1024;
-/** Two plateaus closer than this are the same side of the two-point check, cents (a quarter octave). */
-const SAME_SIDE_CENTS = 300;
-
 interface TwoPointState {
   config: TwoPointConfig;
   detector: PlateauDetector;
-  low: { hz: number; start: number } | null;
-  high: { hz: number; start: number } | null;
+  pairing: TwoPointPairing;
   liveStart: number | null;
   /** Simulator: when the voltage last switched, stream seconds, and which side it is on. */
   switchedAt: number;
@@ -68,13 +71,7 @@ interface TwoPointState {
 interface DriftState {
   volts: number;
   windowSeconds: number;
-  startedAt: number | null;
-  readings: DriftReading[];
-  binStart: number;
-  binSumCents: number;
-  binCount: number;
-  refHz: number | null;
-  lastPost: number;
+  bins: DriftBinner;
 }
 
 export class EngineCore {
@@ -210,8 +207,7 @@ export class EngineCore {
         this.twoPoint = {
           config: msg.config,
           detector: createPlateauDetector(),
-          low: null,
-          high: null,
+          pairing: EMPTY_PAIRING,
           liveStart: null,
           switchedAt: this.streamSeconds,
           onHigh: false,
@@ -221,21 +217,14 @@ export class EngineCore {
       case 'two-point-reset':
         if (this.twoPoint) {
           this.twoPoint.detector.reset();
-          this.twoPoint.low = null;
-          this.twoPoint.high = null;
+          this.twoPoint.pairing = EMPTY_PAIRING;
         }
         return;
       case 'drift-start':
         this.drift = {
           volts: msg.volts,
           windowSeconds: msg.windowSeconds,
-          startedAt: null,
-          readings: [],
-          binStart: 0,
-          binSumCents: 0,
-          binCount: 0,
-          refHz: null,
-          lastPost: 0,
+          bins: new DriftBinner(),
         };
         this.setMode('drift');
         this.glideTo(msg.volts, SIM_GLIDE_SECONDS);
@@ -481,60 +470,25 @@ export class EngineCore {
     if (open) {
       status = 'settled';
       tp.liveStart = open.startSeconds;
-      const cand = { hz: open.meanHz, start: open.startSeconds };
-      const near = (side: { hz: number } | null) =>
-        side !== null && Math.abs(1200 * Math.log2(cand.hz / side.hz)) < SAME_SIDE_CENTS;
-      if (near(tp.low)) tp.low = cand;
-      else if (near(tp.high)) tp.high = cand;
-      else if (tp.low === null) tp.low = cand;
-      else if (tp.high === null) tp.high = cand;
-      else if (tp.low.start < tp.high.start) tp.low = cand;
-      else tp.high = cand;
-      if (tp.low && tp.high && tp.low.hz > tp.high.hz) [tp.low, tp.high] = [tp.high, tp.low];
+      tp.pairing = pairPlateau(tp.pairing, { hz: open.meanHz, startSeconds: open.startSeconds });
     }
-    let result: TwoPointResult | null = null;
-    if (tp.low && tp.high) {
-      try {
-        result = twoPointIntervalError(
-          tp.low.hz,
-          tp.high.hz,
-          tp.config.voltsLow,
-          tp.config.voltsHigh,
-          tp.config.toleranceCents,
-        );
-      } catch {
-        result = null;
-      }
-    }
-    const side = (s: { hz: number; start: number } | null) =>
-      s ? { hz: s.hz, live: tp.liveStart !== null && s.start === tp.liveStart } : null;
-    return { low: side(tp.low), high: side(tp.high), result, status };
+    const result = pairingResult(tp.pairing, tp.config);
+    const side = (s: TwoPointSideState | null) =>
+      s ? { hz: s.hz, live: tp.liveStart !== null && s.startSeconds === tp.liveStart } : null;
+    return { low: side(tp.pairing.low), high: side(tp.pairing.high), result, status };
   }
 
   private updateDrift(r: PitchReading): void {
     const d = this.drift as DriftState;
     if (r.kind !== 'ok') return;
-    if (d.startedAt === null) {
+    if (!d.bins.started) {
       // Start once the pitch has settled at the held voltage (after the simulator's glide, or once the
       // user has set the voltage), so the hold does not begin with the step into it.
       const gliding = this.sim !== null && this.cvAt(r.timeSeconds) !== d.volts;
       if (gliding || this.liveDetector.current() === null) return;
-      d.startedAt = r.timeSeconds;
-      d.binStart = r.timeSeconds;
-      d.refHz = r.hz;
+      d.bins.start(r.timeSeconds, r.hz);
     }
-    const refHz = d.refHz as number;
-    d.binSumCents += 1200 * Math.log2(r.hz / refHz);
-    d.binCount++;
-    if (r.timeSeconds - d.binStart >= 1) {
-      const cents = d.binSumCents / d.binCount;
-      const mid = (d.binStart + r.timeSeconds) / 2;
-      d.readings.push({ timeSeconds: mid - d.startedAt, hz: refHz * Math.pow(2, cents / 1200) });
-      d.binStart = r.timeSeconds;
-      d.binSumCents = 0;
-      d.binCount = 0;
-      this.postDrift();
-    }
+    if (d.bins.push(r.timeSeconds, r.hz)) this.postDrift();
   }
 
   private postDrift(): void {
@@ -543,15 +497,16 @@ export class EngineCore {
       this.host.post({ type: 'drift', drift: null });
       return;
     }
-    const first = d.readings[0]?.hz ?? 1;
+    const readings = d.bins.readings;
+    const first = readings[0]?.hz ?? 1;
     let result: DriftView['result'];
     let rates: DriftView['rates'] = [];
     try {
-      result = analyzeDrift(d.readings, {
+      result = analyzeDrift(readings, {
         windowSeconds: d.windowSeconds,
         confirmSeconds: d.windowSeconds / 2,
       });
-      rates = driftRateSeries(d.readings, { windowSeconds: d.windowSeconds });
+      rates = driftRateSeries(readings, { windowSeconds: d.windowSeconds });
     } catch (err) {
       result = { kind: 'error', message: err instanceof Error ? err.message : String(err) };
     }
@@ -559,7 +514,7 @@ export class EngineCore {
       type: 'drift',
       drift: {
         volts: d.volts,
-        points: d.readings.map((x) => ({ t: x.timeSeconds, cents: 1200 * Math.log2(x.hz / first) })),
+        points: readings.map((x) => ({ t: x.timeSeconds, cents: 1200 * Math.log2(x.hz / first) })),
         result,
         rates,
         windowSeconds: d.windowSeconds,
