@@ -26,7 +26,8 @@
  * The uncertainty is the slope's standard error from the fit's own residuals (weighted least squares with
  * unknown scale), widened by the ratio of Student's t to the normal quantile for the residual degrees of
  * freedom so that ±2 standard errors keep their coverage with few segments. Outlying segments (a DC step,
- * a click) are down-weighted by two Huber re-weighting passes (P. J. Huber, "Robust Statistics", 1981).
+ * a click) are down-weighted by three re-weighting passes with Tukey's biweight on a MAD scale (four weighted
+ * fits in all; Mosteller & Tukey, "Data Analysis and Regression", 1977; P. J. Huber, "Robust Statistics", 1981).
  *
  * The class allocates its buffers once, for the largest window, harmonic count and segment count it is
  * built for; `refine` then allocates nothing.
@@ -364,8 +365,8 @@ export class HarmonicRefiner {
     const slopeA = (sw * swty - swt * swy) / den;
     const deltaA = slopeA / (TWO_PI * kA);
 
-    // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
-    // Huber re-weighting.
+    // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit,
+    // re-weighted three times with Tukey's biweight.
     let activeCount = 0;
     for (let j = 0; j < K; j++) {
       if (!this.active[j]) continue;

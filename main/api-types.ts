@@ -8,7 +8,6 @@ import type { SpanmeterApi } from './preload-api.ts';
 export type { SpanmeterApi };
 export type { Channel } from './channels.ts';
 export type {
-  AppInfo,
   AutosaveResult,
   ExportRequest,
   IpcErrorCode,

@@ -14,7 +14,6 @@ export const CHANNELS = [
   'run:autosave',
   'run:load-autosave',
   'run:clear-autosave',
-  'app:info',
   'wav:open',
 ] as const;
 

@@ -5,7 +5,7 @@
 import { readFile, stat } from 'node:fs/promises';
 import path from 'node:path';
 import { atomicWriteFile } from './atomic-file.ts';
-import { MAX_RECORD_FILE_BYTES, MAX_WAV_BYTES, MiB, type AppInfo } from './ipc-contract.ts';
+import { MAX_RECORD_FILE_BYTES, MAX_WAV_BYTES, MiB } from './ipc-contract.ts';
 import { IpcError, type IpcHandlers } from './ipc.ts';
 import { WINDOWS_RESERVED_NAMES } from './record-id.ts';
 import { parseRecordText, type RecordsStore } from './records-store.ts';
@@ -33,7 +33,6 @@ export interface DialogLike {
 export interface HandlerDeps {
   store: RecordsStore;
   dialog: DialogLike;
-  appInfo(): AppInfo;
   /** Folder the export dialog opens in (the user's documents folder in main.ts). */
   exportDir?(): string;
 }
@@ -139,7 +138,6 @@ export function createHandlers(deps: HandlerDeps): IpcHandlers {
     'run:autosave': ({ state }) => store.saveAutosave(state),
     'run:load-autosave': () => store.loadAutosave(),
     'run:clear-autosave': () => store.clearAutosave(),
-    'app:info': () => deps.appInfo(),
 
     'wav:open': async () => {
       const file = await pickOne('Open a recording', [{ name: 'WAV audio', extensions: ['wav', 'wave'] }]);

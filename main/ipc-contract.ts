@@ -236,28 +236,6 @@ export const AutosaveResultSchema = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('none') }),
 ]);
 
-export const AppInfoSchema = z.strictObject({
-  name: z.string(),
-  version: z.string(),
-  platform: z.enum([
-    'aix',
-    'android',
-    'darwin',
-    'freebsd',
-    'haiku',
-    'linux',
-    'openbsd',
-    'sunos',
-    'win32',
-    'cygwin',
-    'netbsd',
-  ]),
-  arch: z.string(),
-  /** Versions of Electron and Chromium, for bug reports. */
-  electron: z.string(),
-  chrome: z.string(),
-});
-
 export const WavOpenResultSchema = z.discriminatedUnion('kind', [
   z
     .strictObject({
@@ -337,11 +315,6 @@ export const CONTRACT = {
     request: NoPayload,
     response: z.strictObject({ cleared: z.boolean() }),
   },
-  'app:info': {
-    summary: 'Name, version and platform of the running app.',
-    request: NoPayload,
-    response: AppInfoSchema,
-  },
   'wav:open': {
     summary: 'Ask for a WAV file (at most 200 MiB) and return its bytes, undecoded.',
     request: NoPayload,
@@ -364,5 +337,4 @@ export type RecordProblem = z.output<typeof RecordProblemSchema>;
 export type RecordList = z.output<typeof RecordListSchema>;
 export type ExportRequest = z.input<typeof ExportRequestSchema>;
 export type AutosaveResult = z.output<typeof AutosaveResultSchema>;
-export type AppInfo = z.output<typeof AppInfoSchema>;
 export type WavOpenResult = z.output<typeof WavOpenResultSchema>;

@@ -96,14 +96,6 @@ async function start(): Promise<void> {
       store,
       dialog: boundDialog(),
       exportDir: () => app.getPath('documents'),
-      appInfo: () => ({
-        name: app.getName(),
-        version: app.getVersion(),
-        platform: process.platform,
-        arch: process.arch,
-        electron: process.versions.electron ?? '',
-        chrome: process.versions.chrome ?? '',
-      }),
     }),
     {
       // Checklist item 17: only the app's own top-level page may call.

@@ -45,14 +45,6 @@ function setup() {
       }),
       dialog,
       exportDir: () => path.join(dir, 'Documents'),
-      appInfo: () => ({
-        name: 'Spanmeter',
-        version: '0.1.0',
-        platform: 'linux',
-        arch: 'x64',
-        electron: '45.5.0',
-        chrome: '140.0.0.0',
-      }),
     }),
     { isTrustedSender: (e) => isTrustedSenderFrame(e.senderFrame) },
   );
@@ -207,21 +199,5 @@ describe('wav:open', () => {
 
   it('reports a cancelled dialog', async () => {
     expect(await setup()('wav:open')).toEqual({ ok: true, value: { kind: 'cancelled' } });
-  });
-});
-
-describe('app:info', () => {
-  it('returns name, version and platform', async () => {
-    expect(await setup()('app:info')).toEqual({
-      ok: true,
-      value: {
-        name: 'Spanmeter',
-        version: '0.1.0',
-        platform: 'linux',
-        arch: 'x64',
-        electron: '45.5.0',
-        chrome: '140.0.0.0',
-      },
-    });
   });
 });

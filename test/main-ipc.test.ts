@@ -52,14 +52,6 @@ const handlers: IpcHandlers = {
   'run:autosave': () => ({ savedAt: '2031-03-14T10:00:00.000Z' }),
   'run:load-autosave': () => ({ kind: 'none' }),
   'run:clear-autosave': () => ({ cleared: false }),
-  'app:info': () => ({
-    name: 'Spanmeter',
-    version: '0.1.0',
-    platform: 'linux',
-    arch: 'x64',
-    electron: '45.5.0',
-    chrome: '140.0.0.0',
-  }),
   'wav:open': () => ({ kind: 'opened', fileName: 'take.wav', sizeBytes: 4, bytes: new Uint8Array(4) }),
 };
 
@@ -308,7 +300,6 @@ describe('buildSpanmeterApi (the preload’s API)', () => {
     ['autosaveRun', [{ step: 1 }], 'run:autosave', [{ state: { step: 1 } }]],
     ['loadAutosavedRun', [], 'run:load-autosave', []],
     ['clearAutosavedRun', [], 'run:clear-autosave', []],
-    ['appInfo', [], 'app:info', []],
     ['openWav', [], 'wav:open', []],
   ])('%s(…) invokes %s', async (name, args, channel, sent) => {
     seen.length = 0;
@@ -327,9 +318,9 @@ describe('buildSpanmeterApi (the preload’s API)', () => {
     const failing = buildSpanmeterApi(async () => {
       throw new Error('An object could not be cloned.');
     });
-    expect(await failing.appInfo()).toEqual({
+    expect(await failing.listRecords()).toEqual({
       ok: false,
-      error: { code: 'not-json', message: 'app:info: An object could not be cloned.' },
+      error: { code: 'not-json', message: 'records:list: An object could not be cloned.' },
     });
   });
 });

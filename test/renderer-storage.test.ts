@@ -4,6 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { calibrate } from '../dsp/pipeline.ts';
+import { slugify } from '../main/record-id.ts';
 import { RECORD_SCHEMA_VERSION, UnitRecordSchema } from '../main/ipc-contract.ts';
 import { recordIdProblem } from '../main/record-id.ts';
 import { browserStore, STORAGE_KEYS, type KeyValueStorage } from '../renderer/src/storage/store.ts';
@@ -77,6 +78,17 @@ describe('browserStore', () => {
     expect(del.ok).toBe(true);
     const gone = await store.loadRecord(saved.value.id);
     expect(gone.ok ? null : gone.error.code).toBe('not-found');
+  });
+
+  it('builds ids with the one slug the desktop store uses: "Crème VCO" is creme-vco', async () => {
+    const { store } = setup();
+    const saved = await store.saveRecord({
+      schemaVersion: RECORD_SCHEMA_VERSION,
+      unitName: 'Crème VCO',
+      runs: [],
+    });
+    expect(saved.ok && saved.value.id).toMatch(/^creme-vco-[a-z0-9]{8}$/);
+    expect(slugify('Crème VCO')).toBe('creme-vco');
   });
 
   it('refuses a record the schema refuses, naming the field', async () => {

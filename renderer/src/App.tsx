@@ -9,6 +9,7 @@ import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.
 import { isRunResult, resultToJsonText, type CalibrationResult } from '../../dsp/result.ts';
 import { isRunActive, serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
 import type { JsonValue, UnitRecord } from '../../main/api-types.ts';
+import { slugify } from '../../main/record-id.ts';
 import { listInputs, openInput, type InputDevice, type OpenInput } from './audio/input.ts';
 import { EngineClient } from './engine/client.ts';
 import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
@@ -64,14 +65,6 @@ function pageStorage(): SetupStorage | null {
   } catch {
     return null;
   }
-}
-
-function fileSlug(s: string): string {
-  const t = s
-    .toLowerCase()
-    .replace(/[^a-z0-9]+/g, '-')
-    .replace(/^-+|-+$/g, '');
-  return t || 'spanmeter-run';
 }
 
 export function App() {
@@ -379,7 +372,8 @@ export function App() {
     async (format: 'csv' | 'json') => {
       const a = shownAnalysis;
       if (!a) return;
-      const name = `${fileSlug(info.unitName || info.serial)}-${new Date().toISOString().slice(0, 10)}`;
+      // The one slug of a unit name (main/record-id.ts): 'Crème VCO' → 'creme-vco' for ids and file names alike.
+      const name = `${slugify(info.unitName || info.serial || 'spanmeter run')}-${new Date().toISOString().slice(0, 10)}`;
       const rt = Number(info.roomTempC);
       const content =
         format === 'csv'

@@ -14,6 +14,7 @@ import type {
   UnitRecordDraft,
 } from '../../../main/api-types.ts';
 import { migrateRecordJson, UnitRecordDraftSchema, UnitRecordSchema } from '../../../main/ipc-contract.ts';
+import { slugify } from '../../../main/record-id.ts';
 
 /** A file export: what to write and the name to offer. */
 export interface ExportFile {
@@ -74,16 +75,6 @@ export const STORAGE_KEYS = {
 
 function fail<T>(code: 'not-found' | 'invalid-payload' | 'io-error', message: string): IpcResult<T> {
   return { ok: false, error: { code, message } };
-}
-
-function slug(name: string): string {
-  const s = name
-    .toLowerCase()
-    .normalize('NFKD')
-    .replace(/[^a-z0-9]+/g, '-')
-    .replace(/^-+|-+$/g, '')
-    .slice(0, 40);
-  return s === '' ? 'unit' : s;
 }
 
 function randomSuffix(random: () => number): string {
@@ -173,7 +164,7 @@ export function browserStore(options: BrowserStoreOptions): RecordStore {
       const d = checked.data;
       let id = d.id;
       if (id === undefined) {
-        do id = `${slug(d.unitName)}-${randomSuffix(random)}`;
+        do id = `${slugify(d.unitName)}-${randomSuffix(random)}`;
         while (all[id] !== undefined);
       }
       const record = UnitRecordSchema.parse({
