@@ -157,7 +157,7 @@ export function describeNoPitch(r: PitchNone): string {
 // ---------------------------------------------------------------------------------------------------
 
 /**
- * A voltage with three decimals (a millivolt, 1.2 cents at 1 V/oct, FIELD-NOTES), or `—` when unknown.
+ * A voltage with three decimals (a millivolt, 1.2 cents at 1 V/oct, docs/facts.md), or `—` when unknown.
  *
  * @example formatVolts(2) // '2.000'
  */

@@ -2,7 +2,7 @@
  * Trim advice: which trimmer to turn, which way, by how much, and what to measure next, in plain
  * words and in numbers, from a tracking fit and its bend analysis.
  *
- * The order follows common practice (FIELD-NOTES, "How technicians calibrate"): set the scale from an
+ * The order follows common practice (docs/facts.md, "How technicians calibrate"): set the scale from an
  * interval in the low-middle range with the HF trim left alone, then trim HF on an octave near
  * 2–5 kHz, repeat scale and HF until both hold, and set the offset (tuning) last, because scale and
  * offset interact when the converter's pivot is not at 0 V.
@@ -253,7 +253,7 @@ function fmtPct(p: number): string {
 
 /**
  * The two-point scale check: the interval between two control voltages against what 1 V/oct asks
- * for. Setting the scale from an interval, never from absolute pitch, is common practice (FIELD-NOTES).
+ * for. Setting the scale from an interval, never from absolute pitch, is common practice (docs/facts.md).
  *
  * @param hzLow - Pitch at `voltsLow`, Hz, > 0.
  * @param hzHigh - Pitch at `voltsHigh`, Hz, > 0.
@@ -326,7 +326,7 @@ export interface TrimAdviceInput {
   readonly network?: InputNetwork;
 }
 
-/** Frequency above which high-frequency error shows clearly (FIELD-NOTES: trim HF near 2–5 kHz). */
+/** Frequency above which high-frequency error shows clearly (docs/facts.md: trim HF near 2–5 kHz). */
 const HF_CHECK_HZ: Hertz = 2000;
 
 function item(partial: Partial<AdviceItem> & Pick<AdviceItem, 'trimmer' | 'status' | 'text'>): AdviceItem {

@@ -1,6 +1,6 @@
 /**
  * The sound card's sample clock. Frequencies are measured against the interface's crystal, which is
- * off by roughly ±20 to ±100 ppm on consumer interfaces (FIELD-NOTES, common practice). An error e
+ * off by roughly ±20 to ±100 ppm on consumer interfaces (docs/facts.md, common practice). An error e
  * (positive when the clock runs fast) makes every reading `f_true/(1 + e)`: all frequencies scale
  * alike, so intervals, and therefore the scale error, are immune, while absolute tuning is not.
  * 1 ppm is 0.001 731 cent and 100 ppm 0.173 cent (derived: `1200·log2(1 + e)`, Ellis 1885).

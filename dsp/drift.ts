@@ -1,6 +1,6 @@
 /**
  * Warm-up and drift at one fixed control voltage. Practice is to warm up for 15–30 minutes, or until
- * the drift stays under about 0.1 cent per minute (FIELD-NOTES, common practice). The rate is the
+ * the drift stays under about 0.1 cent per minute (docs/facts.md, common practice). The rate is the
  * ordinary least-squares slope of cents against time over a trailing window (the regression slope
  * of any statistics text, e.g. Bevington & Robinson ch. 6), computed for every window end from
  * running sums in O(n).
@@ -161,7 +161,7 @@ export function driftRateSeries(
  * Total drift, current drift rate and warm-up time of an oscillator held at one voltage.
  *
  * The warm-up time is the end of the first full trailing window from which every later window's rate
- * stays under `thresholdCentsPerMinute` (default 0.1 cent/min, FIELD-NOTES common practice), provided
+ * stays under `thresholdCentsPerMinute` (default 0.1 cent/min, docs/facts.md common practice), provided
  * that stretch lasts at least `confirmSeconds`; otherwise the result is `'not-yet-settled'`.
  *
  * @param readings - Readings at one voltage, strictly increasing in time, Hz > 0.

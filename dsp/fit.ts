@@ -313,7 +313,7 @@ export type BendAnalysis = BendAnalysisOk | TrackingFitNone;
  * `minMiddlePoints` remain. The scale
  * error is then reported from the middle fit, separately from droop at the top step and the bend at
  * the bottom, the way a technician trims scale in the low-middle range before touching HF
- * (FIELD-NOTES, "How technicians calibrate", common practice).
+ * (docs/facts.md, "How technicians calibrate", common practice).
  *
  * @param points - Measured steps (as for {@link fitTracking}).
  * @param opts - Exclusion criteria.

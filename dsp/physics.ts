@@ -375,7 +375,7 @@ function birge(chi: number, dof: number): number {
 
 /**
  * Fits both high-frequency error models to measured deviations by weighted least squares and says
- * which fits better (FIELD-NOTES, "The exponential converter", derived):
+ * which fits better (docs/facts.md, "The exponential converter", derived):
  *
  * - reset time t: `ln(f/f_ideal) = ln(1 − f·t)`, which bends further flat as f·t grows;
  * - bulk resistance: `ln(f/f_ideal) = −α·f`, exactly proportional to the measured f, because the

@@ -1,7 +1,7 @@
 /**
  * Calibration plans: the ordered list of reference voltages a run walks through.
  *
- * Facts used (from /work/shared/FIELD-NOTES.md): at 1 V/oct one volt is one octave, 1200 cents; a semitone
+ * Facts used (docs/facts.md): at 1 V/oct one volt is one octave, 1200 cents; a semitone
  * is 1/12 V = 83.333 mV; 1 mV is 1.2 cents. Eurorack rails are ±12 V, which bounds every plan here.
  */
 import type { Volts } from './units.ts';
@@ -35,7 +35,7 @@ export const PLAN_LIMITS = {
   maxVolts: MAX_CONTROL_VOLTS,
   /**
    * Two points closer than this count as duplicates, and a range must land on its end within it, V.
-   * 0.1 mV is 0.12 cent at 1 V/oct (1 mV = 1.2 cents, FIELD-NOTES.md), below what a 4½-digit meter resolves.
+   * 0.1 mV is 0.12 cent at 1 V/oct (1 mV = 1.2 cents, docs/facts.md), below what a 4½-digit meter resolves.
    */
   minSpacingVolts: 1e-4,
 } as const;
@@ -54,7 +54,7 @@ function evenly(from: Volts, to: Volts, intervals: number): Volts[] {
  *
  * - `octaves-0-4`, `octaves-0-7`, `octaves-0-9`: whole volts, one octave apart at 1 V/oct.
  * - `half-volts-0-7`: 0 to 7 V in 0.5 V steps (half an octave, 600 cents, apart).
- * - `semitones-0-1`: 13 points k/12 V, k = 0…12: a semitone (83.333 mV at 1 V/oct, FIELD-NOTES.md) apart over one octave.
+ * - `semitones-0-1`: 13 points k/12 V, k = 0…12: a semitone (83.333 mV at 1 V/oct, docs/facts.md) apart over one octave.
  *
  * @example PLAN_PRESETS.find((p) => p.id === 'semitones-0-1')?.volts[1] // 0.08333333333333333 (= 1/12)
  */
@@ -88,7 +88,7 @@ export function presetPlan(id: PresetPlanId = DEFAULT_PLAN_ID): Plan {
 
 /**
  * A semitone check over one octave starting at `fromVolts`: 13 points `fromVolts + k/12` V, k = 0…12
- * (a semitone is 83.333 mV at 1 V/oct, FIELD-NOTES.md).
+ * (a semitone is 83.333 mV at 1 V/oct, docs/facts.md).
  *
  * @param fromVolts - Bottom of the octave, V, in [−12, 11].
  * @throws RangeError when `fromVolts` is outside [−12, 11] or not finite.

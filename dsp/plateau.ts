@@ -24,7 +24,7 @@
  * that (a lone wild reading is left out of the plateau's statistics), or at a gap in the readings longer
  * than `maxGapSeconds` (silence, lost signal).
  *
- * Cents are `1200·log2(f/fref)` (A. J. Ellis, 1885; FIELD-NOTES.md: 1 V = 1200 cents at 1 V/oct).
+ * Cents are `1200·log2(f/fref)` (A. J. Ellis, 1885; docs/facts.md: 1 V = 1200 cents at 1 V/oct).
  *
  * ## State
  * The detector's state is plain JSON ({@link PlateauDetectorState}), so the calibration run can keep it

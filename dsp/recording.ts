@@ -24,7 +24,7 @@
  *    (`dsp/advice.ts`) follow.
  *
  * At 1 V/oct a volt is an octave, 1200 cents, and cents are `1200·log2(f1/f2)` (A. J. Ellis, 1885; the
- * 1 V/oct scale as in FIELD-NOTES.md, "How technicians calibrate": a semitone is 83.333 mV). Every expected non-answer (silence, no
+ * 1 V/oct scale as in docs/facts.md, "The 1 V/oct scale": a semitone is 83.333 mV). Every expected non-answer (silence, no
  * pitch, no plateau, a plateau count that does not match the points) is a typed
  * {@link RecordingAnalysisError}; only misuse (bad options) throws.
  */
@@ -44,7 +44,7 @@ import type { Cents, Hertz, Ppm, Seconds, Volts } from './units.ts';
 
 /**
  * Neighbouring plateaus closer than this, cents, with no silence between them, are one step broken by a
- * disturbance. A semitone step is 100 cents; a millivolt at 1 V/oct is 1.2 cents (FIELD-NOTES), so a nudge
+ * disturbance. A semitone step is 100 cents; a millivolt at 1 V/oct is 1.2 cents (docs/facts.md), so a nudge
  * of a few millivolts merges and any planned step stays apart (common practice, no source).
  */
 export const SAME_STEP_CENTS: Cents = 5;

@@ -21,7 +21,7 @@
  * ## Hands-free acceptance
  * The expected pitch of step i is `f_ref·2^((V_i − V_ref)·s)`, where ref is the nearest captured step and
  * s the octaves-per-volt slope fitted by least squares to log2(f) over the captured steps (1.0 before
- * there are two): at 1 V/oct a volt is an octave, 1200 cents (FIELD-NOTES.md). A settled pitch within
+ * there are two): at 1 V/oct a volt is an octave, 1200 cents (docs/facts.md). A settled pitch within
  * the tolerance (`toleranceCents`, at most half the expected interval) is taken; one at the reference
  * step's pitch is ignored (the voltage has not been moved yet); anything else raises a warning, with
  * `likely: 'missed-step'` when it matches the step after next. The first step takes whatever settles.
@@ -364,7 +364,7 @@ export interface SlopeEstimate {
 /**
  * Octaves per volt from the captured steps: the least-squares slope of log2(f) against volts (measured
  * volts where entered), or `octavesPerVoltStart` with fewer than two steps or a slope outside 0.25…4.
- * At 1 V/oct the slope is 1: one volt is 1200 cents (FIELD-NOTES.md).
+ * At 1 V/oct the slope is 1: one volt is 1200 cents (docs/facts.md).
  *
  * @param state - A run.
  * @param excludeStep - A step to leave out (the one being re-measured), or null.

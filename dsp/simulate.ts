@@ -9,10 +9,10 @@
  *    `c` the thermal and jitter offsets in cents (warm-up, thermal tail, pitch jitter).
  * 3. **Bulk emitter resistance** R subtracts Ic·R from Vbe (Ebers–Moll). The core's charging current is
  *    proportional to its charging frequency `f_c`, so `ln(f_c/f_expo) = −α·f_c` with `α = R·(Ic/f_c)/VT`
- *    (FIELD-NOTES, "The exponential converter"). It is solved exactly with the Lambert W function:
+ *    (docs/facts.md, "The exponential converter"). It is solved exactly with the Lambert W function:
  *    `f_c = W(α·f_expo)/α`.
  * 4. **Reset time** t of a sawtooth core adds to every period: `T = 1/f_c + t`, so `f = f_c/(1 + f_c·t)`,
- *    an error of `−1200·log2(1 + f_c·t)` cents (FIELD-NOTES: 1 µs at 1 kHz is −1.730 cents).
+ *    an error of `−1200·log2(1 + f_c·t)` cents (docs/facts.md: 1 µs at 1 kHz is −1.730 cents).
  * 5. **Waveform**: additive synthesis from a double-precision phase accumulator, harmonic amplitudes from
  *    the Fourier series of the ideal shape, only harmonics below the interface's band limit.
  * 6. **Output stage and cable**: amplitude, DC offset, control-voltage feedthrough, mains hum.
@@ -318,7 +318,7 @@ export interface ThermalState {
 /**
  * The oscillator's true output frequency at a steady control voltage, excluding noise and jitter:
  * `f_expo = hz0·2^(s·V + (drift + tail)/1200)`, then bulk resistance `f_c = W(α·f_expo)/α` (so that
- * `ln(f_c/f_expo) = −α·f_c`), then reset time `f = f_c/(1 + f_c·t)` (FIELD-NOTES, "The exponential
+ * `ln(f_c/f_expo) = −α·f_c`), then reset time `f = f_c/(1 + f_c·t)` (docs/facts.md, "The exponential
  * converter"; the Lambert W solution is derived). This is the physical frequency; a recording made with a
  * clock error `clockPpm` shows it at `f/(1 + clockPpm·1e-6)`.
  *
@@ -338,7 +338,7 @@ export function trueHz(volts: Volts, options: OscillatorOptions = {}, tempState:
 /**
  * α of the bulk emitter resistance for {@link OscillatorOptions.bulkAlphaSeconds}: `α = R·(Ic/f)/VT` with
  * `VT = kT/q` (Ebers–Moll; k and q exact, BIPM SI Brochure 9th ed.). The pitch error at that operating point
- * is `−1200·Ic·R/(VT·ln2)` cents (FIELD-NOTES: 1 Ω at 100 µA is −6.7 cents).
+ * is `−1200·Ic·R/(VT·ln2)` cents (docs/facts.md: 1 Ω at 100 µA is −6.7 cents).
  *
  * @param ohms - Bulk emitter resistance, Ω, 0…1000.
  * @param amps - Collector current at the operating point, A, > 0.
@@ -370,7 +370,7 @@ export function warmupDriftCents(secondsSincePowerOn: Seconds, options: Oscillat
 
 /**
  * Time since power-on after which the warm-up drift rate stays below a threshold:
- * `τ·ln(|W|·60/(τ·r))` for a rate r in cents per minute (derived from {@link warmupDriftCents}). FIELD-NOTES
+ * `τ·ln(|W|·60/(τ·r))` for a rate r in cents per minute (derived from {@link warmupDriftCents}). docs/facts.md
  * gives 0.1 cent per minute as the usual "warm" criterion (common practice).
  *
  * @param options - Uses `warmupCents` and `warmupTauSeconds`.
@@ -1031,7 +1031,7 @@ export interface DemoUnit {
 /**
  * Demo batch: four OL-3 oscillators built by the Ostlund Lane workshop (an invented two-person shop), back on
  * the bench for calibration. Tuned near C1 (32.703 Hz) at 0 V. Errors are plausible for analog units
- * (FIELD-NOTES, "What good tracking looks like").
+ * (docs/facts.md, "What good tracking looks like").
  */
 export const demoUnits: readonly DemoUnit[] = Object.freeze([
   {

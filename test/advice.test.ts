@@ -36,7 +36,7 @@ function steps(
 
 describe('twoPointIntervalError', () => {
   it('measures the interval against 1200 cents per volt', () => {
-    // Ellis 1885: interval = 1200·log2(f2/f1); FIELD-NOTES: set the scale from an interval.
+    // Ellis 1885: interval = 1200·log2(f2/f1); docs/facts.md: set the scale from an interval.
     const r = twoPointIntervalError(130, 519.04, 1, 3);
     const interval = 1200 * Math.log2(519.04 / 130);
     expect(r.intervalCents).toBeCloseTo(interval, 12);
@@ -89,7 +89,7 @@ describe('input network', () => {
   });
 
   it('a 100 kΩ divider needs Rsh = 100 kΩ/(1/(VT ln2) − 1) for 1 V/oct at 25 °C', () => {
-    // Derived from VT·ln2 (FIELD-NOTES): attenuation 56.15, so Rsh = 100 k/55.15 ≈ 1813 Ω;
+    // Derived from VT·ln2 (docs/facts.md): attenuation 56.15, so Rsh = 100 k/55.15 ≈ 1813 Ω;
     // nearest E96 1.82 kΩ, E24 1.8 kΩ (IEC 60063).
     const net = { topology: 'divider', seriesOhms: 100e3, shuntOhms: 1.8e3 } as const;
     const s = inputNetworkGain(net) * attenuationForOneVoltPerOctave(25);
@@ -140,7 +140,7 @@ describe('adviseTrim', () => {
     expect(scale.text).toContain('Turn the scale trimmer to widen the span: octaves are 3.2 cents narrow');
     expect(scale.text).toContain('from 1.000 V to 4.000 V reads 3600.0 cents');
     expect(scale.text).toContain('Leave the HF trimmer alone');
-    // Order follows practice: scale, then HF, then offset (FIELD-NOTES, common practice).
+    // Order follows practice: scale, then HF, then offset (docs/facts.md, common practice).
     expect(a.items.map((i) => i.trimmer)).toEqual(['scale', 'hf', 'offset']);
     expect(a.items[1].status).toBe('unresolved');
     expect(a.next).toContain('measure 1.000 V and 4.000 V again');
@@ -168,12 +168,12 @@ describe('adviseTrim', () => {
     expect(a.items.every((i) => i.direction === 'none')).toBe(true);
     expect(a.allWithinTolerance).toBe(true);
     expect(a.items[0].text).toContain('Leave the scale trimmer');
-    // FIELD-NOTES: keep a record per unit (serial, date, room temperature, warm-up time, meter).
+    // docs/facts.md: keep a record per unit (serial, date, room temperature, warm-up time, meter).
     expect(a.next).toContain('record the readings');
   });
 
   it('advises HF after the scale, from the droop at the top', () => {
-    // Reset time 4.55 µs (FIELD-NOTES worked figure), top step 4186 Hz.
+    // Reset time 4.55 µs (docs/facts.md worked figure), top step 4186 Hz.
     const pts = steps(volts, {
       scaleCents: 0,
       noise: 0.01,
@@ -198,7 +198,7 @@ describe('adviseTrim', () => {
   });
 
   it('sets the offset last, in cents and millivolts', () => {
-    // 3 cents sharp of C2 at 1 V: lower by 3 cents = 2.5 mV at 1 V/oct (1 mV = 1.2 cents, FIELD-NOTES) and
+    // 3 cents sharp of C2 at 1 V: lower by 3 cents = 2.5 mV at 1 V/oct (1 mV = 1.2 cents, docs/facts.md) and
     // 3/1200·VT·ln2 at the base (derived).
     const c2 = 65.40639133;
     const pts = steps([1, 2, 3, 4], { hzAt0V: (c2 / 2) * 2 ** (3 / 1200) });

@@ -42,7 +42,7 @@ function inSeries(ohms: number, mantissas: readonly number[], digits: number): b
 const cents = (f1: number, f2: number) => 1200 * Math.log2(f1 / f2);
 
 const POINTS = [0, 1, 2, 3, 4, 5, 6];
-/** +4 cents per octave: scale 1 + 4/1200 octaves per volt (the 1 V/oct definition, FIELD-NOTES). */
+/** +4 cents per octave: scale 1 + 4/1200 octaves per volt (the 1 V/oct definition, docs/facts.md). */
 const SCALE = 1 + 4 / 1200;
 const CLOCK_PPM = 37.5;
 let pass = '';
@@ -123,11 +123,11 @@ describe('spanmeter analyze: calibration options', () => {
     const fixed = json('--clock-ppm', '100');
     fixed.steps.forEach((s, i) => {
       expect(s.hz / plain.steps[i].hz - 1).toBeCloseTo(100e-6, 12);
-      // FIELD-NOTES, "The sound card": a clock error scales every frequency alike, so intervals are immune.
+      // docs/facts.md, "The sound card": a clock error scales every frequency alike, so intervals are immune.
       if (i > 0) expect(s.intervalErrorCents!).toBeCloseTo(plain.steps[i].intervalErrorCents!, 9);
     });
     expect(fixed.fit.scaleErrorCentsPerOctave).toBeCloseTo(plain.fit.scaleErrorCentsPerOctave, 9);
-    // 100 ppm is 0.173 cent (FIELD-NOTES).
+    // 100 ppm is 0.173 cent (docs/facts.md).
     expect(cents(fixed.steps[0].hz, plain.steps[0].hz)).toBeCloseTo(0.173, 3);
     const human = cli('analyze', pass, '--points', POINTS.join(','), '--clock-ppm', '100');
     expect(human.stdout).toMatch(/^clock\s+corrected by \+100\.000 ppm \(\+0\.1731 cents\)/m);

@@ -78,7 +78,7 @@ describe('spanmeter analyze --points', () => {
       expect(s.capture.startSeconds).toBeLessThan(s.capture.endSeconds);
       expect(s.centsFromIdeal).toBeTypeOf('number');
       expect(s.intervalErrorCents === null).toBe(i === 0);
-      // The 1 V/oct definition (FIELD-NOTES): each 1 V interval is 1200·1.002 cents, 2.4 cents wide.
+      // The 1 V/oct definition (docs/facts.md): each 1 V interval is 1200·1.002 cents, 2.4 cents wide.
       if (i > 0) expect(s.intervalErrorCents!).toBeCloseTo(2.4, 1);
     });
     expect(Math.abs(out.fit.octavesPerVolt - 1.002)).toBeLessThan(2e-4);

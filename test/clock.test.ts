@@ -3,18 +3,18 @@ import { MAX_CLOCK_PPM, applyClockPpm, centsToPpm, clockPpmFromReference, ppmToC
 
 describe('clock error in cents', () => {
   it('1 ppm is 0.001 731 cent and 100 ppm 0.173 cent', () => {
-    // FIELD-NOTES, "The sound card" (derived from Ellis's 1200·log2).
+    // docs/facts.md, "The sound card" (derived from Ellis's 1200·log2).
     expect(ppmToCents(1)).toBeCloseTo(0.001731, 6);
     expect(ppmToCents(100)).toBeCloseTo(0.173, 3);
   });
 
   it('one cent is a ratio of 1.000 577 790', () => {
-    // FIELD-NOTES / Ellis 1885: one cent is a ratio of 1.000 577 790.
+    // docs/facts.md / Ellis 1885: one cent is a ratio of 1.000 577 790.
     expect(centsToPpm(1)).toBeCloseTo(577.79, 2);
   });
 
   it('a 100 ppm/K capacitor tempco is about 1/6 cent per kelvin', () => {
-    // FIELD-NOTES (derived): 100 ppm/K is about 1/6 cent per kelvin.
+    // docs/facts.md (derived): 100 ppm/K is about 1/6 cent per kelvin.
     expect(ppmToCents(100)).toBeCloseTo(1 / 6, 1);
   });
 
@@ -35,7 +35,7 @@ describe('applyClockPpm and clockPpmFromReference', () => {
 
   describe.each([-100, -20, 0, 35, 100])('clock %d ppm', (ppm) => {
     it('leaves intervals unchanged', () => {
-      // FIELD-NOTES: a clock error scales every frequency alike, so intervals are immune.
+      // docs/facts.md: a clock error scales every frequency alike, so intervals are immune.
       const lo = 130.8128;
       const hi = 1046.502;
       const before = 1200 * Math.log2(hi / lo);

@@ -47,7 +47,7 @@ describe('analyzeDrift', () => {
     // Thermal tail: c(t) = 5·(1 − e^(−t/τ)), τ = 300 s; rate = 5/τ·e^(−t/τ)·60 cents/min. Over a 120 s
     // window the slope of an exponential is (e^(W/τ) − 1)/(W/τ) times the rate at the window's end, so it
     // first falls under 0.1 cent/min at the end time t = τ·ln(60·5/τ/0.1 · (e^(W/τ) − 1)/(W/τ)) to within the
-    // least-squares weighting (derived); 0.1 cent/min is the FIELD-NOTES warm-up criterion (common practice).
+    // least-squares weighting (derived); 0.1 cent/min is the docs/facts.md warm-up criterion (common practice).
     const tau = 300;
     const W = 120;
     const r = readings(3600, 1, (t) => 5 * (1 - Math.exp(-t / tau)), 0.001, 4);

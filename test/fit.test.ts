@@ -185,7 +185,7 @@ describe('analyzeBends', () => {
   });
 
   it('separates a reset-time droop at the top from the middle scale', () => {
-    // Reset-time error −1200·log2(1 + f·t) (FIELD-NOTES, derived), t = 4.55 µs, top step 4186 Hz.
+    // Reset-time error −1200·log2(1 + f·t) (docs/facts.md, derived), t = 4.55 µs, top step 4186 Hz.
     const pts = steps(volts, {
       scaleCents: 1.5,
       noise: 0.01,

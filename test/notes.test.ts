@@ -103,7 +103,7 @@ describe('cents (A. J. Ellis, 1885: cents = 1200·log2 ratio)', () => {
     }
   });
 
-  it('a gated cycle count is coarse: one count in a 1 s gate at 100 Hz is 17.226 cents (FIELD-NOTES, derived)', () => {
+  it('a gated cycle count is coarse: one count in a 1 s gate at 100 Hz is 17.226 cents (docs/facts.md, derived)', () => {
     // This is why Spanmeter measures phase over the whole window rather than counting cycles: to reach a
     // hundredth of a cent at 100 Hz by counting, the gate would need to last about half an hour.
     expect(hzToCents(101, 100)).toBeCloseTo(17.226, 3);

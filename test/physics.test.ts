@@ -28,7 +28,7 @@ describe('SI constants', () => {
   });
 
   it('give k/q = 86.173 33 µV/K', () => {
-    // FIELD-NOTES (derived from the BIPM exact constants): k/q = 86.173 33 µV/K.
+    // docs/facts.md (derived from the BIPM exact constants): k/q = 86.173 33 µV/K.
     expect(thermalVoltageVolts(0) / 273.15).toBeCloseTo(86.17333e-6, 10);
     // VT at 25 °C = 25.6926 mV (derived from the exact constants).
     expect(thermalVoltageVolts(25) * 1000).toBeCloseTo(25.6926, 4);
@@ -36,7 +36,7 @@ describe('SI constants', () => {
 });
 
 describe('volts per octave at the base, VT·ln 2', () => {
-  // FIELD-NOTES, "The exponential converter" (derived): 17.510 mV at 20 °C, 17.809 at 25, 17.928 at 27, 19.302 at 50.
+  // docs/facts.md, "The exponential converter" (derived): 17.510 mV at 20 °C, 17.809 at 25, 17.928 at 27, 19.302 at 50.
   describe.each([
     [20, 17.51],
     [25, 17.809],
@@ -49,7 +49,7 @@ describe('volts per octave at the base, VT·ln 2', () => {
   });
 
   it('is "about 18 mV per octave" near room temperature', () => {
-    // FIELD-NOTES: "About 18 mV per octave" is the rule of thumb (common practice).
+    // docs/facts.md: "About 18 mV per octave" is the rule of thumb (common practice).
     expect(Math.abs(voltsPerOctaveAtBase(25) * 1000 - 18)).toBeLessThan(0.5);
   });
 
@@ -62,9 +62,9 @@ describe('volts per octave at the base, VT·ln 2', () => {
 
 describe('temperature behaviour', () => {
   it('scale tempco is 1/T: 3354 ppm/K at 25 °C', () => {
-    // FIELD-NOTES (derived): 3354 ppm/K at 25 °C.
+    // docs/facts.md (derived): 3354 ppm/K at 25 °C.
     expect(Math.round(scaleTempcoPpmPerKelvin(25))).toBe(3354);
-    // FIELD-NOTES (common practice): a tempco resistor near +3300 to +3500 ppm/K compensates it.
+    // docs/facts.md (common practice): a tempco resistor near +3300 to +3500 ppm/K compensates it.
     expect(scaleTempcoPpmPerKelvin(25)).toBeGreaterThan(3300);
     expect(scaleTempcoPpmPerKelvin(25)).toBeLessThan(3500);
   });
@@ -77,7 +77,7 @@ describe('temperature behaviour', () => {
   });
 
   it('an uncompensated converter drifts about 4.0 cents/K per octave from the pivot', () => {
-    // FIELD-NOTES (derived): about 4.0 cents per kelvin for every octave from the pivot.
+    // docs/facts.md (derived): about 4.0 cents per kelvin for every octave from the pivot.
     expect(uncompensatedDriftCentsPerKelvinPerOctave(25)).toBeCloseTo(4.025, 3);
     // Numerical check: a fixed base voltage worth n octaves at 25 °C is n·VT(25)/VT(26) octaves at 26 °C.
     const n = 3;
@@ -86,12 +86,12 @@ describe('temperature behaviour', () => {
   });
 
   it('a −2 mV/K Vbe shift is about 135 cents/K at the base', () => {
-    // Sedra & Smith, Microelectronic Circuits: Vbe moves about −2 mV/K; FIELD-NOTES derives ≈ 135 cents/K.
+    // Sedra & Smith, Microelectronic Circuits: Vbe moves about −2 mV/K; docs/facts.md derives ≈ 135 cents/K.
     expect(millivoltsToCents(2, voltsPerOctaveAtBase(25))).toBeCloseTo(134.8, 1);
   });
 });
 
-describe('high-frequency errors (FIELD-NOTES, derived)', () => {
+describe('high-frequency errors (docs/facts.md, derived)', () => {
   describe.each([
     // [hz, reset s, cents]: −1200·log2(1 + f·t)
     [1000, 1e-6, -1.73],
@@ -106,13 +106,13 @@ describe('high-frequency errors (FIELD-NOTES, derived)', () => {
   });
 
   it('reset time 1 µs at 1 kHz is −1.730 cents to three decimals', () => {
-    // FIELD-NOTES (derived): "For 1 µs: −1.730 cents at 1 kHz".
+    // docs/facts.md (derived): "For 1 µs: −1.730 cents at 1 kHz".
     expect(resetTimeErrorCents(1000, 1e-6).toFixed(3)).toBe('-1.730');
     expect(resetTimeErrorCents(1000, 0)).toBe(-0);
   });
 
   it('bulk resistance: 1 Ω at 100 µA is −6.7 cents, at 1 mA −67 cents (25 °C)', () => {
-    // FIELD-NOTES (derived): −1200·Ic·R/(VT·ln2).
+    // docs/facts.md (derived): −1200·Ic·R/(VT·ln2).
     expect(bulkResistanceErrorCents(100e-6, 1, 25)).toBeCloseTo(-6.74, 2);
     expect(Math.round(bulkResistanceErrorCents(1e-3, 1, 25))).toBe(-67);
     // It doubles with every octave because the current does.
@@ -120,7 +120,7 @@ describe('high-frequency errors (FIELD-NOTES, derived)', () => {
   });
 
   it('both grow in proportion to frequency to first order', () => {
-    // FIELD-NOTES: "to first order both grow in proportion to frequency".
+    // docs/facts.md: "to first order both grow in proportion to frequency".
     const r = resetTimeErrorCents(100, 1e-6) / resetTimeErrorCents(50, 1e-6);
     expect(r).toBeCloseTo(2, 3);
   });
@@ -128,14 +128,14 @@ describe('high-frequency errors (FIELD-NOTES, derived)', () => {
 
 describe('millivolts and cents', () => {
   it('1 mV is 1.2 cents and a semitone is 83.333 mV at 1 V/oct', () => {
-    // FIELD-NOTES (derived); a semitone is 100 cents (A. J. Ellis, 1885).
+    // docs/facts.md (derived); a semitone is 100 cents (A. J. Ellis, 1885).
     expect(millivoltsToCents(1)).toBeCloseTo(1.2, 12);
     expect(millivoltsToCents(1000 / 12)).toBeCloseTo(100, 10);
     expect(centsToMillivolts(100)).toBeCloseTo(83.333, 3);
   });
 
-  it('meter accuracies translate as in FIELD-NOTES', () => {
-    // FIELD-NOTES (derived from the usual ±(% + counts) specification): ±7 mV is ±8.4 cents, ±0.8 mV about ±1 cent.
+  it('meter accuracies translate as in docs/facts.md', () => {
+    // docs/facts.md (derived from the usual ±(% + counts) specification): ±7 mV is ±8.4 cents, ±0.8 mV about ±1 cent.
     expect(millivoltsToCents(7)).toBeCloseTo(8.4, 10);
     expect(Math.round(millivoltsToCents(0.8))).toBe(1);
     // Reference accuracy 2.000 ± 0.002 V (0.1 %) is ±2.4 cents.
@@ -172,7 +172,7 @@ describe('invalid inputs', () => {
   });
 });
 
-// Round trips of the two HF models of FIELD-NOTES: data generated from one model must be recognised as it.
+// Round trips of the two HF models of docs/facts.md: data generated from one model must be recognised as it.
 describe('compareHighFrequencyModels', () => {
   const octaves = [0, 1, 2, 3, 4, 5, 6, 7, 8];
   const f0 = 32.7;
@@ -241,7 +241,7 @@ describe('compareHighFrequencyModels', () => {
   });
 
   it('recovers the exact worked reset time 4.55 µs from noiseless data', () => {
-    // FIELD-NOTES worked figure: 4.55 µs at 1 kHz is −7.859 cents.
+    // docs/facts.md worked figure: 4.55 µs at 1 kHz is −7.859 cents.
     const hz = [1000, 2000, 4000, 8000];
     const ideal = hz.map((f) => f / (1 - f * 4.55e-6));
     const cents = hz.map((f, i) => 1200 * Math.log2(f / ideal[i]));

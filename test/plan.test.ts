@@ -30,7 +30,7 @@ describe('presets', () => {
   });
 
   it('the semitone check is 13 points k/12 V, 83.333 mV apart', () => {
-    // At 1 V/oct a semitone is 83.333 mV (FIELD-NOTES.md): exact values k/12 V.
+    // At 1 V/oct a semitone is 83.333 mV (docs/facts.md): exact values k/12 V.
     const v = presetPlan('semitones-0-1').volts;
     expect(v).toHaveLength(13);
     v.forEach((x, k) => expect(x).toBe(k / 12));

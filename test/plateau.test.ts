@@ -83,7 +83,7 @@ function simulate(segs: Seg[], opts: { rate?: number; sigma?: number; seed?: num
 }
 
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
-// 1 V/oct: one volt is one octave, 1200 cents (FIELD-NOTES.md). The scenario unit runs 0.998 oct/V.
+// 1 V/oct: one volt is one octave, 1200 cents (docs/facts.md). The scenario unit runs 0.998 oct/V.
 const unitHz = (v: number) => 65.2 * Math.pow(2, 0.998 * v);
 
 function steps(volts: number[], holdSeconds: number, glideSeconds = 0.3): Seg[] {
@@ -219,7 +219,7 @@ it('an overshoot held longer than the settle time is a plateau of its own (contr
 });
 
 describe('thermal tail after a step', () => {
-  // Creep of +4 cents decaying with τ = 1 s (FIELD-NOTES.md: the pitch creeps after a voltage step).
+  // Creep of +4 cents decaying with τ = 1 s (docs/facts.md: the pitch creeps after a voltage step).
   const segs: Seg[] = [
     { kind: 'hold', seconds: 2, hz: unitHz(3) },
     { kind: 'hold', seconds: 6, hz: unitHz(4), creepCents: 4, tauSeconds: 1 },

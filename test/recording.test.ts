@@ -126,7 +126,7 @@ describe.each(CASES)('analyzeRecording: $name', ({ osc, points, schedule, tolCen
     const truth = osc.scaleOctPerVolt ?? 1;
     expect(a.fit).not.toBeNull();
     expect(Math.abs(a.fit!.octavesPerVolt - truth), `fitted ${a.fit!.octavesPerVolt}`).toBeLessThan(2e-4);
-    // The 1 V/oct definition: the scale error is 1200·(s − 1) cents per volt (FIELD-NOTES, Ellis 1885),
+    // The 1 V/oct definition: the scale error is 1200·(s − 1) cents per volt (docs/facts.md, Ellis 1885),
     // so every interval error is that times the step in volts.
     a.steps.slice(1).forEach((s, i) => {
       const dv = points[i + 1] - points[i];
@@ -136,7 +136,7 @@ describe.each(CASES)('analyzeRecording: $name', ({ osc, points, schedule, tolCen
 });
 
 describe('analyzeRecording: reference checks', () => {
-  it('a 1 µs reset time bends the top flat by −1200·log2(1 + f·t) (FIELD-NOTES, "The exponential converter")', () => {
+  it('a 1 µs reset time bends the top flat by −1200·log2(1 + f·t) (docs/facts.md, "The exponential converter")', () => {
     const points = [0, 1, 2, 3, 4, 5];
     const t = 1e-6;
     const rec = render(
@@ -153,7 +153,7 @@ describe('analyzeRecording: reference checks', () => {
     expect(a.advice?.items.find((it) => it.trimmer === 'hf')?.status).toBe('adjust');
   });
 
-  it('a clock 100 ppm fast reads every pitch 0.173 cent low; clockPpm corrects it (FIELD-NOTES, "The sound card")', () => {
+  it('a clock 100 ppm fast reads every pitch 0.173 cent low; clockPpm corrects it (docs/facts.md, "The sound card")', () => {
     const points = [0, 2, 4];
     const rec = render(
       { hz0: 55, clockPpm: 100, snrDb: 45, humDb: -35, seed: 10 },
@@ -165,11 +165,11 @@ describe('analyzeRecording: reference checks', () => {
       expect(cents(s.hz, rec.truth[i].settledHz)).toBeCloseTo(-0.1731, 2);
       expect(Math.abs(cents(fixed.steps[i].hz, rec.truth[i].settledHz))).toBeLessThan(0.05);
     });
-    // A clock error scales every frequency alike, so the scale is immune (FIELD-NOTES).
+    // A clock error scales every frequency alike, so the scale is immune (docs/facts.md).
     expect(fixed.fit!.octavesPerVolt).toBeCloseTo(raw.fit!.octavesPerVolt, 9);
   });
 
-  it('meter readings replace the nominal volts: 3 mV high is 3.6 cents (1 mV = 1.2 cents, FIELD-NOTES)', () => {
+  it('meter readings replace the nominal volts: 3 mV high is 3.6 cents (1 mV = 1.2 cents, docs/facts.md)', () => {
     const rec = render({ hz0: 55, snrDb: 45, seed: 11 }, [
       { volts: 0, holdSeconds: 2 },
       { volts: 1.003, holdSeconds: 2, glideSeconds: 0.15 },

@@ -22,7 +22,7 @@ import { gaussianNoise } from './signals.ts';
 
 // ---------------------------------------------------------------------------------------------------
 // Demo scenario (invented): unit 14 on the repair bench, an oscillator at 65.2 Hz at 0 V whose scale runs
-// 0.998 octaves per volt. At 1 V/oct one volt is one octave, 1200 cents (FIELD-NOTES.md).
+// 0.998 octaves per volt. At 1 V/oct one volt is one octave, 1200 cents (docs/facts.md).
 
 const OPV = 0.998;
 const unitHz = (v: number) => 65.2 * Math.pow(2, OPV * v);
@@ -286,7 +286,7 @@ describe('hands-free run over 0 to 7 V', () => {
 
 describe('a rough hand and a warm junction', () => {
   // Each step overshoots by +80 cents for 0.3 s (shorter than the 0.5 s settle time), then creeps down
-  // from +3 cents with τ = 0.8 s (FIELD-NOTES.md: the pitch creeps after a step as the junction settles).
+  // from +3 cents with τ = 0.8 s (docs/facts.md: the pitch creeps after a step as the junction settles).
   const volts = [0, 1, 2, 3, 4];
   const sess = session(
     holds(volts, 4.5, { overshootCents: 80, overshootSeconds: 0.3, creepCents: 3, tauSeconds: 0.8 }),
@@ -602,7 +602,7 @@ describe('navigation', () => {
 
 describe('measured volts', () => {
   it('move the expected pitch: 10 mV is 12 cents at 1 V/oct', () => {
-    // FIELD-NOTES.md: at 1 V/oct 1 mV is 1.2 cents.
+    // docs/facts.md: at 1 V/oct 1 mV is 1.2 cents.
     let s = drive(createRun([0, 1, 2]), session(holds([0], 3)));
     const before = expectedPitch(s, 1)!;
     s = apply(s, { type: 'set-measured-volts', stepIndex: 1, volts: 1.01 }, true);
@@ -637,7 +637,7 @@ describe('manual capture', () => {
 
 describe('semitone plan', () => {
   it('captures all 13 points 100 cents apart, with a tolerance of half a semitone', () => {
-    // Semitone = 1/12 V = 83.333 mV at 1 V/oct (FIELD-NOTES.md).
+    // Semitone = 1/12 V = 83.333 mV at 1 V/oct (docs/facts.md).
     const plan = presetPlan('semitones-0-1');
     const { s, captures } = driveCollect(createRun(plan), session(holds([...plan.volts], 2.5)));
     expect(s.phase).toBe('finished');

@@ -107,7 +107,7 @@ const CLEAN_SINE: OscillatorOptions = { shape: 'sine', acCouplingHz: 0 };
 // ---------------------------------------------------------------------------------------------------------
 
 describe('reset time', () => {
-  // FIELD-NOTES, "The exponential converter": error −1200·log2(1 + f·t); for 1 µs −1.730 cents at 1 kHz,
+  // docs/facts.md, "The exponential converter": error −1200·log2(1 + f·t); for 1 µs −1.730 cents at 1 kHz,
   // −6.9 at 4 kHz, −13.8 at 8 kHz (derived values, stated to the digits given).
   describe.each([
     { hz: 1000, expected: -1.73, digits: 3 },
@@ -122,7 +122,7 @@ describe('reset time', () => {
   });
 
   it('bends as ln(f/f_ideal) = ln(1 − f·t) in terms of the measured frequency', () => {
-    // FIELD-NOTES: "a reset time gives ln(f/f_ideal) = ln(1 − f·t)".
+    // docs/facts.md: "a reset time gives ln(f/f_ideal) = ln(1 − f·t)".
     const t = 2e-6;
     for (const volts of [0, 2, 4, 6, 7.5]) {
       const f = trueHz(volts, { hz0: 55, resetSeconds: t });
@@ -135,13 +135,13 @@ describe('reset time', () => {
     const r = renderOscillator({ ...CLEAN_SINE, hz0: 1000, resetSeconds: 1e-6 }, [
       { volts: 0, holdSeconds: 0.3 },
     ]);
-    expect(cents(meanHz(r.samples, fs, 0, r.samples.length), 1000)).toBeCloseTo(-1.73, 2); // FIELD-NOTES
+    expect(cents(meanHz(r.samples, fs, 0, r.samples.length), 1000)).toBeCloseTo(-1.73, 2); // docs/facts.md
     expect(r.truth[0].errorCents).toBeCloseTo(-1.73, 3);
   });
 });
 
 describe('bulk emitter resistance', () => {
-  // FIELD-NOTES: one octave at the base is VT·ln2 = 17.510 mV at 20 °C, 17.809 at 25 °C, 17.928 at 27 °C,
+  // docs/facts.md: one octave at the base is VT·ln2 = 17.510 mV at 20 °C, 17.809 at 25 °C, 17.928 at 27 °C,
   // 19.302 at 50 °C, with k/q exact (BIPM SI Brochure, 9th ed.). bulkResistanceAlpha(1 Ω, 1 A, 1 Hz) = 1/VT.
   describe.each([
     { celsius: 20, mV: 17.51 },
@@ -155,7 +155,7 @@ describe('bulk emitter resistance', () => {
     });
   });
 
-  // FIELD-NOTES: the error is −1200·Ic·R/(VT·ln2): 1 Ω at 100 µA is −6.7 cents, at 1 mA −67 cents.
+  // docs/facts.md: the error is −1200·Ic·R/(VT·ln2): 1 Ω at 100 µA is −6.7 cents, at 1 mA −67 cents.
   // The core here draws 100 µA at 1 kHz, so 1 mA is reached at 10 kHz.
   describe.each([
     { amps: 100e-6, hz: 1000, expected: -6.7, digits: 1 },
@@ -174,7 +174,7 @@ describe('bulk emitter resistance', () => {
   });
 
   it('gives a log-frequency error exactly proportional to the measured frequency, ln(f/f_ideal) = −α·f', () => {
-    // FIELD-NOTES: "bulk resistance gives a log-frequency error exactly proportional to f".
+    // docs/facts.md: "bulk resistance gives a log-frequency error exactly proportional to f".
     const alpha = 4e-6;
     for (const volts of [0, 1, 3, 5, 7]) {
       const f = trueHz(volts, { hz0: 55, bulkAlphaSeconds: alpha });
@@ -217,7 +217,7 @@ describe('scale error', () => {
 });
 
 describe('interface clock error', () => {
-  // FIELD-NOTES, "The sound card": 100 ppm is 0.173 cent; a clock error scales every frequency alike, so
+  // docs/facts.md, "The sound card": 100 ppm is 0.173 cent; a clock error scales every frequency alike, so
   // intervals (and therefore the scale error) are immune.
   it('moves absolute pitch by 0.173 cent per 100 ppm and leaves intervals alone', () => {
     const fs = 48_000;
@@ -587,7 +587,7 @@ describe('demo units', () => {
   });
 
   it('the bench reference tracks within ±1 cent from 0 to 7 V', () => {
-    // FIELD-NOTES: ±2 cents over five octaves is a good analog result.
+    // docs/facts.md: ±2 cents over five octaves is a good analog result.
     for (let v = 0; v <= 7; v++) expect(Math.abs(errorAt('ol3-0412', v))).toBeLessThan(1);
   });
 
@@ -598,7 +598,7 @@ describe('demo units', () => {
   });
 
   it('the HF-droop unit bends several cents flat above 2 kHz and holds below 300 Hz', () => {
-    // FIELD-NOTES: home-built oscillators often bend several cents flat above 2 kHz.
+    // docs/facts.md: home-built oscillators often bend several cents flat above 2 kHz.
     const o = findDemoUnit('ol3-0423')!.options;
     for (let v = 0; v <= 8; v += 0.25) {
       const hz = trueHz(v, o);
@@ -608,7 +608,7 @@ describe('demo units', () => {
   });
 
   it('the warming unit needs 15–30 minutes to drift less than 0.1 cent per minute', () => {
-    // FIELD-NOTES: warm-up 15–30 minutes, or until the drift stays under about 0.1 cent per minute.
+    // docs/facts.md: warm-up 15–30 minutes, or until the drift stays under about 0.1 cent per minute.
     const minutes = warmupSecondsUntil(findDemoUnit('ol3-0431')!.options) / 60;
     expect(minutes).toBeGreaterThan(15);
     expect(minutes).toBeLessThan(30);

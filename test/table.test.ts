@@ -9,7 +9,7 @@ const ok = (steps: readonly TableStep[], a4Hz?: number) => {
 
 describe('buildErrorTable', () => {
   it('names notes in 12-TET with A4 = 440 Hz and middle C = C4', () => {
-    // ISO 16:1975 (A4 = 440 Hz); FIELD-NOTES: C4 = 261.6256 Hz, C0 = 16.3516 Hz.
+    // ISO 16:1975 (A4 = 440 Hz); docs/facts.md: C4 = 261.6256 Hz, C0 = 16.3516 Hz.
     const t = ok([
       { nominalVolts: 0, hz: 16.3516, uncertaintyCents: 0.01 },
       { nominalVolts: 4, hz: 261.6256, uncertaintyCents: 0.01 },
@@ -50,7 +50,7 @@ describe('buildErrorTable', () => {
   });
 
   it('uses measured volts when given', () => {
-    // 1 mV is 1.2 cents at 1 V/oct (FIELD-NOTES, derived): a step read as 1.002 V should be 2.4 cents higher.
+    // 1 mV is 1.2 cents at 1 V/oct (docs/facts.md, derived): a step read as 1.002 V should be 2.4 cents higher.
     const hz1 = 110 * 2 ** 1.002;
     const t = ok([
       { nominalVolts: 0, hz: 110, uncertaintyCents: 0 },

@@ -5,7 +5,7 @@
  * must match the simulator's truth within 0.1 cent (cents after A. J. Ellis, 1885).
  *
  * The truth comes from dsp/simulate.ts, which the simulator's own tests check against the converter
- * physics of FIELD-NOTES.md; here it is the reference outside the browser, the UI and the pitch engine.
+ * physics of docs/facts.md; here it is the reference outside the browser, the UI and the pitch engine.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser, type Page } from 'playwright-core';
