@@ -725,3 +725,81 @@ export function predictionSensitivities(model: CalibrationModelOk, volts: Volts)
 export function scaleSensitivities(model: CalibrationModelOk): number[] {
   return model.gain[1].slice();
 }
+
+/** Why a set of steps cannot be trusted for trimming. */
+export interface ModelRefusal {
+  readonly kind: 'refuse';
+  /**
+   * - `falling-pitch`: the pitch falls as the voltage rises (points in the wrong order, or played downwards);
+   * - `implausible-scale`: the octaves per volt are far from 1 (volts in the wrong unit, half-volt steps
+   *   given as whole volts, or not a 1 V/oct input);
+   * - `inconsistent-steps`: after leaving out the suspect steps the rest still disagree with any smooth
+   *   tracking curve.
+   */
+  readonly reason: 'falling-pitch' | 'implausible-scale' | 'inconsistent-steps';
+  /** One line naming the likely cause. */
+  readonly message: string;
+}
+
+/**
+ * Largest scale error taken as a real unit's, cents per octave: 100 (8.3 %). A 1 V/oct converter even badly
+ * out of trim is within a few percent (common practice, no source); beyond that the voltages are wrong.
+ */
+export const MAX_PLAUSIBLE_SCALE_ERROR_CENTS: Cents = 100;
+
+/**
+ * The plausibility gates a recording or run must pass before any trim is advised: the pitch must rise with
+ * the voltage, the scale must be within ±{@link MAX_PLAUSIBLE_SCALE_ERROR_CENTS} cents per octave of
+ * 1 V/oct, and the steps the model uses must agree with it to within 10 cents and 10 combined σ. Returns
+ * null when all pass.
+ *
+ * @param model - A fitted model.
+ * @example checkPlausibility(fitCalibrationModel(stepsInReverseOrder)) // { kind: 'refuse', reason: 'falling-pitch', … }
+ */
+export function checkPlausibility(model: CalibrationModelOk): ModelRefusal | null {
+  const line = model.straightLine;
+  const slope = line?.octavesPerVolt ?? model.octavesPerVolt;
+  if (!(slope > 0) || !(model.octavesPerVolt > 0)) {
+    return {
+      kind: 'refuse',
+      reason: 'falling-pitch',
+      message:
+        `The pitch falls as the voltage rises (${slope.toFixed(2)} octaves per volt): the voltages are probably ` +
+        'given in the wrong order, or the steps were played downwards. Give the voltages in the order they were played.',
+    };
+  }
+  const e = Math.abs(model.scaleErrorCentsPerOctave);
+  if (e > MAX_PLAUSIBLE_SCALE_ERROR_CENTS) {
+    const s = model.octavesPerVolt;
+    let cause = 'check that the voltages are in volts, in the order played, and that this is a 1 V/oct input';
+    if (Math.abs(s - 0.5) < 0.1) cause = 'were half-volt steps given as whole volts?';
+    else if (Math.abs(s - 2) < 0.3) cause = 'were whole-volt steps given as half volts?';
+    else if (Math.abs(s - 1 / 1.2) < 0.05) cause = 'is this a 1.2 V/oct input?';
+    return {
+      kind: 'refuse',
+      reason: 'implausible-scale',
+      message:
+        `The pitch changes by ${s.toFixed(3)} octaves per volt, far from 1 V/oct (${model.scaleErrorCentsPerOctave.toFixed(0)} cents per octave): ` +
+        `${cause} No trim is advised from these steps.`,
+    };
+  }
+  let worst = 0;
+  let worstIdx = -1;
+  for (const i of model.usedIndices) {
+    const r = Math.abs(model.residualsCents[i]);
+    if (r > worst) {
+      worst = r;
+      worstIdx = i;
+    }
+  }
+  if (worstIdx >= 0 && worst > 10 && model.birgeRatio > 10) {
+    return {
+      kind: 'refuse',
+      reason: 'inconsistent-steps',
+      message:
+        `The steps disagree with any smooth tracking curve by up to ${worst.toFixed(1)} cents (step ${worstIdx + 1}): ` +
+        'check each voltage at the input jack, the cable and the order of the voltages, then measure again.',
+    };
+  }
+  return null;
+}
