@@ -803,3 +803,31 @@ export function checkPlausibility(model: CalibrationModelOk): ModelRefusal | nul
   }
   return null;
 }
+
+/**
+ * Sensitivity coefficients of the HF term at a voltage (cents, the model's pitch minus its straight-line
+ * part there) to each used step's cents, in the order of `usedIndices`. All zero when the model has no HF term.
+ *
+ * @param model - A fitted model.
+ * @param volts - Control voltage, V, finite.
+ * @example hfSensitivities(model, 6) // [0.4…, −1.1…, …]
+ */
+export function hfSensitivities(model: CalibrationModelOk, volts: Volts): number[] {
+  const hz = modelHz(model, volts);
+  const g = modelGradient(model.terms, model.parameters, volts, hz);
+  const idx = thetaIndex(model.terms);
+  const keep = g.map((x, k) => (k === idx.t || k === idx.alpha ? x : 0));
+  return model.usedIndices.map((_, j) => keep.reduce((s, gk, k) => s + gk * model.gain[k][j], 0));
+}
+
+/**
+ * The low-end term alone at a pitch, cents (≥ 0 for a floor that runs the bottom sharp).
+ *
+ * @param model - A fitted model.
+ * @param hz - Pitch, Hz, > 0.
+ * @example lowEndCents(model, 32.7) // 0.8… for a 0.015 Hz floor
+ */
+export function lowEndCents(model: CalibrationModelOk, hz: Hertz): Cents {
+  if (!(hz > 0)) throw new RangeError(`hz must be a finite number greater than 0, got ${hz}`);
+  return (CENTS_PER_NEPER * model.parameters.lowEndHz) / hz;
+}
