@@ -16,7 +16,6 @@ import { coverageFactor, studentTCdf, studentTQuantile, welchSatterthwaite } fro
 import { judgeTolerance } from '../dsp/tolerance.ts';
 
 const { jStat } = jstat;
-};
 
 describe('Student t', () => {
   // Coverage factors k = t_p(ν) for p = 95.45 %: JCGM 100:2008 (GUM) Table G.2 (from memory of the table).
