@@ -11,16 +11,13 @@
 import { readFileSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
 import type { InputNetwork } from '../dsp/advice.ts';
-import { applyClockPpm, clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/clock.ts';
+import { clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/clock.ts';
 import { A4_HZ, nearestNote } from '../dsp/notes.ts';
 import { estimatePitch } from '../dsp/pitch.ts';
+import { calibrate } from '../dsp/pipeline.ts';
+import { resultToJsonText } from '../dsp/result.ts';
 import type { Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
-import {
-  analyzeRecording,
-  describePlateauSpans,
-  recordingToJson,
-  type RecordingAnalysisError,
-} from '../dsp/recording.ts';
+import { analyzeRecording, describePlateauSpans, type RecordingAnalysisError } from '../dsp/recording.ts';
 import { decodeWav, pickChannel, type WavDecoded } from '../dsp/wav.ts';
 import {
   EXIT_USAGE,
@@ -40,7 +37,6 @@ import {
   formatClockReference,
   formatRecordingReport,
   formatStepReport,
-  stepsToJson,
   type AnalysisStep,
 } from './format.ts';
 
@@ -338,7 +334,7 @@ export async function main(args: string[]): Promise<number> {
     });
     if (analysis.kind === 'error') throw new CliError(describeRecordingError(analysis));
     if (opts.json) {
-      process.stdout.write(`${JSON.stringify(recordingToJson(analysis))}\n`);
+      process.stdout.write(`${resultToJsonText(analysis.result)}\n`);
     } else {
       const header = describeWav(basename(opts.file), decoded, opts.channel);
       process.stdout.write(`${header}\n${formatRecordingReport(analysis)}\n`);
@@ -364,12 +360,37 @@ export async function main(args: string[]): Promise<number> {
     }
     return 0;
   }
+  // A single tone goes through the one pipeline too (the clock correction is applied there).
   const ppm = opts.clockPpm ?? 0;
-  const hz = ppm === 0 ? measured.reading.hz : applyClockPpm(measured.reading.hz, ppm);
-  const steps = [{ ...measured, reading: { ...measured.reading, hz }, note: nearestNote(hz, opts.a4Hz) }];
+  const r = measured.reading;
+  const { result } = calibrate(
+    [
+      {
+        index: 0,
+        volts: null,
+        measuredVolts: null,
+        rawHz: r.hz,
+        uncertaintyCents: r.uncertaintyCents,
+        capture: {
+          source: 'window',
+          startSeconds: 0,
+          endSeconds: decoded.durationSeconds,
+          windowStartSeconds: null,
+          windowEndSeconds: null,
+          harmonicsUsed: r.harmonicsUsed,
+          clarity: r.clarity,
+          rmsDbfs: Number.isFinite(r.level.rmsDbfs) ? r.level.rmsDbfs : null,
+          peakDbfs: Number.isFinite(r.level.peakDbfs) ? r.level.peakDbfs : null,
+        },
+      },
+    ],
+    { a4Hz: opts.a4Hz, clockPpm: ppm },
+  );
+  const hz = result.steps[0].hz;
+  const steps = [{ ...measured, reading: { ...r, hz }, note: nearestNote(hz, opts.a4Hz) }];
 
   if (opts.json) {
-    process.stdout.write(`${stepsToJson(steps)}\n`);
+    process.stdout.write(`${resultToJsonText(result)}\n`);
   } else {
     const header = describeWav(basename(opts.file), decoded, opts.channel);
     const clockLine = ppm === 0 ? '' : `${describeClockCorrection(ppm)}\n`;

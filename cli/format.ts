@@ -122,39 +122,6 @@ export function formatStepReport(step: AnalysisStep): string {
   return rows.map(([l, v]) => `${l.padEnd(width)}${v}`).join('\n');
 }
 
-/** A finite number, or null (JSON has no infinities). */
-function jsonNumber(v: number): number | null {
-  return Number.isFinite(v) ? v : null;
-}
-
-/**
- * The machine-readable result: exactly one line, `{"steps":[{…}, …]}`.
- *
- * Each step holds `volts` (null for a single steady tone), `hz` and `uncertaintyCents` (1σ), then `note`,
- * `noteHz`, `centsFromNote`, `a4Hz`, `clarity`, `rmsDbfs`, `peakDbfs`, `windowSeconds` and `harmonicsUsed`.
- * Numbers keep full double precision; non-finite levels are null.
- *
- * @example stepsToJson([step]) // '{"steps":[{"volts":null,"hz":261.6255…,"uncertaintyCents":0.0012,…}]}'
- */
-export function stepsToJson(steps: readonly AnalysisStep[]): string {
-  return JSON.stringify({
-    steps: steps.map((s) => ({
-      volts: s.volts,
-      hz: s.reading.hz,
-      uncertaintyCents: s.reading.uncertaintyCents,
-      note: s.note.name,
-      noteHz: s.note.noteHz,
-      centsFromNote: s.note.cents,
-      a4Hz: s.a4Hz,
-      clarity: s.reading.clarity,
-      rmsDbfs: jsonNumber(s.reading.level.rmsDbfs),
-      peakDbfs: jsonNumber(s.reading.level.peakDbfs),
-      windowSeconds: s.reading.windowSeconds,
-      harmonicsUsed: s.reading.harmonicsUsed,
-    })),
-  });
-}
-
 /**
  * Why no pitch was found, as one line for a person, from the reading's typed reason.
  *

@@ -28,34 +28,18 @@
  * pitch, no plateau, a plateau count that does not match the points) is a typed
  * {@link RecordingAnalysisError}; only misuse (bad options) throws.
  */
-import {
-  adviseTrim,
-  inputNetworkGain,
-  type AdviceItem,
-  type InputNetwork,
-  type ResistorChange,
-  type TrimAdvice,
-} from './advice.ts';
-import { applyClockPpm, MAX_CLOCK_PPM } from './clock.ts';
-import {
-  analyzeBends,
-  fitTracking,
-  type BendAnalysis,
-  type BendAnalysisOk,
-  type TrackingFit,
-  type TrackingFitOk,
-  type TrackingPoint,
-} from './fit.ts';
-import { A4_HZ, nearestNote, type NearestNote } from './notes.ts';
+import { MAX_CLOCK_PPM } from './clock.ts';
+import type { BendAnalysisOk, TrackingFitOk } from './fit.ts';
+import { A4_HZ, CENTS_PER_OCTAVE, nearestNote, type NearestNote } from './notes.ts';
 import { PitchEstimator } from './pitch.ts';
+import { calibrate, checkCalibrationOptions, MAX_VOLTS, type CapturedStep } from './pipeline.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
 import type { PitchOk, PitchReading } from './reading.ts';
+import type { CalibrationResult } from './result.ts';
 import { PitchTracker } from './stream.ts';
-import { buildErrorTable, type ErrorTable } from './table.ts';
+import type { InputNetwork, TrimAdvice } from './advice.ts';
+import type { ErrorTable } from './table.ts';
 import type { Cents, Hertz, Ppm, Seconds, Volts } from './units.ts';
-
-/** Cents per octave, and so per volt at 1 V/oct (Ellis, 1885). */
-const CENTS_PER_OCTAVE = 1200;
 
 /**
  * Neighbouring plateaus closer than this, cents, with no silence between them, are one step broken by a
@@ -78,6 +62,8 @@ const EDGE_MARGIN_SECONDS: Seconds = 0.1;
 const MIN_DETECT_SECONDS: Seconds = 0.25;
 /** Plateaus listed by name in a count-mismatch message before "…". */
 const MAX_LISTED = 12;
+
+export { fitAndAdvise, type CalibrationOptions } from './pipeline.ts';
 
 /** Options of {@link analyzeRecording}. All optional. */
 export interface RecordingOptions {
@@ -195,6 +181,8 @@ export interface RecordingAnalysisOk {
   readonly bends: BendAnalysisOk | null;
   /** Trim advice; null without points. */
   readonly advice: TrimAdvice | null;
+  /** The one result (`dsp/result.ts`): what `analyze --json`, the JSON export and a saved run hold. */
+  readonly result: CalibrationResult;
   /** Live readings made. */
   readonly readingCount: number;
 }
@@ -305,7 +293,7 @@ export function analyzeRecording(
     if (!Array.isArray(points) || points.length === 0) {
       throw new RangeError(`points must be a non-empty array of volts, got ${String(points)}`);
     }
-    points.forEach((v, i) => checkNumber(`points[${i}]`, v, -20, 20));
+    points.forEach((v, i) => checkNumber(`points[${i}]`, v, -MAX_VOLTS, MAX_VOLTS));
   }
   const measured = opts.measuredVolts;
   if (measured !== undefined) {
@@ -317,7 +305,7 @@ export function analyzeRecording(
       );
     }
     measured.forEach((v, i) => {
-      if (v !== null) checkNumber(`measuredVolts[${i}]`, v, -20, 20);
+      if (v !== null) checkNumber(`measuredVolts[${i}]`, v, -MAX_VOLTS, MAX_VOLTS);
     });
   }
   const settle = checkNumber('settleSeconds', opts.settleSeconds ?? 0.5, 0, 60);
@@ -512,13 +500,11 @@ export function analyzeRecording(
         w1 = (s0 + n) / fs;
       }
     }
-    const rawHz = reading ? reading.hz : p.meanHz;
-    const hz = clockPpm === 0 ? rawHz : applyClockPpm(rawHz, clockPpm);
     return {
       index,
       piece,
       group: g,
-      hz,
+      rawHz: reading ? reading.hz : p.meanHz,
       uncertaintyCents: reading ? reading.uncertaintyCents : p.standardErrorCents,
       reading,
       windowStartSeconds: reading ? w0 : piece.startSeconds,
@@ -526,46 +512,42 @@ export function analyzeRecording(
     };
   });
 
-  // ---- 4. Mapping, table, fit, advice ---------------------------------------------------------------
-  const table =
-    points === undefined
-      ? null
-      : buildErrorTable(
-          measuredSteps.map((m, i) => {
-            const mv = measured?.[i] ?? null;
-            return {
-              nominalVolts: points[i],
-              ...(mv === null ? {} : { measuredVolts: mv }),
-              hz: m.hz,
-              uncertaintyCents: m.uncertaintyCents,
-            };
-          }),
-          { a4Hz },
-        );
-  const rows = table?.kind === 'ok' ? table.rows : null;
-  const trackingPoints = rows
-    ? rows.map((r) => ({ volts: r.volts, hz: r.hz, uncertaintyCents: r.uncertaintyCents }))
-    : [];
-  const calibrated = rows ? fitAndAdvise(trackingPoints, { ...calibration, a4Hz }) : null;
-  const fit = calibrated?.fit.kind === 'ok' ? calibrated.fit : null;
-  const bends = calibrated?.bends.kind === 'ok' ? calibrated.bends : null;
-  const advice = calibrated ? calibrated.advice : null;
+  // ---- 4. Mapping, then the one pipeline: clock, table, fit, advice (dsp/pipeline.ts) ----------------
+  const captured: CapturedStep[] = measuredSteps.map((m, i) => ({
+    index: i,
+    volts: points === undefined ? null : points[i],
+    measuredVolts: measured?.[i] ?? null,
+    rawHz: m.rawHz,
+    uncertaintyCents: m.uncertaintyCents,
+    capture: {
+      source: m.reading ? 'window' : 'readings',
+      startSeconds: m.group.pieces[0].startSeconds,
+      endSeconds: m.group.pieces[m.group.pieces.length - 1].endSeconds,
+      windowStartSeconds: m.windowStartSeconds,
+      windowEndSeconds: m.windowEndSeconds,
+      harmonicsUsed: m.reading ? m.reading.harmonicsUsed : null,
+      clarity: m.reading ? m.reading.clarity : null,
+      rmsDbfs: m.reading ? m.reading.level.rmsDbfs : null,
+      peakDbfs: m.reading ? m.reading.level.peakDbfs : null,
+    },
+  }));
+  const cal = calibrate(captured, { ...calibration, a4Hz, clockPpm });
 
   const steps: RecordingStep[] = measuredSteps.map((m, i) => {
-    const row = rows ? rows[i] : null;
+    const r = cal.result.steps[i];
     const first = m.group.pieces[0];
     const lastPiece = m.group.pieces[m.group.pieces.length - 1];
     return {
       index: i,
-      volts: row ? row.nominalVolts : null,
-      measuredVolts: row ? row.measuredVolts : null,
-      hz: m.hz,
-      uncertaintyCents: m.uncertaintyCents,
-      note: nearestNote(m.hz, a4Hz),
-      centsFromIdeal: row ? row.centsFromIdeal : null,
-      centsFromIdealUncertainty: row ? row.centsFromIdealUncertainty : null,
-      intervalErrorCents: row ? row.intervalErrorCents : null,
-      intervalUncertaintyCents: row ? row.intervalUncertaintyCents : null,
+      volts: r.volts,
+      measuredVolts: r.measuredVolts,
+      hz: r.hz,
+      uncertaintyCents: r.uncertaintyCents,
+      note: nearestNote(r.hz, a4Hz),
+      centsFromIdeal: r.centsFromIdeal,
+      centsFromIdealUncertainty: r.centsFromIdealUncertainty,
+      intervalErrorCents: r.intervalErrorCents,
+      intervalUncertaintyCents: r.intervalUncertaintyCents,
       startSeconds: first.startSeconds,
       endSeconds: lastPiece.endSeconds,
       windowStartSeconds: m.windowStartSeconds,
@@ -583,87 +565,13 @@ export function analyzeRecording(
     settleSeconds: settle,
     clockPpm,
     steps,
-    table: table?.kind === 'ok' ? table : null,
-    fit,
-    bends,
-    advice,
+    table: cal.table,
+    fit: cal.fit.kind === 'ok' ? cal.fit : null,
+    bends: cal.bends.kind === 'ok' ? cal.bends : null,
+    advice: points === undefined ? null : cal.advice,
+    result: cal.result,
     readingCount: readings.length,
   };
-}
-
-/** The fit range and input network of {@link RecordingOptions} and {@link fitAndAdvise}. */
-export interface CalibrationOptions {
-  /** Lowest control voltage used, V (inclusive), within ±20. Default: no limit. */
-  readonly fitFromVolts?: Volts;
-  /** Highest control voltage used, V (inclusive), within ±20, not below `fitFromVolts`. Default: no limit. */
-  readonly fitToVolts?: Volts;
-  /** The input network, for resistor values in the scale advice. */
-  readonly network?: InputNetwork;
-}
-
-/** Checks the fit range and network (throwing a RangeError naming the option) and returns them. */
-function checkCalibrationOptions(opts: CalibrationOptions): CalibrationOptions {
-  const from = opts.fitFromVolts;
-  const to = opts.fitToVolts;
-  if (from !== undefined) checkNumber('fitFromVolts', from, -20, 20);
-  if (to !== undefined) checkNumber('fitToVolts', to, -20, 20);
-  if (from !== undefined && to !== undefined && from > to) {
-    throw new RangeError(`fitFromVolts (${from}) must not exceed fitToVolts (${to})`);
-  }
-  // inputNetworkGain checks every resistance and throws a RangeError naming the bad one.
-  if (opts.network !== undefined) inputNetworkGain(opts.network);
-  return {
-    ...(from === undefined ? {} : { fitFromVolts: from }),
-    ...(to === undefined ? {} : { fitToVolts: to }),
-    ...(opts.network === undefined ? {} : { network: opts.network }),
-  };
-}
-
-/** What {@link fitAndAdvise} returns. */
-export interface FitAndAdvice {
-  /** The weighted least-squares fit over the steps in the range (`dsp/fit.ts` fitTracking). */
-  readonly fit: TrackingFit;
-  /** The bend analysis of the same steps (`analyzeBends`); the fit's "none" when there is no fit. */
-  readonly bends: BendAnalysis;
-  /** The trim advice (`dsp/advice.ts` adviseTrim), with resistor values when a network is given. */
-  readonly advice: TrimAdvice;
-}
-
-/**
- * The calibration step shared by a recording and a live run: the tracking fit over the steps whose
- * voltage lies in `[fitFromVolts, fitToVolts]`, the bend analysis of those same steps (so the trusted
- * middle, the HF check and the scale advice all stay inside the range the user chose) and the trim
- * advice, with resistor values when the input network is given. Nothing is computed here: it only
- * selects the steps and hands them to `fitTracking`, `analyzeBends` and `adviseTrim`.
- *
- * @param points - Measured steps (voltage, clock-corrected frequency, uncertainty), any order.
- * @param opts - The fit range and network (see {@link CalibrationOptions}) and `a4Hz`, Hz, 380…500
- *   (default 440, ISO 16:1975) for the offset target's note.
- * @throws RangeError for invalid points, range or network, naming the field.
- * @example
- * fitAndAdvise(steps, { fitFromVolts: 1, fitToVolts: 5 }).fit // { kind: 'ok', fromVolts: 1, toVolts: 5, … }
- */
-export function fitAndAdvise(
-  points: readonly TrackingPoint[],
-  opts: CalibrationOptions & { readonly a4Hz?: Hertz } = {},
-): FitAndAdvice {
-  const { fitFromVolts, fitToVolts, network } = checkCalibrationOptions(opts);
-  const a4Hz = checkNumber('a4Hz', opts.a4Hz ?? A4_HZ, 380, 500);
-  const fit = fitTracking(points, {
-    ...(fitFromVolts === undefined ? {} : { fromVolts: fitFromVolts }),
-    ...(fitToVolts === undefined ? {} : { toVolts: fitToVolts }),
-  });
-  const inRange = points.filter(
-    (p) => p.volts >= (fitFromVolts ?? -Infinity) && p.volts <= (fitToVolts ?? Infinity),
-  );
-  const bends: BendAnalysis = fit.kind === 'ok' ? analyzeBends(inRange) : fit;
-  const advice = adviseTrim({
-    fit,
-    ...(bends.kind === 'ok' ? { bends } : {}),
-    a4Hz,
-    ...(network === undefined ? {} : { network }),
-  });
-  return { fit, bends, advice };
 }
 
 /** Shortest window worth measuring at this pitch, seconds. */
@@ -762,227 +670,4 @@ function silenceBetween(okTimes: readonly number[], from: Seconds, to: Seconds, 
     prev = okTimes[i];
   }
   return to - prev > maxGap + 1e-9;
-}
-
-// ---------------------------------------------------------------------------------------------------
-// JSON
-// ---------------------------------------------------------------------------------------------------
-
-/** One step in {@link RecordingJson}. */
-export interface RecordingJsonStep {
-  readonly volts: Volts | null;
-  readonly hz: Hertz;
-  readonly uncertaintyCents: Cents;
-  readonly centsFromIdeal: Cents | null;
-  readonly intervalErrorCents: Cents | null;
-  readonly startSeconds: Seconds;
-  readonly endSeconds: Seconds;
-  readonly note: string;
-  readonly centsFromNote: Cents;
-  readonly measuredVolts?: Volts;
-  readonly noteHz: Hertz;
-  readonly a4Hz: Hertz;
-  readonly centsFromIdealUncertainty: Cents | null;
-  readonly intervalUncertaintyCents: Cents | null;
-  readonly windowStartSeconds: Seconds;
-  readonly windowEndSeconds: Seconds;
-  readonly source: 'window' | 'readings';
-  readonly harmonicsUsed: number | null;
-}
-
-/** The fit in {@link RecordingJson}. */
-export interface RecordingJsonFit {
-  readonly octavesPerVolt: number;
-  readonly scaleErrorCentsPerOctave: Cents;
-  readonly hzAt0V: Hertz;
-  /** Largest |residual| of the fit over every step, cents (the record schema's name). */
-  readonly maxResidualCents: Cents;
-  readonly octavesPerVoltStdErr: number;
-  readonly scaleErrorStdErrCents: Cents;
-  readonly hzAt0VStdErrCents: Cents;
-  readonly residualsCents: readonly Cents[];
-  readonly fromVolts: Volts;
-  readonly toVolts: Volts;
-  readonly chiSquaredPerDof: number | null;
-  /** Scale error of the trusted middle of the range (bends excluded), cents per octave, or null. */
-  readonly middleScaleErrorCentsPerOctave: Cents | null;
-  /** `straight`, `flat` or `sharp` at the top and bottom of the range, with the end step's deviation. */
-  readonly highEnd: { readonly kind: 'straight' | 'flat' | 'sharp'; readonly centsAtEnd: Cents | null };
-  readonly lowEnd: { readonly kind: 'straight' | 'flat' | 'sharp'; readonly centsAtEnd: Cents | null };
-}
-
-/** One piece of advice in {@link RecordingJson}: a trim item, the next measurement, or the caution. */
-export interface RecordingJsonAdvice {
-  readonly text: string;
-  readonly trimmer: AdviceItem['trimmer'];
-  readonly kind: 'trim' | 'next' | 'caution';
-  readonly status: AdviceItem['status'] | null;
-  readonly direction: AdviceItem['direction'];
-  readonly errorCents: Cents | null;
-  readonly gainChangePercent: number | null;
-  readonly millivoltsAtInput: number | null;
-  /**
-   * Scale items with an input network: resistor values that would make the scale 1 V/oct, each with the
-   * nearest E24 and E96 values (IEC 60063) and the scale error each would leave; else null.
-   */
-  readonly resistors: readonly ResistorChange[] | null;
-}
-
-/** The machine-readable result of an analysis (`analyze --json`). */
-export interface RecordingJson {
-  readonly steps: readonly RecordingJsonStep[];
-  readonly fit: RecordingJsonFit | null;
-  readonly advice: readonly RecordingJsonAdvice[];
-}
-
-/** A number JSON can hold (finite), else null. */
-function finiteOrNull(v: number | null): number | null {
-  return v !== null && Number.isFinite(v) ? v : null;
-}
-
-function endJson(e: BendAnalysisOk['highEnd'] | undefined): RecordingJsonFit['highEnd'] {
-  if (!e || e.kind === 'straight') return { kind: 'straight', centsAtEnd: null };
-  return { kind: e.direction, centsAtEnd: e.centsAtEnd };
-}
-
-/**
- * The JSON shape of an analysis: `{ steps: [{ volts, hz, uncertaintyCents, centsFromIdeal,
- * intervalErrorCents, startSeconds, endSeconds, note, centsFromNote, measuredVolts?, … }], fit: {
- * octavesPerVolt, scaleErrorCentsPerOctave, hzAt0V, maxResidualCents, … } | null, advice: [{ text,
- * trimmer, kind, … }] }`. Numbers keep full precision; nothing non-finite appears. The advice lists the
- * trim items, then the next measurement, then the usual caution.
- *
- * @param analysis - A completed analysis.
- * @example recordingToJson(a).fit?.maxResidualCents // 0.0031…
- */
-export function recordingToJson(analysis: RecordingAnalysisOk): RecordingJson {
-  const fit = analysis.fit;
-  const bends = analysis.bends;
-  const advice = analysis.advice;
-  return {
-    steps: analysis.steps.map((s) => ({
-      volts: s.volts,
-      hz: s.hz,
-      uncertaintyCents: s.uncertaintyCents,
-      centsFromIdeal: finiteOrNull(s.centsFromIdeal),
-      intervalErrorCents: finiteOrNull(s.intervalErrorCents),
-      startSeconds: s.startSeconds,
-      endSeconds: s.endSeconds,
-      note: s.note.name,
-      centsFromNote: s.note.cents,
-      ...(s.measuredVolts === null ? {} : { measuredVolts: s.measuredVolts }),
-      noteHz: s.note.noteHz,
-      a4Hz: analysis.a4Hz,
-      centsFromIdealUncertainty: finiteOrNull(s.centsFromIdealUncertainty),
-      intervalUncertaintyCents: finiteOrNull(s.intervalUncertaintyCents),
-      windowStartSeconds: s.windowStartSeconds,
-      windowEndSeconds: s.windowEndSeconds,
-      source: s.source,
-      harmonicsUsed: s.reading ? s.reading.harmonicsUsed : null,
-    })),
-    fit: fit
-      ? {
-          octavesPerVolt: fit.octavesPerVolt,
-          scaleErrorCentsPerOctave: fit.scaleErrorCentsPerOctave,
-          hzAt0V: fit.hzAt0V,
-          maxResidualCents: fit.maxAbsResidualCents,
-          octavesPerVoltStdErr: fit.octavesPerVoltStdErr,
-          scaleErrorStdErrCents: fit.scaleErrorStdErrCents,
-          hzAt0VStdErrCents: fit.hzAt0VStdErrCents,
-          residualsCents: fit.residualsCents,
-          fromVolts: fit.fromVolts,
-          toVolts: fit.toVolts,
-          chiSquaredPerDof: finiteOrNull(fit.chiSquaredPerDof),
-          middleScaleErrorCentsPerOctave: bends ? bends.scaleErrorCentsPerOctave : null,
-          highEnd: endJson(bends?.highEnd),
-          lowEnd: endJson(bends?.lowEnd),
-        }
-      : null,
-    advice: advice
-      ? [
-          ...advice.items.map((a): RecordingJsonAdvice => ({
-            text: a.text,
-            trimmer: a.trimmer,
-            kind: 'trim',
-            status: a.status,
-            direction: a.direction,
-            errorCents: finiteOrNull(a.errorCents),
-            gainChangePercent: finiteOrNull(a.gainChangePercent),
-            millivoltsAtInput: finiteOrNull(a.millivoltsAtInput),
-            resistors: a.resistors,
-          })),
-          ...(
-            [
-              ['next', advice.next],
-              ['caution', advice.caution],
-            ] as const
-          ).map(([kind, text]): RecordingJsonAdvice => ({
-            text,
-            trimmer: 'none',
-            kind,
-            status: null,
-            direction: 'none',
-            errorCents: null,
-            gainChangePercent: null,
-            millivoltsAtInput: null,
-            resistors: null,
-          })),
-        ]
-      : [],
-  };
-}
-
-/** The subset of {@link RecordingJson} that a saved run's `result` holds (the app's record schema). */
-export interface RecordResult {
-  readonly steps: readonly {
-    readonly volts: Volts;
-    readonly hz: Hertz;
-    readonly uncertaintyCents: Cents;
-    readonly centsFromIdeal: Cents;
-    readonly intervalErrorCents: Cents | null;
-    readonly measuredVolts?: Volts;
-  }[];
-  readonly fit: {
-    readonly octavesPerVolt: number;
-    readonly scaleErrorCentsPerOctave: Cents;
-    readonly hzAt0V: Hertz;
-    readonly maxResidualCents: Cents;
-  } | null;
-  readonly advice: readonly RecordingJsonAdvice[];
-}
-
-/**
- * The result of an analysis as a saved run holds it: the same values as {@link recordingToJson}, limited
- * to the keys the record schema allows. Null for a single tone (no volts), which is not a run.
- *
- * @param analysis - A completed analysis.
- * @example recordingToRecordResult(a)?.steps[0] // { volts: 0, hz: 55.0000…, uncertaintyCents: …, centsFromIdeal: 0, intervalErrorCents: null }
- */
-export function recordingToRecordResult(analysis: RecordingAnalysisOk): RecordResult | null {
-  const json = recordingToJson(analysis);
-  const steps: RecordResult['steps'][number][] = [];
-  for (const s of json.steps) {
-    if (s.volts === null || s.centsFromIdeal === null) return null;
-    steps.push({
-      volts: s.volts,
-      hz: s.hz,
-      uncertaintyCents: s.uncertaintyCents,
-      centsFromIdeal: s.centsFromIdeal,
-      intervalErrorCents: s.intervalErrorCents,
-      ...(s.measuredVolts === undefined ? {} : { measuredVolts: s.measuredVolts }),
-    });
-  }
-  const f = json.fit;
-  return {
-    steps,
-    fit: f
-      ? {
-          octavesPerVolt: f.octavesPerVolt,
-          scaleErrorCentsPerOctave: f.scaleErrorCentsPerOctave,
-          hzAt0V: f.hzAt0V,
-          maxResidualCents: f.maxResidualCents,
-        }
-      : null,
-    advice: json.advice,
-  };
 }

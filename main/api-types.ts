@@ -8,7 +8,6 @@ import type { SpanmeterApi } from './preload-api.ts';
 export type { SpanmeterApi };
 export type { Channel } from './channels.ts';
 export type {
-  AnalysisResult,
   AppInfo,
   AutosaveResult,
   ExportRequest,
@@ -22,7 +21,6 @@ export type {
   RequestOf,
   ResponseOf,
   Run,
-  StepResult,
   UnitRecord,
   UnitRecordDraft,
   WavOpenResult,

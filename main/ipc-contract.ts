@@ -10,6 +10,8 @@
  */
 import { z } from 'zod';
 import { CHANNELS, type Channel } from './channels.ts';
+import { MAX_VOLTS } from '../dsp/pipeline.ts';
+import { CalibrationResultSchema, isRunResult, migrateResult } from '../dsp/result.ts';
 import { recordIdProblem } from './record-id.ts';
 
 export { CHANNELS, type Channel };
@@ -26,8 +28,36 @@ export const MAX_WAV_BYTES = 200 * MiB;
 /** Largest record file `records:import` reads: the same 1 MiB as any payload. */
 export const MAX_RECORD_FILE_BYTES = MAX_PAYLOAD_BYTES;
 
-/** The only record schema version this build reads and writes. */
-export const RECORD_SCHEMA_VERSION = 1;
+/**
+ * The record schema version this build writes. Version 1 (whose runs held the result shape of schema 1)
+ * is read and moved to this one by {@link migrateRecordJson}; nothing in it is lost.
+ */
+export const RECORD_SCHEMA_VERSION = 2;
+
+/** Record schema versions this build reads: the current one and those {@link migrateRecordJson} moves up. */
+export const READABLE_RECORD_SCHEMA_VERSIONS: readonly number[] = [1, RECORD_SCHEMA_VERSION];
+
+/**
+ * A record as read from a file or from browser storage, moved to the current schema: a version 1 record
+ * gets `schemaVersion: 2` and each run's result goes through `migrateResult` (`dsp/result.ts`). Anything
+ * that is not a version 1 record comes back untouched, for the schema to judge.
+ *
+ * @param value - Parsed JSON.
+ * @example migrateRecordJson({ schemaVersion: 1, runs: [] }) // { schemaVersion: 2, runs: [] }
+ */
+export function migrateRecordJson(value: unknown): unknown {
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) return value;
+  const v = value as { schemaVersion?: unknown; runs?: unknown };
+  if (v.schemaVersion !== 1) return value;
+  const runs = Array.isArray(v.runs)
+    ? v.runs.map((run: unknown) => {
+        if (typeof run !== 'object' || run === null || !('result' in run)) return run;
+        const m = migrateResult((run as { result: unknown }).result);
+        return m.kind === 'ok' ? { ...run, result: m.result } : run;
+      })
+    : v.runs;
+  return { ...v, schemaVersion: RECORD_SCHEMA_VERSION, runs };
+}
 
 // ---------------------------------------------------------------------------------------------
 // Errors and results
@@ -98,44 +128,8 @@ export const RunIdSchema = z
   .string()
   .regex(/^[a-z0-9][a-z0-9-]{0,63}$/, 'run id may only contain a-z, 0-9 and "-" (1–64 characters)');
 
-/** A control voltage in volts. ±20 V bounds any 1 V/oct CV source (common practice, no source). */
-const VoltsSchema = z.number().finite().min(-20).max(20);
-
-/** One measured step of a run: what the analysis reported for one control voltage. */
-export const StepResultSchema = z.strictObject({
-  /** Planned control voltage, V. */
-  volts: VoltsSchema,
-  /** Measured frequency, Hz, > 0. */
-  hz: z.number().finite().positive().max(200_000),
-  /** Standard uncertainty of the reading, cents, ≥ 0. */
-  uncertaintyCents: finite().nonnegative(),
-  /** Pitch relative to the ideal 1 V/oct line through the reference, cents. */
-  centsFromIdeal: finite(),
-  /** Error of the interval from the previous step, cents; `null` for the first step. */
-  intervalErrorCents: finite().nullable(),
-  /** The voltage the meter read at the input jack, V, when the user typed one in. */
-  measuredVolts: VoltsSchema.optional(),
-});
-
-/** The least-squares fit of log2(frequency) against volts, or `null` when too few steps. */
-export const FitSchema = z
-  .strictObject({
-    octavesPerVolt: finite(),
-    scaleErrorCentsPerOctave: finite(),
-    hzAt0V: z.number().finite().positive(),
-    maxResidualCents: finite().nonnegative(),
-  })
-  .nullable();
-
-/** One piece of advice. Loosely typed on purpose: only `text` is required; other keys are kept. */
-export const AdviceSchema = z.looseObject({ text: z.string().min(1).max(2000) });
-
-/** The analysis of one run, as the renderer's analysis produces it. */
-export const AnalysisResultSchema = z.strictObject({
-  steps: z.array(StepResultSchema).max(512),
-  fit: FitSchema,
-  advice: z.array(AdviceSchema).max(100),
-});
+/** A control voltage in volts, within ±MAX_VOLTS (`dsp/pipeline.ts`). */
+const VoltsSchema = z.number().finite().min(-MAX_VOLTS).max(MAX_VOLTS);
 
 /** One run: a pass over the voltage plan, before or after trimming, with its analysis. */
 export const RunSchema = z.strictObject({
@@ -145,7 +139,8 @@ export const RunSchema = z.strictObject({
   label: z.string().min(1).max(80),
   /** The voltages the run stepped through, V, in order. */
   plan: z.strictObject({ volts: z.array(VoltsSchema).min(1).max(512) }),
-  result: AnalysisResultSchema,
+  /** The run's result, in the one result shape (`dsp/result.ts`). */
+  result: CalibrationResultSchema.refine(isRunResult, 'every step of a saved run needs its voltage'),
 });
 
 const recordFields = {
@@ -165,7 +160,7 @@ const recordFields = {
   runs: z.array(RunSchema).max(1000),
 };
 
-/** A unit record as stored on disk and returned by `records:load`: schema version 1. */
+/** A unit record as stored on disk and returned by `records:load`: schema version {@link RECORD_SCHEMA_VERSION}. */
 export const UnitRecordSchema = z.strictObject({
   ...recordFields,
   id: RecordIdSchema,
@@ -364,8 +359,6 @@ export type ResponseOf<C extends Channel> = z.output<(typeof CONTRACT)[C]['respo
 export type UnitRecord = z.output<typeof UnitRecordSchema>;
 export type UnitRecordDraft = z.input<typeof UnitRecordDraftSchema>;
 export type Run = z.output<typeof RunSchema>;
-export type StepResult = z.output<typeof StepResultSchema>;
-export type AnalysisResult = z.output<typeof AnalysisResultSchema>;
 export type RecordSummary = z.output<typeof RecordSummarySchema>;
 export type RecordProblem = z.output<typeof RecordProblemSchema>;
 export type RecordList = z.output<typeof RecordListSchema>;

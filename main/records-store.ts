@@ -13,7 +13,9 @@ import path from 'node:path';
 import { TEMP_PREFIX, atomicWriteFile } from './atomic-file.ts';
 import {
   MAX_RECORD_FILE_BYTES,
+  READABLE_RECORD_SCHEMA_VERSIONS,
   RECORD_SCHEMA_VERSION,
+  migrateRecordJson,
   UnitRecordDraftSchema,
   UnitRecordSchema,
   type AutosaveResult,
@@ -63,12 +65,13 @@ export type ParsedRecord =
 /**
  * Parses the text of a record file. Pure.
  *
- * - Not JSON, not an object, no numeric `schemaVersion`, or version 1 that fails the schema:
+ * - Not JSON, not an object, no numeric `schemaVersion`, or a readable version that fails the schema:
  *   `corrupt`, with the reason.
- * - A numeric `schemaVersion` other than 1: `unsupported` (written by another Spanmeter).
+ * - Version 1: moved to the current version (`migrateRecordJson`), then checked.
+ * - Any other numeric `schemaVersion`: `unsupported` (written by another Spanmeter).
  *
  * @param text - the file's content.
- * @example parseRecordText('{"schemaVersion":2}').kind // → 'unsupported'
+ * @example parseRecordText('{"schemaVersion":3}').kind // → 'unsupported'
  */
 export function parseRecordText(text: string): ParsedRecord {
   let json: unknown;
@@ -84,7 +87,7 @@ export function parseRecordText(text: string): ParsedRecord {
   if (typeof version !== 'number') {
     return { kind: 'corrupt', reason: 'it has no numeric "schemaVersion", so it is not a Spanmeter record' };
   }
-  if (version !== RECORD_SCHEMA_VERSION) {
+  if (!READABLE_RECORD_SCHEMA_VERSIONS.includes(version)) {
     const newer = version > RECORD_SCHEMA_VERSION;
     return {
       kind: 'unsupported',
@@ -94,7 +97,7 @@ export function parseRecordText(text: string): ParsedRecord {
         (newer ? ' (the file was written by a newer Spanmeter; update the app to open it)' : ''),
     };
   }
-  const parsed = UnitRecordSchema.safeParse(json);
+  const parsed = UnitRecordSchema.safeParse(migrateRecordJson(json));
   if (!parsed.success)
     return { kind: 'corrupt', reason: `it does not match the record schema: ${formatIssues(parsed.error)}` };
   return { kind: 'ok', record: parsed.data };

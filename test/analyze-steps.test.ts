@@ -4,6 +4,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import wavefile from 'wavefile';
+import { CalibrationResultSchema } from '../dsp/result.ts';
 import { planSchedule, renderOscillator, type RenderedOscillator } from '../dsp/simulate.ts';
 import { cli } from './cli-run.ts';
 
@@ -48,8 +49,7 @@ interface StepJson {
   uncertaintyCents: number;
   centsFromIdeal: number;
   intervalErrorCents: number | null;
-  startSeconds: number;
-  endSeconds: number;
+  capture: { startSeconds: number; endSeconds: number };
   note: string;
   centsFromNote: number;
 }
@@ -66,7 +66,8 @@ describe('spanmeter analyze --points', () => {
       fit: Record<string, number>;
       advice: { text: string; trimmer: string }[];
     };
-    expect(Object.keys(out)).toEqual(['steps', 'fit', 'advice']);
+    // The one result shape (dsp/result.ts), exact.
+    expect(CalibrationResultSchema.safeParse(out).success).toBe(true);
     expect(out.steps.map((s) => s.volts)).toEqual(POINTS);
     out.steps.forEach((s, i) => {
       // recordedHz: what a perfect meter reads in the file (dsp/simulate.ts).
@@ -74,7 +75,7 @@ describe('spanmeter analyze --points', () => {
       expect(Math.abs(err), `step ${i}: ${err.toFixed(4)} cents`).toBeLessThan(0.05);
       expect(s.uncertaintyCents).toBeGreaterThan(0);
       expect(typeof s.note).toBe('string');
-      expect(s.startSeconds).toBeLessThan(s.endSeconds);
+      expect(s.capture.startSeconds).toBeLessThan(s.capture.endSeconds);
       expect(s.centsFromIdeal).toBeTypeOf('number');
       expect(s.intervalErrorCents === null).toBe(i === 0);
       // The 1 V/oct definition (FIELD-NOTES): each 1 V interval is 1200·1.002 cents, 2.4 cents wide.

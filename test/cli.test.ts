@@ -1,3 +1,5 @@
+import { calibrate } from '../dsp/pipeline.ts';
+import { CalibrationResultSchema, resultToJsonText } from '../dsp/result.ts';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { chmodSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -5,13 +7,7 @@ import { join } from 'node:path';
 import { Midi } from '@tonaljs/tonal';
 import wavefile from 'wavefile';
 import { run } from '../cli/main.ts';
-import {
-  formatHz,
-  formatSignedCents,
-  formatUncertainty,
-  stepsToJson,
-  type AnalysisStep,
-} from '../cli/format.ts';
+import { formatHz, formatSignedCents, formatUncertainty } from '../cli/format.ts';
 import { parseAnalyzeArgs } from '../cli/analyze.ts';
 import { gaussianNoise, tone } from './signals.ts';
 import { cli, type Ran } from './cli-run.ts';
@@ -54,15 +50,15 @@ interface JsonStep {
   [k: string]: unknown;
 }
 
-/** Parse `--json` output, checking it is exactly one JSON object on one line with only `steps` at the top. */
+/** Parse `--json` output, checking it is exactly one JSON object on one line, of the one result shape. */
 function parseJsonOutput(r: Ran): JsonStep[] {
   expect(r.stderr).toBe('');
   expect(r.code).toBe(0);
   expect(r.stdout.endsWith('\n')).toBe(true);
   expect(r.stdout.trimEnd().split('\n')).toHaveLength(1);
-  const parsed = JSON.parse(r.stdout) as { steps: JsonStep[] };
-  expect(Object.keys(parsed)).toEqual(['steps']);
-  return parsed.steps;
+  const parsed = JSON.parse(r.stdout) as { steps: JsonStep[]; a4Hz: number };
+  expect(CalibrationResultSchema.safeParse(parsed).success).toBe(true);
+  return parsed.steps.map((s) => ({ ...s, a4Hz: parsed.a4Hz }));
 }
 
 let files: Record<string, string> = {};
@@ -350,24 +346,31 @@ describe('output formatting', () => {
     expect(formatUncertainty(u)).toBe(s);
   });
 
-  it('JSON: volts, hz and uncertaintyCents first; non-finite levels become null', () => {
-    const step: AnalysisStep = {
-      volts: null,
-      a4Hz: 440,
-      note: { name: 'A4', midi: 69, noteHz: 440, cents: 0 },
-      reading: {
-        kind: 'ok',
-        hz: 440,
+  it('JSON: the one result shape (dsp/result.ts); non-finite levels become null', () => {
+    const { result } = calibrate([
+      {
+        index: 0,
+        volts: null,
+        measuredVolts: null,
+        rawHz: 440,
         uncertaintyCents: 0.001,
-        clarity: 0.99,
-        level: { rmsDbfs: -Infinity, peakDbfs: -6, clippedFraction: 0 },
-        windowSeconds: 1,
-        harmonicsUsed: 3,
-        timeSeconds: 0,
+        capture: {
+          source: 'window',
+          startSeconds: 0,
+          endSeconds: 1,
+          windowStartSeconds: null,
+          windowEndSeconds: null,
+          harmonicsUsed: 3,
+          clarity: 0.99,
+          rmsDbfs: -Infinity,
+          peakDbfs: -6,
+        },
       },
-    };
-    const text = stepsToJson([step]);
-    expect(text.startsWith('{"steps":[{"volts":null,"hz":440,"uncertaintyCents":0.001,')).toBe(true);
-    expect(JSON.parse(text).steps[0].rmsDbfs).toBeNull();
+    ]);
+    const text = resultToJsonText(result);
+    expect(text.startsWith('{"schemaVersion":2,')).toBe(true);
+    const json = JSON.parse(text);
+    expect(json.steps[0]).toMatchObject({ volts: null, hz: 440, uncertaintyCents: 0.001, note: 'A4' });
+    expect(json.steps[0].capture.rmsDbfs).toBeNull();
   });
 });

@@ -1,6 +1,7 @@
 // Shared fixtures for the main-process tests. The unit, its serial and notes are an invented demo
 // scenario; the frequencies are derived, not invented (see sampleRun).
-import type { UnitRecord, UnitRecordDraft } from '../main/ipc-contract.ts';
+import { calibrate } from '../dsp/pipeline.ts';
+import { RECORD_SCHEMA_VERSION, type UnitRecord, type UnitRecordDraft } from '../main/ipc-contract.ts';
 
 /** C2 in 12-TET with A4 = 440 Hz: 440·2^((36 − 69)/12) = 65.4064 Hz (ISO 16:1975 tuning, MIDI note 36). */
 export const C2_HZ = 440 * 2 ** ((36 - 69) / 12);
@@ -13,24 +14,23 @@ export function sampleRun(id = '3f2a9c1e-0b7d-4e5a-9c61-2d8e4f7a1b90', label = '
     takenAt: '2031-03-14T09:30:00.000Z',
     label,
     plan: { volts },
-    result: {
-      steps: volts.map((v, i) => ({
+    // The one result shape (dsp/result.ts), made by the one pipeline.
+    result: calibrate(
+      volts.map((v, i) => ({
+        index: i,
         volts: v,
-        hz: C2_HZ * 2 ** v,
+        measuredVolts: null,
+        rawHz: C2_HZ * 2 ** v,
         uncertaintyCents: 0.05,
-        centsFromIdeal: 0,
-        intervalErrorCents: i === 0 ? null : 0,
       })),
-      fit: { octavesPerVolt: 1, scaleErrorCentsPerOctave: 0, hzAt0V: C2_HZ, maxResidualCents: 0 },
-      advice: [{ text: 'Tracking is within ±2 cents over four octaves.', severity: 'info' }],
-    },
+    ).result,
   };
 }
 
 /** A new record (no id yet) for the invented bench unit "Kestrel VCO rev C". */
 export function sampleDraft(overrides: Partial<UnitRecordDraft> = {}): UnitRecordDraft {
   return {
-    schemaVersion: 1,
+    schemaVersion: RECORD_SCHEMA_VERSION,
     unitName: 'Kestrel VCO rev C',
     serial: 'KS-0042',
     notes: 'Left on the bench overnight before the first run.',

@@ -139,9 +139,9 @@ describe('records:import', () => {
     ['not JSON', 'hello', 'invalid-file', 'kestrel.json is not a Spanmeter record: it is not valid JSON'],
     [
       'a newer version',
-      JSON.stringify({ ...sampleRecord(), schemaVersion: 2 }),
+      JSON.stringify({ ...sampleRecord(), schemaVersion: 3 }),
       'unsupported-schema-version',
-      'kestrel.json cannot be imported: it has schemaVersion 2',
+      'kestrel.json cannot be imported: it has schemaVersion 3',
     ],
   ])('rejects %s and leaves the file alone', async (_name, content, code, message) => {
     const call = setup();

@@ -161,8 +161,8 @@ describe('registerIpc', () => {
     [
       'a newer schemaVersion',
       'records:save',
-      [{ ...sampleDraft(), schemaVersion: 2 }],
-      'records:save: invalid request: schemaVersion: Invalid input: expected 1',
+      [{ ...sampleDraft(), schemaVersion: 3 }],
+      'records:save: invalid request: schemaVersion: Invalid input: expected 2',
     ],
   ] as const)('rejects %s with invalid-payload', async (_name, channel, args, message) => {
     const { ipc } = setup();

@@ -2,7 +2,7 @@ import { mkdtemp, readFile, readdir, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { UnitRecordSchema } from '../main/ipc-contract.ts';
+import { RECORD_SCHEMA_VERSION, UnitRecordSchema } from '../main/ipc-contract.ts';
 import { isValidRecordId, newRecordId, recordIdProblem, slugify } from '../main/record-id.ts';
 import {
   StoreError,
@@ -150,7 +150,7 @@ describe('records store', () => {
     expect(await readdir(path.join(dir, 'autosave'))).toEqual(['run.json']);
     const text = await readFile(path.join(recordsDir, `${saved.id}.json`), 'utf8');
     expect(JSON.parse(text).notes).toBe('pass 4');
-    expect(JSON.parse(text).schemaVersion).toBe(1);
+    expect(JSON.parse(text).schemaVersion).toBe(RECORD_SCHEMA_VERSION);
   });
 
   it('rejects path traversal and reserved ids before touching the disk', async () => {
@@ -236,12 +236,12 @@ describe('records store', () => {
 
   it('leaves a record of a newer schemaVersion untouched, with a clear error, and refuses to overwrite it', async () => {
     await store.save(sampleDraft({ id: 'vco-c' }));
-    const newer = JSON.stringify({ ...sampleRecord({ id: 'vco-n' }), schemaVersion: 2, extra: 'future' });
+    const newer = JSON.stringify({ ...sampleRecord({ id: 'vco-n' }), schemaVersion: 3, extra: 'future' });
     await writeFile(path.join(recordsDir, 'vco-n.json'), newer);
     await expectStoreError(
       store.load('vco-n'),
       'unsupported-schema-version',
-      /vco-n\.json cannot be opened: it has schemaVersion 2; this version of Spanmeter reads schemaVersion 1 \(the file was written by a newer Spanmeter; update the app to open it\)\. It was left untouched\.$/,
+      /vco-n\.json cannot be opened: it has schemaVersion 3; this version of Spanmeter reads schemaVersion 2 \(the file was written by a newer Spanmeter; update the app to open it\)\. It was left untouched\.$/,
     );
     await expectStoreError(
       store.save(sampleDraft({ id: 'vco-n' })),

@@ -1,10 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { AnalysisResultSchema } from '../main/ipc-contract.ts';
+import { CalibrationResultSchema, isRunResult } from '../dsp/result.ts';
+import { RunSchema } from '../main/ipc-contract.ts';
 import {
   analyzeRecording,
   describePlateauSpans,
-  recordingToJson,
-  recordingToRecordResult,
   type RecordingAnalysis,
   type RecordingAnalysisOk,
 } from '../dsp/recording.ts';
@@ -184,8 +183,8 @@ describe('analyzeRecording: reference checks', () => {
     );
     expect(metered.steps[1].measuredVolts).toBe(1.003);
     expect(Math.abs(metered.steps[1].centsFromIdeal!)).toBeLessThan(0.05);
-    expect(recordingToJson(metered).steps[1].measuredVolts).toBe(1.003);
-    expect('measuredVolts' in recordingToJson(metered).steps[0]).toBe(false);
+    expect(metered.result.steps[1].measuredVolts).toBe(1.003);
+    expect(metered.result.steps[0].measuredVolts).toBeNull();
   });
 });
 
@@ -234,8 +233,8 @@ describe('analyzeRecording: what is and is not a plateau', () => {
     expect(a.steps[0].note.name).toBe('C4');
     expect(Math.abs(cents(a.steps[0].hz, rec.truth[0].recordedHz))).toBeLessThan(0.01);
     expect([a.table, a.fit, a.advice]).toEqual([null, null, null]);
-    expect(recordingToJson(a)).toMatchObject({ fit: null, advice: [] });
-    expect(recordingToRecordResult(a)).toBeNull();
+    expect(a.result).toMatchObject({ fit: null, advice: [] });
+    expect(isRunResult(a.result)).toBe(false);
   });
 });
 
@@ -371,11 +370,11 @@ describe('analyzeRecording: fit range and input network', () => {
     expect(scale).toMatchObject({ trimmer: 'scale', status: 'adjust', direction: 'narrow' });
     expect(scale.resistors?.map((r) => r.part)).toEqual(['series', 'shunt']);
     expect(whole.advice!.items[0].resistors).toBeNull();
-    expect(recordingToJson(narrow).advice[0].resistors).toEqual(scale.resistors);
+    expect(narrow.result.advice[0].resistors).toEqual(scale.resistors);
   });
 });
 
-describe('recordingToJson and the saved-record shape', () => {
+describe('the result of a recording (the one JSON shape) and the saved-record schema', () => {
   const points = [0, 1, 2, 3];
   const rec = render(
     { hz0: 65.406, snrDb: 45, humDb: -35, scaleOctPerVolt: 1.001, seed: 15 },
@@ -384,19 +383,19 @@ describe('recordingToJson and the saved-record shape', () => {
   const a = ok(analyzeRecording(rec.samples, rec.sampleRateHz, { points }));
 
   it('steps, fit and advice, with the record schema key names', () => {
-    const json = recordingToJson(a);
-    expect(Object.keys(json)).toEqual(['steps', 'fit', 'advice']);
-    expect(Object.keys(json.steps[0]).slice(0, 9)).toEqual([
-      'volts',
-      'hz',
-      'uncertaintyCents',
-      'centsFromIdeal',
-      'intervalErrorCents',
-      'startSeconds',
-      'endSeconds',
-      'note',
-      'centsFromNote',
+    const json = a.result;
+    expect(Object.keys(json)).toEqual([
+      'schemaVersion',
+      'a4Hz',
+      'clockPpm',
+      'fitFromVolts',
+      'fitToVolts',
+      'steps',
+      'fit',
+      'advice',
     ]);
+    expect(CalibrationResultSchema.safeParse(json).success).toBe(true);
+    expect(json.steps[0].capture).toMatchObject({ source: 'window' });
     expect(json.steps[0].intervalErrorCents).toBeNull();
     expect(json.fit).toMatchObject({
       octavesPerVolt: a.fit!.octavesPerVolt,
@@ -412,9 +411,9 @@ describe('recordingToJson and the saved-record shape', () => {
     expect(JSON.parse(JSON.stringify(json))).toEqual(json);
   });
 
-  it('recordingToRecordResult passes the app record schema (main/ipc-contract.ts)', () => {
-    const result = recordingToRecordResult(a);
-    expect(AnalysisResultSchema.safeParse(result).success).toBe(true);
-    expect(result!.steps.map((s) => s.volts)).toEqual(points);
+  it('the result passes the app record schema (main/ipc-contract.ts)', () => {
+    const result = a.result;
+    expect(RunSchema.shape.result.safeParse(result).success).toBe(true);
+    expect(result.steps.map((s) => s.volts)).toEqual(points);
   });
 });

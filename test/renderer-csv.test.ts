@@ -6,7 +6,8 @@
 import { describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
 import { csvField, csvTextField, toCsv } from '../renderer/src/lib/csv.ts';
-import { analyzePoints } from '../renderer/src/lib/analysis.ts';
+import { calibrate } from '../dsp/pipeline.ts';
+import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { CSV_STEP_COLUMNS, runToCsv } from '../renderer/src/lib/export.ts';
 
 function parse(text: string): unknown[][] {
@@ -74,7 +75,17 @@ describe('toCsv read back with papaparse', () => {
       { nominalVolts: 1, hz: 65.2, uncertaintyCents: 0.0011 },
       { nominalVolts: 2, hz: 130.5, uncertaintyCents: 0.0015, measuredVolts: 1.998 },
     ];
-    const a = analyzePoints(steps);
+    const a = runAnalysisOf(
+      calibrate(
+        steps.map((s, i) => ({
+          index: i,
+          volts: s.nominalVolts,
+          measuredVolts: s.measuredVolts ?? null,
+          rawHz: s.hz,
+          uncertaintyCents: s.uncertaintyCents,
+        })),
+      ),
+    );
     const text = runToCsv(a, {
       unitName: '=cmd|"/c calc"!A1',
       serial: '@OL3',

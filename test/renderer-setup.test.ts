@@ -11,7 +11,8 @@ import {
   SETUP_STORAGE_KEY,
   type SetupStorage,
 } from '../renderer/src/lib/setup.ts';
-import { analyzePoints } from '../renderer/src/lib/analysis.ts';
+import { calibrate } from '../dsp/pipeline.ts';
+import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 
 describe('parseOhms', () => {
   // Multiplier suffixes k = 10³, M = 10⁶ (SI prefixes); the letter as the decimal point (4k02, 2M2, 4R7)
@@ -147,22 +148,26 @@ describe('the Setup in localStorage', () => {
   });
 });
 
-describe('analyzePoints with a Setup', () => {
+describe('the calibration pipeline with a Setup', () => {
   // 55·2^V Hz for V = 0…4, readings 0.01 cent: an exact 1 V/oct line (the 1 V/oct definition).
-  const steps = [0, 1, 2, 3, 4].map((v) => ({
-    nominalVolts: v,
-    hz: 55 * Math.pow(2, v * (1 + 4 / 1200)),
+  const steps = [0, 1, 2, 3, 4].map((v, i) => ({
+    index: i,
+    volts: v,
+    measuredVolts: null,
+    rawHz: 55 * Math.pow(2, v * (1 + 4 / 1200)),
     uncertaintyCents: 0.01,
   }));
 
   it('the clock correction scales every Hz; the fit range and the network reach the advice', () => {
-    const plain = analyzePoints(steps);
-    const set = analyzePoints(steps, 440, undefined, {
-      clockPpm: 100,
-      fitFromVolts: 1,
-      fitToVolts: 3,
-      network: { topology: 'divider', seriesOhms: 100e3, shuntOhms: 1.8e3 },
-    });
+    const plain = runAnalysisOf(calibrate(steps));
+    const set = runAnalysisOf(
+      calibrate(steps, {
+        clockPpm: 100,
+        fitFromVolts: 1,
+        fitToVolts: 3,
+        network: { topology: 'divider', seriesOhms: 100e3, shuntOhms: 1.8e3 },
+      }),
+    );
     set.table!.rows.forEach((r, i) => expect(r.hz / plain.table!.rows[i].hz).toBeCloseTo(1.0001, 12));
     expect(set.fit).toMatchObject({ kind: 'ok', fromVolts: 1, toVolts: 3 });
     expect(set.advice.items[0].resistors?.map((r) => r.part)).toEqual(['series', 'shunt']);

@@ -3,6 +3,7 @@
  * process enforces (main/ipc-contract.ts), autosave round trips and downloads.
  */
 import { describe, expect, it } from 'vitest';
+import { calibrate } from '../dsp/pipeline.ts';
 import { RECORD_SCHEMA_VERSION, UnitRecordSchema } from '../main/ipc-contract.ts';
 import { recordIdProblem } from '../main/record-id.ts';
 import { browserStore, STORAGE_KEYS, type KeyValueStorage } from '../renderer/src/storage/store.ts';
@@ -37,14 +38,11 @@ const run = {
   takenAt: '2026-03-01T09:59:00.000Z',
   label: 'before',
   plan: { volts: [0, 1] },
-  result: {
-    steps: [
-      { volts: 0, hz: 32.66, uncertaintyCents: 0.001, centsFromIdeal: 0, intervalErrorCents: null },
-      { volts: 1, hz: 65.4, uncertaintyCents: 0.001, centsFromIdeal: 2.1, intervalErrorCents: 2.1 },
-    ],
-    fit: null,
-    advice: [{ text: 'Turn the scale trimmer.' }],
-  },
+  // The one result shape, from the one pipeline (dsp/pipeline.ts).
+  result: calibrate([
+    { index: 0, volts: 0, measuredVolts: null, rawHz: 32.66, uncertaintyCents: 0.001 },
+    { index: 1, volts: 1, measuredVolts: null, rawHz: 65.4, uncertaintyCents: 0.001 },
+  ]).result,
 };
 
 describe('browserStore', () => {
@@ -83,7 +81,12 @@ describe('browserStore', () => {
 
   it('refuses a record the schema refuses, naming the field', async () => {
     const { store } = setup();
-    const r = await store.saveRecord({ schemaVersion: 1, unitName: 'x', roomTempC: 200, runs: [] });
+    const r = await store.saveRecord({
+      schemaVersion: RECORD_SCHEMA_VERSION,
+      unitName: 'x',
+      roomTempC: 200,
+      runs: [],
+    });
     expect(r.ok).toBe(false);
     if (!r.ok) {
       expect(r.error.code).toBe('invalid-payload');
@@ -126,7 +129,7 @@ describe('browserStore', () => {
 describe('draftFromInfo', () => {
   it('leaves out empty optional fields (plain JSON, no undefined values)', () => {
     const d = draftFromInfo({ ...EMPTY_UNIT_INFO, unitName: ' OL-3 ', roomTempC: '21,5' }, []);
-    expect(d).toEqual({ schemaVersion: 1, unitName: 'OL-3', runs: [], roomTempC: 21.5 });
+    expect(d).toEqual({ schemaVersion: RECORD_SCHEMA_VERSION, unitName: 'OL-3', runs: [], roomTempC: 21.5 });
     expect(Object.values(d as Record<string, unknown>).includes(undefined)).toBe(false);
   });
 });

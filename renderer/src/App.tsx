@@ -6,13 +6,13 @@
 import { useCallback, useEffect, useMemo, useRef, useState, useSyncExternalStore } from 'react';
 import { A4_HZ } from '../../dsp/notes.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
-import { recordingToJson, recordingToRecordResult } from '../../dsp/recording.ts';
+import { isRunResult, resultToJsonText, type CalibrationResult } from '../../dsp/result.ts';
 import { serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
-import type { AnalysisResult, JsonValue, UnitRecord } from '../../main/api-types.ts';
+import type { JsonValue, UnitRecord } from '../../main/api-types.ts';
 import { listInputs, openInput, type InputDevice, type OpenInput } from './audio/input.ts';
 import { EngineClient } from './engine/client.ts';
 import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
-import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult, toAnalyzeJson } from './lib/analysis.ts';
+import { recordingAsRunAnalysis, runAnalysisOf } from './lib/analysis.ts';
 import { runToCsv } from './lib/export.ts';
 import { formatClock } from './lib/format.ts';
 import { parseStartupParams } from './lib/params.ts';
@@ -247,17 +247,21 @@ export function App() {
   // ---- Run -----------------------------------------------------------------------------------
   const run = view.run;
   const runState = run?.state ?? null;
-  const captureKey = runState
-    ? JSON.stringify(
-        runState.steps.map((s) => [
-          s.capture?.hz ?? null,
-          s.capture?.uncertaintyCents ?? null,
-          s.measuredVolts,
-        ]),
-      )
-    : '';
-  // Recomputed only when a capture or a meter reading changes, not on every reading.
-  const analysis = useMemo(() => (runState ? analyzeRun(runState, A4_HZ, setup) : null), [captureKey, setup]);
+  // The worker calibrates the run (dsp/pipeline.ts) with the Setup sent here; the page only shows it.
+  useEffect(() => {
+    client.send({
+      type: 'calibration-setup',
+      setup: {
+        a4Hz: A4_HZ,
+        clockPpm: setup.clockPpm,
+        ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
+        ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
+        ...(setup.network === undefined ? {} : { network: setup.network }),
+      },
+    });
+  }, [client, setup]);
+  const calibration = run?.calibration ?? null;
+  const analysis = useMemo(() => (calibration ? runAnalysisOf(calibration) : null), [calibration]);
   const active = runState !== null && runState.phase !== 'finished' && runState.phase !== 'aborted';
 
   const startRun = useCallback(() => {
@@ -365,13 +369,11 @@ export function App() {
   const shownPlanVolts = recordingView
     ? recordingView.analysis.steps.map((s) => s.volts ?? 0)
     : (runState?.plan.volts ?? []);
-  const recordResult = useMemo((): AnalysisResult | null => {
-    if (recordingView) {
-      const r = recordingToRecordResult(recordingView.analysis);
-      return r ? { steps: [...r.steps], fit: r.fit, advice: r.advice.map((a) => ({ ...a })) } : null;
-    }
-    return analysis && (analysis.table?.rows.length ?? 0) > 0 ? toAnalysisResult(analysis) : null;
-  }, [recordingView?.analysis, analysis]);
+  /** What a save stores: the one result of the recording shown, else of the run (when it is a run). */
+  const recordResult = useMemo((): CalibrationResult | null => {
+    const r = shownAnalysis?.result ?? null;
+    return r && isRunResult(r) ? r : null;
+  }, [shownAnalysis]);
 
   const doExport = useCallback(
     async (format: 'csv' | 'json') => {
@@ -389,10 +391,8 @@ export function App() {
               takenAt: new Date().toISOString(),
               ...(info.roomTempC.trim() !== '' && Number.isFinite(rt) ? { roomTempC: rt } : {}),
             })
-          : recordingView
-            ? // The recording's JSON is the command line's (`spanmeter analyze --json`).
-              JSON.stringify(recordingToJson(recordingView.analysis))
-            : toAnalyzeJson(a, run?.details ?? {});
+          : // One JSON shape: the command line's (`spanmeter analyze --json`), the record's.
+            resultToJsonText(a.result);
       const r = await store.exportFile({ format, suggestedName: name, content });
       setExportMsg(
         r.ok
@@ -402,7 +402,7 @@ export function App() {
           : r.error.message,
       );
     },
-    [shownAnalysis, recordingView, info, run, store],
+    [shownAnalysis, info, store],
   );
 
   const wavStatus = useMemo((): { kind: 'info' | 'error'; text: string } | null => {

@@ -29,7 +29,7 @@ import type {
   TwoPointConfig,
   TwoPointView,
 } from './protocol.ts';
-import { feedReading, rebaseRun } from './run-host.ts';
+import { feedReading, rebaseRun, RunCalibrator } from './run-host.ts';
 import { analyzeWavBytes, type WavAnalysisRequest } from './wav-analysis.ts';
 
 /** How the engine talks back and tells time. */
@@ -94,6 +94,7 @@ export class EngineCore {
   // Run.
   private run: RunState | null = null;
   private details: Record<number, CaptureDetail> = {};
+  private readonly calibrator = new RunCalibrator();
   private stepStartedAt: (number | null)[] = [];
   private capturedAt: (number | null)[] = [];
   private lastCurrent = -1;
@@ -200,6 +201,10 @@ export class EngineCore {
       case 'run-close':
         this.run = null;
         this.postRun();
+        return;
+      case 'calibration-setup':
+        this.calibrator.setup = msg.setup;
+        if (this.run) this.postRun();
         return;
       case 'two-point-config':
         this.twoPoint = {
@@ -458,6 +463,7 @@ export class EngineCore {
     return {
       state: this.run,
       details: { ...this.details },
+      calibration: this.calibrator.of(this.run, this.details),
       stepStartedAt: [...this.stepStartedAt],
       capturedAt: [...this.capturedAt],
     };

@@ -7,6 +7,7 @@
  */
 import type { TwoPointResult } from '../../../dsp/advice.ts';
 import type { DriftRatePoint, DriftResult } from '../../../dsp/drift.ts';
+import type { CalibrateOptions, Calibration } from '../../../dsp/pipeline.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
 import type { RunEvent, RunOptionsInput, RunState } from '../../../dsp/run.ts';
 import type { OscillatorOptions } from '../../../dsp/simulate.ts';
@@ -54,6 +55,8 @@ export type ToEngine =
   | { readonly type: 'run-restore'; readonly state: RunState }
   | { readonly type: 'run-event'; readonly event: UserRunEvent }
   | { readonly type: 'run-close' }
+  /** The Setup's tuning reference, clock correction, fit range and network, for the run's calibration. */
+  | { readonly type: 'calibration-setup'; readonly setup: CalibrateOptions }
   | { readonly type: 'two-point-config'; readonly config: TwoPointConfig }
   | { readonly type: 'two-point-reset' }
   | { readonly type: 'drift-start'; readonly volts: number; readonly windowSeconds: number }
@@ -71,6 +74,8 @@ export interface RunSnapshot {
   readonly state: RunState;
   /** Engine detail of each captured step, by step index. */
   readonly details: Readonly<Record<number, CaptureDetail>>;
+  /** The run's calibration (`dsp/pipeline.ts`), made in the worker with the Setup last sent. */
+  readonly calibration: Calibration;
   /** Stream time the run moved to each step (the simulator's voltage change), seconds, by step index. */
   readonly stepStartedAt: readonly (number | null)[];
   /** Stream time each step's capture was stored, seconds, by step index. */

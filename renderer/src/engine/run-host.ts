@@ -1,7 +1,15 @@
 /**
  * The host side of a calibration run (`dsp/run.ts`), as pure functions: feed a reading, answer the
- * run's request for a precise capture measurement, and move a saved run onto a new stream clock.
+ * run's request for a precise capture measurement, move a saved run onto a new stream clock, and the
+ * run's calibration through the one pipeline (`dsp/pipeline.ts`).
  */
+import {
+  calibrate,
+  runSteps,
+  type CalibrateOptions,
+  type Calibration,
+  type CaptureQuality,
+} from '../../../dsp/pipeline.ts';
 import { createPlateauState } from '../../../dsp/plateau.ts';
 import type { PitchOk, PitchReading } from '../../../dsp/reading.ts';
 import { runReducer, type HostMeasurement, type RunState } from '../../../dsp/run.ts';
@@ -114,4 +122,47 @@ export function rebaseRun(state: RunState): RunState {
     }
   }
   return s;
+}
+
+/**
+ * The live run's calibration, made in the worker through the one pipeline (`calibrate`, dsp/pipeline.ts)
+ * and remade only when a capture, a meter reading or the Setup changes (not on every reading).
+ */
+export class RunCalibrator {
+  private setupValue: CalibrateOptions = {};
+  private key = '';
+  private last: Calibration | null = null;
+
+  /** The Setup's tuning reference, clock correction, fit range and network. */
+  set setup(setup: CalibrateOptions) {
+    this.setupValue = setup;
+    this.key = '';
+  }
+
+  get setup(): CalibrateOptions {
+    return this.setupValue;
+  }
+
+  /**
+   * The calibration of a run's captured steps. Never throws: a Setup the pipeline refuses (checked by the
+   * Setup panel, so only a stale one) falls back to the plain analysis with no clock correction, range or
+   * network, rather than losing the table.
+   *
+   * @param state - A run.
+   * @param quality - Reading figures of each capture, by step index.
+   */
+  of(state: RunState, quality: Readonly<Record<number, CaptureQuality>>): Calibration {
+    const steps = runSteps(state, quality);
+    const key = JSON.stringify(steps);
+    if (this.last && key === this.key) return this.last;
+    let c: Calibration;
+    try {
+      c = calibrate(steps, this.setupValue);
+    } catch {
+      c = calibrate(steps, this.setupValue.a4Hz === undefined ? {} : { a4Hz: this.setupValue.a4Hz });
+    }
+    this.key = key;
+    this.last = c;
+    return c;
+  }
 }

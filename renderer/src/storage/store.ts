@@ -13,7 +13,7 @@ import type {
   UnitRecord,
   UnitRecordDraft,
 } from '../../../main/api-types.ts';
-import { UnitRecordDraftSchema, UnitRecordSchema } from '../../../main/ipc-contract.ts';
+import { migrateRecordJson, UnitRecordDraftSchema, UnitRecordSchema } from '../../../main/ipc-contract.ts';
 
 /** A file export: what to write and the name to offer. */
 export interface ExportFile {
@@ -119,7 +119,7 @@ export function browserStore(options: BrowserStoreOptions): RecordStore {
       if (typeof parsed !== 'object' || parsed === null || Array.isArray(parsed)) return {};
       const out: Record<string, UnitRecord> = {};
       for (const [id, value] of Object.entries(parsed as Record<string, unknown>)) {
-        const r = UnitRecordSchema.safeParse(value);
+        const r = UnitRecordSchema.safeParse(migrateRecordJson(value));
         if (r.success && r.data.id === id) out[id] = r.data;
       }
       return out;

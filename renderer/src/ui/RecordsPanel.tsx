@@ -4,13 +4,9 @@
  * exports (CSV, JSON, printed report).
  */
 import { useCallback, useEffect, useState } from 'react';
-import type {
-  AnalysisResult,
-  RecordSummary,
-  Run,
-  UnitRecord,
-  UnitRecordDraft,
-} from '../../../main/api-types.ts';
+import type { RecordSummary, Run, UnitRecord, UnitRecordDraft } from '../../../main/api-types.ts';
+import type { CalibrationResult } from '../../../dsp/result.ts';
+import { RECORD_SCHEMA_VERSION } from '../../../main/ipc-contract.ts';
 import type { RecordStore } from '../storage/store.ts';
 import { CompareChart } from './charts.tsx';
 
@@ -46,7 +42,7 @@ function numberOrUndefined(s: string): number | undefined {
  */
 export function draftFromInfo(info: UnitInfo, runs: Run[], base?: UnitRecord): UnitRecordDraft {
   const d: UnitRecordDraft = {
-    schemaVersion: 1,
+    schemaVersion: RECORD_SCHEMA_VERSION,
     unitName: info.unitName.trim() || info.serial.trim() || 'Unnamed unit',
     runs,
   };
@@ -86,10 +82,10 @@ export interface RecordsPanelProps {
   info: UnitInfo;
   onInfo(i: UnitInfo): void;
   /**
-   * What a save stores: the live run's analysis (`toAnalysisResult`) or an opened recording's
-   * (`recordingToRecordResult`), or null when there is nothing to save.
+   * What a save stores: the one result (`dsp/result.ts`) of the live run or of an opened recording, or
+   * null when there is nothing to save.
    */
-  result: AnalysisResult | null;
+  result: CalibrationResult | null;
   planVolts: readonly number[];
   onExport(format: 'csv' | 'json'): void;
   onPrint(): void;
@@ -168,7 +164,10 @@ export function RecordsPanel(p: RecordsPanelProps) {
     .filter((r) => compare.includes(r.id))
     .map((r) => ({
       label: `${r.label} · ${r.takenAt.slice(0, 16).replace('T', ' ')}`,
-      points: r.result.steps.map((s) => ({ volts: s.measuredVolts ?? s.volts, cents: s.centsFromIdeal })),
+      points: r.result.steps.map((s) => ({
+        volts: s.measuredVolts ?? s.volts ?? 0,
+        cents: s.centsFromIdeal ?? 0,
+      })),
     }));
 
   return (
