@@ -14,7 +14,13 @@ import {
   type BudgetStep,
   type UncertaintyBudget,
 } from './budget.ts';
-import { fitCalibrationModel, type CalibrationModel, type ModelRefusal } from './model.ts';
+import type { TrackingFitOk } from './fit.ts';
+import {
+  fitCalibrationModel,
+  type CalibrationModel,
+  type CalibrationModelOk,
+  type ModelRefusal,
+} from './model.ts';
 import type { Celsius, Cents, Hertz, Volts } from './units.ts';
 
 /** Options of {@link assessSteps}. */
@@ -108,15 +114,10 @@ export function assessSteps(steps: readonly BudgetStep[], opts: AssessOptions = 
 
 /** A budget as JSON holds it: the shape of the result's budget (terms in cents, dof null when infinite). */
 export interface BudgetJson {
-  readonly terms: readonly {
-    readonly source: string;
-    readonly type: 'A' | 'B';
-    readonly standardCents: number;
-    readonly dof: number | null;
-  }[];
-  readonly combinedCents: number;
-  readonly coverageFactor: number;
-  readonly expandedCents: number;
+  terms: { source: string; type: 'A' | 'B'; standardCents: number; dof: number | null }[];
+  combinedCents: number;
+  coverageFactor: number;
+  expandedCents: number;
 }
 
 const TYPE_A: ReadonlySet<BudgetContribution['source']> = new Set(['estimator', 'repeatability', 'scatter']);
@@ -141,5 +142,41 @@ export function budgetToJson(b: UncertaintyBudget): BudgetJson {
     combinedCents: b.combinedStandard,
     coverageFactor: b.coverageFactor,
     expandedCents: b.expanded,
+  };
+}
+
+/**
+ * The model in the shape of a straight-line fit (`dsp/fit.ts` TrackingFitOk), so that every view that draws
+ * a fit shows the model's figures: its scale and standard error, the 0 V pitch of the model, the residuals
+ * of the steps it used about the model and the covariance of its line part (octave units).
+ *
+ * @param model - A fitted model.
+ * @example modelAsTrackingFit(model).scaleErrorCentsPerOctave === model.scaleErrorCentsPerOctave // true
+ */
+export function modelAsTrackingFit(model: CalibrationModelOk): TrackingFitOk {
+  const c2 = 1200 * 1200;
+  const residuals = model.usedIndices.map((i) => model.residualsCents[i]);
+  return {
+    kind: 'ok',
+    octavesPerVolt: model.octavesPerVolt,
+    octavesPerVoltStdErr: model.scaleErrorStdErrCents / 1200,
+    scaleErrorCentsPerOctave: model.scaleErrorCentsPerOctave,
+    scaleErrorStdErrCents: model.scaleErrorStdErrCents,
+    hzAt0V: model.hzAt0V,
+    hzAt0VStdErrCents: model.hzAt0VStdErrCents,
+    covariance: {
+      intercept: model.lineCovariance.offset / c2,
+      cross: model.lineCovariance.cross / c2,
+      slope: model.lineCovariance.scale / c2,
+    },
+    usedIndices: model.usedIndices,
+    residualsCents: residuals,
+    maxAbsResidualCents: residuals.reduce((a, r) => Math.max(a, Math.abs(r)), 0),
+    chiSquared: model.chiSquared,
+    dof: model.dof,
+    chiSquaredPerDof: model.dof > 0 ? model.chiSquared / model.dof : null,
+    birgeRatio: model.birgeRatio,
+    fromVolts: model.fromVolts,
+    toVolts: model.toVolts,
   };
 }

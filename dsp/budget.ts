@@ -350,7 +350,11 @@ function finish(
   value: number,
   raw: BudgetContribution[],
 ): UncertaintyBudget {
-  const contributions = raw.filter((c) => c.standardUncertainty > 0);
+  // Contributions below a billionth of the largest are rounding residue (a sensitivity sum that is 0 in exact arithmetic).
+  const largest = Math.max(0, ...raw.map((c) => c.standardUncertainty));
+  const contributions = raw.filter(
+    (c) => c.standardUncertainty > 1e-9 * largest && c.standardUncertainty > 0,
+  );
   const combined = Math.sqrt(contributions.reduce((s, c) => s + c.standardUncertainty ** 2, 0));
   const nu = welchSatterthwaite(contributions.map((c) => ({ u: c.standardUncertainty, dof: c.dof })));
   const k = coverageFactor(nu);
@@ -647,7 +651,9 @@ export function modelBudgets(
 export function formatUncertainty(value: number): string {
   if (!Number.isFinite(value)) return String(value);
   if (value === 0) return '0';
-  const decimals = Math.max(0, 1 - Math.floor(Math.log10(Math.abs(value))));
+  let decimals = Math.max(0, 1 - Math.floor(Math.log10(Math.abs(value))));
+  // 0.0999… rounds to 0.100: one decimal fewer keeps two significant digits (0.10).
+  if (decimals > 0 && Math.abs(Number(value.toFixed(decimals))) >= Math.pow(10, 2 - decimals)) decimals -= 1;
   return value.toFixed(decimals);
 }
 

@@ -147,6 +147,8 @@ export interface CalibrationModelOk {
   readonly gain: readonly (readonly number[])[];
   /** The straight line through every step in the range, suspect steps included, labelled as such. */
   readonly straightLine: TrackingFitOk | null;
+  /** Covariance of (offset a, scale error e), cents², cents²/V, cents²/V² (Birge-scaled). */
+  readonly lineCovariance: { readonly offset: number; readonly cross: number; readonly scale: number };
 }
 
 /**
@@ -645,6 +647,7 @@ export function fitCalibrationModel(
     toVolts: Math.max(...d.v),
     gain: best.gain.map((row) => order.map((k) => row[k])),
     straightLine: line.kind === 'ok' ? line : null,
+    lineCovariance: { offset: best.cov[0][0] * b2, cross: best.cov[0][1] * b2, scale: best.cov[1][1] * b2 },
   };
 }
 

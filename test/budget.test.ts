@@ -239,3 +239,11 @@ describe('tolerance (guarded acceptance, ISO 14253-1)', () => {
     );
   });
 });
+
+describe('formatUncertainty at a decade edge', () => {
+  it('keeps two significant digits when rounding carries into the next decade', () => {
+    expect(formatUncertainty(0.09996)).toBe('0.10');
+    expect(formatUncertainty(9.96)).toBe('10');
+    expect(formatUncertainty(0.000999)).toBe('0.0010');
+  });
+});
