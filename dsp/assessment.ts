@@ -77,6 +77,7 @@ export function assessSteps(steps: readonly BudgetStep[], opts: AssessOptions = 
     uncertaintyCents: stepFitUncertaintyCents(s, budget),
   }));
   const model = fitCalibrationModel(points, {
+    straightLineUncertaintyCents: steps.map((s) => s.uncertaintyCents),
     ...(opts.fitFromVolts === undefined ? {} : { fromVolts: opts.fitFromVolts }),
     ...(opts.fitToVolts === undefined ? {} : { toVolts: opts.fitToVolts }),
   });

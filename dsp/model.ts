@@ -81,6 +81,12 @@ export interface ModelOptions {
   readonly maxSuspects?: number;
   /** Restrict the candidates (tests, or a user who wants the straight line). Default: all eight. */
   readonly candidates?: readonly ModelTerms[];
+  /**
+   * Per point, the standard uncertainty the labelled straight line weighs it by, cents (one per point). Default:
+   * each point's `uncertaintyCents`. The pipeline passes the readings' own, so the straight line is the one
+   * earlier versions reported.
+   */
+  readonly straightLineUncertaintyCents?: readonly Cents[];
 }
 
 /** The chosen model's parameters. */
@@ -615,8 +621,14 @@ export function fitCalibrationModel(
   const residualsCents = points.map(
     (pt) => CENTS_PER_OCTAVE * (Math.log2(pt.hz) - pt.volts) - modelCents(params, pt.volts, pt.hz),
   );
+  const lineU = opts.straightLineUncertaintyCents;
+  if (lineU !== undefined && lineU.length !== points.length) {
+    throw new RangeError(
+      `straightLineUncertaintyCents must have one entry per point (${points.length}), got ${lineU.length}`,
+    );
+  }
   const line = fitTracking(
-    inRange.map((i) => points[i]),
+    inRange.map((i) => (lineU === undefined ? points[i] : { ...points[i], uncertaintyCents: lineU[i] })),
     {},
   );
   const sortedUsed = used.slice().sort((a, b) => a - b);
