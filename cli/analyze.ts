@@ -14,6 +14,7 @@ import type { InputNetwork } from '../dsp/advice.ts';
 import { clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/clock.ts';
 import { A4_HZ, nearestNote } from '../dsp/notes.ts';
 import { estimatePitch } from '../dsp/pitch.ts';
+import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
 import { calibrate } from '../dsp/pipeline.ts';
 import { resultToJsonText } from '../dsp/result.ts';
 import type { Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
@@ -24,7 +25,7 @@ import {
   formatOptionsHelp,
   parseCommandArgs,
   parseIntegerOption,
-  parseNumberListOption,
+  parsePlanOption,
   parseNumberOption,
   parseResistorPairOption,
 } from './args.ts';
@@ -43,8 +44,6 @@ import {
 
 /** Range accepted for `--a4`, Hz: wide enough for every concert pitch in use, narrow enough to catch typos. */
 export const A4_RANGE_HZ: readonly [Hertz, Hertz] = [380, 500];
-/** Range accepted for `--points`, V: Eurorack rails are ±12 V (FIELD-NOTES), so no control voltage lies beyond. */
-export const POINTS_RANGE_V: readonly [Volts, Volts] = [-15, 15];
 /** Range accepted for `--settle`, s. */
 export const SETTLE_RANGE_S: readonly [Seconds, Seconds] = [0, 60];
 /** Range accepted for `--true-hz`, Hz: any tone a sound card can record. */
@@ -58,8 +57,8 @@ const OPTIONS = {
   json: { type: 'boolean', help: 'print one JSON object on stdout instead of the report' },
   points: {
     type: 'string',
-    value: 'V1,V2,…',
-    help: 'control voltages of a recorded calibration pass, in the order played',
+    value: 'VOLTS',
+    help: 'control voltages of a recorded calibration pass, in the order played (e.g. 0-7 or 0:0.5:5)',
   },
   settle: {
     type: 'string',
@@ -175,10 +174,7 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
   const channel =
     values.channel === undefined ? 1 : parseIntegerOption('channel', values.channel, 1, MAX_CHANNEL);
   const a4Hz = values.a4 === undefined ? A4_HZ : parseNumberOption('a4', values.a4, ...A4_RANGE_HZ, 'Hz');
-  const points =
-    values.points === undefined
-      ? undefined
-      : parseNumberListOption('points', values.points, ...POINTS_RANGE_V, 'V');
+  const points = values.points === undefined ? undefined : parsePlanOption('points', values.points);
   const settleSeconds =
     values.settle === undefined
       ? undefined
@@ -197,11 +193,11 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
   const fitFromVolts =
     values['fit-from'] === undefined
       ? undefined
-      : parseNumberOption('fit-from', values['fit-from'], ...POINTS_RANGE_V, 'V');
+      : parseNumberOption('fit-from', values['fit-from'], -MAX_CONTROL_VOLTS, MAX_CONTROL_VOLTS, 'V');
   const fitToVolts =
     values['fit-to'] === undefined
       ? undefined
-      : parseNumberOption('fit-to', values['fit-to'], ...POINTS_RANGE_V, 'V');
+      : parseNumberOption('fit-to', values['fit-to'], -MAX_CONTROL_VOLTS, MAX_CONTROL_VOLTS, 'V');
   if (fitFromVolts !== undefined && fitToVolts !== undefined && fitFromVolts > fitToVolts) {
     throw new CliError(
       `--fit-from (${fitFromVolts} V) must not be above --fit-to (${fitToVolts} V)`,

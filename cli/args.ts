@@ -4,6 +4,7 @@
  */
 import { parseArgs } from 'node:util';
 import { parseOhms } from '../dsp/eseries.ts';
+import { parsePlan } from '../dsp/plan.ts';
 import { CliError } from './errors.ts';
 
 /**
@@ -240,4 +241,19 @@ export function formatOptionsHelp(specs: OptionSpecs): string {
   rows.push(['-h, --help', 'show this help']);
   const width = Math.max(...rows.map(([l]) => l.length)) + 2;
   return rows.map(([l, h]) => `  ${l.padEnd(width)}${h}`).join('\n');
+}
+
+/**
+ * Parse a list of control voltages in the one plan grammar (`dsp/plan.ts` parsePlan: `0,1,2`, `0-7`,
+ * `0:0.5:5`), as `analyze --points` and `simulate --plan` take it: one voltage or more, and a voltage may
+ * come back (a recording may return to a step).
+ *
+ * @param name - Option name without dashes. @param text - The value as typed.
+ * @throws CliError (exit code {@link EXIT_USAGE}) naming the option and what is wrong.
+ * @example parsePlanOption('points', '0:0.5:2') // [0, 0.5, 1, 1.5, 2]
+ */
+export function parsePlanOption(name: string, text: string): number[] {
+  const r = parsePlan(text, { minPoints: 1, allowRepeats: true });
+  if (r.kind === 'error') throw new CliError(`--${name}: ${r.message}`, EXIT_USAGE);
+  return [...r.volts];
 }

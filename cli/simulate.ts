@@ -27,6 +27,7 @@ import {
   parseCommandArgs,
   parseIntegerOption,
   parseNumberOption,
+  parsePlanOption,
   type OptionSpecs,
 } from './args.ts';
 import { CliError } from './errors.ts';
@@ -54,14 +55,12 @@ export const SIMULATE_DEFAULTS = Object.freeze({
 /** Sample formats the command writes: 16- or 24-bit integer PCM, or 32-bit float. */
 export type WavBits = '16' | '24' | '32f';
 
-const MAX_PLAN_STEPS = 100;
-
 const SPECS = {
   out: { type: 'string', value: 'FILE.wav', help: 'write the recording here (required)' },
   plan: {
     type: 'string',
     value: 'VOLTS',
-    help: `reference voltages, a comma list with optional a-b ranges in 1 V steps (default ${SIMULATE_DEFAULTS.plan})`,
+    help: `reference voltages: a list, ranges such as 0-7, stepped ranges such as 0:0.5:5 (default ${SIMULATE_DEFAULTS.plan})`,
   },
   hold: {
     type: 'string',
@@ -122,48 +121,6 @@ export function simulateUsage(): string {
     '',
     'The recording is a sustained tone peaking near -4 dBFS: turn your monitors down before playing it.',
   ].join('\n');
-}
-
-/**
- * Parses a plan of reference voltages: a comma list of numbers and `a-b` ranges in 1 V steps (ascending or
- * descending, both ends included when they are a whole number of volts apart).
- *
- * @param text - e.g. `0,1,2,3`, `0-7`, `-2--1,0.5`.
- * @returns Voltages in order.
- * @throws CliError (exit code 2) naming the bad item.
- * @example parsePlan('0-2,5') // [0, 1, 2, 5]
- */
-export function parsePlan(text: string): number[] {
-  const NUM = '[+-]?(?:\\d+\\.?\\d*|\\.\\d+)';
-  const single = new RegExp(`^${NUM}$`);
-  const range = new RegExp(`^(${NUM})\\s*-\\s*(${NUM})$`);
-  const volts: number[] = [];
-  const items = text.split(',').map((s) => s.trim());
-  items.forEach((item, i) => {
-    const bad = (why: string): never => {
-      throw new CliError(`--plan item ${i + 1} ('${item}') ${why}`, EXIT_USAGE);
-    };
-    if (single.test(item)) {
-      volts.push(Number(item));
-    } else {
-      const m = range.exec(item);
-      if (!m) bad("is neither a number nor a range like '0-7'");
-      const a = Number(m![1]);
-      const b = Number(m![2]);
-      const dir = b >= a ? 1 : -1;
-      const n = Math.floor(Math.abs(b - a) + 1e-9);
-      if (n + 1 > MAX_PLAN_STEPS) bad(`has more than ${MAX_PLAN_STEPS} steps`);
-      for (let k = 0; k <= n; k++) volts.push(a + dir * k);
-    }
-  });
-  if (volts.length > MAX_PLAN_STEPS) {
-    throw new CliError(`--plan has ${volts.length} steps; at most ${MAX_PLAN_STEPS} are allowed`, EXIT_USAGE);
-  }
-  volts.forEach((v) => {
-    if (v < -10 || v > 10)
-      throw new CliError(`--plan voltages must be from -10 to 10 V, got ${v}`, EXIT_USAGE);
-  });
-  return volts;
 }
 
 function parseChoice<T extends string>(name: string, text: string, choices: readonly T[]): T {
@@ -265,7 +222,7 @@ export async function main(args: string[]): Promise<number> {
   }
   if (values.out === undefined) throw new CliError('--out FILE.wav is required', EXIT_USAGE);
 
-  const volts = parsePlan(values.plan ?? SIMULATE_DEFAULTS.plan);
+  const volts = parsePlanOption('plan', values.plan ?? SIMULATE_DEFAULTS.plan);
   const holdSeconds =
     values.hold === undefined
       ? SIMULATE_DEFAULTS.holdSeconds

@@ -33,6 +33,7 @@ import {
   type TrackingPoint,
 } from './fit.ts';
 import { A4_HZ, nearestNote } from './notes.ts';
+import { MAX_CONTROL_VOLTS as MAX_VOLTS } from './plan.ts';
 import type { RunState } from './run.ts';
 import {
   RESULT_SCHEMA_VERSION,
@@ -47,9 +48,6 @@ import {
 } from './result.ts';
 import { buildErrorTable, type ErrorTable, type TableRow } from './table.ts';
 import type { Cents, Hertz, Ppm, Volts } from './units.ts';
-
-/** Largest |control voltage| anywhere in Spanmeter, V: bounds any 1 V/oct control source (common practice, no source). */
-export const MAX_VOLTS: Volts = 20;
 
 /** One captured step, as the live run or the recording measured it. */
 export interface CapturedStep {
@@ -77,9 +75,9 @@ export interface CapturedStep {
 
 /** The fit range and input network, as the Setup and the command line give them. */
 export interface CalibrationOptions {
-  /** Lowest control voltage the fit, bends and advice use, V (inclusive), within ±20. Default: no limit. */
+  /** Lowest control voltage the fit, bends and advice use, V (inclusive), within ±12. Default: no limit. */
   readonly fitFromVolts?: Volts;
-  /** Highest control voltage they use, V (inclusive), within ±20, not below `fitFromVolts`. Default: no limit. */
+  /** Highest control voltage they use, V (inclusive), within ±12, not below `fitFromVolts`. Default: no limit. */
   readonly fitToVolts?: Volts;
   /** The input network, for resistor values in the scale advice (`dsp/advice.ts`). */
   readonly network?: InputNetwork;

@@ -16,16 +16,23 @@ export interface Plan {
   readonly volts: readonly Volts[];
 }
 
+/**
+ * The one limit on a control voltage anywhere in Spanmeter (plans, `--points`, meter readings, the fit
+ * range, the simulator, stored results), V: the ±12 V Eurorack rails (docs/facts.md, "Control voltages"),
+ * beyond which no 1 V/oct control source goes.
+ */
+export const MAX_CONTROL_VOLTS: Volts = 12;
+
 /** Limits every plan obeys, whether a preset or typed in. */
 export const PLAN_LIMITS = {
   /** Fewest points: a scale needs an interval, so two. */
   minPoints: 2,
   /** Most points. */
   maxPoints: 64,
-  /** Lowest reference voltage, V (the −12 V Eurorack rail, FIELD-NOTES.md). */
-  minVolts: -12,
-  /** Highest reference voltage, V (the +12 V Eurorack rail, FIELD-NOTES.md). */
-  maxVolts: 12,
+  /** Lowest reference voltage, V ({@link MAX_CONTROL_VOLTS}). */
+  minVolts: -MAX_CONTROL_VOLTS,
+  /** Highest reference voltage, V ({@link MAX_CONTROL_VOLTS}). */
+  maxVolts: MAX_CONTROL_VOLTS,
   /**
    * Two points closer than this count as duplicates, and a range must land on its end within it, V.
    * 0.1 mV is 0.12 cent at 1 V/oct (1 mV = 1.2 cents, FIELD-NOTES.md), below what a 4½-digit meter resolves.
@@ -125,6 +132,24 @@ const NUMBER_RE = new RegExp(`^(${NUM})\\s*[vV]?$`);
 const RANGE_RE = new RegExp(
   `^(${NUM})(?:\\s*[vV])?\\s*(?:-|–|\\.\\.|to)\\s*(${NUM})(?:\\s*[vV])?(?:\\s*(?:/|by|step)\\s*(${NUM})\\s*[vV]?)?$`,
 );
+/** A stepped range `start:step:end` (each part a number, optionally with its `V`). */
+const STEPPED_RE = new RegExp(
+  `^(${NUM})(?:\\s*[vV])?\\s*:\\s*(${NUM})(?:\\s*[vV])?\\s*:\\s*(${NUM})\\s*[vV]?$`,
+);
+
+/** Options of {@link parsePlan}. */
+export interface PlanParseOptions {
+  /**
+   * Fewest points, 1…{@link PLAN_LIMITS}.minPoints. Default {@link PLAN_LIMITS}.minPoints (a run needs an
+   * interval); a recording or a simulation may hold a single step.
+   */
+  readonly minPoints?: number;
+  /**
+   * Allow a voltage to come back (`0, 1, 0`): a recording may return to a step. Default false: a run
+   * steps through distinct voltages.
+   */
+  readonly allowRepeats?: boolean;
+}
 
 function fmt(v: number): string {
   return String(Number(v.toPrecision(12)));
@@ -135,20 +160,25 @@ function err(reason: PlanErrorReason, message: string): PlanParse {
 }
 
 /**
- * Reads a plan typed by the user. Never throws.
+ * Reads a plan: the one grammar of the app's plan box, `analyze --points` and `simulate --plan`. Never throws.
  *
- * Grammar: items separated by commas, semicolons or new lines; each item is a voltage (`2`, `2.5`, `-1`,
- * `2.5V`) or a range `a-b` (1 V steps) or `a-b/step` (also `a..b`, `a to b`, `a-b by step`). A range may go
- * down (`7-0`); its step is a positive size and must land on `b` within 0.1 mV; the points are spread
- * evenly from `a` to `b`, so `0-1/0.08333` gives exactly k/12 V. Points may come in any order, but no two
- * may be closer than 0.1 mV, there must be 2…64 of them, and each must lie in −12…+12 V (the Eurorack rails).
+ * Grammar: items separated by commas, semicolons or new lines; each item is
+ * - a voltage: `2`, `2.5`, `-1`, `2.5V`;
+ * - a range in 1 V steps: `0-7` (also `0..7`, `0 to 7`, `0–7`); it may go down (`7-0`);
+ * - a stepped range `start:step:end`: `0:0.5:5` (also written `0-5/0.5`, `0-5 by 0.5`).
+ * A step is a positive size and must land on the end within 0.1 mV; the points are spread evenly from
+ * start to end, so `0:0.08333:1` gives exactly k/12 V. Points may come in any order, but (unless
+ * `allowRepeats`) no two may be closer than 0.1 mV; there must be `minPoints`…64 of them, each within
+ * ±{@link MAX_CONTROL_VOLTS} V.
  *
  * @param text - What the user typed.
+ * @param options - See {@link PlanParseOptions}.
  * @returns `{ kind: 'ok', volts }` or `{ kind: 'error', reason, message }`.
  * @example parsePlan('0-7') // { kind: 'ok', volts: [0, 1, 2, 3, 4, 5, 6, 7] }
+ * @example parsePlan('0:0.5:2') // { kind: 'ok', volts: [0, 0.5, 1, 1.5, 2] }
  * @example parsePlan('0, 1, 1') // { kind: 'error', reason: 'duplicate', message: 'point 3 (1 V) repeats point 2 (1 V)' }
  */
-export function parsePlan(text: string): PlanParse {
+export function parsePlan(text: string, options: PlanParseOptions = {}): PlanParse {
   if (typeof text !== 'string' || text.trim() === '') {
     return err('empty', 'the plan is empty: type voltages such as "0, 1, 2, 3" or a range such as "0-7"');
   }
@@ -168,20 +198,22 @@ export function parsePlan(text: string): PlanParse {
       if (volts.length > PLAN_LIMITS.maxPoints) return tooMany(volts.length);
       continue;
     }
-    const range = RANGE_RE.exec(item);
-    if (!range) {
+    const stepped = STEPPED_RE.exec(item);
+    const range = stepped ? null : RANGE_RE.exec(item);
+    if (!stepped && !range) {
       return err(
         'not-a-number',
-        `"${item}" is neither a voltage (like 2.5) nor a range (like 0-7 or 0-7/0.5)`,
+        `"${item}" is neither a voltage (like 2.5) nor a range (like 0-7 or 0:0.5:7)`,
       );
     }
-    const a = Number(range[1]);
-    const b = Number(range[2]);
-    const step = range[3] === undefined ? 1 : Number(range[3]);
+    const a = Number(stepped ? stepped[1] : range![1]);
+    const b = Number(stepped ? stepped[3] : range![2]);
+    const stepText = stepped ? stepped[2] : range![3];
+    const step = stepText === undefined ? 1 : Number(stepText);
     if (!Number.isFinite(a) || !Number.isFinite(b))
       return err('not-a-number', `"${item}" has an end that is not a finite number`);
     if (!Number.isFinite(step) || step <= 0) {
-      return err('bad-step', `the step in "${item}" must be a positive number of volts, got ${range[3]}`);
+      return err('bad-step', `the step in "${item}" must be a positive number of volts, got ${stepText}`);
     }
     if (Math.abs(b - a) < PLAN_LIMITS.minSpacingVolts) {
       return err('duplicate', `the range "${item}" starts and ends at the same voltage`);
@@ -198,7 +230,7 @@ export function parsePlan(text: string): PlanParse {
     volts.push(...evenly(a, b, n));
     if (volts.length > PLAN_LIMITS.maxPoints) return tooMany(volts.length);
   }
-  const checked = checkPlanVolts(volts);
+  const checked = checkPlanVolts(volts, options);
   return checked ?? { kind: 'ok', volts };
 }
 
@@ -206,7 +238,8 @@ function tooMany(n: number): PlanParse {
   return err('too-many-points', `the plan has ${n} points; at most ${PLAN_LIMITS.maxPoints} are allowed`);
 }
 
-function checkPlanVolts(volts: readonly number[]): PlanParse | null {
+function checkPlanVolts(volts: readonly number[], options: PlanParseOptions = {}): PlanParse | null {
+  const minPoints = options.minPoints ?? PLAN_LIMITS.minPoints;
   for (let i = 0; i < volts.length; i++) {
     const v = volts[i];
     if (typeof v !== 'number' || !Number.isFinite(v))
@@ -219,7 +252,7 @@ function checkPlanVolts(volts: readonly number[]): PlanParse | null {
     }
   }
   const order = volts.map((v, i) => ({ v, i })).sort((p, q) => p.v - q.v || p.i - q.i);
-  for (let k = 1; k < order.length; k++) {
+  for (let k = 1; k < order.length && options.allowRepeats !== true; k++) {
     if (order[k].v - order[k - 1].v < PLAN_LIMITS.minSpacingVolts) {
       const [first, second] =
         order[k].i < order[k - 1].i ? [order[k], order[k - 1]] : [order[k - 1], order[k]];
@@ -229,10 +262,10 @@ function checkPlanVolts(volts: readonly number[]): PlanParse | null {
       );
     }
   }
-  if (volts.length < PLAN_LIMITS.minPoints) {
+  if (volts.length < minPoints) {
     return err(
       'too-few-points',
-      `the plan has ${volts.length} point; at least ${PLAN_LIMITS.minPoints} are needed`,
+      `the plan has ${volts.length} point${volts.length === 1 ? '' : 's'}; at least ${minPoints} ${minPoints === 1 ? 'is' : 'are'} needed`,
     );
   }
   if (volts.length > PLAN_LIMITS.maxPoints) return tooMany(volts.length);
@@ -267,10 +300,10 @@ export function customPlan(volts: readonly Volts[], label?: string): Plan {
 
 /**
  * Writes voltages back as plan text that {@link parsePlan} reads to the same values: an evenly spaced list
- * of three or more points becomes a range (`0-7`, `0-7/0.5`), anything else a comma list.
+ * of three or more points becomes a range (`0-7`, `0:0.5:7`), anything else a comma list.
  *
  * @param volts - Voltages, V.
- * @example formatPlan([0, 0.5, 1, 1.5]) // '0-1.5/0.5'
+ * @example formatPlan([0, 0.5, 1, 1.5]) // '0:0.5:1.5'
  * @example formatPlan([0, 2, 3]) // '0, 2, 3'
  */
 export function formatPlan(volts: readonly Volts[]): string {
@@ -281,8 +314,9 @@ export function formatPlan(volts: readonly Volts[]): string {
       volts.every((v, k) => Math.abs(v - (volts[0] + step * k)) <= 1e-9 * Math.max(1, Math.abs(v)));
     if (even) {
       const size = Math.abs(step);
-      const tail = Math.abs(size - 1) < 1e-12 ? '' : `/${fmt(size)}`;
-      return `${fmt(volts[0])}-${fmt(volts[volts.length - 1])}${tail}`;
+      const first = fmt(volts[0]);
+      const last = fmt(volts[volts.length - 1]);
+      return Math.abs(size - 1) < 1e-12 ? `${first}-${last}` : `${first}:${fmt(size)}:${last}`;
     }
   }
   return volts.map(fmt).join(', ');

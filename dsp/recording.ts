@@ -33,7 +33,8 @@ import type { BendAnalysisOk, TrackingFitOk } from './fit.ts';
 import { A4_HZ, CENTS_PER_OCTAVE, nearestNote, type NearestNote } from './notes.ts';
 import { PitchEstimator } from './pitch.ts';
 import type { BudgetOptions } from './budget.ts';
-import { calibrate, checkCalibrationOptions, MAX_VOLTS, type CapturedStep } from './pipeline.ts';
+import { calibrate, checkCalibrationOptions, type CapturedStep } from './pipeline.ts';
+import { MAX_CONTROL_VOLTS as MAX_VOLTS } from './plan.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
 import type { PitchOk, PitchReading } from './reading.ts';
 import type { CalibrationResult } from './result.ts';
@@ -69,7 +70,7 @@ export { fitAndAdvise, type CalibrationOptions } from './pipeline.ts';
 /** Options of {@link analyzeRecording}. All optional. */
 export interface RecordingOptions {
   /**
-   * Control voltages of the steps, V, in the order they were played, each finite within ±20 V (at least
+   * Control voltages of the steps, V, in the order they were played, each finite within ±12 V (at least
    * one). Omitted: the recording is one steady tone of unknown voltage.
    */
   readonly points?: readonly Volts[];
@@ -89,10 +90,10 @@ export interface RecordingOptions {
   readonly clockPpm?: Ppm;
   /**
    * Lowest control voltage the tracking fit, the bend analysis and the advice use, V (inclusive), within
-   * ±20. Default: no limit. The error table keeps every step.
+   * ±12. Default: no limit. The error table keeps every step.
    */
   readonly fitFromVolts?: Volts;
-  /** Highest control voltage they use, V (inclusive), within ±20, not below `fitFromVolts`. Default: no limit. */
+  /** Highest control voltage they use, V (inclusive), within ±12, not below `fitFromVolts`. Default: no limit. */
   readonly fitToVolts?: Volts;
   /**
    * The input network the scale trimmer acts on (`dsp/advice.ts` {@link InputNetwork}); with it the scale

@@ -13,6 +13,7 @@
  */
 import { z } from 'zod';
 import { A4_HZ, nearestNote } from './notes.ts';
+import { MAX_CONTROL_VOLTS } from './plan.ts';
 
 /** The version of the result shape this build writes. Shape 1 had no version field. */
 export const RESULT_SCHEMA_VERSION = 2;
@@ -32,8 +33,8 @@ export const STEP_FLAGS = [
 
 const finite = () => z.number().finite();
 const nfinite = () => z.number().finite().nullable();
-/** A control voltage, V. ±20 V bounds any 1 V/oct control source (common practice, no source). */
-const volts = () => z.number().finite().min(-20).max(20);
+/** A control voltage, V, within the one limit ±{@link MAX_CONTROL_VOLTS} (`dsp/plan.ts`). */
+const volts = () => z.number().finite().min(-MAX_CONTROL_VOLTS).max(MAX_CONTROL_VOLTS);
 
 /**
  * Standard uncertainties of one step, cents (1σ, JCGM 100:2008): the estimator's own, the repeatability of

@@ -265,7 +265,12 @@ export type RunEvent =
   | { type: 'abort' }
   | { type: 'set-measured-volts'; stepIndex: number; volts: Volts | null }
   | { type: 'capture-now' }
-  | { type: 'accept-pitch' };
+  | { type: 'accept-pitch' }
+  /**
+   * The run moves onto a new stream clock (a restart, a new input device, a restored autosave): whatever
+   * depended on the old clock is dropped and a run in progress is paused on its next pending step.
+   */
+  | { type: 'rebase' };
 
 function checkOption(name: string, v: unknown, lo: number, hi: number): void {
   if (typeof v !== 'number' || !Number.isFinite(v) || v < lo || v > hi) {
@@ -912,15 +917,42 @@ function isStepIndex(s: RunState, i: unknown): i is number {
   return typeof i === 'number' && Number.isInteger(i) && i >= 0 && i < s.steps.length;
 }
 
+/**
+ * The `rebase` event: the open capture window, the plateau detector, the pending warning and the time of
+ * the latest reading belonged to the old stream clock and are dropped; captures are kept. A run in
+ * progress is paused, and a step left in its `captured` hold moves on to the next pending step (or the
+ * run finishes), so nothing is captured until the user resumes. Finished and aborted runs keep their phase.
+ */
+function rebase(s: RunState): RunState {
+  s.detector = createPlateauState();
+  s.capture = null;
+  s.pendingCapture = null;
+  s.warning = null;
+  s.capturedAtSeconds = null;
+  s.lastSeconds = null;
+  s.heardHz = null;
+  s.progress = 0;
+  if (!isRunOver(s)) {
+    s.phase = 'paused';
+    if (s.steps[s.current]?.status !== 'pending') {
+      const next = nextPending(s, s.current);
+      if (next === null) s.phase = 'finished';
+      else s.current = next;
+    }
+  }
+  return s;
+}
+
 function reduce(s: RunState, e: RunEvent): RunState {
   const type = (e as { type?: unknown }).type;
   if (type === 'reading') return onReading(s, (e as { reading?: unknown }).reading);
   if (typeof type !== 'string') return ignore(s, String(type), 'bad-event');
+  if (type === 'rebase') return rebase(s);
 
   // A run in its `captured` hold finishes moving on before any control event is applied.
   if (s.phase === 'captured' && type !== 'capture-result' && type !== 'set-measured-volts')
     advanceAfterCapture(s);
-  const over = s.phase === 'finished' || s.phase === 'aborted';
+  const over = isRunOver(s);
 
   switch (e.type) {
     case 'capture-result': {
@@ -1061,6 +1093,25 @@ function reduce(s: RunState, e: RunEvent): RunState {
     default:
       return ignore(s, type, 'bad-event');
   }
+}
+
+/**
+ * True when the run has ended (finished or aborted): it takes no more captures.
+ *
+ * @example isRunOver(createRun([0, 1])) // false
+ */
+export function isRunOver(state: RunState): boolean {
+  return state.phase === 'finished' || state.phase === 'aborted';
+}
+
+/**
+ * True while the run is in progress (any phase but finished and aborted, paused included): the one test of
+ * "is the run active" for the engine, the page and the autosave.
+ *
+ * @example isRunActive(createRun([0, 1])) // true
+ */
+export function isRunActive(state: RunState | null): state is RunState {
+  return state !== null && !isRunOver(state);
 }
 
 /**

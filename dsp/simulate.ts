@@ -21,6 +21,7 @@
  *
  * Everything is pure computation on numbers and typed arrays: no platform APIs.
  */
+import { MAX_CONTROL_VOLTS } from './plan.ts';
 import type { Cents, Decibels, Hertz, Kelvin, Ohms, Ppm, Seconds, Volts } from './units.ts';
 
 // ---------------------------------------------------------------------------------------------------------
@@ -751,7 +752,7 @@ export function createOscillatorStream(options: OscillatorOptions = {}): Oscilla
  * overshoot), return from the overshoot, then hold. The first segment starts from its own voltage.
  */
 export interface ScheduleSegment {
-  /** Target voltage, V, −10…10. */
+  /** Target voltage, V, within ±{@link MAX_CONTROL_VOLTS} (dsp/plan.ts). */
   readonly volts: Volts;
   /** Time held at `volts` after the glide and overshoot, s, 0…3600. */
   readonly holdSeconds: Seconds;
@@ -825,7 +826,7 @@ function timeline(schedule: readonly ScheduleSegment[]): TimedSegment[] {
   let prev = NaN;
   schedule.forEach((seg, i) => {
     const p = `schedule[${i}]`;
-    const volts = requireFiniteRange(`${p}.volts`, seg?.volts, -10, 10, 'V');
+    const volts = requireFiniteRange(`${p}.volts`, seg?.volts, -MAX_CONTROL_VOLTS, MAX_CONTROL_VOLTS, 'V');
     const hold = requireFiniteRange(`${p}.holdSeconds`, seg.holdSeconds, 0, MAX_SCHEDULE_SECONDS, 's');
     const glide = requireFiniteRange(`${p}.glideSeconds`, seg.glideSeconds ?? 0, 0, 60, 's');
     const over = requireFiniteRange(`${p}.overshootVolts`, seg.overshootVolts ?? 0, -5, 5, 'V');
@@ -906,7 +907,7 @@ export function controlVoltsAt(schedule: readonly ScheduleSegment[], seconds: Se
  * Builds a schedule from a list of reference voltages: every step glides, may overshoot, then holds. The
  * first step starts at its own voltage (no glide).
  *
- * @param voltsList - Reference voltages, V, each −10…10, at least one.
+ * @param voltsList - Reference voltages, V, each within ±12 (`MAX_CONTROL_VOLTS`), at least one.
  * @param opts.holdSeconds - Hold per step, s. Default 3.
  * @param opts.glideSeconds - Glide into each step after the first, s. Default 0.15.
  * @param opts.glideShape - Default 'linear'.

@@ -10,7 +10,7 @@
  */
 import { z } from 'zod';
 import { CHANNELS, type Channel } from './channels.ts';
-import { MAX_VOLTS } from '../dsp/pipeline.ts';
+import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
 import { CalibrationResultSchema, isRunResult, migrateResult } from '../dsp/result.ts';
 import { recordIdProblem } from './record-id.ts';
 
@@ -128,8 +128,8 @@ export const RunIdSchema = z
   .string()
   .regex(/^[a-z0-9][a-z0-9-]{0,63}$/, 'run id may only contain a-z, 0-9 and "-" (1–64 characters)');
 
-/** A control voltage in volts, within ±MAX_VOLTS (`dsp/pipeline.ts`). */
-const VoltsSchema = z.number().finite().min(-MAX_VOLTS).max(MAX_VOLTS);
+/** A control voltage in volts, within the one limit ±MAX_CONTROL_VOLTS (`dsp/plan.ts`). */
+const VoltsSchema = z.number().finite().min(-MAX_CONTROL_VOLTS).max(MAX_CONTROL_VOLTS);
 
 /** One run: a pass over the voltage plan, before or after trimming, with its analysis. */
 export const RunSchema = z.strictObject({

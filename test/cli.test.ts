@@ -229,7 +229,7 @@ describe('spanmeter analyze: errors are one line on stderr, nothing on stdout, n
       1,
       /: no channel 3: the file has 2 channels, numbered 1 to 2$/,
     ],
-    ['a bad --points list', ['<c4>', '--points', '0,x'], 2, /item 2 is 'x'$/],
+    ['a bad --points list', ['<c4>', '--points', '0,x'], 2, /--points: "x" is neither a voltage/],
     ['--settle alone', ['<c4>', '--settle', '2'], 2, /--settle applies only to a multi-step run/],
   ])('%s', (_name, args, code, pattern) => {
     const resolved = args.map((a) =>

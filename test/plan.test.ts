@@ -74,6 +74,9 @@ describe('parsePlan accepts', () => {
     ['0 to 2', [0, 1, 2]],
     ['0-2/0.5', [0, 0.5, 1, 1.5, 2]],
     ['0-2 by 0.5', [0, 0.5, 1, 1.5, 2]],
+    ['0:0.5:2', [0, 0.5, 1, 1.5, 2]],
+    ['2 : 0.5 : 0', [2, 1.5, 1, 0.5, 0]],
+    ['-1V:1V:1V', [-1, 0, 1]],
     ['3-0', [3, 2, 1, 0]],
     ['-2-1', [-2, -1, 0, 1]],
     ['-3--1', [-3, -2, -1]],
@@ -92,11 +95,22 @@ describe('parsePlan accepts', () => {
   });
 });
 
+describe('parsePlan options (analyze --points, simulate --plan)', () => {
+  it('one point and repeats when asked; never beyond the one voltage limit', () => {
+    expect(parsePlan('3', { minPoints: 1 })).toEqual({ kind: 'ok', volts: [3] });
+    expect(parsePlan('0,1,0', { allowRepeats: true })).toEqual({ kind: 'ok', volts: [0, 1, 0] });
+    expect(parsePlan('0,1,0').kind).toBe('error');
+    expect(parsePlan('0:1:13', { minPoints: 1, allowRepeats: true })).toMatchObject({
+      reason: 'out-of-range',
+    });
+  });
+});
+
 describe('parsePlan refuses, saying why', () => {
   it.each([
     ['', 'empty', 'the plan is empty: type voltages such as "0, 1, 2, 3" or a range such as "0-7"'],
     ['  , ;', 'empty', 'the plan is empty: type voltages such as "0, 1, 2, 3" or a range such as "0-7"'],
-    ['0, one, 2', 'not-a-number', '"one" is neither a voltage (like 2.5) nor a range (like 0-7 or 0-7/0.5)'],
+    ['0, one, 2', 'not-a-number', '"one" is neither a voltage (like 2.5) nor a range (like 0-7 or 0:0.5:7)'],
     ['0, 1e999', 'not-a-number', '"1e999" is not a finite number of volts'],
     ['0-4/0', 'bad-step', 'the step in "0-4/0" must be a positive number of volts, got 0'],
     ['0-4/-1', 'bad-step', 'the step in "0-4/-1" must be a positive number of volts, got -1'],
@@ -148,7 +162,7 @@ describe('parsePlan refuses, saying why', () => {
 describe('formatPlan', () => {
   it.each([
     [[0, 1, 2, 3, 4, 5, 6, 7], '0-7'],
-    [[0, 0.5, 1, 1.5], '0-1.5/0.5'],
+    [[0, 0.5, 1, 1.5], '0:0.5:1.5'],
     [[7, 6, 5], '7-5'],
     [[0, 2, 3], '0, 2, 3'],
     [[0, 1], '0, 1'],

@@ -307,7 +307,7 @@ describe('analyzeRecording: misuse throws, naming the option and its range', () 
   it.each<[string, Parameters<typeof analyzeRecording>[2], string]>([
     ['settleSeconds', { settleSeconds: -1 }, 'settleSeconds must be a finite number from 0 to 60, got -1'],
     ['a4Hz', { a4Hz: 1000 }, 'a4Hz must be a finite number from 380 to 500, got 1000'],
-    ['points', { points: [0, Number.NaN] }, 'points[1] must be a finite number from -20 to 20, got NaN'],
+    ['points', { points: [0, Number.NaN] }, 'points[1] must be a finite number from -12 to 12, got NaN'],
     ['clockPpm', { clockPpm: 5000 }, 'clockPpm must be a finite number from -1000 to 1000, got 5000'],
     [
       'measuredVolts length',
@@ -319,7 +319,7 @@ describe('analyzeRecording: misuse throws, naming the option and its range', () 
       { measuredVolts: [0] },
       'measuredVolts needs points: give the nominal voltages too',
     ],
-    ['fitFromVolts', { fitFromVolts: 30 }, 'fitFromVolts must be a finite number from -20 to 20, got 30'],
+    ['fitFromVolts', { fitFromVolts: 30 }, 'fitFromVolts must be a finite number from -12 to 12, got 30'],
     [
       'fit range reversed',
       { fitFromVolts: 3, fitToVolts: 1 },

@@ -13,7 +13,7 @@ import { foldEngineMessage, HISTORY_SECONDS, INITIAL_VIEW } from '../renderer/sr
 import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
 import { analyzeRecording } from '../dsp/recording.ts';
 import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
-import { answerPendingCapture, feedReading, rebaseRun } from '../renderer/src/engine/run-host.ts';
+import { answerPendingCapture, feedReading } from '../renderer/src/engine/run-host.ts';
 import { formatHz, hzDecimalsForHundredthCent } from '../renderer/src/lib/format.ts';
 import { parseStartupParams } from '../renderer/src/lib/params.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
@@ -276,10 +276,10 @@ describe('run host', () => {
     expect(captured).toBe(0);
   });
 
-  it('rebaseRun gives a valid, paused run on a fresh clock with the captures kept', () => {
+  it('the rebase event gives a valid, paused run on a fresh clock with the captures kept', () => {
     let s = runToMeasuring();
     s = answerPendingCapture(s, (_a, b) => ok(b, 110)).state;
-    const r = rebaseRun(s);
+    const r = runReducer(s, { type: 'rebase' });
     expect(validateRunState(JSON.parse(JSON.stringify(r)))).toMatchObject({ kind: 'ok' });
     expect(r.phase).toBe('paused');
     expect(r.lastSeconds).toBeNull();

@@ -5,7 +5,8 @@ import { PitchDetector } from 'pitchy';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import wavefile from 'wavefile';
 import { CliError } from '../cli/errors.ts';
-import { main, parsePlan, type TruthFile } from '../cli/simulate.ts';
+import { main, type TruthFile } from '../cli/simulate.ts';
+import { parsePlanOption } from '../cli/args.ts';
 import {
   bulkResistanceAlpha,
   controlVoltsAt,
@@ -642,8 +643,8 @@ describe('misuse', () => {
         { volts: 1, holdSeconds: -1 },
       ]),
     ).toThrow('schedule[1].holdSeconds must be a number from 0 to 3600 s, got -1');
-    expect(() => planSchedule([0, 11])).toThrow(
-      'schedule[1].volts must be a number from -10 to 10 V, got 11',
+    expect(() => planSchedule([0, 13])).toThrow(
+      'schedule[1].volts must be a number from -12 to 12 V, got 13',
     );
     expect(() => planSchedule([])).toThrow(
       'voltsList must be a non-empty array of volts, got an empty array',
@@ -732,8 +733,11 @@ describe('spanmeter simulate', () => {
 
   it.each([
     [[], '--out FILE.wav is required'],
-    [['--out', 'x.wav', '--plan', '0,x'], "--plan item 2 ('x') is neither a number nor a range like '0-7'"],
-    [['--out', 'x.wav', '--plan', '0,12'], '--plan voltages must be from -10 to 10 V, got 12'],
+    [
+      ['--out', 'x.wav', '--plan', '0,x'],
+      '--plan: "x" is neither a voltage (like 2.5) nor a range (like 0-7 or 0:0.5:7)',
+    ],
+    [['--out', 'x.wav', '--plan', '0,13'], '--plan: point 2 (13 V) lies outside -12…+12 V'],
     [['--out', 'x.wav', '--bits', '8'], "--bits must be one of 16, 24, 32f, got '8'"],
     [
       ['--out', 'x.wav', '--unit', 'nope'],
@@ -767,7 +771,9 @@ describe('spanmeter simulate', () => {
     ['3-1', [3, 2, 1]],
     ['-2--1, 0.5', [-2, -1, 0.5]],
     ['0.5-2.5', [0.5, 1.5, 2.5]],
-  ])('parses the plan %s', (text, volts) => {
-    expect(parsePlan(text)).toEqual(volts);
+    ['0:0.5:2', [0, 0.5, 1, 1.5, 2]],
+    ['0,1,0', [0, 1, 0]],
+  ])('parses the plan %s (the one grammar, dsp/plan.ts)', (text, volts) => {
+    expect(parsePlanOption('plan', text)).toEqual(volts);
   });
 });

@@ -7,7 +7,7 @@ import { useCallback, useEffect, useMemo, useRef, useState, useSyncExternalStore
 import { A4_HZ } from '../../dsp/notes.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
 import { isRunResult, resultToJsonText, type CalibrationResult } from '../../dsp/result.ts';
-import { serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
+import { isRunActive, serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
 import type { JsonValue, UnitRecord } from '../../main/api-types.ts';
 import { listInputs, openInput, type InputDevice, type OpenInput } from './audio/input.ts';
 import { EngineClient } from './engine/client.ts';
@@ -236,7 +236,7 @@ export function App() {
       if (!r.ok || r.value.kind !== 'found') return;
       const v = validateRunState(r.value.state);
       if (v.kind !== 'ok' || capturedCount(v.state) === 0) return;
-      const fin = v.state.phase === 'finished' || v.state.phase === 'aborted';
+      const fin = !isRunActive(v.state);
       setResumeOffer({
         state: v.state,
         text: `${fin ? 'The last run' : 'An unfinished run'} from ${new Date(r.value.savedAt).toLocaleString()}: ${capturedCount(v.state)} of ${v.state.steps.length} steps captured.`,
@@ -262,7 +262,7 @@ export function App() {
   }, [client, setup]);
   const calibration = run?.calibration ?? null;
   const analysis = useMemo(() => (calibration ? runAnalysisOf(calibration) : null), [calibration]);
-  const active = runState !== null && runState.phase !== 'finished' && runState.phase !== 'aborted';
+  const active = isRunActive(runState);
 
   const startRun = useCallback(() => {
     const p = parsePlan(planText);

@@ -11,7 +11,7 @@
  *   test stops the audio track and dispatches `ended` on it (stop() alone fires no `ended`, by the
  *   Media Capture and Streams spec), then fires `devicechange` on navigator.mediaDevices.
  * - Rate change: the simulated oscillator's rate is switched in the UI (48 → 96 kHz), which starts a
- *   new source at the new rate; the engine moves the run onto it with `rebaseRun`.
+ *   new source at the new rate; the engine moves the run onto it with the run's `rebase` event.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser, type Page } from 'playwright-core';

@@ -8,11 +8,18 @@
  * Buffers for audio are allocated when a source starts; per block, the engine allocates only the
  * readings and messages it emits.
  */
-import { twoPointIntervalError, type TwoPointResult } from '../../../dsp/advice.ts';
-import { analyzeDrift, driftRateSeries, type DriftReading } from '../../../dsp/drift.ts';
+import { analyzeDrift, driftRateSeries } from '../../../dsp/drift.ts';
+import { DriftBinner } from '../../../dsp/drift-bins.ts';
 import { createPlateauDetector, type PlateauDetector } from '../../../dsp/plateau.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
-import { createRun, runReducer, type RunState } from '../../../dsp/run.ts';
+import {
+  EMPTY_PAIRING,
+  pairingResult,
+  pairPlateau,
+  type TwoPointPairing,
+  type TwoPointSideState,
+} from '../../../dsp/two-point.ts';
+import { createRun, isRunActive, runReducer, type RunState } from '../../../dsp/run.ts';
 import {
   createOscillatorStream,
   type OscillatorOptions,
@@ -29,7 +36,7 @@ import type {
   TwoPointConfig,
   TwoPointView,
 } from './protocol.ts';
-import { feedReading, rebaseRun, RunCalibrator } from './run-host.ts';
+import { feedReading, RunCalibrator } from './run-host.ts';
 import { analyzeWavBytes, type WavAnalysisRequest } from './wav-analysis.ts';
 
 /** How the engine talks back and tells time. */
@@ -51,14 +58,10 @@ interface Glide {
 export const SIM_GLIDE_SECONDS = 0.15;
 
 const SIM_CHUNK = 1024;
-/** Two plateaus closer than this are the same side of the two-point check, cents (a quarter octave). */
-const SAME_SIDE_CENTS = 300;
-
 interface TwoPointState {
   config: TwoPointConfig;
   detector: PlateauDetector;
-  low: { hz: number; start: number } | null;
-  high: { hz: number; start: number } | null;
+  pairing: TwoPointPairing;
   liveStart: number | null;
   /** Simulator: when the voltage last switched, stream seconds, and which side it is on. */
   switchedAt: number;
@@ -68,13 +71,7 @@ interface TwoPointState {
 interface DriftState {
   volts: number;
   windowSeconds: number;
-  startedAt: number | null;
-  readings: DriftReading[];
-  binStart: number;
-  binSumCents: number;
-  binCount: number;
-  refHz: number | null;
-  lastPost: number;
+  bins: DriftBinner;
 }
 
 export class EngineCore {
@@ -156,7 +153,7 @@ export class EngineCore {
           // A run in progress keeps the simulator on its current step's voltage across a restart of the
           // source (a new sample rate, say); otherwise the page's control voltage applies.
           const r = this.run;
-          const active = r !== null && this.mode === 'run' && r.phase !== 'finished' && r.phase !== 'aborted';
+          const active = this.mode === 'run' && isRunActive(r);
           const v = active ? r.steps[r.current].nominalVolts : msg.volts;
           this.glide = { from: v, to: v, t0: 0, seconds: 0 };
         }
@@ -187,7 +184,7 @@ export class EngineCore {
         this.postRun();
         return;
       case 'run-restore':
-        this.run = rebaseRun(msg.state);
+        this.run = runReducer(msg.state, { type: 'rebase' });
         this.resetRunSide(this.run.steps.length);
         this.afterRunChange();
         this.postRun();
@@ -210,8 +207,7 @@ export class EngineCore {
         this.twoPoint = {
           config: msg.config,
           detector: createPlateauDetector(),
-          low: null,
-          high: null,
+          pairing: EMPTY_PAIRING,
           liveStart: null,
           switchedAt: this.streamSeconds,
           onHigh: false,
@@ -221,21 +217,14 @@ export class EngineCore {
       case 'two-point-reset':
         if (this.twoPoint) {
           this.twoPoint.detector.reset();
-          this.twoPoint.low = null;
-          this.twoPoint.high = null;
+          this.twoPoint.pairing = EMPTY_PAIRING;
         }
         return;
       case 'drift-start':
         this.drift = {
           volts: msg.volts,
           windowSeconds: msg.windowSeconds,
-          startedAt: null,
-          readings: [],
-          binStart: 0,
-          binSumCents: 0,
-          binCount: 0,
-          refHz: null,
-          lastPost: 0,
+          bins: new DriftBinner(),
         };
         this.setMode('drift');
         this.glideTo(msg.volts, SIM_GLIDE_SECONDS);
@@ -269,8 +258,8 @@ export class EngineCore {
       // A new stream clock (and perhaps a new rate): the run keeps its captures and waits, paused, for
       // the user.
       const was = this.run.phase;
-      runRebased = was !== 'finished' && was !== 'aborted';
-      this.run = rebaseRun(this.run);
+      runRebased = isRunActive(this.run);
+      this.run = runReducer(this.run, { type: 'rebase' });
       if (was !== this.run.phase || this.run.lastSeconds === null) this.postRun();
       this.stepStartedAt = this.stepStartedAt.map(() => null);
     }
@@ -289,8 +278,8 @@ export class EngineCore {
     this.tracker = null;
     this.sim = null;
     this.sourceKind = 'none';
-    if (this.run && this.run.phase !== 'finished' && this.run.phase !== 'aborted') {
-      this.run = rebaseRun(this.run);
+    if (isRunActive(this.run)) {
+      this.run = runReducer(this.run, { type: 'rebase' });
       this.postRun();
     }
     this.host.post({ type: 'source', kind: 'none', sampleRateHz: null, reason });
@@ -306,8 +295,7 @@ export class EngineCore {
   private setMode(mode: EngineMode): void {
     if (mode === this.mode) return;
     if (this.mode === 'run' && this.run) {
-      const p = this.run.phase;
-      if (p !== 'paused' && p !== 'finished' && p !== 'aborted') {
+      if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
         this.postRun();
       }
@@ -326,7 +314,7 @@ export class EngineCore {
   private afterRunChange(): void {
     const s = this.run;
     if (!s) return;
-    if (s.current !== this.lastCurrent && s.phase !== 'finished' && s.phase !== 'aborted') {
+    if (s.current !== this.lastCurrent && isRunActive(s)) {
       this.lastCurrent = s.current;
       this.stepStartedAt[s.current] = this.streamSeconds;
       if (this.sim && this.mode === 'run') this.glideTo(s.steps[s.current].nominalVolts, SIM_GLIDE_SECONDS);
@@ -482,60 +470,25 @@ export class EngineCore {
     if (open) {
       status = 'settled';
       tp.liveStart = open.startSeconds;
-      const cand = { hz: open.meanHz, start: open.startSeconds };
-      const near = (side: { hz: number } | null) =>
-        side !== null && Math.abs(1200 * Math.log2(cand.hz / side.hz)) < SAME_SIDE_CENTS;
-      if (near(tp.low)) tp.low = cand;
-      else if (near(tp.high)) tp.high = cand;
-      else if (tp.low === null) tp.low = cand;
-      else if (tp.high === null) tp.high = cand;
-      else if (tp.low.start < tp.high.start) tp.low = cand;
-      else tp.high = cand;
-      if (tp.low && tp.high && tp.low.hz > tp.high.hz) [tp.low, tp.high] = [tp.high, tp.low];
+      tp.pairing = pairPlateau(tp.pairing, { hz: open.meanHz, startSeconds: open.startSeconds });
     }
-    let result: TwoPointResult | null = null;
-    if (tp.low && tp.high) {
-      try {
-        result = twoPointIntervalError(
-          tp.low.hz,
-          tp.high.hz,
-          tp.config.voltsLow,
-          tp.config.voltsHigh,
-          tp.config.toleranceCents,
-        );
-      } catch {
-        result = null;
-      }
-    }
-    const side = (s: { hz: number; start: number } | null) =>
-      s ? { hz: s.hz, live: tp.liveStart !== null && s.start === tp.liveStart } : null;
-    return { low: side(tp.low), high: side(tp.high), result, status };
+    const result = pairingResult(tp.pairing, tp.config);
+    const side = (s: TwoPointSideState | null) =>
+      s ? { hz: s.hz, live: tp.liveStart !== null && s.startSeconds === tp.liveStart } : null;
+    return { low: side(tp.pairing.low), high: side(tp.pairing.high), result, status };
   }
 
   private updateDrift(r: PitchReading): void {
     const d = this.drift as DriftState;
     if (r.kind !== 'ok') return;
-    if (d.startedAt === null) {
+    if (!d.bins.started) {
       // Start once the pitch has settled at the held voltage (after the simulator's glide, or once the
       // user has set the voltage), so the hold does not begin with the step into it.
       const gliding = this.sim !== null && this.cvAt(r.timeSeconds) !== d.volts;
       if (gliding || this.liveDetector.current() === null) return;
-      d.startedAt = r.timeSeconds;
-      d.binStart = r.timeSeconds;
-      d.refHz = r.hz;
+      d.bins.start(r.timeSeconds, r.hz);
     }
-    const refHz = d.refHz as number;
-    d.binSumCents += 1200 * Math.log2(r.hz / refHz);
-    d.binCount++;
-    if (r.timeSeconds - d.binStart >= 1) {
-      const cents = d.binSumCents / d.binCount;
-      const mid = (d.binStart + r.timeSeconds) / 2;
-      d.readings.push({ timeSeconds: mid - d.startedAt, hz: refHz * Math.pow(2, cents / 1200) });
-      d.binStart = r.timeSeconds;
-      d.binSumCents = 0;
-      d.binCount = 0;
-      this.postDrift();
-    }
+    if (d.bins.push(r.timeSeconds, r.hz)) this.postDrift();
   }
 
   private postDrift(): void {
@@ -544,15 +497,16 @@ export class EngineCore {
       this.host.post({ type: 'drift', drift: null });
       return;
     }
-    const first = d.readings[0]?.hz ?? 1;
+    const readings = d.bins.readings;
+    const first = readings[0]?.hz ?? 1;
     let result: DriftView['result'];
     let rates: DriftView['rates'] = [];
     try {
-      result = analyzeDrift(d.readings, {
+      result = analyzeDrift(readings, {
         windowSeconds: d.windowSeconds,
         confirmSeconds: d.windowSeconds / 2,
       });
-      rates = driftRateSeries(d.readings, { windowSeconds: d.windowSeconds });
+      rates = driftRateSeries(readings, { windowSeconds: d.windowSeconds });
     } catch (err) {
       result = { kind: 'error', message: err instanceof Error ? err.message : String(err) };
     }
@@ -560,7 +514,7 @@ export class EngineCore {
       type: 'drift',
       drift: {
         volts: d.volts,
-        points: d.readings.map((x) => ({ t: x.timeSeconds, cents: 1200 * Math.log2(x.hz / first) })),
+        points: readings.map((x) => ({ t: x.timeSeconds, cents: 1200 * Math.log2(x.hz / first) })),
         result,
         rates,
         windowSeconds: d.windowSeconds,
@@ -576,8 +530,7 @@ export class EngineCore {
   private analyzeWav(bytes: ArrayBuffer, fileName: string, request: WavAnalysisRequest): void {
     this.host.post({ type: 'wav-started', fileName });
     if (this.run) {
-      const p = this.run.phase;
-      if (p !== 'paused' && p !== 'finished' && p !== 'aborted') {
+      if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
         this.postRun();
       }

@@ -18,7 +18,10 @@ import type { WavAnalysisOutcome, WavAnalysisRequest } from './wav-analysis.ts';
 export type EngineMode = 'run' | 'two-point' | 'drift';
 
 /** Run events the page may send (readings and capture results come from inside the engine). */
-export type UserRunEvent = Exclude<RunEvent, { type: 'reading' } | { type: 'capture-result' }>;
+export type UserRunEvent = Exclude<
+  RunEvent,
+  { type: 'reading' } | { type: 'capture-result' } | { type: 'rebase' }
+>;
 
 /** A plan as the engine takes it. */
 export interface PlanSpec {
@@ -130,7 +133,7 @@ export type FromEngine =
       readonly reason?: string;
       /** The previous source's rate, Hz, when a new source starts at a different rate. */
       readonly previousSampleRateHz?: number;
-      /** True when a run in progress was moved onto the new stream clock and paused (`rebaseRun`). */
+      /** True when a run in progress was moved onto the new stream clock and paused (the run's `rebase` event). */
       readonly runRebased?: boolean;
     }
   | {

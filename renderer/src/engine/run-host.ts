@@ -1,7 +1,7 @@
 /**
  * The host side of a calibration run (`dsp/run.ts`), as pure functions: feed a reading, answer the
- * run's request for a precise capture measurement, move a saved run onto a new stream clock, and the
- * run's calibration through the one pipeline (`dsp/pipeline.ts`).
+ * run's request for a precise capture measurement, and the run's calibration through the one pipeline
+ * (`dsp/pipeline.ts`). Moving a run onto a new stream clock is the reducer's `rebase` event.
  */
 import {
   calibrate,
@@ -10,7 +10,6 @@ import {
   type Calibration,
   type CaptureQuality,
 } from '../../../dsp/pipeline.ts';
-import { createPlateauState } from '../../../dsp/plateau.ts';
 import type { PitchOk, PitchReading } from '../../../dsp/reading.ts';
 import { runReducer, type HostMeasurement, type RunState } from '../../../dsp/run.ts';
 
@@ -87,41 +86,6 @@ export function feedReading(state: RunState, reading: PitchReading, measure: Spa
   const capturedStep =
     stored && stored.kind === 'captured' ? stored.stepIndex : capturedCount(s) > before ? s.current : null;
   return { state: s, measured: answered.measured, capturedStep };
-}
-
-/**
- * A run moved onto a new stream clock (a restart, a new input device): whatever depended on the old
- * clock (the open capture window, the plateau detector, the pending warning, the time of the latest
- * reading) is dropped and the run is paused, so nothing is captured until the user resumes. Finished
- * and aborted runs keep their phase. Captures are kept.
- *
- * @param state - A run (for example restored from the autosave).
- * @returns A valid run state (see `validateRunState`).
- */
-export function rebaseRun(state: RunState): RunState {
-  const s: RunState = JSON.parse(JSON.stringify(state));
-  const over = s.phase === 'finished' || s.phase === 'aborted';
-  s.detector = createPlateauState();
-  s.capture = null;
-  s.pendingCapture = null;
-  s.warning = null;
-  s.capturedAtSeconds = null;
-  s.lastSeconds = null;
-  s.heardHz = null;
-  s.progress = 0;
-  s.notes = [];
-  if (!over) {
-    s.phase = 'paused';
-    // A step left in its 'captured' hold moves on when the run resumes.
-    if (s.steps[s.current]?.status !== 'pending') {
-      const next = s.steps.findIndex((st, i) => i > s.current && st.status === 'pending');
-      const any = s.steps.findIndex((st) => st.status === 'pending');
-      if (next >= 0) s.current = next;
-      else if (any >= 0) s.current = any;
-      else s.phase = 'finished';
-    }
-  }
-  return s;
 }
 
 /**

@@ -19,7 +19,7 @@ import { decodeWav, pickChannel, type WavErrorCode } from '../../../dsp/wav.ts';
  * and the Setup's clock correction, fit range and input network.
  */
 export interface WavAnalysisRequest {
-  /** Control voltages of the steps in the order they were played, V, each within ±20 V (at least one). */
+  /** Control voltages of the steps in the order they were played, V, each within ±12 V (`MAX_CONTROL_VOLTS`, at least one). */
   readonly points: readonly Volts[];
   /** Channel to analyse, counted from 1. */
   readonly channel: number;
@@ -29,7 +29,7 @@ export interface WavAnalysisRequest {
   readonly a4Hz?: Hertz;
   /** Interface clock error, ppm (positive = fast), within ±1000 (dsp/clock.ts); default 0. */
   readonly clockPpm?: Ppm;
-  /** Fit range, V (inclusive), within ±20; default every step (dsp/recording.ts). */
+  /** Fit range, V (inclusive), within ±12; default every step (dsp/recording.ts). */
   readonly fitFromVolts?: Volts;
   readonly fitToVolts?: Volts;
   /** The input network, for resistor values in the scale advice (dsp/advice.ts). */

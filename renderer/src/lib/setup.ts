@@ -6,6 +6,7 @@
 import type { InputNetwork } from '../../../dsp/advice.ts';
 import { MAX_CLOCK_PPM } from '../../../dsp/clock.ts';
 import { parseOhms } from '../../../dsp/eseries.ts';
+import { MAX_CONTROL_VOLTS } from '../../../dsp/plan.ts';
 import type { CalibrationOptions } from '../../../dsp/recording.ts';
 
 /** The Setup as the form holds it: the text of every field, so a half-typed value is never lost. */
@@ -47,8 +48,8 @@ export const RESISTOR_NAMES: Readonly<Record<InputNetwork['topology'], readonly 
   'inverting-summer': ['Input Rin', 'Feedback Rf'],
 };
 
-/** Voltages accepted for the fit range, V: as for the plan (dsp/recording.ts allows ±20). */
-const FIT_VOLTS_LIMIT = 20;
+/** Voltages accepted for the fit range, V: the one limit of every control voltage (dsp/plan.ts). */
+const FIT_VOLTS_LIMIT = MAX_CONTROL_VOLTS;
 
 function parseNumber(text: string): number | null {
   const t = text.trim().replace(',', '.').replace('−', '-');

@@ -6,7 +6,7 @@ import { useState, type ReactNode } from 'react';
 import type { ResistorChange } from '../../../dsp/advice.ts';
 import { formatOhms } from '../../../dsp/eseries.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/plan.ts';
-import type { RunState } from '../../../dsp/run.ts';
+import { isRunActive, type RunState } from '../../../dsp/run.ts';
 import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
@@ -130,7 +130,7 @@ function MeterCell(props: { stepIndex: number; value: number | null; onSet(v: nu
 export function RunPanel(p: RunPanelProps) {
   const parsed = parsePlan(p.planText);
   const s = p.run?.state ?? null;
-  const active = s !== null && s.phase !== 'finished' && s.phase !== 'aborted';
+  const active = isRunActive(s);
   const presetMatch = PLAN_PRESETS.find(
     (pr) => parsed.kind === 'ok' && formatPlan(pr.volts) === formatPlan(parsed.volts),
   );
