@@ -5,6 +5,7 @@
  * naming the option.
  */
 import { METER_PRESETS, type BudgetOptions, type MeterSpec } from '../dsp/budget.ts';
+import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
 import type { Volts } from '../dsp/units.ts';
 import { EXIT_USAGE, parseNumberListOption, parseNumberOption } from './args.ts';
 import { CliError } from './errors.ts';
@@ -110,7 +111,7 @@ export function parseModelOptions(
   let measuredVolts: number[] | undefined;
   const m = str('measured');
   if (m !== undefined) {
-    measuredVolts = parseNumberListOption('measured', m, -15, 15, 'V');
+    measuredVolts = parseNumberListOption('measured', m, -MAX_CONTROL_VOLTS, MAX_CONTROL_VOLTS, 'V');
     if (measuredVolts.length !== points.length) {
       throw new CliError(
         `--measured must give one reading per --points voltage (${points.length}), got ${measuredVolts.length}`,
