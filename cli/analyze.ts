@@ -30,6 +30,7 @@ import {
   parseResistorPairOption,
 } from './args.ts';
 import { CliError } from './errors.ts';
+import { MODEL_OPTIONS, parseModelOptions, type ModelCliOptions } from './model-options.ts';
 import {
   clockReferenceToJson,
   describeClockCorrection,
@@ -86,6 +87,7 @@ const OPTIONS = {
     value: 'INPUT,FEEDBACK',
     help: 'input network, an inverting summer: input and feedback ohms',
   },
+  ...MODEL_OPTIONS,
 } as const;
 
 /** Parsed, validated options of `spanmeter analyze`. */
@@ -111,6 +113,8 @@ export interface AnalyzeOptions {
   readonly fitToVolts?: Volts;
   /** The input network, for resistor values in the scale advice. */
   readonly network?: InputNetwork;
+  /** Meter readings per step, the budget's options and the tolerance (`cli/model-options.ts`). */
+  readonly model?: ModelCliOptions;
 }
 
 /** Usage text of the command. */
@@ -126,6 +130,13 @@ fit (octaves per volt, scale error) and which trimmer to turn. --fit-from and --
 narrow the fit to a range of voltages; --divider or --summer describe the network from
 the 1 V/oct input to the converter, for resistor values that would correct the scale.
 
+Every figure comes from one model: a line plus, where the steps support it, an HF term
+(an equivalent reset time) and a low-end term, chosen by AICc. A step that disagrees
+with the others by more than 5 combined σ and 3 cents is flagged suspect-voltage and
+left out. Each figure carries a GUM budget: give the meter readings with --measured and
+the meter with --meter, or the source accuracy of nominal voltages; --tolerance judges
+every step as within only when its error plus its expanded uncertainty is inside.
+
 --clock-ppm corrects every frequency for the interface's clock error; intervals, and so
 the scale, are not affected by it. To measure that error, record a reference tone of
 known frequency and run: spanmeter analyze ref.wav --true-hz 1000
@@ -134,8 +145,9 @@ options:
 ${formatOptionsHelp(OPTIONS)}
 
 Reads 8/16/24/32-bit PCM and 32/64-bit float WAV files at 8000-384000 Hz.
-Exit status: 0 on a result, 1 when the file cannot be read, holds no pitch or its settled
-steps do not match --points, 2 on misuse.
+Exit status: 0 on a result, 1 when the file cannot be read, holds no pitch, its settled
+steps do not match --points or fail a plausibility gate (pitch falling as the volts rise,
+a scale far from 1 V/oct), 2 on misuse.
 
 Recording: a modular oscillator's audio (about 10 V peak to peak) overloads a line
 input; attenuate it first, keep phantom power off, and follow your interface's manual.`;
@@ -216,6 +228,7 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
       throw new CliError(`--${runOnly[0]} applies only to a multi-step run: give --points too`, EXIT_USAGE);
     }
   }
+  const model = parseModelOptions(values, points);
   if (trueHz !== undefined && points !== undefined) {
     throw new CliError(
       '--true-hz reads one reference tone, not a multi-step run: leave out --points',
@@ -237,6 +250,7 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
     ...(fitFromVolts === undefined ? {} : { fitFromVolts }),
     ...(fitToVolts === undefined ? {} : { fitToVolts }),
     ...(network === undefined ? {} : { network }),
+    ...(points === undefined ? {} : { model }),
   };
 }
 
@@ -327,8 +341,14 @@ export async function main(args: string[]): Promise<number> {
       ...(opts.fitFromVolts === undefined ? {} : { fitFromVolts: opts.fitFromVolts }),
       ...(opts.fitToVolts === undefined ? {} : { fitToVolts: opts.fitToVolts }),
       ...(opts.network === undefined ? {} : { network: opts.network }),
+      ...(opts.model?.measuredVolts === undefined ? {} : { measuredVolts: opts.model.measuredVolts }),
+      ...(opts.model === undefined ? {} : { budget: opts.model.budget }),
+      ...(opts.model?.toleranceCents === undefined ? {} : { toleranceCents: opts.model.toleranceCents }),
     });
     if (analysis.kind === 'error') throw new CliError(describeRecordingError(analysis));
+    // Steps that fail a plausibility gate (wrong order, volts in the wrong unit) never end in a trim.
+    const refusal = analysis.result.fit?.refusal;
+    if (refusal) throw new CliError(`no trim advised: ${refusal.message}`);
     if (opts.json) {
       process.stdout.write(`${resultToJsonText(analysis.result)}\n`);
     } else {

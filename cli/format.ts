@@ -44,19 +44,9 @@ export function formatSignedCents(cents: Cents, decimals = 2): string {
   return s.startsWith('-') ? s : `+${s}`;
 }
 
-/**
- * An uncertainty with two significant digits, as the GUM advises ("usually sufficient to quote u_c and U
- * to at most two significant digits", JCGM 100:2008, 7.2.6), in plain decimal notation.
- *
- * @example formatUncertainty(0.0001234) // '0.00012'
- * @example formatUncertainty(2.345) // '2.3'
- */
-export function formatUncertainty(value: number): string {
-  if (!Number.isFinite(value)) return String(value);
-  if (value === 0) return '0';
-  const decimals = Math.max(0, 1 - Math.floor(Math.log10(Math.abs(value))));
-  return value.toFixed(decimals);
-}
+/** The one uncertainty formatter (two significant digits, JCGM 100:2008 7.2.6), shared with `dsp/budget.ts`. */
+export { formatUncertainty } from '../dsp/budget.ts';
+import { formatUncertainty } from '../dsp/budget.ts';
 
 /**
  * A level in dBFS with one decimal; digital silence is `-inf`.
@@ -242,7 +232,47 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
     ],
     ['residual', `largest ${formatUncertainty(fit.maxAbsResidualCents)} cents from the fitted line`],
   ];
-  const b = analysis.bends;
+  const rf = analysis.result.fit;
+  const model = rf?.model ?? null;
+  if (rf && model) {
+    const budgetText = (b: NonNullable<typeof rf.scaleBudget>, unit: string) =>
+      `U = ${formatUncertainty(b.expandedCents)} ${unit} (k = ${b.coverageFactor.toFixed(2)}; ` +
+      b.terms
+        .filter((t) => t.standardCents > 0)
+        .sort((a, c) => c.standardCents - a.standardCents)
+        .map((t) => `${t.source} ${formatUncertainty(t.standardCents)}`)
+        .join(', ') +
+      ')';
+    if (rf.scaleBudget) lines.splice(1, 0, ['', budgetText(rf.scaleBudget, 'cents per octave')]);
+    if (rf.pitchAt0VBudget) lines.push(['', `0 V pitch ${budgetText(rf.pitchAt0VBudget, 'cents')}`]);
+    const terms = ['line'];
+    if (model.hfTerm !== 'none') {
+      terms.push(
+        model.mixtureResolved
+          ? `HF (reset time ${(model.resetSeconds * 1e6).toPrecision(2)} µs + bulk resistance ${(model.bulkAlphaSeconds * 1e6).toPrecision(2)} µs)`
+          : `HF (equivalent reset time ${((model.equivalentResetSeconds ?? 0) * 1e6).toPrecision(2)} ± ${formatUncertainty((model.equivalentResetSecondsStdErr ?? 0) * 1e6)} µs)`,
+      );
+    }
+    if (model.lowEndTerm) terms.push(`low-end floor ${model.lowEndHz.toPrecision(2)} Hz`);
+    lines.push(['model', `${terms.join(' + ')}, chosen by ${model.criterion}`]);
+    if (rf.straightLine) {
+      lines.push([
+        'line',
+        `the straight line through every step: ${formatSignedCents(rf.straightLine.scaleErrorCentsPerOctave)} cents per octave, ` +
+          `${formatHz(rf.straightLine.hzAt0V)} Hz at 0 V (droop and suspect steps included)`,
+      ]);
+    }
+    for (const st of analysis.result.steps) {
+      if (st.flags.includes('suspect-voltage')) {
+        lines.push([
+          'suspect',
+          `step ${st.index + 1} (${formatVolts(st.volts ?? 0)} V) plays as if at ${formatVolts(st.likelyVolts ?? 0)} V: left out; re-check its voltage`,
+        ]);
+      }
+    }
+    if (rf.tolerance) lines.push(['tolerance', rf.tolerance.text]);
+  }
+  const b = model ? null : analysis.bends;
   if (b !== null) {
     const ends: string[] = [];
     for (const [label, e] of [

@@ -5,6 +5,7 @@
  * of any statistics text, e.g. Bevington & Robinson ch. 6), computed for every window end from
  * running sums in O(n).
  */
+import { studentTQuantile } from './stats.ts';
 import type { Cents, Hertz, Seconds } from './units.ts';
 
 /** One pitch reading at the fixed voltage. */
@@ -41,6 +42,12 @@ export interface DriftSettled {
   readonly driftRateCentsPerMinute: number;
   /** Largest |rate| of any full window after settling, cents per minute. */
   readonly maxSettledRateCentsPerMinute: number;
+  /** Standard error of the final window's rate (regression), cents per minute. */
+  readonly driftRateStdErrCentsPerMinute: number;
+  /** Upper bound of |rate| over the final window (one-sided 95 %, Student t), cents per minute. */
+  readonly rateUpperBoundCentsPerMinute: number;
+  /** Drift since settling from the fitted lines (final window's line at the last reading minus the settling window's at its end), cents. */
+  readonly totalDriftFittedCents: Cents;
 }
 
 /** The rate has not stayed under the threshold (long enough) yet. */
@@ -50,6 +57,12 @@ export interface DriftNotSettled {
   readonly totalDriftCents: Cents;
   /** Rate over the final trailing window, cents per minute. */
   readonly driftRateCentsPerMinute: number;
+  /** Standard error of the final window's rate (regression), cents per minute. */
+  readonly driftRateStdErrCentsPerMinute: number;
+  /** Upper bound of |rate| over the final window (one-sided 95 %, Student t), cents per minute. */
+  readonly rateUpperBoundCentsPerMinute: number;
+  /** Drift from the fitted lines: the final window's line at the last reading minus the first window's at the first reading, cents. */
+  readonly totalDriftFittedCents: Cents;
 }
 
 /** Not enough data: fewer than 3 readings, or the readings span less than one window. */
@@ -67,6 +80,19 @@ export interface DriftRatePoint {
   readonly timeSeconds: Seconds;
   /** Least-squares slope over the window, cents per minute. */
   readonly centsPerMinute: number;
+  /**
+   * Standard error of the slope, cents per minute: `√(s²/Σ(t − t̄)²)` with `s² = RSS/(m − 2)` (Bevington &
+   * Robinson ch. 6); 0 with exactly 3 collinear readings.
+   */
+  readonly stdErrCentsPerMinute: number;
+  /** Readings in the window. */
+  readonly count: number;
+}
+
+/** A window's line, for fitted values: cents at time t are `intercept + slope·(t − t0)` (cents per second). */
+interface WindowLine {
+  readonly slopePerSecond: number;
+  readonly interceptCents: Cents;
 }
 
 function validate(readings: readonly DriftReading[], opts: DriftOptions) {
@@ -98,15 +124,19 @@ function validate(readings: readonly DriftReading[], opts: DriftOptions) {
   return { windowSeconds, threshold, confirm };
 }
 
-/** Rate series over full windows with at least 3 readings, from prefix sums of t, t², c and t·c. */
-function rates(readings: readonly DriftReading[], windowSeconds: number): DriftRatePoint[] {
+/** Rate series over full windows with at least 3 readings, from prefix sums of t, t², c, c² and t·c. */
+function ratesWithLines(
+  readings: readonly DriftReading[],
+  windowSeconds: number,
+): { points: DriftRatePoint[]; lines: WindowLine[] } {
   const n = readings.length;
-  if (n === 0) return [];
+  if (n === 0) return { points: [], lines: [] };
   const t0 = readings[0].timeSeconds;
   const f0 = readings[0].hz;
   const st = new Float64Array(n + 1);
   const stt = new Float64Array(n + 1);
   const sc = new Float64Array(n + 1);
+  const scc = new Float64Array(n + 1);
   const stc = new Float64Array(n + 1);
   for (let i = 0; i < n; i++) {
     const t = readings[i].timeSeconds - t0;
@@ -114,9 +144,11 @@ function rates(readings: readonly DriftReading[], windowSeconds: number): DriftR
     st[i + 1] = st[i] + t;
     stt[i + 1] = stt[i] + t * t;
     sc[i + 1] = sc[i] + c;
+    scc[i + 1] = scc[i] + c * c;
     stc[i + 1] = stc[i] + t * c;
   }
-  const out: DriftRatePoint[] = [];
+  const points: DriftRatePoint[] = [];
+  const lines: WindowLine[] = [];
   let start = 0;
   for (let j = 0; j < n; j++) {
     const tEnd = readings[j].timeSeconds;
@@ -127,13 +159,35 @@ function rates(readings: readonly DriftReading[], windowSeconds: number): DriftR
     const sT = st[j + 1] - st[start];
     const sTT = stt[j + 1] - stt[start];
     const sC = sc[j + 1] - sc[start];
+    const sCC = scc[j + 1] - scc[start];
     const sTC = stc[j + 1] - stc[start];
     const varT = sTT - (sT * sT) / m;
     if (!(varT > 0)) continue;
-    const slope = (sTC - (sT * sC) / m) / varT; // cents per second
-    out.push({ timeSeconds: tEnd, centsPerMinute: slope * 60 });
+    const covTC = sTC - (sT * sC) / m;
+    const slope = covTC / varT; // cents per second
+    const varC = sCC - (sC * sC) / m;
+    const rss = Math.max(0, varC - slope * covTC);
+    const se = Math.sqrt(rss / (m - 2) / varT);
+    points.push({ timeSeconds: tEnd, centsPerMinute: slope * 60, stdErrCentsPerMinute: se * 60, count: m });
+    lines.push({ slopePerSecond: slope, interceptCents: sC / m - (slope * sT) / m });
   }
-  return out;
+  return { points, lines };
+}
+
+function rates(readings: readonly DriftReading[], windowSeconds: number): DriftRatePoint[] {
+  return ratesWithLines(readings, windowSeconds).points;
+}
+
+const quantileCache = new Map<number, number>();
+/** One-sided 95 % Student t quantile for a window of m readings (m − 2 dof), cached. */
+function upperQuantile(m: number): number {
+  const dof = Math.max(1, m - 2);
+  let q = quantileCache.get(dof);
+  if (q === undefined) {
+    q = studentTQuantile(0.95, dof);
+    quantileCache.set(dof, q);
+  }
+  return q;
 }
 
 /**
@@ -160,9 +214,13 @@ export function driftRateSeries(
 /**
  * Total drift, current drift rate and warm-up time of an oscillator held at one voltage.
  *
- * The warm-up time is the end of the first full trailing window from which every later window's rate
- * stays under `thresholdCentsPerMinute` (default 0.1 cent/min, docs/facts.md common practice), provided
- * that stretch lasts at least `confirmSeconds`; otherwise the result is `'not-yet-settled'`.
+ * Each trailing window's rate comes with its regression standard error and a one-sided 95 % bound from
+ * Student's t with m − 2 degrees of freedom. The warm-up time is the end of the first window whose rate's
+ * upper bound is under `thresholdCentsPerMinute` (default 0.1 cent/min, FIELD-NOTES common practice) and
+ * after which no window's rate is significantly above it (its lower bound stays under), provided that
+ * stretch lasts at least `confirmSeconds`; otherwise the result is `'not-yet-settled'`. So reading noise
+ * widens the bounds instead of postponing the verdict with chance excursions. Totals are given from the
+ * readings and from the fitted lines (which average the reading noise away).
  *
  * @param readings - Readings at one voltage, strictly increasing in time, Hz > 0.
  * @param opts - Window, threshold and confirmation time.
@@ -175,19 +233,33 @@ export function driftRateSeries(
 export function analyzeDrift(readings: readonly DriftReading[], opts: DriftOptions = {}): DriftResult {
   const { windowSeconds, threshold, confirm } = validate(readings, opts);
   if (readings.length < 3) return { kind: 'none', reason: 'too-few-readings' };
-  const series = rates(readings, windowSeconds);
+  const { points: series, lines } = ratesWithLines(readings, windowSeconds);
   if (series.length === 0) return { kind: 'none', reason: 'shorter-than-window' };
+  const t0 = readings[0].timeSeconds;
   const last = readings[readings.length - 1];
-  const finalRate = series[series.length - 1].centsPerMinute;
-  // First index from which every rate stays under the threshold.
+  const final = series[series.length - 1];
+  const upper = (p: DriftRatePoint) =>
+    Math.abs(p.centsPerMinute) + upperQuantile(p.count) * p.stdErrCentsPerMinute;
+  const lower = (p: DriftRatePoint) =>
+    Math.abs(p.centsPerMinute) - upperQuantile(p.count) * p.stdErrCentsPerMinute;
+  const fitted = (k: number, t: number) => lines[k].interceptCents + lines[k].slopePerSecond * (t - t0);
+  const finalFields = {
+    driftRateCentsPerMinute: final.centsPerMinute,
+    driftRateStdErrCentsPerMinute: final.stdErrCentsPerMinute,
+    rateUpperBoundCentsPerMinute: upper(final),
+  };
+  // Warm from the first window whose rate's upper bound is under the threshold, provided no later window's
+  // rate is significantly above it (its lower bound stays under) for at least confirmSeconds.
   let k = series.length;
-  while (k > 0 && Math.abs(series[k - 1].centsPerMinute) < threshold) k--;
+  while (k > 0 && lower(series[k - 1]) < threshold) k--;
+  while (k < series.length && !(upper(series[k]) < threshold)) k++;
   const cents = (a: DriftReading, b: DriftReading) => 1200 * Math.log2(b.hz / a.hz);
   if (k === series.length || last.timeSeconds - series[k].timeSeconds < confirm) {
     return {
       kind: 'not-yet-settled',
       totalDriftCents: cents(readings[0], last),
-      driftRateCentsPerMinute: finalRate,
+      ...finalFields,
+      totalDriftFittedCents: fitted(series.length - 1, last.timeSeconds) - fitted(0, t0),
     };
   }
   const settledAt = series[k].timeSeconds;
@@ -196,10 +268,11 @@ export function analyzeDrift(readings: readonly DriftReading[], opts: DriftOptio
   for (let i = k; i < series.length; i++) maxRate = Math.max(maxRate, Math.abs(series[i].centsPerMinute));
   return {
     kind: 'settled',
-    warmUpSeconds: settledAt - readings[0].timeSeconds,
+    warmUpSeconds: settledAt - t0,
     settledAtSeconds: settledAt,
     totalDriftCents: cents(firstSettled, last),
-    driftRateCentsPerMinute: finalRate,
+    ...finalFields,
     maxSettledRateCentsPerMinute: maxRate,
+    totalDriftFittedCents: fitted(series.length - 1, last.timeSeconds) - fitted(k, settledAt),
   };
 }

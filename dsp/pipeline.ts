@@ -19,7 +19,10 @@ import {
   type InputNetwork,
   type TrimAdvice,
 } from './advice.ts';
+import { assessSteps, budgetToJson, modelAsTrackingFit, type Assessment } from './assessment.ts';
+import type { BudgetOptions } from './budget.ts';
 import { applyClockPpm, MAX_CLOCK_PPM } from './clock.ts';
+import { hfCents, lowEndCents, modelHz } from './model.ts';
 import {
   analyzeBends,
   fitTracking,
@@ -86,6 +89,12 @@ export interface CalibrateOptions extends CalibrationOptions {
   readonly a4Hz?: Hertz;
   /** The interface clock's error, ppm (positive = fast), within ±1000 (`dsp/clock.ts`). Default 0. */
   readonly clockPpm?: Ppm;
+  /** Meter, source accuracy, clock uncertainty and temperature for the uncertainty budget (`dsp/budget.ts`). */
+  readonly budget?: BudgetOptions;
+  /** Tolerance over the range in use, cents, > 0 (`dsp/tolerance.ts`). Default 1. */
+  readonly toleranceCents?: Cents;
+  /** The pitch the unit should play at a voltage. Default: the nearest note at the lowest step used. */
+  readonly offsetTarget?: { readonly volts: Volts; readonly hz: Hertz };
 }
 
 /** What {@link calibrate} returns: the result, and the objects the app's views draw from. */
@@ -100,6 +109,11 @@ export interface Calibration {
   readonly bends: BendAnalysis;
   /** The trim advice; null without voltages. */
   readonly advice: TrimAdvice | null;
+  /**
+   * The calibration model with its flags, budgets, tolerance verdict and advice (`dsp/assessment.ts`); null
+   * without voltages. `fit` is this model in the straight-line fit's shape, and `advice` its advice.
+   */
+  readonly assessment?: Assessment | null;
 }
 
 function checkNumber(name: string, v: unknown, lo: number, hi: number): number {
@@ -235,6 +249,8 @@ function adviceJson(advice: TrimAdvice | null): ResultAdvice[] {
     millivoltsAtInput: finiteOrNull(a.millivoltsAtInput),
     resistors:
       a.resistors === null ? null : a.resistors.map((r) => ({ ...r, e24: { ...r.e24 }, e96: { ...r.e96 } })),
+    ...(a.uncertaintyCents === undefined ? {} : { uncertaintyCents: finiteOrNull(a.uncertaintyCents) }),
+    ...(a.target === undefined ? {} : { target: a.target === null ? null : { ...a.target } }),
   });
   const words = (kind: 'next' | 'caution', text: string): ResultAdvice => ({
     text,
@@ -301,12 +317,47 @@ export function calibrate(steps: readonly CapturedStep[], opts: CalibrateOptions
         { ...calibration, a4Hz },
       )
     : null;
-  const fit = done ? done.fit : NO_FIT;
+  // ---- The one model behind every figure (dsp/model.ts via dsp/assessment.ts). ----
+  const assessment = rows
+    ? assessSteps(
+        steps.map((s, i) => ({
+          nominalVolts: s.volts as Volts,
+          measuredVolts: s.measuredVolts,
+          hz: hz[i],
+          uncertaintyCents: s.uncertaintyCents,
+          ...(s.components && 'estimatorCents' in s.components
+            ? { components: { ...s.components, dof: s.components.dof ?? Infinity } }
+            : {}),
+        })),
+        {
+          ...calibration,
+          a4Hz,
+          ...(opts.budget === undefined ? {} : { budget: opts.budget }),
+          ...(opts.toleranceCents === undefined ? {} : { toleranceCents: opts.toleranceCents }),
+          ...(opts.offsetTarget === undefined ? {} : { offsetTarget: opts.offsetTarget }),
+        },
+      )
+    : null;
+  const model = assessment?.model.kind === 'ok' ? assessment.model : null;
+  const fit: TrackingFit = model ? modelAsTrackingFit(model) : done ? done.fit : NO_FIT;
   const bends = done ? done.bends : NO_FIT;
   // Without a table (no steps yet) the advice is still the typed "capture more steps".
-  const advice = done ? done.advice : withVolts ? adviseTrim({ fit: NO_FIT, a4Hz }) : null;
+  const advice: TrimAdvice | null =
+    assessment?.advice ?? (done ? done.advice : withVolts ? adviseTrim({ fit: NO_FIT, a4Hz }) : null);
   const fitOk = fit.kind === 'ok' ? fit : null;
   const bendsOk = bends.kind === 'ok' ? bends : null;
+  const modelAdvice = assessment?.advice ?? null;
+  const inVoltRange = (v: number) => Math.abs(v) <= MAX_VOLTS;
+  const topEnd = (): ResultFit['highEnd'] => {
+    if (!model || model.terms.hf === 'none') return { kind: 'straight', centsAtEnd: null };
+    const c = hfCents(model, modelHz(model, model.toVolts)) - hfCents(model, modelHz(model, model.fromVolts));
+    return { kind: c < 0 ? 'flat' : 'sharp', centsAtEnd: c };
+  };
+  const bottomEnd = (): ResultFit['lowEnd'] => {
+    if (!model || !model.terms.lowEnd) return { kind: 'straight', centsAtEnd: null };
+    const c = lowEndCents(model, modelHz(model, model.fromVolts));
+    return { kind: c < 0 ? 'flat' : 'sharp', centsAtEnd: c };
+  };
 
   const result: CalibrationResult = {
     schemaVersion: RESULT_SCHEMA_VERSION,
@@ -330,10 +381,13 @@ export function calibrate(steps: readonly CapturedStep[], opts: CalibrateOptions
         centsFromIdealUncertainty: finiteOrNull(row?.centsFromIdealUncertainty),
         intervalErrorCents: finiteOrNull(row?.intervalErrorCents),
         intervalUncertaintyCents: finiteOrNull(row?.intervalUncertaintyCents),
-        flags: [...(s.flags ?? [])],
+        flags: [...new Set([...(s.flags ?? []), ...(assessment?.flags[i] ?? [])])],
         components: componentsJson(s.components),
-        likelyVolts: s.likelyVolts ?? null,
-        budget: s.budget ?? null,
+        likelyVolts:
+          assessment?.likelyVolts[i] != null && inVoltRange(assessment.likelyVolts[i] as number)
+            ? (assessment.likelyVolts[i] as number)
+            : (s.likelyVolts ?? null),
+        budget: assessment ? budgetToJson(assessment.stepBudgets[i]) : (s.budget ?? null),
         capture: s.capture ? captureJson(s.capture) : null,
       };
     }),
@@ -350,14 +404,52 @@ export function calibrate(steps: readonly CapturedStep[], opts: CalibrateOptions
           fromVolts: fitOk.fromVolts,
           toVolts: fitOk.toVolts,
           chiSquaredPerDof: finiteOrNull(fitOk.chiSquaredPerDof),
-          middleScaleErrorCentsPerOctave: bendsOk ? bendsOk.scaleErrorCentsPerOctave : null,
-          highEnd: endJson(bendsOk?.highEnd),
-          lowEnd: endJson(bendsOk?.lowEnd),
+          middleScaleErrorCentsPerOctave: model
+            ? model.scaleErrorCentsPerOctave
+            : bendsOk
+              ? bendsOk.scaleErrorCentsPerOctave
+              : null,
+          highEnd: model ? topEnd() : endJson(bendsOk?.highEnd),
+          lowEnd: model ? bottomEnd() : endJson(bendsOk?.lowEnd),
+          model: model
+            ? {
+                hfTerm: model.terms.hf,
+                lowEndTerm: model.terms.lowEnd,
+                criterion: model.criterion,
+                equivalentResetSeconds: finiteOrNull(model.equivalentResetSeconds),
+                equivalentResetSecondsStdErr: finiteOrNull(model.equivalentResetSecondsStdErr),
+                mixtureResolved: model.mixtureResolved,
+                resetSeconds: model.parameters.resetSeconds,
+                bulkAlphaSeconds: model.parameters.bulkAlphaSeconds,
+                lowEndHz: model.parameters.lowEndHz,
+                suspectSteps: model.suspects.map((x) => steps[x.index].index),
+              }
+            : null,
+          straightLine: model?.straightLine
+            ? {
+                octavesPerVolt: model.straightLine.octavesPerVolt,
+                scaleErrorCentsPerOctave: model.straightLine.scaleErrorCentsPerOctave,
+                hzAt0V: model.straightLine.hzAt0V,
+                maxResidualCents: model.straightLine.maxAbsResidualCents,
+              }
+            : null,
+          scaleBudget: modelAdvice ? budgetToJson(modelAdvice.budgets.scale) : null,
+          pitchAt0VBudget: modelAdvice ? budgetToJson(modelAdvice.budgets.pitchAt0V) : null,
+          tolerance: modelAdvice
+            ? {
+                toleranceCents: modelAdvice.tolerance.toleranceCents,
+                verdict: modelAdvice.tolerance.verdict,
+                text: modelAdvice.tolerance.text,
+              }
+            : null,
+          refusal: assessment?.refusal
+            ? { reason: assessment.refusal.reason, message: assessment.refusal.message }
+            : null,
         }
       : null,
     advice: adviceJson(advice),
   };
-  return { result, table, fit, bends, advice };
+  return { result, table, fit, bends, advice, assessment };
 }
 
 /** The reading figures of a live capture the run state does not keep (the engine keeps them beside it). */

@@ -32,6 +32,7 @@ import { MAX_CLOCK_PPM } from './clock.ts';
 import type { BendAnalysisOk, TrackingFitOk } from './fit.ts';
 import { A4_HZ, CENTS_PER_OCTAVE, nearestNote, type NearestNote } from './notes.ts';
 import { PitchEstimator } from './pitch.ts';
+import type { BudgetOptions } from './budget.ts';
 import { calibrate, checkCalibrationOptions, type CapturedStep } from './pipeline.ts';
 import { MAX_CONTROL_VOLTS as MAX_VOLTS } from './plan.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
@@ -99,6 +100,10 @@ export interface RecordingOptions {
    * advice carries resistor values that would correct the scale, with the nearest E24 and E96 values.
    */
   readonly network?: InputNetwork;
+  /** Meter, source accuracy, clock uncertainty and temperature for the uncertainty budget (`dsp/budget.ts`). */
+  readonly budget?: BudgetOptions;
+  /** Tolerance over the range in use, cents, > 0 (`dsp/tolerance.ts`). Default 1. */
+  readonly toleranceCents?: Cents;
   /** Plateaus spanning less than this, seconds, are ignored; ≥ 0. Default `settleSeconds`. */
   readonly minPlateauSeconds?: Seconds;
   /** Longest precise window per step, seconds, 0.25…30; longer steps are measured over their centre. Default 4. */
@@ -532,7 +537,13 @@ export function analyzeRecording(
       peakDbfs: m.reading ? m.reading.level.peakDbfs : null,
     },
   }));
-  const cal = calibrate(captured, { ...calibration, a4Hz, clockPpm });
+  const cal = calibrate(captured, {
+    ...calibration,
+    a4Hz,
+    clockPpm,
+    ...(opts.budget === undefined ? {} : { budget: opts.budget }),
+    ...(opts.toleranceCents === undefined ? {} : { toleranceCents: opts.toleranceCents }),
+  });
 
   const steps: RecordingStep[] = measuredSteps.map((m, i) => {
     const r = cal.result.steps[i];

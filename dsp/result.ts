@@ -150,6 +150,55 @@ export const ResultFitSchema = z.strictObject({
   middleScaleErrorCentsPerOctave: nfinite(),
   highEnd: EndSchema.nullable(),
   lowEnd: EndSchema.nullable(),
+  /**
+   * The calibration model behind every figure above (`dsp/model.ts`): its terms, how they were chosen, the HF
+   * term as an equivalent reset time, and the steps it left out as suspect. Absent in older results.
+   */
+  model: z
+    .strictObject({
+      hfTerm: z.enum(['none', 'reset-time', 'bulk-resistance', 'both']),
+      lowEndTerm: z.boolean(),
+      criterion: z.literal('AICc'),
+      equivalentResetSeconds: nfinite(),
+      equivalentResetSecondsStdErr: nfinite(),
+      mixtureResolved: z.boolean(),
+      resetSeconds: finite(),
+      bulkAlphaSeconds: finite(),
+      lowEndHz: finite(),
+      suspectSteps: z.array(z.number().int().nonnegative()).max(512),
+    })
+    .nullable()
+    .optional(),
+  /** The straight line through every step in the range, suspect steps and bends included (labelled as such). */
+  straightLine: z
+    .strictObject({
+      octavesPerVolt: finite(),
+      scaleErrorCentsPerOctave: finite(),
+      hzAt0V: z.number().finite().positive(),
+      maxResidualCents: finite().nonnegative(),
+    })
+    .nullable()
+    .optional(),
+  /** GUM budgets of the scale error (cents per octave) and the 0 V pitch (cents). */
+  scaleBudget: BudgetSchema.nullable().optional(),
+  pitchAt0VBudget: BudgetSchema.nullable().optional(),
+  /** The tolerance verdict over the range (guarded: |error| + U inside). */
+  tolerance: z
+    .strictObject({
+      toleranceCents: z.number().finite().positive(),
+      verdict: z.enum(['within', 'outside', 'cannot-tell']),
+      text: z.string().min(1).max(2000),
+    })
+    .nullable()
+    .optional(),
+  /** Set when the steps failed a plausibility gate: no trim is advised. */
+  refusal: z
+    .strictObject({
+      reason: z.enum(['falling-pitch', 'implausible-scale', 'inconsistent-steps']),
+      message: z.string().min(1).max(2000),
+    })
+    .nullable()
+    .optional(),
 });
 
 const PreferredSchema = z.strictObject({
@@ -168,6 +217,15 @@ export const ResistorChangeSchema = z.strictObject({
   toOhms: z.number().finite().positive(),
   e24: PreferredSchema,
   e96: PreferredSchema,
+  /** The E96 value's outcome at the part's tolerance, and whether it beats no change. */
+  withTolerance: z
+    .strictObject({
+      tolerancePercent: z.number().finite().positive(),
+      lowCentsPerOctave: finite(),
+      highCentsPerOctave: finite(),
+      betterThanNoChange: z.boolean(),
+    })
+    .optional(),
 });
 
 /** One piece of advice: a trim item, the next measurement, or the caution. */
@@ -181,6 +239,21 @@ export const ResultAdviceSchema = z.strictObject({
   gainChangePercent: nfinite(),
   millivoltsAtInput: nfinite(),
   resistors: z.array(ResistorChangeSchema).max(8).nullable(),
+  /** Expanded uncertainty of `errorCents`, cents (k from the budget); absent in older results. */
+  uncertaintyCents: nfinite().optional(),
+  /** The reading to trim to: the step at `volts` should read `hz` (an interval of `intervalCents` from `fromVolts`). */
+  target: z
+    .strictObject({
+      volts: finite(),
+      hz: z.number().finite().positive(),
+      nowHz: z.number().finite().positive(),
+      fromVolts: finite(),
+      fromHz: z.number().finite().positive(),
+      intervalCents: finite(),
+      nowIntervalCents: finite(),
+    })
+    .nullable()
+    .optional(),
 });
 
 /** The result of a calibration pass, schema {@link RESULT_SCHEMA_VERSION}. */

@@ -403,8 +403,10 @@ export interface ExpectedPitch {
   /** Expected interval from the reference step, cents. */
   intervalCents: Cents;
   octavesPerVolt: number;
-  /** Tolerance used for this step: min(toleranceCents, |intervalCents|/2), cents. */
+  /** Tolerance used for this step: min(toleranceCents, |intervalCents|/2, the narrowed window), cents. */
   toleranceCents: Cents;
+  /** Standard deviation of the prediction when the window was narrowed ({@link acceptanceWindow}), cents. */
+  predictionSigmaCents?: Cents;
 }
 
 /**
@@ -428,13 +430,123 @@ export function expectedPitch(state: RunState, stepIndex: number): ExpectedPitch
   if (!ref || !ref.capture) return null;
   const { octavesPerVolt } = estimateOctavesPerVolt(state, stepIndex);
   const intervalCents = 1200 * (stepVolts(state, stepIndex) - stepVolts(state, ref.index)) * octavesPerVolt;
+  const wide = Math.min(state.options.toleranceCents, Math.abs(intervalCents) / 2);
+  const narrow = acceptanceWindow(state, stepIndex);
+  if (narrow !== null && narrow.toleranceCents < wide) {
+    return {
+      expectedHz: narrow.expectedHz,
+      refStep: ref.index,
+      intervalCents: 1200 * Math.log2(narrow.expectedHz / ref.capture.hz),
+      octavesPerVolt,
+      toleranceCents: narrow.toleranceCents,
+      predictionSigmaCents: narrow.sigmaCents,
+    };
+  }
   return {
     expectedHz: ref.capture.hz * Math.pow(2, intervalCents / 1200),
     refStep: ref.index,
     intervalCents,
     octavesPerVolt,
-    toleranceCents: Math.min(state.options.toleranceCents, Math.abs(intervalCents) / 2),
+    toleranceCents: wide,
   };
+}
+
+/** Captured steps (other than the one judged) needed before the acceptance window narrows. */
+export const NARROW_AFTER_STEPS = 3;
+/** The narrowed window is this many prediction standard deviations… */
+export const WINDOW_SIGMAS = 4;
+/** …plus this many cents (a 30 mV slip is 36 cents at 1 V/oct, FIELD-NOTES; the window stays well inside it). */
+export const WINDOW_MARGIN_CENTS: Cents = 8;
+/** Smallest scatter assumed for live captures, cents: oscillator wander and thermal tails (common practice, no source). */
+export const WINDOW_SIGMA_FLOOR_CENTS: Cents = 0.5;
+
+/** Solves the small normal equations (XᵀX)β = Xᵀy by Gauss–Jordan; returns β and (XᵀX)⁻¹, or null when singular. */
+function smallLeastSquares(cols: number[][], y: number[]): { beta: number[]; inv: number[][] } | null {
+  const p = cols.length;
+  const n = y.length;
+  const m = cols.map((cj, j) => {
+    const row = cols.map((ck) => cj.reduce((a, x, i) => a + x * ck[i], 0));
+    const eye = cols.map((_, k) => (k === j ? 1 : 0));
+    return [...row, cj.reduce((a, x, i) => a + x * y[i], 0), ...eye];
+  });
+  const scale = Math.max(...m.map((r, j) => Math.abs(r[j])));
+  for (let c = 0; c < p; c++) {
+    let piv = c;
+    for (let r = c + 1; r < p; r++) if (Math.abs(m[r][c]) > Math.abs(m[piv][c])) piv = r;
+    if (!(Math.abs(m[piv][c]) > 1e-12 * scale)) return null;
+    [m[c], m[piv]] = [m[piv], m[c]];
+    const d = m[c][c];
+    for (let k = 0; k < m[c].length; k++) m[c][k] /= d;
+    for (let r = 0; r < p; r++) {
+      if (r === c) continue;
+      const f = m[r][c];
+      for (let k = 0; k < m[r].length; k++) m[r][k] -= f * m[c][k];
+    }
+  }
+  void n;
+  return { beta: m.map((r) => r[p]), inv: m.map((r) => r.slice(p + 1)) };
+}
+
+/** The narrowed acceptance window for a step. */
+export interface AcceptanceWindow {
+  /** Pitch the captured steps predict, Hz. */
+  expectedHz: Hertz;
+  /** Standard deviation of that prediction, cents. */
+  sigmaCents: Cents;
+  /** Half-width of the window, cents: `WINDOW_SIGMAS·σ + WINDOW_MARGIN_CENTS`. */
+  toleranceCents: Cents;
+}
+
+/**
+ * Once {@link NARROW_AFTER_STEPS} other steps are captured, where the next one should land and how far it
+ * may stray: an ordinary least-squares fit of `1200·(log2 f − V)` to `a + e·V` (plus a term in −f for
+ * high-frequency droop once five steps are in), its prediction at the step's voltage and the prediction's
+ * standard deviation `s·√(1 + x₀ᵀ(XᵀX)⁻¹x₀)` with s the residual scatter, floored at
+ * {@link WINDOW_SIGMA_FLOOR_CENTS} (the prediction interval of a regression; e.g. Montgomery, Peck & Vining,
+ * "Introduction to Linear Regression Analysis", §2.4). The window is a few σ plus a few cents, so a 30 mV
+ * slip (36 cents) is caught before it is captured.
+ *
+ * @param state - A run.
+ * @param stepIndex - The step to judge.
+ * @returns The window, or null with too few captured steps.
+ * @example acceptanceWindow(runWithFourSteps, 4) // { expectedHz: 1043.2…, sigmaCents: 0.5…, toleranceCents: 10.2… }
+ */
+export function acceptanceWindow(state: RunState, stepIndex: number): AcceptanceWindow | null {
+  const v: number[] = [];
+  const f: number[] = [];
+  for (const st of state.steps) {
+    if (!st.capture || st.index === stepIndex) continue;
+    v.push(stepVolts(state, st.index));
+    f.push(st.capture.hz);
+  }
+  const n = v.length;
+  if (n < NARROW_AFTER_STEPS || new Set(v).size < 2) return null;
+  const y = v.map((x, i) => 1200 * (Math.log2(f[i]) - x));
+  const v0 = stepVolts(state, stepIndex);
+  for (const withHf of n >= 5 ? [true, false] : [false]) {
+    const cols = [v.map(() => 1), v.slice(), ...(withHf ? [f.map((x) => -x)] : [])];
+    const fit = smallLeastSquares(cols, y);
+    if (fit === null) continue;
+    const p = cols.length;
+    let rss = 0;
+    for (let i = 0; i < n; i++) {
+      let yi = 0;
+      for (let j = 0; j < p; j++) yi += cols[j][i] * fit.beta[j];
+      rss += (y[i] - yi) ** 2;
+    }
+    const s = Math.max(n > p ? Math.sqrt(rss / (n - p)) : 0, WINDOW_SIGMA_FLOOR_CENTS);
+    // Predicted pitch at v0 (the droop term depends on the pitch itself: a few fixed-point steps).
+    let f0 = Math.pow(2, v0 + (fit.beta[0] + fit.beta[1] * v0) / 1200);
+    for (let k = 0; k < 20 && withHf; k++)
+      f0 = Math.pow(2, v0 + (fit.beta[0] + fit.beta[1] * v0 - fit.beta[2] * f0) / 1200);
+    const x0 = [1, v0, ...(withHf ? [-f0] : [])];
+    let lev = 0;
+    for (let j = 0; j < p; j++) for (let k = 0; k < p; k++) lev += x0[j] * fit.inv[j][k] * x0[k];
+    const sigma = s * Math.sqrt(1 + Math.max(0, lev));
+    if (!Number.isFinite(f0) || !(f0 > 0) || !Number.isFinite(sigma)) continue;
+    return { expectedHz: f0, sigmaCents: sigma, toleranceCents: WINDOW_SIGMAS * sigma + WINDOW_MARGIN_CENTS };
+  }
+  return null;
 }
 
 /** A captured step, ready for fitting. */

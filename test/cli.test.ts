@@ -338,7 +338,7 @@ describe('output formatting', () => {
   it.each([
     [0.0001234, '0.00012'],
     [0.0012, '0.0012'],
-    [0.0999, '0.100'],
+    [0.0999, '0.10'], // two significant digits even when rounding carries into the next decade (GUM 7.2.6)
     [2.345, '2.3'],
     [17.2, '17'],
     [0, '0'],

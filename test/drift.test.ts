@@ -103,3 +103,46 @@ describe('analyzeDrift', () => {
     );
   });
 });
+
+describe('drift rate with its uncertainty', () => {
+  it('gives the slope standard error of the textbook regression formula (Bevington & Robinson ch. 6, derived)', () => {
+    const r = readings(200, 1, (t) => 0.001 * t + 0.05 * Math.sin(t * 1.7), 0.0001, 4);
+    const series = driftRateSeries(r, { windowSeconds: 120 });
+    const last = series[series.length - 1];
+    const win = r.filter((x) => x.timeSeconds >= r[r.length - 1].timeSeconds - 120);
+    const ts = win.map((x) => x.timeSeconds);
+    const cs = win.map((x) => 1200 * Math.log2(x.hz / r[0].hz));
+    const m = ts.length;
+    const tm = ts.reduce((a, b) => a + b, 0) / m;
+    const cm = cs.reduce((a, b) => a + b, 0) / m;
+    const sxx = ts.reduce((a, t) => a + (t - tm) ** 2, 0);
+    const b = ts.reduce((a, t, i) => a + (t - tm) * (cs[i] - cm), 0) / sxx;
+    const rss = ts.reduce((a, t, i) => a + (cs[i] - cm - b * (t - tm)) ** 2, 0);
+    expect(last.centsPerMinute).toBeCloseTo(b * 60, 8);
+    expect(last.stdErrCentsPerMinute).toBeCloseTo(Math.sqrt(rss / (m - 2) / sxx) * 60, 8);
+    expect(last.count).toBe(m);
+  });
+
+  it('is not postponed by 0.3 cent of reading noise (issue 9: it was by 20 minutes)', () => {
+    const tau = 300;
+    const clean = analyzeDrift(readings(3600, 1, (t) => 5 * (1 - Math.exp(-t / tau)), 0.001, 4));
+    const noisy = analyzeDrift(readings(3600, 1, (t) => 5 * (1 - Math.exp(-t / tau)), 0.3, 9));
+    expect(clean.kind).toBe('settled');
+    expect(noisy.kind).toBe('settled');
+    if (clean.kind !== 'settled' || noisy.kind !== 'settled') return;
+    // The bound adds about 1.65 standard errors (0.047 cent/min for 0.3 cent noise over 120 readings), so the
+    // verdict comes a little later than the noiseless one, never 20 minutes later.
+    expect(noisy.warmUpSeconds - clean.warmUpSeconds).toBeLessThan(300);
+    expect(noisy.rateUpperBoundCentsPerMinute).toBeLessThan(0.1 + 0.2);
+    expect(noisy.driftRateStdErrCentsPerMinute).toBeGreaterThan(0.02);
+    expect(noisy.driftRateStdErrCentsPerMinute).toBeLessThan(0.08);
+    // The fitted total averages the noise away: within 0.1 cent of the true drift since settling.
+    const trueTotal = 5 * (Math.exp(-noisy.settledAtSeconds / tau) - Math.exp(-3600 / tau));
+    expect(Math.abs(noisy.totalDriftFittedCents - trueTotal)).toBeLessThan(0.1);
+  });
+
+  it('does not call a unit warm while the rate is above 0.1 cent per minute, noise or not', () => {
+    const d = analyzeDrift(readings(1800, 1, (t) => (0.15 * t) / 60, 0.3, 3));
+    expect(d.kind).toBe('not-yet-settled');
+  });
+});

@@ -123,16 +123,17 @@ describe('the autosave of schema 1 and the one pipeline', () => {
     expect(now.steps.map((s) => [s.hz, s.centsFromIdeal, s.intervalErrorCents, s.measuredVolts])).toEqual(
       m.result.steps.map((s) => [s.hz, s.centsFromIdeal, s.intervalErrorCents, s.measuredVolts]),
     );
-    expect(now.fit).toMatchObject(saved.fit);
-    // Schema 1 of a live run kept these advice fields (no kind, gain change or millivolts).
-    const kept = (a: CalibrationResult['advice'][number]) => [
-      a.text,
-      a.trimmer,
-      a.status,
-      a.direction,
-      a.errorCents,
-    ];
-    expect(now.advice.filter((a) => a.kind === 'trim').map(kept)).toEqual(m.result.advice.map(kept));
+    // Issue 9: the fit and the advice now come from the calibration model (dsp/model.ts); the straight line
+    // the old code saved stays available, labelled, in fit.straightLine, with the same weights as before.
+    const old = saved.fit as { scaleErrorCentsPerOctave: number; hzAt0V: number };
+    expect(
+      Math.abs(now.fit!.straightLine!.scaleErrorCentsPerOctave - old.scaleErrorCentsPerOctave),
+    ).toBeLessThan(1e-9);
+    expect(Math.abs(1200 * Math.log2(now.fit!.straightLine!.hzAt0V / old.hzAt0V))).toBeLessThan(1e-9);
+    expect(now.fit!.model?.criterion).toBe('AICc');
+    expect(now.advice.filter((a) => a.kind === 'trim').map((a) => a.trimmer)).toEqual(
+      expect.arrayContaining(['scale', 'hf', 'offset']),
+    );
   });
 
   it('the recording analysis gives the numbers `analyze --json` printed before, bit for bit', () => {
@@ -157,7 +158,11 @@ describe('the autosave of schema 1 and the one pipeline', () => {
     const num = (r: CalibrationResult) =>
       r.steps.map((s) => [s.hz, s.uncertaintyCents, s.centsFromIdeal, s.centsFromIdealUncertainty, s.note]);
     expect(num(a.result)).toEqual(num(was as CalibrationResult));
-    expect(a.result.fit).toEqual(was.fit);
-    expect(a.result.advice).toEqual(was.advice);
+    // Issue 9: the headline fit and the advice come from the calibration model; the old straight line is kept.
+    expect(
+      Math.abs(a.result.fit!.straightLine!.scaleErrorCentsPerOctave - was.fit!.scaleErrorCentsPerOctave),
+    ).toBeLessThan(1e-9);
+    expect(a.result.fit!.model?.criterion).toBe('AICc');
+    expect(a.result.advice.map((x) => x.kind)).toEqual(expect.arrayContaining(['trim', 'next', 'caution']));
   });
 });

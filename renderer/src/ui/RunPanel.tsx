@@ -371,6 +371,71 @@ export function FitAndAdvice(props: { analysis: RunAnalysis }) {
   );
 }
 
+/**
+ * The calibration model's extra figures (issue 9): expanded uncertainties of the scale and the 0 V pitch from
+ * their GUM budgets, the model's terms, the labelled straight line, suspect steps and the tolerance verdict.
+ */
+function ModelBudgetRows(props: { analysis: RunAnalysis }) {
+  const rf = props.analysis.result.fit;
+  if (!rf?.model) return null;
+  const m = rf.model;
+  const top = (b: NonNullable<typeof rf.scaleBudget>) =>
+    [...b.terms].sort((a, c) => c.standardCents - a.standardCents)[0]?.source ?? '—';
+  const suspects = props.analysis.result.steps.filter((s) => s.flags.includes('suspect-voltage'));
+  return (
+    <>
+      {rf.scaleBudget && (
+        <>
+          <dt>Scale U (k = {rf.scaleBudget.coverageFactor.toFixed(2)})</dt>
+          <dd className="mono" data-testid="scale-expanded">
+            ±{formatUncertainty(rf.scaleBudget.expandedCents)} ¢/oct, mostly {top(rf.scaleBudget)}
+          </dd>
+        </>
+      )}
+      {rf.pitchAt0VBudget && (
+        <>
+          <dt>0 V pitch U</dt>
+          <dd className="mono">
+            ±{formatUncertainty(rf.pitchAt0VBudget.expandedCents)} ¢, mostly {top(rf.pitchAt0VBudget)}
+          </dd>
+        </>
+      )}
+      <dt>Model</dt>
+      <dd>
+        line
+        {m.hfTerm !== 'none' &&
+          ` + HF (equivalent reset time ${((m.equivalentResetSeconds ?? 0) * 1e6).toPrecision(2)} µs)`}
+        {m.lowEndTerm && ' + low-end floor'}, by {m.criterion}
+      </dd>
+      {rf.straightLine && (
+        <>
+          <dt>Straight line, every step</dt>
+          <dd className="mono">{formatCents(rf.straightLine.scaleErrorCentsPerOctave)} ¢/oct</dd>
+        </>
+      )}
+      {suspects.length > 0 && (
+        <>
+          <dt>Suspect voltage</dt>
+          <dd data-testid="suspect-steps">
+            {suspects
+              .map(
+                (s) =>
+                  `step ${s.index + 1}: plays as ${(s.likelyVolts ?? 0).toFixed(3)} V, given ${(s.volts ?? 0).toFixed(3)} V`,
+              )
+              .join('; ')}
+          </dd>
+        </>
+      )}
+      {rf.tolerance && (
+        <>
+          <dt>Tolerance ±{rf.tolerance.toleranceCents} ¢</dt>
+          <dd data-testid="tolerance-verdict">{rf.tolerance.text}</dd>
+        </>
+      )}
+    </>
+  );
+}
+
 export function FitSummary(props: { analysis: RunAnalysis }) {
   const { fit, bends, table } = props.analysis;
   return (
@@ -388,13 +453,14 @@ export function FitSummary(props: { analysis: RunAnalysis }) {
           <dd className="mono">{formatHz(fit.hzAt0V)} Hz</dd>
           <dt>Largest residual</dt>
           <dd className="mono">{fit.maxAbsResidualCents.toFixed(2)} ¢</dd>
+          <ModelBudgetRows analysis={props.analysis} />
           {table && (
             <>
               <dt>Spread</dt>
               <dd className="mono">{table.spreadCents.toFixed(2)} ¢</dd>
             </>
           )}
-          {bends.kind === 'ok' && (
+          {bends.kind === 'ok' && !props.analysis.result.fit?.model && (
             <>
               <dt>Top end</dt>
               <dd>

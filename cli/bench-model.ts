@@ -1,0 +1,400 @@
+/**
+ * Bench cases for the calibration model, the budget and the advice (`spanmeter bench --only
+ * wrong-volts,droop,loop`): wrong voltages caught, HF droop kept out of the headline scale, and the advice
+ * followed literally on simulated units until every step holds.
+ *
+ * The steps are simulated at the level of the captured step, not as audio: each step's pitch is the unit's
+ * true pitch plus Gaussian estimator noise and oscillator wander of stated size, and each step states the
+ * matching uncertainty components (the engine's contract). The audio path's own accuracy is measured by the
+ * engine cases above.
+ */
+import { adviseFromModel, type ModelAdvice } from '../dsp/advice.ts';
+import {
+  METER_PRESETS,
+  stepFitUncertaintyCents,
+  type BudgetOptions,
+  type BudgetStep,
+} from '../dsp/budget.ts';
+import { fitCalibrationModel } from '../dsp/model.ts';
+import { bulkResistanceAlpha } from '../dsp/simulate.ts';
+
+const CENTS = 1200;
+
+/** A small deterministic generator (mulberry32), so every table is reproducible. */
+function rng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+function gaussian(r: () => number): number {
+  return Math.sqrt(-2 * Math.log(r() + 1e-300)) * Math.cos(2 * Math.PI * r());
+}
+
+/** A simulated unit: pitch at V is hz0·2^(s·V) through bulk resistance α and reset time t (t < 0: over-compensated). */
+interface Unit {
+  hz0: number;
+  s: number;
+  resetSeconds: number;
+  alpha: number;
+  /** The voltage the scale trimmer pivots about, V. */
+  pivotVolts: number;
+}
+
+function unitHz(u: Unit, volts: number): number {
+  const fExpo = u.hz0 * Math.pow(2, u.s * volts);
+  // ln(fc/fExpo) = −α·fc, solved by Newton from fc = fExpo.
+  let fc = fExpo;
+  if (u.alpha !== 0) {
+    for (let i = 0; i < 50; i++) {
+      const g = Math.log(fc / fExpo) + u.alpha * fc;
+      const d = 1 / fc + u.alpha;
+      const next = fc - g / d;
+      if (Math.abs(next - fc) < 1e-12 * fc) {
+        fc = next;
+        break;
+      }
+      fc = next;
+    }
+  }
+  return fc / (1 + fc * u.resetSeconds);
+}
+
+const NOISE = { estimatorCents: 0.005, repeatabilityCents: 0.02 };
+
+/** Measures every voltage once: true pitch plus estimator noise and wander; components as the engine states them. */
+function measure(
+  u: Unit,
+  volts: readonly number[],
+  r: () => number,
+  offsets: readonly number[] = [],
+  metered = false,
+): BudgetStep[] {
+  const stated = Math.hypot(NOISE.estimatorCents, NOISE.repeatabilityCents);
+  return volts.map((v, i) => {
+    const actual = v + (offsets[i] ?? 0);
+    const noise = NOISE.estimatorCents * gaussian(r) + NOISE.repeatabilityCents * gaussian(r);
+    return {
+      nominalVolts: v,
+      measuredVolts: metered ? v : null,
+      hz: unitHz(u, actual) * Math.pow(2, noise / CENTS),
+      uncertaintyCents: stated,
+      components: { ...NOISE, settlingCents: 0, dof: 20 },
+    };
+  });
+}
+
+function fitOf(steps: readonly BudgetStep[], opts: BudgetOptions = {}) {
+  return fitCalibrationModel(
+    steps.map((s) => ({
+      volts: s.measuredVolts ?? s.nominalVolts,
+      hz: s.hz,
+      uncertaintyCents: stepFitUncertaintyCents(s, opts),
+    })),
+  );
+}
+
+function table(title: string, header: string[], rows: string[][]): void {
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((row) => row[i].length)));
+  const line = (cells: string[]) => '| ' + cells.map((c, i) => c.padEnd(widths[i])).join(' | ') + ' |';
+  console.log(`\n### ${title}\n`);
+  console.log(line(header));
+  console.log('|' + widths.map((w) => '-'.repeat(w + 2)).join('|') + '|');
+  for (const row of rows) console.log(line(row));
+}
+
+const VOLTS = [0, 1, 2, 3, 4, 5, 6, 7];
+
+/** A random but plausible unit: scale ±5 cents/oct, 0 V within ±30 cents of C1, reset 0–3 µs, bulk 0–1 Ω. */
+function randomUnit(r: () => number): Unit {
+  return {
+    hz0: 32.7032 * Math.pow(2, (60 * r() - 30) / CENTS),
+    s: 1 + (10 * r() - 5) / CENTS,
+    resetSeconds: 3e-6 * r(),
+    alpha: bulkResistanceAlpha(r(), 100e-6, 1000),
+    pivotVolts: 0,
+  };
+}
+
+/** Wrong voltages at the middle step (3 V of 0…7 V): how often flagged, and false flags on clean runs. */
+function wrongVoltsCase(runs: number): boolean {
+  const r = rng(2026);
+  const rows: string[][] = [];
+  let ok = true;
+  let cleanFlags = 0;
+  const cleanRuns = Math.max(runs, 200);
+  for (let k = 0; k < cleanRuns; k++) {
+    const m = fitOf(measure(randomUnit(r), VOLTS, r));
+    if (m.kind === 'ok' && m.suspects.length > 0) cleanFlags++;
+  }
+  rows.push([
+    '0 (clean)',
+    String(cleanRuns),
+    '–',
+    `${cleanFlags} false`,
+    '–',
+    cleanFlags === 0 ? 'yes' : 'NO',
+  ]);
+  if (cleanFlags > 0) ok = false;
+  for (const mv of [10, 20, 30, 50, 100, 300]) {
+    let flagged = 0;
+    let right = 0;
+    let worstLikely = 0;
+    for (let k = 0; k < runs; k++) {
+      const sign = k % 2 === 0 ? 1 : -1;
+      const offsets = VOLTS.map((_, i) => (i === 3 ? (sign * mv) / 1000 : 0));
+      const m = fitOf(measure(randomUnit(r), VOLTS, r, offsets));
+      if (m.kind !== 'ok') continue;
+      const s = m.suspects.find((x) => x.index === 3);
+      if (s) {
+        flagged++;
+        worstLikely = Math.max(worstLikely, Math.abs(s.likelyVolts - (3 + (sign * mv) / 1000)) * 1000);
+      }
+      if (m.suspects.every((x) => x.index === 3)) right++;
+    }
+    const pct = (100 * flagged) / runs;
+    const meets = mv < 30 || pct >= 95;
+    if (!meets) ok = false;
+    rows.push([
+      `±${mv}`,
+      String(runs),
+      `${pct.toFixed(1)} %`,
+      `${runs - right} other steps`,
+      flagged > 0 ? worstLikely.toFixed(2) : '–',
+      mv < 30 ? '(no target)' : meets ? 'yes' : 'NO',
+    ]);
+  }
+  table(
+    'Wrong voltage at the 3 V step of 0…7 V (random units: scale ±5 c/oct, reset 0–3 µs, bulk 0–1 Ω; σ 0.005 + 0.02 wander)',
+    [
+      'error, mV',
+      'runs',
+      'flagged suspect',
+      'runs flagging another step',
+      'worst likelyVolts error, mV',
+      'target ≥ 95 % from 30 mV, none clean',
+    ],
+    rows,
+  );
+  return ok;
+}
+
+/** HF droop: the headline scale against the truth over a grid of reset time and bulk resistance. */
+function droopCase(seeds: number): boolean {
+  const rows: string[][] = [];
+  let ok = true;
+  for (const reset of [0, 1e-6, 2e-6, 3e-6]) {
+    for (const ohms of [0, 0.5, 1]) {
+      const r = rng(1000 + Math.round(reset * 1e7) + ohms * 10);
+      let worst = 0;
+      let worstLine = 0;
+      let worstHz0 = 0;
+      const terms = new Map<string, number>();
+      for (let k = 0; k < seeds; k++) {
+        const u: Unit = {
+          hz0: 32.7032,
+          s: 1 + (4 * r() - 2) / CENTS,
+          resetSeconds: reset,
+          alpha: bulkResistanceAlpha(ohms, 100e-6, 1000),
+          pivotVolts: 0,
+        };
+        const m = fitOf(measure(u, VOLTS, r));
+        if (m.kind !== 'ok') {
+          ok = false;
+          continue;
+        }
+        const truth = CENTS * (u.s - 1);
+        worst = Math.max(worst, Math.abs(m.scaleErrorCentsPerOctave - truth));
+        worstLine = Math.max(worstLine, Math.abs((m.straightLine?.scaleErrorCentsPerOctave ?? NaN) - truth));
+        worstHz0 = Math.max(worstHz0, Math.abs(CENTS * Math.log2(m.hzAt0V / unitHz(u, 0))));
+        terms.set(m.terms.hf, (terms.get(m.terms.hf) ?? 0) + 1);
+      }
+      if (!(worst <= 0.1)) ok = false;
+      rows.push([
+        (reset * 1e6).toFixed(0),
+        ohms.toFixed(1),
+        (
+          CENTS *
+          Math.log2(
+            unitHz(
+              {
+                hz0: 32.7032,
+                s: 1,
+                resetSeconds: reset,
+                alpha: bulkResistanceAlpha(ohms, 100e-6, 1000),
+                pivotVolts: 0,
+              },
+              7,
+            ) /
+              (32.7032 * 128),
+          )
+        ).toFixed(1),
+        worst.toFixed(4),
+        worstLine.toFixed(2),
+        worstHz0.toFixed(4),
+        [...terms].map(([k, v]) => `${k} ${v}`).join(', '),
+        worst <= 0.1 ? 'yes' : 'NO',
+      ]);
+    }
+  }
+  table(
+    `HF droop: headline scale against the truth, ${seeds} units each (0…7 V from C1; bulk at 100 µA per kHz; σ 0.005 + 0.02 wander)`,
+    [
+      'reset, µs',
+      'bulk, Ω',
+      'droop at 7 V, cents',
+      'worst scale error, c/oct',
+      'straight line, c/oct',
+      'worst 0 V pitch error, cents',
+      'HF term chosen',
+      'within 0.1',
+    ],
+    rows,
+  );
+  return ok;
+}
+
+/** The technician: follows each adjust item to its target reading, landing `m` times the change asked for. */
+function applyAdvice(u: Unit, advice: ModelAdvice, m: number): void {
+  for (const it of advice.items) {
+    if (it.status !== 'adjust' || !it.target) continue;
+    const t = it.target;
+    if (it.trimmer === 'scale') {
+      const now = CENTS * Math.log2(unitHz(u, t.volts) / unitHz(u, t.fromVolts));
+      const ds = (m * (t.intervalCents - now)) / (CENTS * (t.volts - t.fromVolts));
+      // Turning the scale trimmer keeps the pitch at the pivot.
+      u.hz0 *= Math.pow(2, -ds * u.pivotVolts);
+      u.s += ds;
+    } else if (it.trimmer === 'hf') {
+      const interval = () => CENTS * Math.log2(unitHz(u, t.volts) / unitHz(u, t.fromVolts));
+      const goal = interval() + m * (t.intervalCents - interval());
+      // The HF trimmer changes the equivalent reset time; find the change by the secant method.
+      let a = u.resetSeconds;
+      let b = u.resetSeconds - 1e-7;
+      const at = (x: number) => {
+        const keep = u.resetSeconds;
+        u.resetSeconds = x;
+        const v = interval() - goal;
+        u.resetSeconds = keep;
+        return v;
+      };
+      let fa = at(a);
+      let fb = at(b);
+      for (let i = 0; i < 50 && Math.abs(fb) > 1e-9; i++) {
+        const c = b - (fb * (b - a)) / (fb - fa);
+        a = b;
+        fa = fb;
+        b = c;
+        fb = at(b);
+      }
+      u.resetSeconds = b;
+    } else if (it.trimmer === 'offset') {
+      const now = CENTS * Math.log2(unitHz(u, t.volts) / t.hz);
+      u.hz0 *= Math.pow(2, (-m * now) / CENTS);
+    }
+  }
+}
+
+/** Closed loop: advice followed literally, trims landing 30 % long or short, until every step holds ±0.5 cent. */
+function loopCase(): boolean {
+  const target = { volts: 0, hz: 32.7032 };
+  const budget: BudgetOptions = { meter: METER_PRESETS['5.5-digit'], clockUncertaintyPpm: 1 };
+  const c1 = 32.7032;
+  const cents = (c: number) => Math.pow(2, c / CENTS);
+  const bulk = (ohms: number) => bulkResistanceAlpha(ohms, 100e-6, 1000);
+  const units: { name: string; u: Unit }[] = [
+    { name: 'scale −2 c/oct', u: { hz0: c1, s: 1 - 2 / CENTS, resetSeconds: 0, alpha: 0, pivotVolts: 0 } },
+    { name: 'offset +12 c', u: { hz0: c1 * cents(12), s: 1, resetSeconds: 0, alpha: 0, pivotVolts: 0 } },
+    { name: 'HF 1.5 µs', u: { hz0: c1, s: 1, resetSeconds: 1.5e-6, alpha: 0, pivotVolts: 0 } },
+    {
+      name: 'scale +1.5 c/oct, pivot 3 V',
+      u: { hz0: c1, s: 1 + 1.5 / CENTS, resetSeconds: 0, alpha: 0, pivotVolts: 3 },
+    },
+    {
+      name: '−1.5 c/oct, +8 c, 1 µs, 0.3 Ω, pivot 2 V',
+      u: { hz0: c1 * cents(8), s: 1 - 1.5 / CENTS, resetSeconds: 1e-6, alpha: bulk(0.3), pivotVolts: 2 },
+    },
+    {
+      name: '+1 c/oct, −10 c, 1.5 µs, pivot 1 V',
+      u: { hz0: c1 * cents(-10), s: 1 + 1 / CENTS, resetSeconds: 1.5e-6, alpha: 0, pivotVolts: 1 },
+    },
+    {
+      name: 'large: −4 c/oct, +25 c, 3 µs, 1 Ω, pivot 2 V',
+      u: { hz0: c1 * cents(25), s: 1 - 4 / CENTS, resetSeconds: 3e-6, alpha: bulk(1), pivotVolts: 2 },
+    },
+  ];
+  const worstOf = (u: Unit) =>
+    Math.max(...VOLTS.map((v) => Math.abs(CENTS * Math.log2(unitHz(u, v) / (target.hz * Math.pow(2, v)))))); // prettier-ignore
+  const rows: string[][] = [];
+  let ok = true;
+  for (const { name, u: start } of units) {
+    const initial = worstOf(start);
+    for (const m of [1.3, 0.7]) {
+      const u = { ...start };
+      const r = rng(77);
+      let trims = 0;
+      let reached: number | null = initial <= 0.5 ? 0 : null;
+      let verdict = '';
+      for (let pass = 1; pass <= 8; pass++) {
+        const steps = measure(u, VOLTS, r, [], true);
+        const model = fitOf(steps, budget);
+        if (model.kind !== 'ok') break;
+        const advice = adviseFromModel({ model, steps, budget, toleranceCents: 0.5, offsetTarget: target });
+        verdict = advice.tolerance.verdict;
+        if (advice.items.every((i) => i.status !== 'adjust')) break;
+        applyAdvice(u, advice, m);
+        trims++;
+        if (reached === null && worstOf(u) <= 0.5) reached = trims;
+      }
+      const worst = worstOf(u);
+      // Each pass leaves 30 % of the error, so 3 passes reach ±0.5 cent only from about 0.5/0.3³ ≈ 18 cents.
+      const reachable = initial * 0.3 ** 3 <= 0.5;
+      const meets = reached !== null && reached <= 3 && worst <= 0.5;
+      if (reachable && !meets) ok = false;
+      rows.push([
+        name,
+        initial.toFixed(1),
+        m > 1 ? '30 % too far' : '30 % too short',
+        reached === null ? 'never' : String(reached),
+        String(trims),
+        worst.toFixed(3),
+        verdict,
+        meets ? 'yes' : reachable ? 'NO' : 'no (beyond 3-pass reach)',
+      ]);
+    }
+  }
+  table(
+    'Closed loop: advice followed literally (tolerance ±0.5 cent over 0…7 V, target C1 at 0 V, 5½-digit meter readings), each trim landing 30 % off',
+    [
+      'unit',
+      'worst before, cents',
+      'trims',
+      'passes to ±0.5',
+      'passes until no trim advised',
+      'final worst true error, cents',
+      'last verdict',
+      '±0.5 in ≤ 3',
+    ],
+    rows,
+  );
+  return ok;
+}
+
+/**
+ * Runs the model cases that `want` selects and returns their names and whether each met its target.
+ *
+ * @param want - Case filter from `--only`.
+ * @param quick - Fewer runs.
+ */
+export function modelBenchCases(want: (name: string) => boolean, quick: boolean): [string, boolean][] {
+  const out: [string, boolean][] = [];
+  if (want('wrong-volts')) out.push(['wrong volts', wrongVoltsCase(quick ? 40 : 200)]);
+  if (want('droop')) out.push(['HF droop', droopCase(quick ? 3 : 10)]);
+  if (want('loop')) out.push(['closed loop', loopCase()]);
+  return out;
+}
