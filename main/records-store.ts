@@ -27,6 +27,7 @@ import {
   copyForRestore,
   driftLogWins,
   parseBackup,
+  parseRecordText,
   planRestore,
   summarizeDriftLog,
   summarizeRecord,
@@ -41,9 +42,7 @@ import {
   type RestoreCounts,
   type RestorePolicy,
   MAX_RECORD_FILE_BYTES,
-  RECORD_SCHEMA_VERSION,
   UnitRecordDraftSchema,
-  UnitRecordSchema,
   type AutosaveResult,
   type IpcErrorCode,
   type JsonValue,
@@ -84,51 +83,7 @@ export class StoreError extends Error {
   }
 }
 
-/** Outcome of reading a record file's text. */
-export type ParsedRecord =
-  | { kind: 'ok'; record: UnitRecord }
-  | { kind: 'corrupt'; reason: string }
-  | { kind: 'unsupported'; schemaVersion: unknown; reason: string };
-
-/**
- * Parses the text of a record file. Pure.
- *
- * - Not JSON, not an object, no numeric `schemaVersion`, or version 1 that fails the schema:
- *   `corrupt`, with the reason.
- * - A numeric `schemaVersion` other than 1: `unsupported` (written by another Spanmeter).
- *
- * @param text - the file's content.
- * @example parseRecordText('{"schemaVersion":2}').kind // → 'unsupported'
- */
-export function parseRecordText(text: string): ParsedRecord {
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (err) {
-    return { kind: 'corrupt', reason: `it is not valid JSON (${(err as Error).message})` };
-  }
-  if (typeof json !== 'object' || json === null || Array.isArray(json)) {
-    return { kind: 'corrupt', reason: 'it does not hold a JSON object' };
-  }
-  const version = (json as { schemaVersion?: unknown }).schemaVersion;
-  if (typeof version !== 'number') {
-    return { kind: 'corrupt', reason: 'it has no numeric "schemaVersion", so it is not a Spanmeter record' };
-  }
-  if (version !== RECORD_SCHEMA_VERSION) {
-    const newer = version > RECORD_SCHEMA_VERSION;
-    return {
-      kind: 'unsupported',
-      schemaVersion: version,
-      reason:
-        `it has schemaVersion ${version}; this version of Spanmeter reads schemaVersion ${RECORD_SCHEMA_VERSION}` +
-        (newer ? ' (the file was written by a newer Spanmeter; update the app to open it)' : ''),
-    };
-  }
-  const parsed = UnitRecordSchema.safeParse(json);
-  if (!parsed.success)
-    return { kind: 'corrupt', reason: `it does not match the record schema: ${formatIssues(parsed.error)}` };
-  return { kind: 'ok', record: parsed.data };
-}
+export { parseRecordText, type ParsedRecord } from './record-book.ts';
 
 /**
  * The timestamp in a moved-aside file's name: ISO 8601 basic format in UTC, with a decimal
