@@ -12,6 +12,7 @@ import type {
   UnitRecordDraft,
 } from '../../../main/api-types.ts';
 import type { RecordStore } from '../storage/store.ts';
+import { BookKeeping } from './BookKeeping.tsx';
 import { CompareChart } from './charts.tsx';
 
 /** What the user types about the unit. */
@@ -53,6 +54,7 @@ export function draftFromInfo(info: UnitInfo, runs: Run[], base?: UnitRecord): U
   if (base) {
     d.id = base.id;
     d.createdAt = base.createdAt;
+    if (base.revision !== undefined) d.revision = base.revision; // the revision this save is based on
   }
   if (info.serial.trim()) d.serial = info.serial.trim();
   if (info.notes.trim()) d.notes = info.notes;
@@ -297,6 +299,13 @@ export function RecordsPanel(p: RecordsPanelProps) {
               {series.length > 0 && <CompareChart series={series} />}
             </>
           )}
+          <BookKeeping
+            store={p.store}
+            openRecord={open}
+            onOpenRecord={setOpen}
+            onChanged={() => void refresh()}
+            refreshKey={list}
+          />
         </div>
       </div>
     </div>
