@@ -54,16 +54,19 @@ export const nodeFs: StoreFs = {
 };
 
 /**
- * Flushes a folder's entries to disk so the rename itself survives a power cut. Platforms that
- * cannot open a folder for reading (Windows: EISDIR/EPERM/EACCES) are skipped silently; there the
- * rename is already durable enough for our purpose.
+ * Flushes a folder's entries to disk so the rename itself survives a power cut. On Windows, which
+ * cannot open a folder for reading, this is skipped (MoveFileEx there is durable enough for our
+ * purpose); elsewhere any failure is thrown, so the caller does not acknowledge a save that may be lost.
  */
 export async function fsyncDirectory(dir: string, fs: StoreFs = nodeFs): Promise<void> {
   let handle;
   try {
     handle = await fs.open(dir, 'r');
-  } catch {
-    return;
+  } catch (err) {
+    // Windows cannot open a folder for reading; everywhere else a failure here means the rename may
+    // not be on disk, and the save must not be acknowledged (found by test/records-durability.test.ts).
+    if (process.platform === 'win32') return;
+    throw err;
   }
   try {
     await handle.sync();
