@@ -149,7 +149,9 @@ async function lane(index: number, seed: number): Promise<LaneTally> {
   for (let k = 0; !enough() && !capped(); k++) {
     const first = Math.max(recordGen, autosaveGen) + 1;
     // Once the kills are counted but too few saves were acknowledged (a loaded machine), wait longer.
-    const stretch = totals.kills >= MIN_KILLS ? 4 : 1;
+    // Doubles every 40 kills past the minimum (at most 100×), so a slow machine still acknowledges saves.
+    const stretch =
+      totals.kills < MIN_KILLS ? 1 : Math.min(100, 2 ** Math.floor((totals.kills - MIN_KILLS) / 40));
     const delay = KILL_AFTER_MS[0] + random() * (KILL_AFTER_MS[1] * stretch - KILL_AFTER_MS[0]);
     const acks = await runAndKill(recordsDir, autosaveFile, first, delay);
     t.kills++;
