@@ -29,6 +29,7 @@ export const COMMANDS: Readonly<Record<string, Command>> = {
     summary: 'write test recordings from a simulated oscillator',
     load: () => import('./simulate.ts'),
   },
+  book: { summary: 'back up, restore or list the unit book', load: () => import('./book.ts') },
   bench: {
     summary: 'time the pitch engine and check its accuracy on test signals',
     load: () => import('./bench.ts'),

@@ -9,6 +9,13 @@ export type { SpanmeterApi };
 export type { Channel } from './channels.ts';
 export type {
   AutosaveResult,
+  DriftLog,
+  DriftLogSummary,
+  RestoreConflict,
+  RestoreCounts,
+  RestoreOutcome,
+  RestorePolicy,
+  TrashedRun,
   ExportRequest,
   IpcErrorCode,
   IpcFailure,

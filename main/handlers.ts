@@ -2,6 +2,7 @@
  * The IPC handlers: what each channel does. Electron's `dialog` and the records store come in as
  * parameters, so every handler runs in plain Node tests with a fake dialog and a temporary folder.
  */
+import { randomUUID } from 'node:crypto';
 import { readFile, stat } from 'node:fs/promises';
 import path from 'node:path';
 import { atomicWriteFile } from './atomic-file.ts';
@@ -76,6 +77,9 @@ export function looksLikeWav(bytes: Uint8Array): boolean {
   return ['RIFF', 'RF64', 'BW64'].includes(tag(0)) && tag(8) === 'WAVE';
 }
 
+/** Largest unit book backup `book:restore` reads: 512 MiB. */
+export const MAX_BACKUP_BYTES = 512 * MiB;
+
 function mib(bytes: number): string {
   return `${(bytes / MiB).toFixed(1)} MiB`;
 }
@@ -83,6 +87,8 @@ function mib(bytes: number): string {
 /** Builds the handler of every channel. */
 export function createHandlers(deps: HandlerDeps): IpcHandlers {
   const { store, dialog } = deps;
+  /** Backups whose restore stopped at conflicts, by the token handed to the renderer. */
+  const pendingRestores = new Map<string, string>();
 
   async function pickOne(title: string, filters: FileFilter[]): Promise<string | null> {
     const picked = await dialog.showOpenDialog({ title, filters, properties: ['openFile'] });
@@ -95,6 +101,69 @@ export function createHandlers(deps: HandlerDeps): IpcHandlers {
     'records:load': ({ id }) => store.load(id),
     'records:save': (draft) => store.save(draft),
     'records:delete': ({ id }) => store.delete(id),
+    'records:delete-run': ({ id, runId }) => store.deleteRun(id, runId),
+    'records:restore-run': ({ id, runId }) => store.restoreRun(id, runId),
+    'records:undelete': ({ id }) => store.undelete(id),
+
+    'book:backup': async () => {
+      const stamp = new Date().toISOString().slice(0, 10);
+      const name = `spanmeter-unit-book-${stamp}.json`;
+      const chosen = await dialog.showSaveDialog({
+        title: 'Back up the unit book',
+        defaultPath: deps.exportDir ? path.join(deps.exportDir(), name) : name,
+        filters: [{ name: 'Spanmeter unit book backup (JSON)', extensions: ['json'] }],
+      });
+      if (chosen.canceled || !chosen.filePath) return { kind: 'cancelled' as const };
+      const target = path.extname(chosen.filePath) === '' ? `${chosen.filePath}.json` : chosen.filePath;
+      const book = await store.backup();
+      await atomicWriteFile(target, book.text);
+      return {
+        kind: 'saved' as const,
+        fileName: path.basename(target),
+        records: book.records,
+        driftLogs: book.driftLogs,
+      };
+    },
+
+    'book:restore': async ({ policy, token }) => {
+      let file = token !== undefined ? pendingRestores.get(token) : undefined;
+      if (token !== undefined && file === undefined) {
+        throw new IpcError(
+          'invalid-payload',
+          'That restore is no longer pending; choose the backup file again.',
+        );
+      }
+      file ??=
+        (await pickOne('Restore a unit book backup', [
+          { name: 'Spanmeter unit book backup (JSON)', extensions: ['json'] },
+        ])) ?? undefined;
+      if (file === undefined) return { kind: 'cancelled' as const };
+      if (token !== undefined) pendingRestores.delete(token);
+      const fileName = path.basename(file);
+      const info = await stat(file);
+      if (!info.isFile()) throw new IpcError('invalid-file', `${fileName} is not a file.`);
+      if (info.size > MAX_BACKUP_BYTES) {
+        throw new IpcError(
+          'file-too-large',
+          `${fileName} is ${mib(info.size)}; a unit book backup is at most ${mib(MAX_BACKUP_BYTES)}.`,
+        );
+      }
+      const outcome = await store.restore(await readFile(file, 'utf8'), policy);
+      if (outcome.kind === 'restored') return { kind: 'restored' as const, fileName, counts: outcome.counts };
+      const newToken = randomUUID();
+      pendingRestores.set(newToken, file);
+      return {
+        kind: 'conflicts' as const,
+        fileName,
+        token: newToken,
+        conflicts: outcome.conflicts,
+        counts: outcome.counts,
+      };
+    },
+
+    'drift:save': (log) => store.saveDriftLog(log),
+    'drift:list': () => store.listDriftLogs(),
+    'drift:load': ({ id }) => store.loadDriftLog(id),
 
     'records:export': async ({ format, suggestedName, content }) => {
       const name = safeExportName(suggestedName, format);
@@ -135,7 +204,7 @@ export function createHandlers(deps: HandlerDeps): IpcHandlers {
       return { kind: 'imported' as const, fileName, record: parsed.record };
     },
 
-    'run:autosave': ({ state }) => store.saveAutosave(state),
+    'run:autosave': ({ state, seq }) => store.saveAutosave(state, seq),
     'run:load-autosave': () => store.loadAutosave(),
     'run:clear-autosave': () => store.clearAutosave(),
 

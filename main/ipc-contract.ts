@@ -77,6 +77,8 @@ export function migrateRecordJson(value: unknown): unknown {
  * - `file-too-large`: a file chosen in a dialog is over the channel's limit.
  * - `io-error`: the file system refused (permissions, disk full…).
  * - `internal-error`: anything else.
+ * - `conflict`: a save was based on an older revision of the record and does more than add runs
+ *   (or the record was deleted meanwhile); nothing was written.
  */
 export const ERROR_CODES = [
   'untrusted-sender',
@@ -92,6 +94,7 @@ export const ERROR_CODES = [
   'file-too-large',
   'io-error',
   'internal-error',
+  'conflict',
 ] as const;
 
 /** One of {@link ERROR_CODES}. */
@@ -143,6 +146,12 @@ export const RunSchema = z.strictObject({
   result: CalibrationResultSchema.refine(isRunResult, 'every step of a saved run needs its voltage'),
 });
 
+/** A run moved to the record's trash: the run as it was, and when it was deleted. Restorable. */
+export const TrashedRunSchema = z.strictObject({
+  run: RunSchema,
+  deletedAt: isoTime(),
+});
+
 const recordFields = {
   schemaVersion: z.literal(RECORD_SCHEMA_VERSION),
   unitName: z.string().trim().min(1).max(120),
@@ -158,6 +167,16 @@ const recordFields = {
     .max(24 * 60)
     .optional(),
   runs: z.array(RunSchema).max(1000),
+  /**
+   * The record's revision: 1 when first stored, one more on every change. In a draft it is the revision
+   * the save was based on; a save based on an older revision is merged when it only adds runs, and
+   * refused otherwise (`conflict`). Absent in records stored before revisions existed (read as 0).
+   */
+  revision: z.number().int().nonnegative().optional(),
+  /** Runs deleted from the record, newest last, restorable. Runs are never edited or dropped. */
+  trash: z.array(TrashedRunSchema).max(1000).optional(),
+  /** Set when the whole record was deleted: it is kept, listed in the trash, and restorable. */
+  deletedAt: isoTime().optional(),
 };
 
 /** A unit record as stored on disk and returned by `records:load`: schema version {@link RECORD_SCHEMA_VERSION}. */
@@ -204,7 +223,94 @@ export const RecordListSchema = z.strictObject({
   /** Newest `updatedAt` first. */
   records: z.array(RecordSummarySchema),
   problems: z.array(RecordProblemSchema),
+  /** Deleted records, kept and restorable (newest deletion first). Absent from older main processes. */
+  trashed: z.array(RecordSummarySchema.extend({ deletedAt: isoTime() })).optional(),
 });
+
+/** `records:delete-run` and `records:restore-run`: one run of one record. */
+export const RunRefSchema = z.strictObject({ id: RecordIdSchema, runId: RunIdSchema });
+
+/** A drift log's id: same rules as a record id (it names a file). */
+export const DriftLogIdSchema = RecordIdSchema;
+
+/** The only drift log schema version this build reads and writes. */
+export const DRIFT_LOG_SCHEMA_VERSION = 1;
+
+/**
+ * One Hold & drift log: the held voltage and every reading, `[seconds since the hold started, cents
+ * against the first second's mean]`. Autosaved while the hold runs (newest `seq` wins), kept in the
+ * unit book and its backups, exported as CSV or JSON.
+ */
+export const DriftLogSchema = z.strictObject({
+  schemaVersion: z.literal(DRIFT_LOG_SCHEMA_VERSION),
+  id: DriftLogIdSchema,
+  /** When the hold started (ISO 8601). */
+  startedAt: isoTime(),
+  /** When this copy was written. */
+  savedAt: isoTime(),
+  /** Autosave sequence number within the hold: a copy with a lower `seq` never replaces a higher one. */
+  seq: z.number().int().nonnegative(),
+  /** Held control voltage, V. */
+  volts: VoltsSchema,
+  /** Window of the drift-rate estimate, s. */
+  windowSeconds: finite().positive(),
+  /** The unit, when one was named in the unit book. */
+  unitName: z.string().max(120).optional(),
+  /** `[t, cents]`: seconds since the hold started, cents against the first second's mean. */
+  points: z.array(z.tuple([finite(), finite()])).max(40_000),
+});
+
+/** One line of the drift log list. */
+export const DriftLogSummarySchema = z.strictObject({
+  id: DriftLogIdSchema,
+  startedAt: isoTime(),
+  savedAt: isoTime(),
+  volts: VoltsSchema,
+  pointCount: z.number().int().nonnegative(),
+  unitName: z.string().optional(),
+});
+
+/** What a restore does with a record that differs from the one in the book. */
+export const RESTORE_POLICIES = ['ask', 'skip', 'copy'] as const;
+export type RestorePolicy = (typeof RESTORE_POLICIES)[number];
+
+/** One record of a backup that cannot be merged without a decision. */
+export const RestoreConflictSchema = z.strictObject({
+  id: RecordIdSchema,
+  unitName: z.string(),
+  reason: z.string(),
+});
+
+/** Counts of what a restore did (or, for `conflicts`, would do). */
+export const RestoreCountsSchema = z.strictObject({
+  /** Records that were not in the book and were added. */
+  added: z.number().int().nonnegative(),
+  /** Records in both whose runs were merged (runs only added). */
+  merged: z.number().int().nonnegative(),
+  /** Records identical in both, left as they were. */
+  unchanged: z.number().int().nonnegative(),
+  /** Conflicting records stored as a separate copy with a new id. */
+  copied: z.number().int().nonnegative(),
+  /** Conflicting records left out. */
+  skipped: z.number().int().nonnegative(),
+  /** Drift logs added or brought up to date. */
+  driftLogs: z.number().int().nonnegative(),
+  /** Unreadable entries of the backup kept aside byte for byte. */
+  keptAside: z.number().int().nonnegative(),
+});
+
+export const RestoreOutcomeSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('cancelled') }),
+  z.strictObject({
+    kind: z.literal('conflicts'),
+    fileName: z.string(),
+    /** Pass back with a policy to apply the restore to the same file without asking again. */
+    token: z.string().max(64),
+    conflicts: z.array(RestoreConflictSchema),
+    counts: RestoreCountsSchema,
+  }),
+  z.strictObject({ kind: z.literal('restored'), fileName: z.string(), counts: RestoreCountsSchema }),
+]);
 
 const NoPayload = z.undefined();
 const IdPayload = z.strictObject({ id: RecordIdSchema });
@@ -229,6 +335,8 @@ export type JsonValue = z.output<typeof JsonValueSchema>;
 export const AutosaveRequestSchema = z.strictObject({
   /** The run in progress, any JSON the renderer chooses. */
   state: JsonValueSchema,
+  /** The autosave's sequence number in this session: an older one never replaces a newer one. */
+  seq: z.number().int().nonnegative().optional(),
 });
 
 export const AutosaveResultSchema = z.discriminatedUnion('kind', [
@@ -300,10 +408,59 @@ export const CONTRACT = {
       Cancelled,
     ]),
   },
+  'records:delete-run': {
+    summary: 'Move one run of a record to its trash; returns the record as stored.',
+    request: RunRefSchema,
+    response: UnitRecordSchema,
+  },
+  'records:restore-run': {
+    summary: 'Bring one run back from its record’s trash; returns the record as stored.',
+    request: RunRefSchema,
+    response: UnitRecordSchema,
+  },
+  'records:undelete': {
+    summary: 'Bring a deleted record back from the trash; returns the record as stored.',
+    request: IdPayload,
+    response: UnitRecordSchema,
+  },
+  'book:backup': {
+    summary: 'Ask where to save, then write the whole unit book (records, runs, drift logs) as one file.',
+    request: NoPayload,
+    response: z.discriminatedUnion('kind', [
+      z.strictObject({
+        kind: z.literal('saved'),
+        fileName: FileNameSchema,
+        records: z.number().int().nonnegative(),
+        driftLogs: z.number().int().nonnegative(),
+      }),
+      Cancelled,
+    ]),
+  },
+  'book:restore': {
+    summary:
+      'Ask for a unit book backup and merge it into the book; conflicts are only resolved as the policy says.',
+    request: z.strictObject({ policy: z.enum(RESTORE_POLICIES), token: z.string().max(64).optional() }),
+    response: RestoreOutcomeSchema,
+  },
+  'drift:save': {
+    summary: 'Keep a Hold & drift log (a copy with a lower seq never replaces a higher one).',
+    request: DriftLogSchema,
+    response: z.strictObject({ savedAt: isoTime(), stale: z.boolean() }),
+  },
+  'drift:list': {
+    summary: 'List the kept drift logs, newest first.',
+    request: NoPayload,
+    response: z.array(DriftLogSummarySchema),
+  },
+  'drift:load': {
+    summary: 'Load one drift log by id.',
+    request: z.strictObject({ id: DriftLogIdSchema }),
+    response: DriftLogSchema,
+  },
   'run:autosave': {
     summary: 'Keep the run in progress on disk, replacing the previous autosave.',
     request: AutosaveRequestSchema,
-    response: z.strictObject({ savedAt: isoTime() }),
+    response: z.strictObject({ savedAt: isoTime(), stale: z.boolean().optional() }),
   },
   'run:load-autosave': {
     summary: 'Read back the autosaved run, if any.',
@@ -338,3 +495,9 @@ export type RecordList = z.output<typeof RecordListSchema>;
 export type ExportRequest = z.input<typeof ExportRequestSchema>;
 export type AutosaveResult = z.output<typeof AutosaveResultSchema>;
 export type WavOpenResult = z.output<typeof WavOpenResultSchema>;
+export type TrashedRun = z.output<typeof TrashedRunSchema>;
+export type DriftLog = z.output<typeof DriftLogSchema>;
+export type DriftLogSummary = z.output<typeof DriftLogSummarySchema>;
+export type RestoreConflict = z.output<typeof RestoreConflictSchema>;
+export type RestoreCounts = z.output<typeof RestoreCountsSchema>;
+export type RestoreOutcome = z.output<typeof RestoreOutcomeSchema>;

@@ -8,7 +8,15 @@
  * so the preload bundle stays a few lines long.
  */
 import type { Channel } from './channels.ts';
-import type { ExportRequest, IpcResult, JsonValue, ResponseOf, UnitRecordDraft } from './ipc-contract.ts';
+import type {
+  DriftLog,
+  ExportRequest,
+  IpcResult,
+  JsonValue,
+  ResponseOf,
+  RestorePolicy,
+  UnitRecordDraft,
+} from './ipc-contract.ts';
 
 /** `ipcRenderer.invoke`, or a fake of it. */
 export type InvokeFn = (channel: Channel, ...args: unknown[]) => Promise<unknown>;
@@ -47,8 +55,25 @@ export function buildSpanmeterApi(invoke: InvokeFn) {
     exportFile: (request: ExportRequest) => call('records:export', request),
     /** `records:import`: ask for a record file and return it checked, not stored. */
     importRecord: () => call('records:import'),
-    /** `run:autosave`: keep the run in progress on disk. */
-    autosaveRun: (state: JsonValue) => call('run:autosave', { state }),
+    /** `records:delete-run`: move one run of a record to its trash. */
+    deleteRun: (id: string, runId: string) => call('records:delete-run', { id, runId }),
+    /** `records:restore-run`: bring one run back from its record's trash. */
+    restoreRun: (id: string, runId: string) => call('records:restore-run', { id, runId }),
+    /** `records:undelete`: bring a deleted record back from the trash. */
+    undeleteRecord: (id: string) => call('records:undelete', { id }),
+    /** `book:backup`: ask where to save, then write the whole unit book as one file. */
+    backupBook: () => call('book:backup'),
+    /** `book:restore`: ask for a backup and merge it; conflicts are resolved only as `policy` says. */
+    restoreBook: (request: { policy: RestorePolicy; token?: string }) => call('book:restore', request),
+    /** `drift:save`: keep a Hold & drift log (a lower `seq` never replaces a higher one). */
+    saveDriftLog: (log: DriftLog) => call('drift:save', log),
+    /** `drift:list`: the kept drift logs, newest first. */
+    listDriftLogs: () => call('drift:list'),
+    /** `drift:load`: one drift log by id. */
+    loadDriftLog: (id: string) => call('drift:load', { id }),
+    /** `run:autosave`: keep the run in progress on disk; an older `seq` never replaces a newer one. */
+    autosaveRun: (state: JsonValue, seq?: number) =>
+      call('run:autosave', seq === undefined ? { state } : { state, seq }),
     /** `run:load-autosave`: the autosaved run, or `{ kind: 'none' }`. */
     loadAutosavedRun: () => call('run:load-autosave'),
     /** `run:clear-autosave`: forget the autosaved run. */

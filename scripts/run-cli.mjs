@@ -7,7 +7,7 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
 const BUNDLE = join(ROOT, 'build', 'cli', 'spanmeter.mjs');
-const SOURCE_DIRS = ['dsp', 'cli'];
+const SOURCE_DIRS = ['dsp', 'cli', 'main'];
 const SOURCE_FILES = ['package-lock.json', 'scripts/build-cli.mjs'];
 
 function mtimeMs(path) {

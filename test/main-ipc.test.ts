@@ -49,6 +49,16 @@ const handlers: IpcHandlers = {
   'records:delete': ({ id }) => ({ id }),
   'records:export': () => ({ kind: 'cancelled' }),
   'records:import': () => ({ kind: 'cancelled' }),
+  'records:delete-run': () => record,
+  'records:restore-run': () => record,
+  'records:undelete': () => record,
+  'book:backup': () => ({ kind: 'cancelled' }),
+  'book:restore': () => ({ kind: 'cancelled' }),
+  'drift:save': () => ({ savedAt: '2031-03-14T10:00:00.000Z', stale: false }),
+  'drift:list': () => [],
+  'drift:load': () => {
+    throw new Error('no drift logs here');
+  },
   'run:autosave': () => ({ savedAt: '2031-03-14T10:00:00.000Z' }),
   'run:load-autosave': () => ({ kind: 'none' }),
   'run:clear-autosave': () => ({ cleared: false }),

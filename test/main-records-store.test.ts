@@ -144,7 +144,9 @@ describe('records store', () => {
 
   it('writes atomically: no temporary files are left, and the file is complete JSON', async () => {
     const saved = await store.save(sampleDraft());
-    for (let i = 0; i < 5; i++) await store.save({ ...saved, notes: `pass ${i}` });
+    // Each save is based on the revision the previous one returned (issue 10: a save names its base revision).
+    let current = saved;
+    for (let i = 0; i < 5; i++) current = await store.save({ ...current, notes: `pass ${i}` });
     await store.saveAutosave({ step: 2 });
     expect(await readdir(recordsDir)).toEqual([`${saved.id}.json`]);
     expect(await readdir(path.join(dir, 'autosave'))).toEqual(['run.json']);
@@ -217,7 +219,10 @@ describe('records store', () => {
       expect(listed.problems[0].message).toMatch(
         /It was moved aside to .*vco-a\.corrupt-20310314T100000\.000Z\.json\.$/,
       );
-      expect((await store.list()).problems).toEqual([]); // aside files are not listed again
+      // Issue 10: the file kept aside stays listed as unreadable (it used to vanish from the list).
+      expect((await store.list()).problems.map((p) => p.file)).toEqual([
+        'vco-a.corrupt-20310314T100000.000Z.json',
+      ]);
     });
   });
 

@@ -1,7 +1,9 @@
 /**
- * The browser record store: localStorage (a fake here), the same record schema the desktop app's main
+ * The browser record store: IndexedDB (fake-indexeddb here), the localStorage book it migrates (a fake), the same record schema the desktop app's main
  * process enforces (main/ipc-contract.ts), autosave round trips and downloads.
  */
+import 'fake-indexeddb/auto';
+import { IDBFactory } from 'fake-indexeddb';
 import { describe, expect, it } from 'vitest';
 import { calibrate } from '../dsp/pipeline.ts';
 import { slugify } from '../main/record-id.ts';
@@ -26,7 +28,8 @@ function setup() {
   let t = Date.parse('2026-03-01T10:00:00Z');
   let seed = 0.1;
   const store = browserStore({
-    storage,
+    indexedDB: new IDBFactory(),
+    legacy: storage,
     download: (name, mime, content) => downloads.push({ name, mime, content }),
     now: () => new Date((t += 1000)),
     random: () => (seed = (seed * 9301 + 0.49297) % 1),

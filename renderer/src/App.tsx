@@ -20,6 +20,8 @@ import { parseStartupParams } from './lib/params.ts';
 import { loadSetup, saveSetup, setupOptions, type SetupForm, type SetupStorage } from './lib/setup.ts';
 import { DEFAULT_SIM_UNIT, simOptions, simSettingsForUnit, type SimSettings } from './lib/sim-settings.ts';
 import { pickStore } from './storage/store.ts';
+import { AutosaveQueue, type AutosaveStatus } from './storage/autosave.ts';
+import { useDriftKeeper } from './ui/DriftLogBar.tsx';
 import { StripChart } from './ui/charts.tsx';
 import { DriftPanel } from './ui/DriftPanel.tsx';
 import { FrameMeter } from './ui/FrameMeter.tsx';
@@ -72,6 +74,11 @@ export function App() {
   const client = useMemo(() => new EngineClient(), []);
   const view = useSyncExternalStore(client.subscribe, client.getView);
   const store = useMemo(() => pickStore(), []);
+  const [autosaveStatus, setAutosaveStatus] = useState<AutosaveStatus>({ kind: 'idle' });
+  const runAutosave = useMemo(
+    () => new AutosaveQueue<JsonValue>((s, seq) => store.autosave(s, seq), setAutosaveStatus, 'the run'),
+    [store],
+  );
 
   const [source, setSource] = useState<'device' | 'sim'>(params.input);
   const [devices, setDevices] = useState<InputDevice[]>([]);
@@ -89,6 +96,7 @@ export function App() {
   const [planText, setPlanText] = useState(params.planText ?? formatPlan(presetPlan().volts));
   const [tab, setTab] = useState<Tab>('run');
   const [info, setInfo] = useState<UnitInfo>(EMPTY_UNIT_INFO);
+  const driftKeeper = useDriftKeeper(store, view.drift, info.unitName);
   const [pairConfig, setPairConfig] = useState<TwoPointConfig>({
     voltsLow: 1,
     voltsHigh: 3,
@@ -217,11 +225,11 @@ export function App() {
       if (!run) return;
       const n = capturedCount(run.state);
       if (n !== last) {
-        if (n > 0) void store.autosave(JSON.parse(serializeRun(run.state)) as JsonValue);
+        if (n > 0) runAutosave.push(JSON.parse(serializeRun(run.state)) as JsonValue);
         last = n;
       }
     });
-  }, [client, store]);
+  }, [client, runAutosave]);
 
   useEffect(() => {
     void (async () => {
@@ -523,6 +531,11 @@ export function App() {
             />
           </div>
           <div className="right panel">
+            {autosaveStatus.kind === 'failed' && (
+              <p className="message error" role="alert" data-testid="autosave-failed">
+                {autosaveStatus.message}
+              </p>
+            )}
             {view.lastError && (
               <p className="message error" role="alert">
                 {view.lastError}
@@ -549,7 +562,7 @@ export function App() {
                 onEvent={sendEvent}
                 onClose={() => {
                   client.send({ type: 'run-close' });
-                  void store.clearAutosave();
+                  void runAutosave.clear(() => store.clearAutosave());
                 }}
                 simulated={source === 'sim'}
                 resumeOffer={
@@ -561,7 +574,7 @@ export function App() {
                           setResumeOffer(null);
                         },
                         onDiscard: () => {
-                          void store.clearAutosave();
+                          void runAutosave.clear(() => store.clearAutosave());
                           setResumeOffer(null);
                         },
                       }
@@ -594,6 +607,7 @@ export function App() {
                 view={view.drift}
                 onStart={(v, w) => client.send({ type: 'drift-start', volts: v, windowSeconds: w })}
                 onStop={() => client.send({ type: 'drift-stop' })}
+                keeper={driftKeeper}
                 simulated={source === 'sim'}
               />
             )}
@@ -606,7 +620,7 @@ export function App() {
                 planVolts={shownPlanVolts}
                 onExport={(f) => void doExport(f)}
                 onPrint={() => window.print()}
-                onSaved={() => void store.clearAutosave()}
+                onSaved={() => void runAutosave.clear(() => store.clearAutosave())}
                 openRecord={openRecord}
                 onOpenRecord={setOpenRecord}
               />

@@ -1,20 +1,25 @@
 /**
  * Where unit records, exports and the autosaved run go: one small interface, two implementations.
  * Inside the desktop app everything goes through `window.spanmeter` (the preload's IPC API); in a plain
- * browser (`npm run web`) records and the autosave live in `localStorage` and exports are downloads.
+ * browser (`npm run web`) the book and the autosave live in IndexedDB (`idb-store.ts`; the old
+ * localStorage book is migrated on first start) and exports and backups are downloads.
  * Every method resolves to an `IpcResult` and never rejects, as the desktop API does.
  */
 import type {
   AutosaveResult,
+  DriftLog,
+  DriftLogSummary,
   IpcResult,
   JsonValue,
+  RecordList,
   RecordSummary,
+  RestoreOutcome,
+  RestorePolicy,
   SpanmeterApi,
   UnitRecord,
   UnitRecordDraft,
 } from '../../../main/api-types.ts';
-import { migrateRecordJson, UnitRecordDraftSchema, UnitRecordSchema } from '../../../main/ipc-contract.ts';
-import { slugify } from '../../../main/record-id.ts';
+import { browserStore } from './idb-store.ts';
 
 /** A file export: what to write and the name to offer. */
 export interface ExportFile {
@@ -23,20 +28,51 @@ export interface ExportFile {
   readonly content: string;
 }
 
+/** What the book's Back up action did. */
+export type BackupOutcome =
+  { kind: 'saved'; fileName: string; records: number; driftLogs: number } | { kind: 'cancelled' };
+
+/**
+ * A restore request. `policy`: `ask` stops at conflicts (nothing written) and returns them; `skip`
+ * leaves conflicting records out; `copy` keeps them as separate records. In the desktop app the main
+ * process asks for the file (and `token` names the file of a restore that stopped at conflicts); in a
+ * browser the page reads the file and passes its text.
+ */
+export interface RestoreRequest {
+  readonly policy: RestorePolicy;
+  readonly token?: string;
+  readonly file?: { readonly name: string; readonly text: string };
+}
+
 /** The storage the renderer uses. */
 export interface RecordStore {
-  /** `desktop` (Electron, files in the app's data folder) or `browser` (this browser's local storage). */
+  /** `desktop` (Electron, files in the app's data folder) or `browser` (this browser's IndexedDB). */
   readonly kind: 'desktop' | 'browser';
   listRecords(): Promise<IpcResult<RecordSummary[]>>;
+  /** The records, the deleted ones (restorable), and the entries that cannot be read (kept, listed). */
+  listBook(): Promise<IpcResult<RecordList>>;
   loadRecord(id: string): Promise<IpcResult<UnitRecord>>;
+  /** Saves a record; `draft.revision` is the revision it was based on (stale saves merge or are refused). */
   saveRecord(draft: UnitRecordDraft): Promise<IpcResult<UnitRecord>>;
+  /** Moves a record to the trash. */
   deleteRecord(id: string): Promise<IpcResult<{ id: string }>>;
+  undeleteRecord(id: string): Promise<IpcResult<UnitRecord>>;
+  deleteRun(id: string, runId: string): Promise<IpcResult<UnitRecord>>;
+  restoreRun(id: string, runId: string): Promise<IpcResult<UnitRecord>>;
   exportFile(
     file: ExportFile,
   ): Promise<IpcResult<{ kind: 'saved'; fileName: string } | { kind: 'cancelled' }>>;
-  autosave(state: JsonValue): Promise<IpcResult<{ savedAt: string }>>;
+  /** Keeps the run in progress; an older `seq` never replaces a newer one (`stale`). */
+  autosave(state: JsonValue, seq?: number): Promise<IpcResult<{ savedAt: string; stale?: boolean }>>;
   loadAutosave(): Promise<IpcResult<AutosaveResult>>;
   clearAutosave(): Promise<IpcResult<{ cleared: boolean }>>;
+  saveDriftLog(log: DriftLog): Promise<IpcResult<{ savedAt: string; stale: boolean }>>;
+  listDriftLogs(): Promise<IpcResult<DriftLogSummary[]>>;
+  loadDriftLog(id: string): Promise<IpcResult<DriftLog>>;
+  /** Writes the whole unit book as one backup file. */
+  backupBook(): Promise<IpcResult<BackupOutcome>>;
+  /** Merges a backup into the book; never replaces a record without the policy saying so. */
+  restoreBook(request: RestoreRequest): Promise<IpcResult<RestoreOutcome>>;
 }
 
 /** The desktop store: a thin pass-through to the preload's API. */
@@ -47,17 +83,27 @@ export function desktopStore(api: SpanmeterApi): RecordStore {
       const r = await api.listRecords();
       return r.ok ? { ok: true, value: r.value.records } : r;
     },
+    listBook: () => api.listRecords(),
     loadRecord: (id) => api.loadRecord(id),
     saveRecord: (draft) => api.saveRecord(draft),
     deleteRecord: (id) => api.deleteRecord(id),
+    undeleteRecord: (id) => api.undeleteRecord(id),
+    deleteRun: (id, runId) => api.deleteRun(id, runId),
+    restoreRun: (id, runId) => api.restoreRun(id, runId),
     exportFile: (file) => api.exportFile(file),
-    autosave: (state) => api.autosaveRun(state),
+    autosave: (state, seq) => api.autosaveRun(state, seq),
     loadAutosave: () => api.loadAutosavedRun(),
     clearAutosave: () => api.clearAutosavedRun(),
+    saveDriftLog: (log) => api.saveDriftLog(log),
+    listDriftLogs: () => api.listDriftLogs(),
+    loadDriftLog: (id) => api.loadDriftLog(id),
+    backupBook: () => api.backupBook(),
+    restoreBook: (r) =>
+      api.restoreBook(r.token !== undefined ? { policy: r.policy, token: r.token } : { policy: r.policy }),
   };
 }
 
-/** The part of the Web Storage API the browser store uses (`window.localStorage`, or a fake in tests). */
+/** The part of the Web Storage API the browser store reads the old book from (`window.localStorage`, or a fake). */
 export interface KeyValueStorage {
   getItem(key: string): string | null;
   setItem(key: string, value: string): void;
@@ -67,162 +113,13 @@ export interface KeyValueStorage {
 /** How the browser store hands a file to the user (a download in the page; a fake in tests). */
 export type Downloader = (fileName: string, mime: string, content: string) => void;
 
-/** localStorage keys. */
+/** localStorage keys of the book before it moved to IndexedDB (read once, to migrate). */
 export const STORAGE_KEYS = {
   records: 'spanmeter.records.v1',
   autosave: 'spanmeter.autosave.v1',
 } as const;
 
-function fail<T>(code: 'not-found' | 'invalid-payload' | 'io-error', message: string): IpcResult<T> {
-  return { ok: false, error: { code, message } };
-}
-
-function randomSuffix(random: () => number): string {
-  const alphabet = 'abcdefghijkmnpqrstuvwxyz23456789';
-  let out = '';
-  for (let i = 0; i < 8; i++) out += alphabet[Math.floor(random() * alphabet.length) % alphabet.length];
-  return out;
-}
-
-/** Options of {@link browserStore} (injectable for tests). */
-export interface BrowserStoreOptions {
-  readonly storage: KeyValueStorage;
-  readonly download: Downloader;
-  readonly now?: () => Date;
-  readonly random?: () => number;
-}
-
-/**
- * The browser store: records as one JSON map in `localStorage`, checked with the same schema the desktop
- * app's main process uses (`main/ipc-contract.ts`), ids built the same way (slug of the unit name and a
- * random suffix).
- */
-export function browserStore(options: BrowserStoreOptions): RecordStore {
-  const { storage, download } = options;
-  const now = options.now ?? (() => new Date());
-  const random = options.random ?? Math.random;
-
-  const readAll = (): Record<string, UnitRecord> => {
-    const text = storage.getItem(STORAGE_KEYS.records);
-    if (text === null) return {};
-    try {
-      const parsed = JSON.parse(text) as unknown;
-      if (typeof parsed !== 'object' || parsed === null || Array.isArray(parsed)) return {};
-      const out: Record<string, UnitRecord> = {};
-      for (const [id, value] of Object.entries(parsed as Record<string, unknown>)) {
-        const r = UnitRecordSchema.safeParse(migrateRecordJson(value));
-        if (r.success && r.data.id === id) out[id] = r.data;
-      }
-      return out;
-    } catch {
-      return {};
-    }
-  };
-  const writeAll = (all: Record<string, UnitRecord>): IpcResult<null> => {
-    try {
-      storage.setItem(STORAGE_KEYS.records, JSON.stringify(all));
-      return { ok: true, value: null };
-    } catch (err) {
-      return fail('io-error', `could not store the record in this browser: ${(err as Error).message}`);
-    }
-  };
-
-  return {
-    kind: 'browser',
-    listRecords: async () => {
-      const list: RecordSummary[] = Object.values(readAll()).map((r) => {
-        const s: RecordSummary = {
-          id: r.id,
-          unitName: r.unitName,
-          createdAt: r.createdAt,
-          updatedAt: r.updatedAt,
-          runCount: r.runs.length,
-        };
-        if (r.serial !== undefined) s.serial = r.serial;
-        const last = r.runs.map((x) => x.takenAt).sort();
-        if (last.length > 0) s.lastRunAt = last[last.length - 1];
-        return s;
-      });
-      list.sort((a, b) => (a.updatedAt < b.updatedAt ? 1 : a.updatedAt > b.updatedAt ? -1 : 0));
-      return { ok: true, value: list };
-    },
-    loadRecord: async (id) => {
-      const r = readAll()[id];
-      return r ? { ok: true, value: r } : fail('not-found', `no record "${id}" in this browser`);
-    },
-    saveRecord: async (draft) => {
-      const checked = UnitRecordDraftSchema.safeParse(draft);
-      if (!checked.success) {
-        const first = checked.error.issues[0];
-        return fail(
-          'invalid-payload',
-          `record: ${first ? `${first.path.join('.')}: ${first.message}` : 'invalid'}`,
-        );
-      }
-      const all = readAll();
-      const stamp = now().toISOString();
-      const d = checked.data;
-      let id = d.id;
-      if (id === undefined) {
-        do id = `${slugify(d.unitName)}-${randomSuffix(random)}`;
-        while (all[id] !== undefined);
-      }
-      const record = UnitRecordSchema.parse({
-        ...d,
-        id,
-        createdAt: d.createdAt ?? all[id]?.createdAt ?? stamp,
-        updatedAt: stamp,
-      });
-      all[id] = record;
-      const w = writeAll(all);
-      return w.ok ? { ok: true, value: record } : w;
-    },
-    deleteRecord: async (id) => {
-      const all = readAll();
-      if (all[id] === undefined) return fail('not-found', `no record "${id}" in this browser`);
-      delete all[id];
-      const w = writeAll(all);
-      return w.ok ? { ok: true, value: { id } } : w;
-    },
-    exportFile: async (file) => {
-      const ext = `.${file.format}`;
-      const base = file.suggestedName.replace(/[\\/]/g, '_');
-      const name = base.toLowerCase().endsWith(ext) ? base : `${base}${ext}`;
-      try {
-        download(name, file.format === 'csv' ? 'text/csv;charset=utf-8' : 'application/json', file.content);
-        return { ok: true, value: { kind: 'saved', fileName: name } };
-      } catch (err) {
-        return fail('io-error', `could not download ${name}: ${(err as Error).message}`);
-      }
-    },
-    autosave: async (state) => {
-      const savedAt = now().toISOString();
-      try {
-        storage.setItem(STORAGE_KEYS.autosave, JSON.stringify({ savedAt, state }));
-        return { ok: true, value: { savedAt } };
-      } catch (err) {
-        return fail('io-error', `could not autosave the run: ${(err as Error).message}`);
-      }
-    },
-    loadAutosave: async () => {
-      const text = storage.getItem(STORAGE_KEYS.autosave);
-      if (text === null) return { ok: true, value: { kind: 'none' } };
-      try {
-        const v = JSON.parse(text) as { savedAt?: unknown; state?: unknown };
-        if (typeof v.savedAt !== 'string' || v.state === undefined)
-          return { ok: true, value: { kind: 'none' } };
-        return { ok: true, value: { kind: 'found', savedAt: v.savedAt, state: v.state as JsonValue } };
-      } catch {
-        return { ok: true, value: { kind: 'none' } };
-      }
-    },
-    clearAutosave: async () => {
-      const had = storage.getItem(STORAGE_KEYS.autosave) !== null;
-      storage.removeItem(STORAGE_KEYS.autosave);
-      return { ok: true, value: { cleared: had } };
-    },
-  };
-}
+export { browserStore, type BrowserStoreOptions } from './idb-store.ts';
 
 /** A download through a temporary link to a Blob URL. */
 export const pageDownload: Downloader = (fileName, mime, content) => {
@@ -236,8 +133,14 @@ export const pageDownload: Downloader = (fileName, mime, content) => {
   setTimeout(() => URL.revokeObjectURL(url), 10_000);
 };
 
-/** The store for this page: the desktop API when present, else the browser's local storage. */
+/** The store for this page: the desktop API when present, else this browser's IndexedDB. */
 export function pickStore(): RecordStore {
   if (typeof window !== 'undefined' && window.spanmeter) return desktopStore(window.spanmeter);
-  return browserStore({ storage: window.localStorage, download: pageDownload });
+  let legacy: KeyValueStorage | null = null;
+  try {
+    legacy = window.localStorage;
+  } catch {
+    legacy = null;
+  }
+  return browserStore({ indexedDB: window.indexedDB, legacy, download: pageDownload });
 }

@@ -6,12 +6,15 @@ import { useState } from 'react';
 import type { DriftView } from '../engine/protocol.ts';
 import { formatCents, formatClock } from '../lib/format.ts';
 import { DriftChart } from './charts.tsx';
+import { DriftLogBar, type DriftKeeper } from './DriftLogBar.tsx';
 
 export function DriftPanel(props: {
   view: DriftView | null;
   onStart(volts: number, windowSeconds: number): void;
   onStop(): void;
   simulated: boolean;
+  /** The kept log (autosave, export); absent in tests that render the panel alone. */
+  keeper?: DriftKeeper;
 }) {
   const [volts, setVolts] = useState('2');
   const [win, setWin] = useState('60');
@@ -75,6 +78,7 @@ export function DriftPanel(props: {
           </dd>
         </dl>
       </div>
+      {props.keeper && <DriftLogBar keeper={props.keeper} />}
     </div>
   );
 }

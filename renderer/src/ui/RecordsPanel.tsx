@@ -8,6 +8,7 @@ import type { RecordSummary, Run, UnitRecord, UnitRecordDraft } from '../../../m
 import type { CalibrationResult } from '../../../dsp/result.ts';
 import { RECORD_SCHEMA_VERSION } from '../../../main/ipc-contract.ts';
 import type { RecordStore } from '../storage/store.ts';
+import { BookKeeping } from './BookKeeping.tsx';
 import { CompareChart } from './charts.tsx';
 
 /** What the user types about the unit. */
@@ -49,6 +50,7 @@ export function draftFromInfo(info: UnitInfo, runs: Run[], base?: UnitRecord): U
   if (base) {
     d.id = base.id;
     d.createdAt = base.createdAt;
+    if (base.revision !== undefined) d.revision = base.revision; // the revision this save is based on
   }
   if (info.serial.trim()) d.serial = info.serial.trim();
   if (info.notes.trim()) d.notes = info.notes;
@@ -296,6 +298,13 @@ export function RecordsPanel(p: RecordsPanelProps) {
               {series.length > 0 && <CompareChart series={series} />}
             </>
           )}
+          <BookKeeping
+            store={p.store}
+            openRecord={open}
+            onOpenRecord={setOpen}
+            onChanged={() => void refresh()}
+            refreshKey={list}
+          />
         </div>
       </div>
     </div>
