@@ -49,7 +49,7 @@ import {
 import { A4_HZ, nearestNote, type NearestNote } from './notes.ts';
 import { PitchEstimator } from './pitch.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
-import type { PitchOk, PitchReading } from './reading.ts';
+import type { PitchOk } from './reading.ts';
 import { arraySource, describeNoSignal, livePass, type SampleSource } from './recording-input.ts';
 import { buildErrorTable, type ErrorTable } from './table.ts';
 import type { Cents, Hertz, Ppm, Seconds, Volts } from './units.ts';
