@@ -9,13 +9,15 @@
  * format tag in its first two bytes) follows Microsoft, "Multiple Channel Audio Data and WAVE Files" (from
  * memory).
  *
- * Why check the header here and not leave it all to `wavefile`: its parser throws on many faults, reads a
- * short data chunk without saying so, treats an extensible 32-bit float file as 32-bit integers and stumbles
- * over some `LIST` chunks. So this module walks the chunks itself, gives every fault a typed code and a
- * specific message, and hands `wavefile` a canonical file (the 16-byte `fmt ` chunk and the `data` chunk,
- * nothing else) to unpack. Nothing here throws, whatever the bytes.
+ * This module walks the chunks itself, gives every fault a typed code and a specific message, and decodes
+ * the samples itself, a stretch at a time: {@link openWav} reads only the header through a
+ * {@link ByteSource} (a file in memory, on disk or in a Blob) and {@link readWavFrames} decodes any run of
+ * frames, so a recording of any length is read in bounded memory. Files over 4 GB use RF64 (EBU Tech 3306)
+ * or BW64 (ITU-R BS.2088): the same chunks, with 64-bit sizes in a `ds64` chunk. Nothing here throws,
+ * whatever the bytes. (`wavefile`, a general-purpose WAV library, is the outside reference the tests
+ * compare the decoded samples with.)
  *
- * Pure: no Node or DOM APIs (`wavefile`'s own types need neither).
+ * Pure: no Node or DOM APIs.
  */
 import type { Hertz, Seconds } from './units.ts';
 
@@ -59,8 +61,8 @@ export interface WavDecoded {
  * - `truncated`: the file ends before a chunk it declares is complete (most often the data chunk).
  * - `empty`: the file holds no audio frames.
  * - `malformed`: a WAVE file whose header is inconsistent (no `fmt ` or `data` chunk, zero channels, …).
- * - `unsupported-format`: a valid file in a format Spanmeter does not read (compressed audio, RF64, an odd
- *   bit depth, a sample rate outside 8000–384000 Hz).
+ * - `unsupported-format`: a valid file in a format Spanmeter does not read (compressed audio, an odd bit
+ *   depth, a sample rate outside 8000–384000 Hz).
  * - `decode-failed`: the header looked right but the sample decoder failed (should not happen).
  * - `no-such-channel`: {@link pickChannel} was asked for a channel the file does not have.
  */
@@ -312,6 +314,8 @@ export interface WavLayout {
 const WALK_BUFFER_BYTES = 1 << 16;
 /** Chunk ids listed by name in a "no 'data' chunk" message before "…". */
 const MAX_LISTED_CHUNKS = 8;
+/** Most chunks walked before the audio: real files hold a handful; more is damage or an attack. */
+const MAX_CHUNKS = 100_000;
 /** The 32-bit size that means "see the ds64 chunk" in RF64 and BW64 (EBU Tech 3306 §3; ITU-R BS.2088). */
 const SIZE_IN_DS64 = 0xffffffff;
 
@@ -400,10 +404,19 @@ function locate(src: ByteSource): WavLayout | WavError {
   let chunkCount = 0;
   let off = 12;
   while (off + 8 <= n) {
-    const h = walk.get(off, 8).slice();
-    const idQuoted = quoteId(h, 0, 4);
-    const id = ascii(h, 0, 4);
+    if (chunkCount >= MAX_CHUNKS) {
+      return fail(
+        'malformed',
+        `malformed: more than ${MAX_CHUNKS} chunks before the audio (${seen.slice(0, MAX_LISTED_CHUNKS).join(', ')}, …)`,
+      );
+    }
+    const h = walk.get(off, 8);
     let size = u32le(h, 4, le);
+    const isData = h[0] === 0x64 && h[1] === 0x61 && h[2] === 0x74 && h[3] === 0x61; // 'data'
+    const isFmt = h[0] === 0x66 && h[1] === 0x6d && h[2] === 0x74 && h[3] === 0x20; // 'fmt '
+    const listing = seen.length < MAX_LISTED_CHUNKS || isData || isFmt || chunkCount === 0;
+    const id = listing ? ascii(h, 0, 4) : '';
+    const idQuoted = listing ? quoteId(h, 0, 4) : '';
     const body = off + 8;
     if (sixtyFour && chunkCount === 0) {
       if (id !== 'ds64') {
@@ -427,14 +440,15 @@ function locate(src: ByteSource): WavLayout | WavError {
       ds64 = { dataSize: u64le(b, 8), table };
       if (riffEnd - 8 === SIZE_IN_DS64) riffEnd = 8 + u64le(b, 0);
     }
-    if (ds64 && size === SIZE_IN_DS64) size = id === 'data' ? ds64.dataSize : (ds64.table.get(id) ?? size);
+    if (ds64 && size === SIZE_IN_DS64)
+      size = isData ? ds64.dataSize : (ds64.table.get(ascii(h, 0, 4)) ?? size);
     chunkCount++;
     const present = Math.min(size, n - body);
-    if (id === 'data') {
+    if (isData) {
       if (data) break; // a second data chunk: only the first is read (common practice, no source)
       data = { start: body, declared: size, present };
       if (present < size) break; // nothing can follow a short data chunk
-    } else if (id === 'fmt ') {
+    } else if (isFmt) {
       if (present < size) {
         return fail(
           'truncated',
@@ -452,11 +466,11 @@ function locate(src: ByteSource): WavLayout | WavError {
       if (data && fmt) break;
       return fail(
         'truncated',
-        `truncated: the file ends inside the ${idQuoted} chunk (it declares ${plural(size, 'byte')}, ` +
+        `truncated: the file ends inside the ${quoteId(walk.get(off, 4).slice(), 0, 4)} chunk (it declares ${plural(size, 'byte')}, ` +
           `${present} are present), before the ${fmt ? "'data'" : "'fmt ' and 'data'"} chunk`,
       );
     }
-    if (seen.length <= MAX_LISTED_CHUNKS) seen.push(idQuoted);
+    if (seen.length < MAX_LISTED_CHUNKS) seen.push(idQuoted);
     if (data && fmt) break;
     off = body + size;
     if (size & 1) {
@@ -467,6 +481,12 @@ function locate(src: ByteSource): WavLayout | WavError {
     }
   }
 
+  if (sixtyFour && !ds64) {
+    return fail(
+      'truncated',
+      `truncated: the ${magic} file ends after ${plural(n, 'byte')}, before its 'ds64' chunk`,
+    );
+  }
   if (!fmt || !data) {
     const missing = !fmt && !data ? "'fmt ' and 'data' chunks" : !fmt ? "'fmt ' chunk" : "'data' chunk";
     if (riffEnd > n) {
