@@ -25,7 +25,6 @@ export type {
   StepResult,
   UnitRecord,
   UnitRecordDraft,
-  WavOpenResult,
 } from './ipc-contract.ts';
 
 declare global {

@@ -15,7 +15,6 @@ export const CHANNELS = [
   'run:load-autosave',
   'run:clear-autosave',
   'app:info',
-  'wav:open',
 ] as const;
 
 /** One IPC channel name, for example `'records:load'`. */

@@ -20,9 +20,6 @@ export const MiB = 1024 * 1024;
 /** Default limit on a request or response, measured as UTF-8 bytes of its JSON text: 1 MiB. */
 export const MAX_PAYLOAD_BYTES = 1 * MiB;
 
-/** Largest WAV file `wav:open` reads: 200 MiB (about 18 minutes of 48 kHz 32-bit float stereo). */
-export const MAX_WAV_BYTES = 200 * MiB;
-
 /** Largest record file `records:import` reads: the same 1 MiB as any payload. */
 export const MAX_RECORD_FILE_BYTES = MAX_PAYLOAD_BYTES;
 
@@ -263,19 +260,6 @@ export const AppInfoSchema = z.strictObject({
   chrome: z.string(),
 });
 
-export const WavOpenResultSchema = z.discriminatedUnion('kind', [
-  z
-    .strictObject({
-      kind: z.literal('opened'),
-      fileName: FileNameSchema,
-      sizeBytes: z.number().int().nonnegative().max(MAX_WAV_BYTES),
-      /** The whole file, undecoded. */
-      bytes: z.instanceof(Uint8Array),
-    })
-    .refine((v) => v.bytes.byteLength === v.sizeBytes, 'bytes.byteLength must equal sizeBytes'),
-  Cancelled,
-]);
-
 // ---------------------------------------------------------------------------------------------
 // The contract
 
@@ -347,13 +331,6 @@ export const CONTRACT = {
     request: NoPayload,
     response: AppInfoSchema,
   },
-  'wav:open': {
-    summary: 'Ask for a WAV file (at most 200 MiB) and return its bytes, undecoded.',
-    request: NoPayload,
-    response: WavOpenResultSchema,
-    // Documented exception to the 1 MiB limit: the file's bytes plus a little JSON around them.
-    maxResponseBytes: MAX_WAV_BYTES + 64 * 1024,
-  },
 } as const satisfies Record<Channel, ChannelSpec>;
 
 /** The request type of channel `C`, as the renderer passes it. */
@@ -372,4 +349,3 @@ export type RecordList = z.output<typeof RecordListSchema>;
 export type ExportRequest = z.input<typeof ExportRequestSchema>;
 export type AutosaveResult = z.output<typeof AutosaveResultSchema>;
 export type AppInfo = z.output<typeof AppInfoSchema>;
-export type WavOpenResult = z.output<typeof WavOpenResultSchema>;

@@ -55,8 +55,6 @@ export function buildSpanmeterApi(invoke: InvokeFn) {
     clearAutosavedRun: () => call('run:clear-autosave'),
     /** `app:info`: name, version, platform. */
     appInfo: () => call('app:info'),
-    /** `wav:open`: ask for a WAV file and return its bytes, undecoded (at most 200 MiB). */
-    openWav: () => call('wav:open'),
   });
 }
 

@@ -60,7 +60,6 @@ const handlers: IpcHandlers = {
     electron: '45.5.0',
     chrome: '140.0.0.0',
   }),
-  'wav:open': () => ({ kind: 'opened', fileName: 'take.wav', sizeBytes: 4, bytes: new Uint8Array(4) }),
 };
 
 function setup() {
@@ -82,9 +81,9 @@ describe('registerIpc', () => {
 
   it('refuses to start with a channel unhandled', () => {
     const partial = { ...handlers } as Partial<IpcHandlers>;
-    delete partial['wav:open'];
+    delete partial['app:info'];
     expect(() => registerIpc(fakeIpcMain(), partial as IpcHandlers, { isTrustedSender: () => true })).toThrow(
-      'registerIpc: no handler for channel "wav:open"',
+      'registerIpc: no handler for channel "app:info"',
     );
   });
 
@@ -97,8 +96,6 @@ describe('registerIpc', () => {
     });
     const saved = await ipc.invoke('records:save', fromApp, sampleDraft());
     expect(saved.ok).toBe(true);
-    const wav = await ipc.invoke('wav:open', fromApp);
-    expect(wav.ok && (wav.value as { bytes: Uint8Array }).bytes).toBeInstanceOf(Uint8Array);
     expect(
       (await ipc.invoke('run:autosave', fromApp, { state: { step: 3, readings: [1.5, null] } })).ok,
     ).toBe(true);
@@ -274,7 +271,7 @@ describe('measurePayload', () => {
   ])('%j measures %i bytes', (value, bytes) => {
     expect(measurePayload(value)).toEqual({ kind: 'ok', bytes });
   });
-  it('counts binary bytes where allowed (the wav:open response)', () => {
+  it('counts binary bytes where allowed', () => {
     expect(measurePayload({ b: new Uint8Array(1000) }, true)).toEqual({
       kind: 'ok',
       bytes: 1000 + '{"b":null}'.length,
@@ -309,7 +306,6 @@ describe('buildSpanmeterApi (the preload’s API)', () => {
     ['loadAutosavedRun', [], 'run:load-autosave', []],
     ['clearAutosavedRun', [], 'run:clear-autosave', []],
     ['appInfo', [], 'app:info', []],
-    ['openWav', [], 'wav:open', []],
   ])('%s(…) invokes %s', async (name, args, channel, sent) => {
     seen.length = 0;
     await (api as unknown as Record<string, (...a: unknown[]) => Promise<unknown>>)[name](...args);
