@@ -241,7 +241,10 @@ export interface DriftTrend {
  * sample size for AR(1) residuals, n_eff = n·(1 − r₁)/(1 + r₁), with r₁ the lag-1 autocorrelation of the
  * residuals (Santer et al., "Statistical significance of trends and trend differences in layer-average
  * atmospheric temperature time series", J. Geophys. Res. 105 (2000) 7337, eq. 6; the slope's standard
- * error is Bevington & Robinson ch. 6). The residual variance uses n_eff − 2 degrees of freedom.
+ * error is Bevington & Robinson ch. 6). The residual variance uses n_eff − 2 degrees of freedom. Where the
+ * readings carry their own standard uncertainties, the variance per reading is the larger of the scatter
+ * about the line and the mean of their squares (the external and internal estimates, R. T. Birge, Phys.
+ * Rev. 40 (1932) 207), so a clean synthetic tone cannot claim more than the estimator itself does.
  *
  * @param readings - Readings at one voltage, strictly increasing in time, Hz > 0.
  * @returns The line, or `{ kind: 'none', reason: 'too-few-readings' }` with fewer than 4 readings.
@@ -250,7 +253,9 @@ export interface DriftTrend {
  * // One reading a second for 10 min rising a steady 0.1 cent per minute:
  * driftTrend(readings) // { kind: 'ok', rateCentsPerMinute: 0.1, driftCents: 0.998…, … }
  */
-export function driftTrend(readings: readonly DriftReading[]): DriftTrend | DriftNone {
+export function driftTrend(
+  readings: readonly (DriftReading & { readonly uncertaintyCents?: Cents })[],
+): DriftTrend | DriftNone {
   validate(readings, {});
   const n = readings.length;
   if (n < 4) return { kind: 'none', reason: 'too-few-readings' };
@@ -288,7 +293,10 @@ export function driftTrend(readings: readonly DriftReading[]): DriftTrend | Drif
   const nEff = Math.max(3, (n * (1 - r1)) / (1 + r1));
   const s2 = ss / Math.max(1, n - 2); // scatter about the line
   // Santer et al. (2000): s_e² = Σe²/(n_eff − 2), s_b² = s_e²/Σ(t − t̄)²; the mean's variance is s_e²/n.
-  const s2Eff = ss / Math.max(1, nEff - 2);
+  let internal = 0;
+  for (const r of readings) internal += (r.uncertaintyCents ?? 0) ** 2;
+  internal /= n;
+  const s2Eff = Math.max(ss / Math.max(1, nEff - 2), internal);
   const uSlope = stt > 0 ? Math.sqrt(s2Eff / stt) : Infinity; // cents per second
   const uMean = Math.sqrt(s2Eff / n);
   const tStart = -tMean;

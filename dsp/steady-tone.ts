@@ -48,7 +48,7 @@ export interface SteadyToneError {
 
 /** Options of {@link analyzeSteadyTone}. */
 export interface SteadyToneOptions {
-  /** Readings per second of the live pass, 2…50. Default 10. */
+  /** Readings per second of the live pass, 2…50. Default 10, or 2 beyond {@link LONG_TONE_SECONDS} (ample for drift). */
   readonly readingsPerSecond?: number;
   /** Called after each block with the fraction read, 0…1. */
   readonly onProgress?: (fraction: number) => void;
@@ -69,26 +69,28 @@ export function analyzeSteadyTone(
   source: SampleSource,
   opts: SteadyToneOptions = {},
 ): SteadyToneOk | SteadyToneError {
-  const rps = opts.readingsPerSecond ?? 10;
+  const long = source.frameCount / source.sampleRateHz > LONG_TONE_SECONDS;
+  const rps = opts.readingsPerSecond ?? (long ? 2 : 10);
   if (!Number.isFinite(rps) || rps < 2 || rps > 50) {
     throw new RangeError(`readingsPerSecond must be a finite number from 2 to 50, got ${rps}`);
   }
   const pass = livePass(
     source,
-    { readingsPerSecond: rps, liveHarmonics: 4, minCycles: 20, minWindowSeconds: 0.1 },
+    // A long tone is read at 2 per second over windows nearly that long, so little audio goes unheard.
+    { readingsPerSecond: rps, liveHarmonics: 4, minCycles: 20, minWindowSeconds: Math.min(0.45, 0.9 / rps) },
     opts.onProgress,
   );
   let loudest = -Infinity;
   let clipped = 0;
   let silent = 0;
-  const points: { timeSeconds: number; hz: number }[] = [];
+  const points: { timeSeconds: number; hz: number; uncertaintyCents: number }[] = [];
   for (const r of pass.readings) {
     if (r.level.rmsDbfs > loudest) loudest = r.level.rmsDbfs;
     if (r.kind === 'ok') {
       // Stamped at the window's centre, where the pitch was heard; kept strictly increasing.
       const t = pass.centreAt.get(r.timeSeconds) ?? r.timeSeconds;
       if (points.length === 0 || t > points[points.length - 1].timeSeconds) {
-        points.push({ timeSeconds: t, hz: r.hz });
+        points.push({ timeSeconds: t, hz: r.hz, uncertaintyCents: r.uncertaintyCents });
       }
     } else if (r.reason === 'silent') silent++;
     else if (r.reason === 'clipped') clipped++;

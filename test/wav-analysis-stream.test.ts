@@ -61,7 +61,7 @@ describe('Open WAV reads the file in slices', () => {
         return bytes.slice(a, b);
       },
     });
-    const file = new Blob([bytes]);
+    const file = new Blob([new Uint8Array(bytes)]);
     core.handle({ type: 'wav-analyze', file, fileName: 'take.wav', request: { points: volts, channel: 2 } });
     const done = messages.find((m) => m.type === 'wav-done');
     if (done?.type !== 'wav-done' || done.outcome.kind !== 'ok') throw new Error('expected an analysis');
