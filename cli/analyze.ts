@@ -142,7 +142,10 @@ known frequency and run: spanmeter analyze ref.wav --true-hz 1000
 options:
 ${formatOptionsHelp(OPTIONS)}
 
-Reads 8/16/24/32-bit PCM and 32/64-bit float WAV files at 8000-384000 Hz.
+Reads 8/16/24/32-bit PCM and 32/64-bit float WAV files (RIFF, or RF64/BW64 over 4 GB)
+at 8000-384000 Hz, of any length, a block at a time. Without --points, a tone that moved
+during the file, or one longer than a minute, is reported by its drift: start, end and
+rate, each with its uncertainty.
 Exit status: 0 on a result, 1 when the file cannot be read, holds no pitch or its settled
 steps do not match --points, 2 on misuse.
 
