@@ -14,7 +14,7 @@ import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
-import { writeLongToneWav } from '../test/long-wav.ts';
+import { SAW6, writeLongToneWav } from '../test/long-wav.ts';
 import { encodeWav } from './simulate.ts';
 
 interface Timed {
@@ -94,7 +94,7 @@ function longCase(quick: boolean): boolean {
     ];
     for (const [label, hzAt, extra] of cases) {
       const file = join(dir, 'long.wav');
-      writeLongToneWav(file, seconds, 48000, 2, { hzAt, harmonics: [1, 0.3] });
+      writeLongToneWav(file, seconds, 48000, 2, { hzAt, harmonics: SAW6, amplitude: 0.3 });
       const ours = timed(process.execPath, [bundle, 'analyze', file, '--json', ...extra], cwd);
       const bare = timed(process.execPath, barePitchyArgs(file), cwd);
       rmSync(file, { force: true });

@@ -3,6 +3,9 @@
 // a given function of time, its phase integrated sample by sample in double precision.
 import { closeSync, openSync, writeSync } from 'node:fs';
 
+/** A band-limited sawtooth's first six harmonics, amplitude 1/k (its Fourier series). */
+export const SAW6: readonly number[] = [1, 1 / 2, 1 / 3, 1 / 4, 1 / 5, 1 / 6];
+
 /** A tone: frequency at time t (s), Hz; and the amplitude of each harmonic (1 = a sine). */
 export interface LongTone {
   readonly hzAt: (t: number) => number;
@@ -57,9 +60,19 @@ export function writeLongToneWav(
       let hz = tone.hzAt(start / rate);
       for (let i = 0; i < n; i++) {
         if (i % 480 === 0) hz = tone.hzAt((start + i) / rate);
-        let x = 0;
-        for (let k = 0; k < harmonics.length; k++)
-          x += harmonics[k] * Math.sin(2 * Math.PI * (k + 1) * phase);
+        // sin(kθ) by the Chebyshev recurrence sin(kθ) = 2·cos θ·sin((k−1)θ) − sin((k−2)θ).
+        const th = 2 * Math.PI * phase;
+        const s1 = Math.sin(th);
+        const c2 = 2 * Math.cos(th);
+        let x = harmonics[0] * s1;
+        let prev = 0;
+        let cur = s1;
+        for (let k = 1; k < harmonics.length; k++) {
+          const next = c2 * cur - prev;
+          prev = cur;
+          cur = next;
+          x += harmonics[k] * cur;
+        }
         phase += hz / rate;
         if (phase > 1e6) phase -= Math.floor(phase);
         const v = amp * x;
