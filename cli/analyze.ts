@@ -8,7 +8,6 @@
  * `--summer` describe the input network for resistor values in the scale advice. With `--true-hz` it
  * reads a recorded reference tone of known frequency and prints the interface's clock error instead.
  */
-import { readFileSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
 import type { InputNetwork } from '../dsp/advice.ts';
 import { clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/clock.ts';
@@ -18,8 +17,14 @@ import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
 import { calibrate } from '../dsp/pipeline.ts';
 import { resultToJsonText } from '../dsp/result.ts';
 import type { Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
-import { analyzeRecording, describePlateauSpans, type RecordingAnalysisError } from '../dsp/recording.ts';
-import { decodeWav, pickChannel, type WavDecoded } from '../dsp/wav.ts';
+import {
+  analyzeRecording,
+  describePlateauSpans,
+  type RecordingAnalysisError,
+} from '../dsp/recording.ts';
+import { arraySource, wavChannelSource, type SampleSource } from '../dsp/recording-input.ts';
+import { analyzeSteadyTone, LONG_TONE_SECONDS } from '../dsp/steady-tone.ts';
+import type { WavDecoded, WavLayout } from '../dsp/wav.ts';
 import {
   EXIT_USAGE,
   formatOptionsHelp,
@@ -29,8 +34,11 @@ import {
   parseNumberOption,
   parseResistorPairOption,
 } from './args.ts';
-import { CliError } from './errors.ts';
+import { CliError, quotePath } from './errors.ts';
 import { MODEL_OPTIONS, parseModelOptions, type ModelCliOptions } from './model-options.ts';
+import { progressLine } from './progress.ts';
+import { formatMovingTone, movingToneToJson } from './tone-report.ts';
+import { openWavFile, type OpenWavFile } from './wav-file.ts';
 import {
   clockReferenceToJson,
   describeClockCorrection,
@@ -144,7 +152,10 @@ known frequency and run: spanmeter analyze ref.wav --true-hz 1000
 options:
 ${formatOptionsHelp(OPTIONS)}
 
-Reads 8/16/24/32-bit PCM and 32/64-bit float WAV files at 8000-384000 Hz.
+Reads 8/16/24/32-bit PCM and 32/64-bit float WAV files (RIFF, or RF64/BW64 over 4 GB)
+at 8000-384000 Hz, of any length, a block at a time. Without --points, a tone that moved
+during the file, or one longer than a minute, is reported by its drift: start, end and
+rate, each with its uncertainty.
 Exit status: 0 on a result, 1 when the file cannot be read, holds no pitch, its settled
 steps do not match --points or fail a plausibility gate (pitch falling as the volts rise,
 a scale far from 1 V/oct), 2 on misuse.
@@ -255,29 +266,34 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
 }
 
 /**
- * Read and decode a WAV file from disk.
+ * Open a WAV file on disk and pick a channel, reading nothing but the header.
  *
  * @param path - File path as typed.
- * @throws CliError (exit code 1) when the file is missing, a directory, unreadable or not a readable WAV.
+ * @param channel - Channel number, counted from 1.
+ * @throws CliError (exit code 1) when the file is missing, not a regular file, unreadable, not a readable
+ *   WAV, or has no such channel.
  */
-export function readWavFile(path: string): WavDecoded {
-  let bytes: Uint8Array;
-  try {
-    if (statSync(path).isDirectory()) throw new CliError(`'${path}' is a directory, not a WAV file`);
-    bytes = readFileSync(path);
-  } catch (err) {
-    if (err instanceof CliError) throw err;
-    const code = (err as NodeJS.ErrnoException).code;
-    if (code === 'ENOENT') throw new CliError(`no such file: '${path}'`);
-    if (code === 'EACCES' || code === 'EPERM') throw new CliError(`cannot read '${path}': permission denied`);
-    if (code === 'EISDIR') throw new CliError(`'${path}' is a directory, not a WAV file`);
-    if (code === 'ENOTDIR')
-      throw new CliError(`no such file: '${path}' (a part of the path is not a directory)`);
-    throw new CliError(`cannot read '${path}': ${(err as Error).message}`);
+export function openChannel(path: string, channel: number): { file: OpenWavFile; source: SampleSource } {
+  const file = openWavFile(path);
+  const count = file.layout.channelCount;
+  if (channel > count) {
+    file.close();
+    const range = count === 1 ? 'only channel 1' : `${count} channels, numbered 1 to ${count}`;
+    throw new CliError(`${quotePath(path)}: no channel ${channel}: the file has ${range}`);
   }
-  const decoded = decodeWav(bytes);
-  if (decoded.kind === 'error') throw new CliError(`${path}: ${decoded.message}`);
-  return decoded;
+  return { file, source: wavChannelSource(file.bytes, file.layout, channel - 1) };
+}
+
+/** The header line's view of a file (`describeWav` takes the decoded shape; only its header fields are read). */
+function asDecoded(layout: WavLayout): WavDecoded {
+  return { ...layout, channels: [] };
+}
+
+/** Frames of a source, read into memory (callers keep this to short stretches). */
+function readAll(source: SampleSource, start = 0, count = source.frameCount - start): Float32Array {
+  const out = new Float32Array(Math.max(0, count));
+  const n = source.read(start, out);
+  return n === out.length ? out : out.subarray(0, n);
 }
 
 /**
@@ -329,22 +345,37 @@ export async function main(args: string[]): Promise<number> {
     process.stdout.write(`${ANALYZE_USAGE}\n`);
     return 0;
   }
-  const decoded = readWavFile(opts.file);
-  const picked = pickChannel(decoded, opts.channel);
-  if (picked.kind === 'error') throw new CliError(`${opts.file}: ${picked.message}`);
+  const { file, source } = openChannel(opts.file, opts.channel);
+  try {
+    return analyzeOpened(opts, file.layout, source);
+  } finally {
+    file.close();
+  }
+}
+
+/** `analyze` on an opened file: a calibration pass, a clock reference, or one held tone. */
+function analyzeOpened(opts: AnalyzeOptions, layout: WavLayout, source: SampleSource): number {
+  const decoded = asDecoded(layout);
+  const progress = progressLine(`spanmeter analyze: reading ${basename(opts.file)}`);
   if (opts.points !== undefined) {
-    const analysis = analyzeRecording(picked.samples, decoded.sampleRateHz, {
-      points: opts.points,
-      a4Hz: opts.a4Hz,
-      ...(opts.settleSeconds === undefined ? {} : { settleSeconds: opts.settleSeconds }),
-      ...(opts.clockPpm === undefined ? {} : { clockPpm: opts.clockPpm }),
-      ...(opts.fitFromVolts === undefined ? {} : { fitFromVolts: opts.fitFromVolts }),
-      ...(opts.fitToVolts === undefined ? {} : { fitToVolts: opts.fitToVolts }),
-      ...(opts.network === undefined ? {} : { network: opts.network }),
-      ...(opts.model?.measuredVolts === undefined ? {} : { measuredVolts: opts.model.measuredVolts }),
-      ...(opts.model === undefined ? {} : { budget: opts.model.budget }),
-      ...(opts.model?.toleranceCents === undefined ? {} : { toleranceCents: opts.model.toleranceCents }),
-    });
+    const analysis = analyzeRecording(
+      source,
+      layout.sampleRateHz,
+      {
+        points: opts.points,
+        a4Hz: opts.a4Hz,
+        ...(opts.settleSeconds === undefined ? {} : { settleSeconds: opts.settleSeconds }),
+        ...(opts.clockPpm === undefined ? {} : { clockPpm: opts.clockPpm }),
+        ...(opts.fitFromVolts === undefined ? {} : { fitFromVolts: opts.fitFromVolts }),
+        ...(opts.fitToVolts === undefined ? {} : { fitToVolts: opts.fitToVolts }),
+        ...(opts.network === undefined ? {} : { network: opts.network }),
+        ...(opts.model?.measuredVolts === undefined ? {} : { measuredVolts: opts.model.measuredVolts }),
+        ...(opts.model === undefined ? {} : { budget: opts.model.budget }),
+        ...(opts.model?.toleranceCents === undefined ? {} : { toleranceCents: opts.model.toleranceCents }),
+      },
+      (f) => progress.update(f),
+    );
+    progress.done();
     if (analysis.kind === 'error') throw new CliError(describeRecordingError(analysis));
     // Steps that fail a plausibility gate (wrong order, volts in the wrong unit) never end in a trim.
     const refusal = analysis.result.fit?.refusal;
@@ -357,8 +388,12 @@ export async function main(args: string[]): Promise<number> {
     }
     return 0;
   }
-  const measured = measureSteadyTone(picked.samples, decoded.sampleRateHz, opts.a4Hz);
+  const fs = layout.sampleRateHz;
   if (opts.trueHz !== undefined) {
+    // A reference tone: its middle minute at most, measured as one window.
+    const n = Math.min(source.frameCount, Math.round(LONG_TONE_SECONDS * fs));
+    const samples = readAll(source, Math.floor((source.frameCount - n) / 2), n);
+    const measured = measureSteadyTone(samples, fs, opts.a4Hz);
     const clock = clockPpmFromReference(measured.reading.hz, opts.trueHz);
     if (clock.kind === 'none') {
       throw new CliError(
@@ -378,6 +413,28 @@ export async function main(args: string[]): Promise<number> {
   }
   // A single tone goes through the one pipeline too (the clock correction is applied there).
   const ppm = opts.clockPpm ?? 0;
+  // One held tone. A short one is read whole and, when it held still, measured as one window; a long one,
+  // or one that moved, is reported through its drift: start, end, rate and their uncertainties.
+  const short = layout.durationSeconds <= LONG_TONE_SECONDS;
+  const samples = short ? readAll(source) : null;
+  const tone = analyzeSteadyTone(samples ? arraySource(samples, fs) : source, {
+    onProgress: (f) => progress.update(f),
+  });
+  progress.done();
+  if (tone.kind === 'error' && (samples === null || tone.message.startsWith('only a DC level'))) {
+    throw new CliError(tone.message);
+  }
+  if (tone.kind === 'ok' && tone.moving) {
+    if (opts.json) {
+      process.stdout.write(`${JSON.stringify(movingToneToJson(tone, opts.a4Hz, ppm))}\n`);
+    } else {
+      const header = describeWav(basename(opts.file), decoded, opts.channel);
+      const clockLine = ppm === 0 ? '' : `${describeClockCorrection(ppm)}\n`;
+      process.stdout.write(`${header}\n${clockLine}${formatMovingTone(tone, opts.a4Hz, ppm)}\n`);
+    }
+    return 0;
+  }
+  const measured = measureSteadyTone(samples ?? new Float32Array(0), fs, opts.a4Hz);
   const r = measured.reading;
   const { result } = calibrate(
     [
@@ -390,7 +447,7 @@ export async function main(args: string[]): Promise<number> {
         capture: {
           source: 'window',
           startSeconds: 0,
-          endSeconds: decoded.durationSeconds,
+          endSeconds: layout.durationSeconds,
           windowStartSeconds: null,
           windowEndSeconds: null,
           harmonicsUsed: r.harmonicsUsed,

@@ -566,6 +566,7 @@ export async function main(args: string[]): Promise<number> {
   if (want('throughput')) results.push(['throughput', throughputCase(quick ? 5 : 20)]);
   if (want('recording')) results.push(['recording', recordingCase(quick ? 3 : 7)]);
   results.push(...modelBenchCases(want, quick));
+  results.push(...(await import('./bench-long.ts')).benchLong(want, quick));
   console.log('\n### Summary\n');
   for (const [name, ok] of results) console.log(`- ${name}: ${ok ? 'meets target' : 'MISSES target'}`);
   console.log(`\nBench time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);

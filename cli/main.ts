@@ -8,7 +8,7 @@
  */
 import { pathToFileURL } from 'node:url';
 import { EXIT_INTERNAL, EXIT_USAGE } from './args.ts';
-import { CliError } from './errors.ts';
+import { CliError, printableMessage } from './errors.ts';
 
 type CommandMain = (args: string[]) => Promise<number>;
 
@@ -69,10 +69,6 @@ function isCliError(err: unknown): err is CliError {
   );
 }
 
-function oneLine(text: string): string {
-  return text.replace(/\s*\n\s*/g, ' ').trim();
-}
-
 /**
  * Run the command line and return the exit code. Never throws.
  *
@@ -94,7 +90,7 @@ export async function run(argv: readonly string[], out: Output = processOutput):
   if (!command) {
     const what = name.startsWith('-') ? `unknown option '${name}'` : `unknown command '${name}'`;
     out.stderr(
-      `spanmeter: ${what}; commands are ${Object.keys(COMMANDS).join(', ')} (see spanmeter --help)\n`,
+      `spanmeter: ${printableMessage(what)}; commands are ${Object.keys(COMMANDS).join(', ')} (see spanmeter --help)\n`,
     );
     return EXIT_USAGE;
   }
@@ -103,11 +99,11 @@ export async function run(argv: readonly string[], out: Output = processOutput):
     return await mod.main(rest);
   } catch (err) {
     if (isCliError(err)) {
-      out.stderr(`spanmeter ${name}: ${oneLine(err.message)}\n`);
+      out.stderr(`spanmeter ${name}: ${printableMessage(err.message)}\n`);
       return err.exitCode;
     }
     const message = err instanceof Error ? err.message : String(err);
-    out.stderr(`spanmeter: internal error: ${oneLine(message)}\n`);
+    out.stderr(`spanmeter: internal error: ${printableMessage(message)}\n`);
     if (process.env.SPANMETER_DEBUG === '1' && err instanceof Error && err.stack)
       out.stderr(`${err.stack}\n`);
     return EXIT_INTERNAL;

@@ -3,10 +3,13 @@
  * reference voltages, as a WAV file, with the true settled frequency of every step in an optional JSON file.
  *
  * The oscillator and interface model is `dsp/simulate.ts`. Files are written atomically: to a temporary file
- * in the destination folder, then renamed over the destination, so a reader never sees half a file.
+ * in the destination folder, then linked (or, with `--force`, renamed) into place, so a reader never sees
+ * half a file. An existing file is replaced only with `--force`; a directory, FIFO, device, socket or
+ * symbolic link is never a target, with or without it. The targets are checked before anything is rendered.
  */
 import { randomBytes } from 'node:crypto';
-import { rename, rm, writeFile } from 'node:fs/promises';
+import { lstatSync, type Stats } from 'node:fs';
+import { link, lstat, rename, rm, writeFile } from 'node:fs/promises';
 import { basename, dirname, join, resolve } from 'node:path';
 import wavefile from 'wavefile';
 import {
@@ -30,7 +33,7 @@ import {
   parsePlanOption,
   type OptionSpecs,
 } from './args.ts';
-import { CliError } from './errors.ts';
+import { CliError, quotePath } from './errors.ts';
 
 /** Defaults of a recording made by this command (the oscillator's own defaults are in dsp/simulate.ts). */
 export const SIMULATE_DEFAULTS = Object.freeze({
@@ -105,6 +108,7 @@ const SPECS = {
   bits: { type: 'string', value: '16|24|32f', help: 'sample format (default 16)' },
   channels: { type: 'string', value: '1|2', help: 'channels; with 2 both carry the signal (default 1)' },
   truth: { type: 'string', value: 'FILE.json', help: 'also write the true settled frequency of every step' },
+  force: { type: 'boolean', help: 'replace --out and --truth files that already exist' },
   seed: { type: 'string', value: 'N', help: `seed of the noise (default ${SIMULATE_DEFAULTS.seed})` },
 } as const satisfies OptionSpecs;
 
@@ -167,16 +171,76 @@ export function encodeWav(
   return wav.toBuffer();
 }
 
-/** Writes a file atomically: a temporary file beside it, then a rename over it. */
-async function writeFileAtomic(path: string, data: Uint8Array | string): Promise<void> {
+/** What a non-regular file is, for a message; null for a regular file. */
+function kindOf(st: Stats): string | null {
+  if (st.isFile()) return null;
+  if (st.isSymbolicLink()) return 'a symbolic link';
+  if (st.isDirectory()) return 'a directory';
+  if (st.isFIFO()) return 'a FIFO (named pipe)';
+  if (st.isCharacterDevice()) return 'a character device';
+  if (st.isBlockDevice()) return 'a block device';
+  if (st.isSocket()) return 'a socket';
+  return 'not a regular file';
+}
+
+/**
+ * Checks that `path` may be written: it does not exist, or it is a regular file and `force` is given.
+ * The link itself is examined (lstat), so a symbolic link is refused rather than followed.
+ *
+ * @param path - The target, as typed.
+ * @param option - The option that named it (`out`, `truth`), for the message.
+ * @param force - `--force` was given.
+ * @throws CliError (exit code 1) for a non-regular target, or an existing file without `force`.
+ * @example checkWriteTarget('take.wav', 'out', false) // undefined when take.wav does not exist
+ */
+export function checkWriteTarget(path: string, option: string, force: boolean): void {
+  let st: Stats;
+  try {
+    st = lstatSync(path);
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code === 'ENOENT') return;
+    if (code === 'ENOTDIR') {
+      throw new CliError(`cannot write ${quotePath(path)}: a part of the path is not a directory`);
+    }
+    throw new CliError(`cannot write ${quotePath(path)}: ${code ?? String(err)}`);
+  }
+  const kind = kindOf(st);
+  if (kind !== null) {
+    throw new CliError(
+      `--${option} ${quotePath(path)} is ${kind}; simulate writes only regular files, and never through a link`,
+    );
+  }
+  if (!force) {
+    throw new CliError(`--${option} ${quotePath(path)} already exists; add --force to replace it`);
+  }
+}
+
+/**
+ * Writes a file atomically: a temporary file beside it, then a hard link to the target (which fails if
+ * the target appeared meanwhile, so nothing is replaced without `force`), or with `force` a rename over
+ * the regular file checked before. The temporary file is removed whatever happens.
+ */
+async function writeFileAtomic(path: string, data: Uint8Array | string, force: boolean): Promise<void> {
   const tmp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   try {
-    await writeFile(tmp, data);
-    await rename(tmp, path);
+    await writeFile(tmp, data, { flag: 'wx' });
+    if (force) {
+      const st = await lstat(path).catch(() => null);
+      if (st !== null && !st.isFile()) throw new Error(`it became ${kindOf(st)} meanwhile`);
+      await rename(tmp, path);
+    } else {
+      await link(tmp, path);
+    }
   } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code === 'EEXIST') {
+      throw new CliError(`${quotePath(path)} appeared while it was being written; add --force to replace it`);
+    }
+    const reason = code ?? (err instanceof Error ? err.message : String(err));
+    throw new CliError(`cannot write ${quotePath(path)}: ${reason}`);
+  } finally {
     await rm(tmp, { force: true }).catch(() => undefined);
-    const reason = err instanceof Error ? err.message : String(err);
-    throw new CliError(`cannot write '${path}': ${reason}`);
   }
 }
 
@@ -293,6 +357,14 @@ export async function main(args: string[]): Promise<number> {
   if (values.hz0 !== undefined)
     options = { ...options, hz0: parseNumberOption('hz0', values.hz0, 0.1, 20_000, 'Hz') };
 
+  // The targets are checked before the (possibly long) rendering, so a refusal is immediate.
+  const force = values.force === true;
+  const outPath = resolve(values.out);
+  const truthPath = values.truth === undefined ? undefined : resolve(values.truth);
+  if (truthPath === outPath) throw new CliError('--truth must name a different file from --out', EXIT_USAGE);
+  checkWriteTarget(values.out, 'out', force);
+  if (values.truth !== undefined) checkWriteTarget(values.truth, 'truth', force);
+
   let rendered: RenderedOscillator;
   try {
     rendered = renderOscillator(options, planSchedule(volts, { holdSeconds, glideSeconds }));
@@ -301,11 +373,11 @@ export async function main(args: string[]): Promise<number> {
     throw err;
   }
 
-  const outPath = resolve(values.out);
-  const truthPath = values.truth === undefined ? undefined : resolve(values.truth);
-  if (truthPath === outPath) throw new CliError('--truth must name a different file from --out', EXIT_USAGE);
-
-  await writeFileAtomic(outPath, encodeWav(rendered.samples, rendered.sampleRateHz, bits, channels as 1 | 2));
+  await writeFileAtomic(
+    outPath,
+    encodeWav(rendered.samples, rendered.sampleRateHz, bits, channels as 1 | 2),
+    force,
+  );
   if (truthPath !== undefined) {
     const truth: TruthFile = {
       format: TRUTH_FORMAT,
@@ -320,7 +392,7 @@ export async function main(args: string[]): Promise<number> {
       options: { ...resolveOscillatorOptions(options) },
       steps: rendered.truth,
     };
-    await writeFileAtomic(truthPath, `${JSON.stringify(truth, null, 2)}\n`);
+    await writeFileAtomic(truthPath, `${JSON.stringify(truth, null, 2)}\n`, force);
   }
   const seconds = (rendered.samples.length / rendered.sampleRateHz).toFixed(2);
   const fmt = bits === '32f' ? '32-bit float' : `${bits}-bit`;

@@ -3,7 +3,7 @@
  * and recorded through the sound card, read back as one channel of samples.
  *
  * ## Steps
- * 1. **Live pass.** The streaming tracker ({@link PitchTracker}) runs over the samples at a modest reading
+ * 1. **Live pass.** The streaming tracker (`PitchTracker`, via `dsp/recording-input.ts`) runs over the samples at a modest reading
  *    rate with few harmonics: cheap, and exactly what the live view would have shown.
  * 2. **Plateaus.** The readings go through the plateau detector (`dsp/plateau.ts`), whose band is sized to
  *    the readings' own uncertainty (3σ, at most ±0.3 cent) and which needs `settleSeconds` inside the band:
@@ -40,7 +40,8 @@ import type { PitchOk, PitchReading } from './reading.ts';
 import type { CalibrationResult } from './result.ts';
 import { PitchTracker } from './stream.ts';
 import type { InputNetwork, TrimAdvice } from './advice.ts';
-import type { ErrorTable } from './table.ts';
+import { arraySource, describeNoSignal, livePass, type SampleSource } from './recording-input.ts';
+import { buildErrorTable, type ErrorTable } from './table.ts';
 import type { Cents, Hertz, Ppm, Seconds, Volts } from './units.ts';
 
 /**
@@ -276,7 +277,9 @@ interface Group {
  * step and no points it reports that tone (volts null), as a single-tone measurement; with several and no
  * points it reports them all with volts null (no table, fit or advice).
  *
- * @param samples - One channel, nominally within ±1, at least a few periods long.
+ * @param samples - One channel, nominally within ±1, at least a few periods long: in memory, or a
+ *   {@link SampleSource} read a block at a time (`dsp/recording-input.ts`), so any length fits in bounded
+ *   memory.
  * @param sampleRateHz - Sample rate, 8 kHz to 384 kHz.
  * @param opts - See {@link RecordingOptions}.
  * @returns The analysis, or a typed {@link RecordingAnalysisError}.
@@ -288,9 +291,10 @@ interface Group {
  * // { kind: 'ok', steps: [{ volts: 0, hz: 55.0000…, … }, …], fit: { octavesPerVolt: 1.00000…, … }, … }
  */
 export function analyzeRecording(
-  samples: Float32Array,
+  samples: Float32Array | SampleSource,
   sampleRateHz: Hertz,
   opts: RecordingOptions = {},
+  onProgress?: (fraction: number) => void,
 ): RecordingAnalysis {
   // ---- Options -------------------------------------------------------------------------------------
   const fs = sampleRateHz;
@@ -332,54 +336,23 @@ export function analyzeRecording(
     ...opts.plateau,
     settleSeconds: detectSettle,
   });
-  if (!(samples instanceof Float32Array)) {
-    throw new RangeError(`samples must be a Float32Array, got ${String(samples)}`);
+  const source = samples instanceof Float32Array ? arraySource(samples, fs) : samples;
+  if (typeof source !== 'object' || source === null || typeof source.read !== 'function') {
+    throw new RangeError(`samples must be a Float32Array or a SampleSource, got ${String(samples)}`);
   }
-  const tracker = new PitchTracker({
-    sampleRateHz: fs,
-    readingsPerSecond: rps,
-    liveHarmonics,
-    minCycles: liveMinCycles,
-    minWindowSeconds: liveMinWindow,
-    maxWindowSeconds: 1,
-    historySeconds: 1,
-  });
   const expected = points?.length ?? 0;
-  const durationSeconds = samples.length / fs;
+  const durationSeconds = source.frameCount / fs;
 
-  // ---- 1. Live pass ----------------------------------------------------------------------------------
-  let anySignal = false;
-  for (let i = 0; i < samples.length; i++) {
-    if (samples[i] !== 0) {
-      anySignal = true;
-      break;
-    }
-  }
-  if (!anySignal) {
+  // ---- 1. Live pass (dsp/recording-input.ts: blocks → tracker → readings, silent windows marked) --------
+  const pass = livePass(
+    source,
+    { readingsPerSecond: rps, liveHarmonics, minCycles: liveMinCycles, minWindowSeconds: liveMinWindow },
+    onProgress,
+  );
+  if (!pass.anySignal) {
     return fail('silence', 'silence: every sample of the recording is 0 (nothing was recorded)', expected);
   }
-  // Readings are stamped with the moment they were made (the end of the window), evenly spaced, which is
-  // what the detector wants; `centreAt` maps those moments back to the windows' centres, since windows
-  // change length with the pitch.
-  // A window more than half silent is not a reading of the step: after a silence the tracker has no hint
-  // and reads over its longest window, which would bridge a short silence between two holds.
-  const readings: PitchReading[] = [];
-  const centreAt = new Map<number, number>();
-  const quietRuns = silentRuns(samples, fs);
-  tracker.push(samples, (r) => {
-    const t = r.timeSeconds;
-    const centre = r.kind === 'ok' ? t - r.windowSeconds / 2 : t;
-    centreAt.set(t, centre);
-    if (
-      r.kind === 'ok' &&
-      silentOverlap(quietRuns, centre - r.windowSeconds / 2, centre + r.windowSeconds / 2, fs) >
-        r.windowSeconds / 2
-    ) {
-      readings.push({ kind: 'none', reason: 'silent', level: r.level, timeSeconds: t });
-    } else {
-      readings.push({ ...r, timeSeconds: t });
-    }
-  });
+  const { readings, centreAt } = pass;
   if (durationSeconds < plateauOptions.settleSeconds + 0.2) {
     return fail(
       'too-short',
@@ -400,6 +373,8 @@ export function analyzeRecording(
   }
   if (ok === 0) {
     if (silent === readings.length) {
+      const dc = describeNoSignal(pass, loudest);
+      if (dc !== null) return fail('silence', dc, expected);
       return fail(
         'silence',
         `silence: the recording is too quiet to measure anywhere (loudest ${loudest.toFixed(1)} dBFS RMS)`,
@@ -482,6 +457,7 @@ export function analyzeRecording(
   const estimator = new PitchEstimator(Math.max(64, Math.round(cap * fs)), fs, {
     maxHarmonics: windowHarmonics,
   });
+  const windowSamples = new Float32Array(estimator.maxSamples);
   const measuredSteps = groups.map((g, index) => {
     const piece = choosePiece(g.pieces, fs);
     const p = piece.plateau;
@@ -493,8 +469,9 @@ export function analyzeRecording(
         [w0, w1] = [mid - cap / 2, mid + cap / 2];
       }
       const s0 = Math.max(0, Math.round(w0 * fs));
-      const n = Math.min(samples.length - s0, Math.round((w1 - w0) * fs), estimator.maxSamples);
-      const r = estimator.estimate(samples, s0, n, (s0 + n / 2) / fs, 1, p.meanHz);
+      const want = Math.min(source.frameCount - s0, Math.round((w1 - w0) * fs), estimator.maxSamples);
+      const n = source.read(s0, windowSamples.subarray(0, Math.max(0, want)));
+      const r = estimator.estimate(windowSamples, 0, n, (s0 + n / 2) / fs, 1, p.meanHz);
       // A window that disagrees with its own live readings by more than the band has caught something the
       // readings did not (a click at the edge): keep the readings' mean instead.
       if (
@@ -612,58 +589,6 @@ function choosePiece(pieces: readonly Piece[], fs: Hertz): Piece {
   let longest = last;
   for (const p of pieces) if (length(p) > length(longest)) longest = p;
   return length(last) >= Math.min(1, length(longest)) ? last : longest;
-}
-
-/** Blocks of this length, seconds, are tested for silence. */
-const SILENCE_BLOCK_SECONDS: Seconds = 0.005;
-/** A block quieter than this RMS level is silent, dBFS: the estimator's own silence floor. */
-const SILENCE_DBFS = -70;
-
-/**
- * Silent stretches of the recording as sorted, disjoint `[start, end)` sample ranges: runs of 5 ms blocks
- * whose RMS is below {@link SILENCE_DBFS}.
- */
-function silentRuns(x: Float32Array, fs: Hertz): number[] {
-  const block = Math.max(1, Math.round(SILENCE_BLOCK_SECONDS * fs));
-  const limit = block * Math.pow(10, SILENCE_DBFS / 10); // sum of squares of a block at the floor
-  const runs: number[] = [];
-  let runStart = -1;
-  for (let b = 0; b < x.length; b += block) {
-    const e = Math.min(x.length, b + block);
-    let sum = 0;
-    let mean = 0;
-    for (let i = b; i < e; i++) mean += x[i];
-    mean /= e - b;
-    for (let i = b; i < e; i++) sum += (x[i] - mean) * (x[i] - mean);
-    const quiet = sum * (block / (e - b)) < limit;
-    if (quiet && runStart < 0) runStart = b;
-    if (!quiet && runStart >= 0) {
-      runs.push(runStart, b);
-      runStart = -1;
-    }
-  }
-  if (runStart >= 0) runs.push(runStart, x.length);
-  return runs;
-}
-
-/** Seconds of silence (from {@link silentRuns}) inside `[from, to)` seconds. */
-function silentOverlap(runs: readonly number[], from: Seconds, to: Seconds, fs: Hertz): Seconds {
-  const a = from * fs;
-  const b = to * fs;
-  let total = 0;
-  // First run ending after `a` (runs are sorted and disjoint, so their ends are sorted too).
-  let lo = 0;
-  let hi = runs.length / 2;
-  while (lo < hi) {
-    const mid = (lo + hi) >> 1;
-    if (runs[2 * mid + 1] <= a) lo = mid + 1;
-    else hi = mid;
-  }
-  for (let i = 2 * lo; i < runs.length; i += 2) {
-    if (runs[i] >= b) break;
-    total += Math.max(0, Math.min(b, runs[i + 1]) - Math.max(a, runs[i]));
-  }
-  return total / fs;
 }
 
 /** True when the pitched readings between two times have a gap longer than `maxGap` (silence, lost signal). */

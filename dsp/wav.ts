@@ -9,15 +9,16 @@
  * format tag in its first two bytes) follows Microsoft, "Multiple Channel Audio Data and WAVE Files" (from
  * memory).
  *
- * Why check the header here and not leave it all to `wavefile`: its parser throws on many faults, reads a
- * short data chunk without saying so, treats an extensible 32-bit float file as 32-bit integers and stumbles
- * over some `LIST` chunks. So this module walks the chunks itself, gives every fault a typed code and a
- * specific message, and hands `wavefile` a canonical file (the 16-byte `fmt ` chunk and the `data` chunk,
- * nothing else) to unpack. Nothing here throws, whatever the bytes.
+ * This module walks the chunks itself, gives every fault a typed code and a specific message, and decodes
+ * the samples itself, a stretch at a time: {@link openWav} reads only the header through a
+ * {@link ByteSource} (a file in memory, on disk or in a Blob) and {@link readWavFrames} decodes any run of
+ * frames, so a recording of any length is read in bounded memory. Files over 4 GB use RF64 (EBU Tech 3306)
+ * or BW64 (ITU-R BS.2088): the same chunks, with 64-bit sizes in a `ds64` chunk. Nothing here throws,
+ * whatever the bytes. (`wavefile`, a general-purpose WAV library, is the outside reference the tests
+ * compare the decoded samples with.)
  *
- * Pure: no Node or DOM APIs (`wavefile`'s own types need neither).
+ * Pure: no Node or DOM APIs.
  */
-import wavefile from 'wavefile';
 import type { Hertz, Seconds } from './units.ts';
 
 /** Lowest sample rate accepted, Hz (telephone-band rate; below it a file is almost surely damaged). */
@@ -60,8 +61,8 @@ export interface WavDecoded {
  * - `truncated`: the file ends before a chunk it declares is complete (most often the data chunk).
  * - `empty`: the file holds no audio frames.
  * - `malformed`: a WAVE file whose header is inconsistent (no `fmt ` or `data` chunk, zero channels, …).
- * - `unsupported-format`: a valid file in a format Spanmeter does not read (compressed audio, RF64, an odd
- *   bit depth, a sample rate outside 8000–384000 Hz).
+ * - `unsupported-format`: a valid file in a format Spanmeter does not read (compressed audio, an odd bit
+ *   depth, a sample rate outside 8000–384000 Hz).
  * - `decode-failed`: the header looked right but the sample decoder failed (should not happen).
  * - `no-such-channel`: {@link pickChannel} was asked for a channel the file does not have.
  */
@@ -246,29 +247,142 @@ function readFmt(
   return { formatTag, extensible, channelCount, sampleRateHz, blockAlign, bitsPerSample };
 }
 
-interface Located {
-  readonly fmt: FmtInfo;
-  readonly le: boolean;
-  readonly dataStart: number;
-  readonly dataBytes: number;
+/**
+ * Where the bytes of a file come from: a whole file in memory ({@link bytesSource}), a file on disk read
+ * with positioned reads (the command line), or a `Blob` read in slices (the app's worker). Offsets and
+ * sizes are plain numbers, exact up to 2^53 bytes, so files over 4 GB are addressed like any other.
+ */
+export interface ByteSource {
+  /** Length of the file, bytes, ≥ 0. */
+  readonly sizeBytes: number;
+  /**
+   * Copies bytes `[offset, offset + into.length)` of the file into `into` from index 0.
+   *
+   * @returns The number of bytes copied: `into.length`, or fewer only where the file ends.
+   */
+  read(offset: number, into: Uint8Array): number;
 }
 
-/** Walk the chunks, check the structure, and locate the `fmt ` information and the sample bytes. */
-function locate(bytes: Uint8Array): Located | WavError {
-  const n = bytes.length;
-  if (n === 0) return fail('empty', 'empty: the file is 0 bytes long');
-  const magic = ascii(bytes, 0, 4);
-  if (magic === 'RF64' || magic === 'BW64') {
-    return fail(
-      'unsupported-format',
-      `unsupported format: ${magic} (64-bit WAV for files over 4 GB) is not read; save the recording as a plain WAV`,
-    );
+/**
+ * A {@link ByteSource} over bytes already in memory.
+ *
+ * @param bytes - The whole file.
+ * @example bytesSource(new Uint8Array(44)).sizeBytes // 44
+ */
+export function bytesSource(bytes: Uint8Array): ByteSource {
+  return {
+    sizeBytes: bytes.length,
+    read(offset, into) {
+      const n = Math.max(0, Math.min(into.length, bytes.length - offset));
+      into.set(bytes.subarray(offset, offset + n));
+      return n;
+    },
+  };
+}
+
+/**
+ * The layout of a readable WAV file, found by {@link openWav} from its header alone: what the samples
+ * are and where they lie. Reading them is {@link readWavFrames}'s job, any stretch at a time.
+ */
+export interface WavLayout {
+  readonly kind: 'ok';
+  /** Frames per second, Hz, in [8000, 384000]. */
+  readonly sampleRateHz: Hertz;
+  /** Number of channels, ≥ 1. */
+  readonly channelCount: number;
+  /** Number of sample frames (samples per channel), ≥ 1; may exceed 2^32 in an RF64 file. */
+  readonly frameCount: number;
+  /** Bits per stored sample (the container size): 8, 16, 24 or 32 for PCM, 32 or 64 for float. */
+  readonly bitDepth: number;
+  /** Integer PCM or floating point. */
+  readonly format: WavSampleFormat;
+  /** True when the file used the WAVE_FORMAT_EXTENSIBLE header. */
+  readonly extensible: boolean;
+  /** `frameCount / sampleRateHz`, seconds. */
+  readonly durationSeconds: Seconds;
+  /** `RIFF`, `RIFX` (big-endian), `RF64` (EBU Tech 3306) or `BW64` (ITU-R BS.2088). */
+  readonly container: 'RIFF' | 'RIFX' | 'RF64' | 'BW64';
+  /** Offset of the first sample byte in the file, bytes. */
+  readonly dataOffset: number;
+  /** Bytes per frame (the `fmt ` chunk's block align). */
+  readonly frameBytes: number;
+  /** True for little-endian samples (all but RIFX). */
+  readonly littleEndian: boolean;
+}
+
+/** Bytes the chunk walker reads at a time. */
+const WALK_BUFFER_BYTES = 1 << 16;
+/** Chunk ids listed by name in a "no 'data' chunk" message before "…". */
+const MAX_LISTED_CHUNKS = 8;
+/** Most chunks walked before the audio: real files hold a handful; more is damage or an attack. */
+const MAX_CHUNKS = 100_000;
+/** The 32-bit size that means "see the ds64 chunk" in RF64 and BW64 (EBU Tech 3306 §3; ITU-R BS.2088). */
+const SIZE_IN_DS64 = 0xffffffff;
+
+/** Reads a file's header region through a buffer, so a walk over many small chunks costs few reads. */
+class Walker {
+  private readonly buf = new Uint8Array(WALK_BUFFER_BYTES);
+  private base = 0;
+  private filled = 0;
+  constructor(private readonly src: ByteSource) {}
+
+  /**
+   * Bytes `[offset, offset + length)` (length ≤ the buffer) as a view valid until the next call; shorter
+   * where the file ends.
+   */
+  get(offset: number, length: number): Uint8Array {
+    if (offset < this.base || offset + length > this.base + this.filled) {
+      this.base = offset;
+      this.filled = this.src.read(offset, this.buf);
+    }
+    const from = offset - this.base;
+    return this.buf.subarray(from, Math.min(this.filled, from + length));
   }
-  if (magic !== 'RIFF' && magic !== 'RIFX') {
+}
+
+function u32le(b: Uint8Array, at: number, le = true): number {
+  return le
+    ? (b[at] | (b[at + 1] << 8) | (b[at + 2] << 16) | (b[at + 3] << 24)) >>> 0
+    : ((b[at] << 24) | (b[at + 1] << 16) | (b[at + 2] << 8) | b[at + 3]) >>> 0;
+}
+
+/** A 64-bit little-endian size from its two 32-bit halves (exact to 2^53). */
+function u64le(b: Uint8Array, at: number): number {
+  return u32le(b, at) + u32le(b, at + 4) * 2 ** 32;
+}
+
+/** True when four bytes look like a chunk id: printable ASCII (RIFF specification, 1991: a FOURCC). */
+function plausibleId(b: Uint8Array): boolean {
+  if (b.length < 4) return false;
+  for (let i = 0; i < 4; i++) if (b[i] < 0x20 || b[i] > 0x7e) return false;
+  return true;
+}
+
+/** The ds64 chunk of an RF64/BW64 file: 64-bit sizes (EBU Tech 3306 §3.2, ITU-R BS.2088 §5). */
+interface Ds64 {
+  readonly dataSize: number;
+  readonly table: ReadonlyMap<string, number>;
+}
+
+/**
+ * Walk the chunks, check the structure, and locate the `fmt ` information and the sample bytes.
+ *
+ * A chunk of odd size is followed by one pad byte (RIFF specification, 1991); some writers leave it out.
+ * When the id after the pad byte is not a plausible FOURCC but the one without it is, the pad byte is taken
+ * to be missing.
+ */
+function locate(src: ByteSource): WavLayout | WavError {
+  const n = src.sizeBytes;
+  const walk = new Walker(src);
+  if (n === 0) return fail('empty', 'empty: the file is 0 bytes long');
+  const head = walk.get(0, 12).slice();
+  const magic = ascii(head, 0, 4);
+  const sixtyFour = magic === 'RF64' || magic === 'BW64';
+  if (magic !== 'RIFF' && magic !== 'RIFX' && !sixtyFour) {
     if (n < 4 && 'RIFF'.startsWith(magic) && isPrintable(magic)) {
       return fail('truncated', `truncated: the file ends after ${plural(n, 'byte')}, inside the RIFF header`);
     }
-    return fail('not-wav', `not a WAV file: ${describeStart(bytes)}`);
+    return fail('not-wav', `not a WAV file: ${describeStart(head)}`);
   }
   if (n < 12) {
     return fail(
@@ -276,29 +390,65 @@ function locate(bytes: Uint8Array): Located | WavError {
       `truncated: the file ends after ${plural(n, 'byte')}, inside the 12-byte RIFF header`,
     );
   }
-  const le = magic === 'RIFF';
-  const form = ascii(bytes, 8, 4);
+  const le = magic !== 'RIFX';
+  const form = ascii(head, 8, 4);
   if (form !== 'WAVE') {
-    return fail('not-wav', `not a WAV file: a RIFF file of type ${quoteId(bytes, 8, 4)} instead of 'WAVE'`);
+    return fail('not-wav', `not a WAV file: a RIFF file of type ${quoteId(head, 8, 4)} instead of 'WAVE'`);
   }
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  const riffEnd = 8 + view.getUint32(4, le);
+  let riffEnd = 8 + u32le(head, 4, le);
 
+  let ds64: Ds64 | undefined;
   let fmt: FmtInfo | undefined;
   let data: { start: number; declared: number; present: number } | undefined;
   const seen: string[] = [];
+  let chunkCount = 0;
   let off = 12;
   while (off + 8 <= n) {
-    const idQuoted = quoteId(bytes, off, 4);
-    const id = ascii(bytes, off, 4);
-    const size = view.getUint32(off + 4, le);
+    if (chunkCount >= MAX_CHUNKS) {
+      return fail(
+        'malformed',
+        `malformed: more than ${MAX_CHUNKS} chunks before the audio (${seen.slice(0, MAX_LISTED_CHUNKS).join(', ')}, …)`,
+      );
+    }
+    const h = walk.get(off, 8);
+    let size = u32le(h, 4, le);
+    const isData = h[0] === 0x64 && h[1] === 0x61 && h[2] === 0x74 && h[3] === 0x61; // 'data'
+    const isFmt = h[0] === 0x66 && h[1] === 0x6d && h[2] === 0x74 && h[3] === 0x20; // 'fmt '
+    const listing = seen.length < MAX_LISTED_CHUNKS || isData || isFmt || chunkCount === 0;
+    const id = listing ? ascii(h, 0, 4) : '';
+    const idQuoted = listing ? quoteId(h, 0, 4) : '';
     const body = off + 8;
+    if (sixtyFour && chunkCount === 0) {
+      if (id !== 'ds64') {
+        return fail(
+          'malformed',
+          `malformed: a ${magic} file must start with a 'ds64' chunk; it starts with ${idQuoted}`,
+        );
+      }
+      if (size < 28 || body + size > n) {
+        return fail(
+          'malformed',
+          `malformed: the 'ds64' chunk is ${plural(size, 'byte')} long; it needs at least 28`,
+        );
+      }
+      const b = walk.get(body, Math.min(size, WALK_BUFFER_BYTES)).slice();
+      const table = new Map<string, number>();
+      const entries = u32le(b, 24);
+      for (let i = 0; i < entries && 28 + 12 * i + 12 <= b.length; i++) {
+        table.set(ascii(b, 28 + 12 * i, 4), u64le(b, 28 + 12 * i + 4));
+      }
+      ds64 = { dataSize: u64le(b, 8), table };
+      if (riffEnd - 8 === SIZE_IN_DS64) riffEnd = 8 + u64le(b, 0);
+    }
+    if (ds64 && size === SIZE_IN_DS64)
+      size = isData ? ds64.dataSize : (ds64.table.get(ascii(h, 0, 4)) ?? size);
+    chunkCount++;
     const present = Math.min(size, n - body);
-    if (id === 'data') {
+    if (isData) {
       if (data) break; // a second data chunk: only the first is read (common practice, no source)
       data = { start: body, declared: size, present };
       if (present < size) break; // nothing can follow a short data chunk
-    } else if (id === 'fmt ') {
+    } else if (isFmt) {
       if (present < size) {
         return fail(
           'truncated',
@@ -306,7 +456,8 @@ function locate(bytes: Uint8Array): Located | WavError {
         );
       }
       if (!fmt) {
-        const parsed = readFmt(view, bytes, body, size, le);
+        const b = walk.get(body, Math.min(size, 64)).slice();
+        const parsed = readFmt(new DataView(b.buffer), b, 0, size, le);
         if ('kind' in parsed) return parsed;
         fmt = parsed;
       }
@@ -315,15 +466,27 @@ function locate(bytes: Uint8Array): Located | WavError {
       if (data && fmt) break;
       return fail(
         'truncated',
-        `truncated: the file ends inside the ${idQuoted} chunk (it declares ${plural(size, 'byte')}, ` +
+        `truncated: the file ends inside the ${quoteId(walk.get(off, 4).slice(), 0, 4)} chunk (it declares ${plural(size, 'byte')}, ` +
           `${present} are present), before the ${fmt ? "'data'" : "'fmt ' and 'data'"} chunk`,
       );
     }
-    seen.push(idQuoted);
+    if (seen.length < MAX_LISTED_CHUNKS) seen.push(idQuoted);
     if (data && fmt) break;
-    off = body + size + (size & 1);
+    off = body + size;
+    if (size & 1) {
+      // The pad byte: skip it unless the writer left it out (the next id only fits without it).
+      const padded = walk.get(off + 1, 4);
+      const padMissing = !plausibleId(padded) && plausibleId(walk.get(off, 4));
+      if (!padMissing) off += 1;
+    }
   }
 
+  if (sixtyFour && !ds64) {
+    return fail(
+      'truncated',
+      `truncated: the ${magic} file ends after ${plural(n, 'byte')}, before its 'ds64' chunk`,
+    );
+  }
   if (!fmt || !data) {
     const missing = !fmt && !data ? "'fmt ' and 'data' chunks" : !fmt ? "'fmt ' chunk" : "'data' chunk";
     if (riffEnd > n) {
@@ -333,7 +496,11 @@ function locate(bytes: Uint8Array): Located | WavError {
           `and it ends before the ${missing}`,
       );
     }
-    const found = seen.length > 0 ? `it holds ${seen.join(', ')}` : 'it holds no chunks';
+    const listed =
+      chunkCount > MAX_LISTED_CHUNKS
+        ? `${seen.slice(0, MAX_LISTED_CHUNKS).join(', ')}, … (${chunkCount} chunks in all)`
+        : seen.join(', ');
+    const found = seen.length > 0 ? `it holds ${listed}` : 'it holds no chunks';
     return fail('malformed', `malformed: no ${missing}; ${found}`);
   }
 
@@ -341,7 +508,9 @@ function locate(bytes: Uint8Array): Located | WavError {
   if (data.present < data.declared) {
     const seconds = (k: number): string => (Math.floor(k / frameBytes) / fmt.sampleRateHz).toFixed(3);
     const declaredText =
-      data.declared === 0xffffffff ? 'the largest possible size (a recording that was never finished?)' : '';
+      data.declared === SIZE_IN_DS64
+        ? 'the largest possible size (a recording that was never finished?)'
+        : '';
     return fail(
       'truncated',
       `truncated: the data chunk declares ${plural(data.declared, 'byte')}` +
@@ -358,43 +527,151 @@ function locate(bytes: Uint8Array): Located | WavError {
         : '';
     return fail('empty', `empty: the file holds no audio frames${hint}`);
   }
-  return { fmt, le, dataStart: data.start, dataBytes: frameCount * frameBytes };
+  const float = fmt.formatTag === FORMAT_FLOAT;
+  return {
+    kind: 'ok',
+    sampleRateHz: fmt.sampleRateHz,
+    channelCount: fmt.channelCount,
+    frameCount,
+    bitDepth: fmt.bitsPerSample,
+    format: float ? 'float' : 'pcm',
+    extensible: fmt.extensible,
+    durationSeconds: frameCount / fmt.sampleRateHz,
+    container: magic as WavLayout['container'],
+    dataOffset: data.start,
+    frameBytes,
+    littleEndian: le,
+  };
 }
 
-/** A minimal file of the same samples: RIFF header, 16-byte `fmt ` chunk (tag 1 or 3), `data` chunk. */
-function canonicalFile(bytes: Uint8Array, loc: Located): Uint8Array {
-  const out = new Uint8Array(44 + loc.dataBytes);
-  const v = new DataView(out.buffer);
-  const le = loc.le;
-  const put = (at: number, s: string): void => {
-    for (let i = 0; i < 4; i++) out[at + i] = s.charCodeAt(i);
-  };
-  const f = loc.fmt;
-  put(0, le ? 'RIFF' : 'RIFX');
-  v.setUint32(4, 36 + loc.dataBytes, le);
-  put(8, 'WAVE');
-  put(12, 'fmt ');
-  v.setUint32(16, 16, le);
-  v.setUint16(20, f.formatTag, le);
-  v.setUint16(22, f.channelCount, le);
-  v.setUint32(24, f.sampleRateHz, le);
-  v.setUint32(28, f.sampleRateHz * f.blockAlign, le);
-  v.setUint16(32, f.blockAlign, le);
-  v.setUint16(34, f.bitsPerSample, le);
-  put(36, 'data');
-  v.setUint32(40, loc.dataBytes, le);
-  out.set(bytes.subarray(loc.dataStart, loc.dataStart + loc.dataBytes), 44);
-  return out;
+/**
+ * Reads the header of a WAV file and says where its samples lie, without reading them: the first step of
+ * reading a recording of any length. Reads RIFF/WAVE (IBM & Microsoft, "Multimedia Programming Interface
+ * and Data Specifications 1.0", 1991), its big-endian form RIFX, and the 64-bit forms for files over 4 GB,
+ * RF64 (EBU Tech 3306, 2009) and BW64 (ITU-R BS.2088), whose sizes come from the `ds64` chunk. Never
+ * throws: every fault comes back as a {@link WavError}.
+ *
+ * @param src - The file (see {@link ByteSource}).
+ * @returns The layout, or a typed error with a one-line message.
+ * @example
+ * openWav(bytesSource(file)) // { kind: 'ok', sampleRateHz: 48000, channelCount: 2, frameCount: 720000, dataOffset: 44, … }
+ */
+export function openWav(src: ByteSource): WavLayout | WavError {
+  try {
+    return locate(src);
+  } catch (err) {
+    const why = err instanceof Error ? err.message : String(err);
+    return fail('decode-failed', `decode failed: ${why}`);
+  }
+}
+
+/** Scale of an integer PCM sample of `bits` bits to ±1 full scale: 1 / 2^(bits−1) (exact in binary). */
+function pcmScale(bits: number): number {
+  return 1 / 2 ** (bits - 1);
+}
+
+/**
+ * Converts whole frames of sample bytes to normalised floats: one channel, or all of them interleaved.
+ * Integer PCM value v of b bits becomes v / 2^(b−1) (8-bit, unsigned, (v − 128) / 128); float samples pass
+ * through unchanged.
+ *
+ * @param bytes - Sample bytes, a whole number of frames.
+ * @param layout - The file's layout.
+ * @param channel - Zero-based channel, or -1 for every channel interleaved.
+ * @param out - Receives `frames` (or `frames × channelCount`) samples from index `at`.
+ * @param at - First index written in `out`.
+ */
+export function decodeFrames(
+  bytes: Uint8Array,
+  layout: Pick<WavLayout, 'channelCount' | 'bitDepth' | 'format' | 'frameBytes' | 'littleEndian'>,
+  channel: number,
+  out: Float32Array,
+  at = 0,
+): number {
+  const frames = Math.floor(bytes.length / layout.frameBytes);
+  const cc = layout.channelCount;
+  const bps = layout.bitDepth / 8;
+  const stride = channel < 0 ? bps : layout.frameBytes;
+  const first = channel < 0 ? 0 : channel * bps;
+  const count = channel < 0 ? frames * cc : frames;
+  const v = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const le = layout.littleEndian;
+  const float = layout.format === 'float';
+  let p = first;
+  if (float && bps === 4) {
+    for (let i = 0; i < count; i++, p += stride) out[at + i] = v.getFloat32(p, le);
+  } else if (float) {
+    for (let i = 0; i < count; i++, p += stride) out[at + i] = v.getFloat64(p, le);
+  } else if (bps === 2) {
+    const s = pcmScale(16);
+    for (let i = 0; i < count; i++, p += stride) out[at + i] = v.getInt16(p, le) * s;
+  } else if (bps === 3) {
+    const s = pcmScale(24);
+    for (let i = 0; i < count; i++, p += stride) {
+      const x = le
+        ? bytes[p] | (bytes[p + 1] << 8) | (bytes[p + 2] << 16)
+        : (bytes[p] << 16) | (bytes[p + 1] << 8) | bytes[p + 2];
+      out[at + i] = ((x << 8) >> 8) * s;
+    }
+  } else if (bps === 4) {
+    const s = pcmScale(32);
+    for (let i = 0; i < count; i++, p += stride) out[at + i] = v.getInt32(p, le) * s;
+  } else {
+    for (let i = 0; i < count; i++, p += stride) out[at + i] = (bytes[p] - 128) / 128;
+  }
+  return count;
+}
+
+/**
+ * Reads and decodes frames `[startFrame, startFrame + frameCount)` of a file (clipped to the file's
+ * frames), one channel or all interleaved, into `out`.
+ *
+ * @param src - The file.
+ * @param layout - Its layout from {@link openWav}.
+ * @param startFrame - First frame, ≥ 0.
+ * @param frameCount - Frames wanted, ≥ 0.
+ * @param channel - Zero-based channel, or -1 for all channels interleaved.
+ * @param out - Receives the samples; long enough for them.
+ * @param scratch - Optional byte buffer of at least `frameCount × frameBytes` bytes, reused between calls.
+ * @returns Frames read (fewer than asked only at the end of the audio, or where the file is cut short).
+ * @throws RangeError when `out` or `scratch` is too small.
+ * @example readWavFrames(src, layout, 48000, 4800, 0, new Float32Array(4800)) // 4800: 0.1 s from the 1 s mark
+ */
+export function readWavFrames(
+  src: ByteSource,
+  layout: WavLayout,
+  startFrame: number,
+  frameCount: number,
+  channel: number,
+  out: Float32Array,
+  scratch?: Uint8Array,
+): number {
+  const frames = Math.max(0, Math.min(frameCount, layout.frameCount - startFrame));
+  const need = frames * (channel < 0 ? layout.channelCount : 1);
+  if (out.length < need) {
+    throw new RangeError(`out must hold at least ${need} samples, got ${out.length}`);
+  }
+  const bytesWanted = frames * layout.frameBytes;
+  if (scratch && scratch.length < bytesWanted) {
+    throw new RangeError(`scratch must hold at least ${bytesWanted} bytes, got ${scratch.length}`);
+  }
+  const buf = scratch ? scratch.subarray(0, bytesWanted) : new Uint8Array(bytesWanted);
+  const got = src.read(layout.dataOffset + startFrame * layout.frameBytes, buf);
+  const whole = Math.floor(got / layout.frameBytes);
+  decodeFrames(buf.subarray(0, whole * layout.frameBytes), layout, channel, out);
+  return whole;
 }
 
 /**
  * Decode the bytes of a WAV file into normalised Float32 channels.
  *
  * Reads uncompressed PCM (8-, 16-, 24- and 32-bit integer) and IEEE float (32- and 64-bit) samples, any
- * number of channels, little-endian `RIFF` or big-endian `RIFX`, plain or WAVE_FORMAT_EXTENSIBLE headers,
- * at 8000–384000 Hz. Chunks other than `fmt ` and `data` (`LIST`, `JUNK`, `fact`, `bext`, `cue `, …) are
- * skipped wherever they sit; bytes after the audio that do not form a chunk are ignored. A trailing partial
- * frame is dropped. Never throws: every fault comes back as a {@link WavError}.
+ * number of channels, little-endian `RIFF`, big-endian `RIFX`, or 64-bit `RF64`/`BW64`, plain or
+ * WAVE_FORMAT_EXTENSIBLE headers, at 8000–384000 Hz. Chunks other than `fmt ` and `data` (`LIST`, `JUNK`,
+ * `fact`, `bext`, `cue `, …) are skipped wherever they sit; bytes after the audio that do not form a chunk
+ * are ignored; a missing pad byte after an odd-sized chunk is tolerated. A trailing partial frame is
+ * dropped. Never throws: every fault comes back as a {@link WavError}. For long files, read the layout
+ * with {@link openWav} and the samples a stretch at a time with {@link readWavFrames} instead.
  *
  * Container layout: IBM & Microsoft, "Multimedia Programming Interface and Data Specifications 1.0" (1991).
  *
@@ -409,33 +686,27 @@ export function decodeWav(bytes: Uint8Array): WavResult {
     if (!(bytes instanceof Uint8Array)) {
       return fail('not-wav', 'not a WAV file: the input is not a byte array');
     }
-    const loc = locate(bytes);
-    if ('kind' in loc) return loc;
-    const f = loc.fmt;
-    const frameCount = loc.dataBytes / f.blockAlign;
-    const wav = new wavefile.WaveFile(canonicalFile(bytes, loc));
-    const unpacked = wav.getSamples(false, Float32Array) as unknown as Float32Array | Float32Array[];
-    const channels: Float32Array[] =
-      f.channelCount === 1 ? [unpacked as Float32Array] : [...(unpacked as Float32Array[])];
-    if (channels.length !== f.channelCount || channels.some((c) => c.length !== frameCount)) {
-      return fail('decode-failed', 'decode failed: the sample decoder returned the wrong number of samples');
-    }
-    const float = f.formatTag === FORMAT_FLOAT;
-    if (!float) {
-      // Scaling by a power of two is exact in binary floating point.
-      const scale = 1 / 2 ** (f.bitsPerSample - 1);
-      const offset = f.bitsPerSample === 8 ? 128 : 0; // 8-bit WAV samples are unsigned
-      for (const c of channels) for (let i = 0; i < c.length; i++) c[i] = (c[i] - offset) * scale;
+    const layout = openWav(bytesSource(bytes));
+    if (layout.kind === 'error') return layout;
+    const sampleBytes = bytes.subarray(
+      layout.dataOffset,
+      layout.dataOffset + layout.frameCount * layout.frameBytes,
+    );
+    const channels: Float32Array[] = [];
+    for (let c = 0; c < layout.channelCount; c++) {
+      const ch = new Float32Array(layout.frameCount);
+      decodeFrames(sampleBytes, layout, c, ch);
+      channels.push(ch);
     }
     return {
       kind: 'ok',
-      sampleRateHz: f.sampleRateHz,
-      channelCount: f.channelCount,
-      frameCount,
-      bitDepth: f.bitsPerSample,
-      format: float ? 'float' : 'pcm',
-      extensible: f.extensible,
-      durationSeconds: frameCount / f.sampleRateHz,
+      sampleRateHz: layout.sampleRateHz,
+      channelCount: layout.channelCount,
+      frameCount: layout.frameCount,
+      bitDepth: layout.bitDepth,
+      format: layout.format,
+      extensible: layout.extensible,
+      durationSeconds: layout.durationSeconds,
       channels,
     };
   } catch (err) {

@@ -29,7 +29,6 @@ export type {
   Run,
   UnitRecord,
   UnitRecordDraft,
-  WavOpenResult,
 } from './ipc-contract.ts';
 
 declare global {

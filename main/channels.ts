@@ -22,7 +22,6 @@ export const CHANNELS = [
   'run:autosave',
   'run:load-autosave',
   'run:clear-autosave',
-  'wav:open',
 ] as const;
 
 /** One IPC channel name, for example `'records:load'`. */

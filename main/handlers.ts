@@ -6,7 +6,7 @@ import { randomUUID } from 'node:crypto';
 import { readFile, stat } from 'node:fs/promises';
 import path from 'node:path';
 import { atomicWriteFile } from './atomic-file.ts';
-import { MAX_RECORD_FILE_BYTES, MAX_WAV_BYTES, MiB } from './ipc-contract.ts';
+import { MAX_RECORD_FILE_BYTES, MiB } from './ipc-contract.ts';
 import { IpcError, type IpcHandlers } from './ipc.ts';
 import { WINDOWS_RESERVED_NAMES } from './record-id.ts';
 import { parseRecordText, type RecordsStore } from './records-store.ts';
@@ -62,19 +62,6 @@ export function safeExportName(suggested: string, format: 'json' | 'csv'): strin
   if (name === '') name = 'spanmeter-export';
   if (WINDOWS_RESERVED_NAMES.includes(name.split('.')[0].trim().toLowerCase())) name = `${name}_`;
   return `${name}${ext}`;
-}
-
-/**
- * True when the bytes start like a WAV file: `RIFF`, `RF64` or `BW64` at 0 and `WAVE` at 8.
- * Sources: Microsoft/IBM "Multimedia Programming Interface and Data Specifications 1.0" (1991,
- * RIFF/WAVE); EBU Tech 3306 (RF64); ITU-R BS.2088 (BW64).
- *
- * @example looksLikeWav(new TextEncoder().encode('RIFF\0\0\0\0WAVEfmt ')) // → true
- */
-export function looksLikeWav(bytes: Uint8Array): boolean {
-  if (bytes.byteLength < 12) return false;
-  const tag = (offset: number) => String.fromCharCode(...bytes.subarray(offset, offset + 4));
-  return ['RIFF', 'RF64', 'BW64'].includes(tag(0)) && tag(8) === 'WAVE';
 }
 
 /** Largest unit book backup `book:restore` reads: 512 MiB. */
@@ -207,25 +194,5 @@ export function createHandlers(deps: HandlerDeps): IpcHandlers {
     'run:autosave': ({ state, seq }) => store.saveAutosave(state, seq),
     'run:load-autosave': () => store.loadAutosave(),
     'run:clear-autosave': () => store.clearAutosave(),
-
-    'wav:open': async () => {
-      const file = await pickOne('Open a recording', [{ name: 'WAV audio', extensions: ['wav', 'wave'] }]);
-      if (file === null) return { kind: 'cancelled' as const };
-      const fileName = path.basename(file);
-      const info = await stat(file);
-      if (!info.isFile()) throw new IpcError('invalid-file', `${fileName} is not a file.`);
-      if (info.size > MAX_WAV_BYTES) {
-        throw new IpcError(
-          'file-too-large',
-          `${fileName} is ${mib(info.size)}; the limit is ${mib(MAX_WAV_BYTES)}. Trim the recording and try again.`,
-        );
-      }
-      const buffer = await readFile(file);
-      const bytes = new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
-      if (!looksLikeWav(bytes)) {
-        throw new IpcError('invalid-file', `${fileName} is not a WAV file (no RIFF/WAVE header).`);
-      }
-      return { kind: 'opened' as const, fileName, sizeBytes: bytes.byteLength, bytes };
-    },
   };
 }

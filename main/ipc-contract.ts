@@ -22,9 +22,6 @@ export const MiB = 1024 * 1024;
 /** Default limit on a request or response, measured as UTF-8 bytes of its JSON text: 1 MiB. */
 export const MAX_PAYLOAD_BYTES = 1 * MiB;
 
-/** Largest WAV file `wav:open` reads: 200 MiB (about 18 minutes of 48 kHz 32-bit float stereo). */
-export const MAX_WAV_BYTES = 200 * MiB;
-
 /** Largest record file `records:import` reads: the same 1 MiB as any payload. */
 export const MAX_RECORD_FILE_BYTES = MAX_PAYLOAD_BYTES;
 
@@ -344,18 +341,6 @@ export const AutosaveResultSchema = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('none') }),
 ]);
 
-export const WavOpenResultSchema = z.discriminatedUnion('kind', [
-  z
-    .strictObject({
-      kind: z.literal('opened'),
-      fileName: FileNameSchema,
-      sizeBytes: z.number().int().nonnegative().max(MAX_WAV_BYTES),
-      /** The whole file, undecoded. */
-      bytes: z.instanceof(Uint8Array),
-    })
-    .refine((v) => v.bytes.byteLength === v.sizeBytes, 'bytes.byteLength must equal sizeBytes'),
-  Cancelled,
-]);
 
 // ---------------------------------------------------------------------------------------------
 // The contract
@@ -472,13 +457,6 @@ export const CONTRACT = {
     request: NoPayload,
     response: z.strictObject({ cleared: z.boolean() }),
   },
-  'wav:open': {
-    summary: 'Ask for a WAV file (at most 200 MiB) and return its bytes, undecoded.',
-    request: NoPayload,
-    response: WavOpenResultSchema,
-    // Documented exception to the 1 MiB limit: the file's bytes plus a little JSON around them.
-    maxResponseBytes: MAX_WAV_BYTES + 64 * 1024,
-  },
 } as const satisfies Record<Channel, ChannelSpec>;
 
 /** The request type of channel `C`, as the renderer passes it. */
@@ -494,7 +472,6 @@ export type RecordProblem = z.output<typeof RecordProblemSchema>;
 export type RecordList = z.output<typeof RecordListSchema>;
 export type ExportRequest = z.input<typeof ExportRequestSchema>;
 export type AutosaveResult = z.output<typeof AutosaveResultSchema>;
-export type WavOpenResult = z.output<typeof WavOpenResultSchema>;
 export type TrashedRun = z.output<typeof TrashedRunSchema>;
 export type DriftLog = z.output<typeof DriftLogSchema>;
 export type DriftLogSummary = z.output<typeof DriftLogSummarySchema>;

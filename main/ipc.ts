@@ -12,6 +12,7 @@ import {
   MAX_PAYLOAD_BYTES,
   isIpcErrorCode,
   type Channel,
+  type ChannelSpec,
   type IpcErrorCode,
   type IpcFailure,
   type IpcResult,
@@ -84,7 +85,7 @@ function describe(value: unknown): string {
  *
  * @param value - the payload, untrusted.
  * @param allowBinary - when true, typed arrays and ArrayBuffers are allowed and count their
- *   `byteLength` (used for the `wav:open` response only).
+ *   `byteLength` (for a channel whose response limit exceeds the 1 MiB default).
  * @example measurePayload({ id: 'vco-a' }) // → { kind: 'ok', bytes: 14 }
  * @example measurePayload({ f: () => 1 }).kind // → 'not-json'
  */
@@ -248,7 +249,7 @@ export async function dispatch<C extends Channel>(
       `${channel} produced an invalid response: ${formatIssues(checked.error)}`,
     );
   }
-  const limit = 'maxResponseBytes' in spec ? spec.maxResponseBytes : MAX_PAYLOAD_BYTES;
+  const limit: number = (spec as ChannelSpec).maxResponseBytes ?? MAX_PAYLOAD_BYTES;
   const size = measurePayload(checked.data, limit > MAX_PAYLOAD_BYTES);
   if (size.kind === 'not-json') return reject('invalid-response', `${channel}: ${size.reason}`);
   if (size.bytes > limit) {

@@ -2,7 +2,7 @@
  * The Electron entry point (bundled to build/main/main.cjs). The only module that imports
  * Electron at run time besides the preload; everything it wires is a tested plain module.
  */
-import { BrowserWindow, app, dialog, ipcMain, protocol, session, systemPreferences } from 'electron';
+import { BrowserWindow, Menu, app, dialog, ipcMain, protocol, session, systemPreferences } from 'electron';
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { DialogLike } from './handlers.ts';
@@ -20,7 +20,7 @@ import {
   type OriginPolicy,
   type SecurityDeps,
 } from './security.ts';
-import { windowOptions } from './window.ts';
+import { menuTemplate, windowOptions } from './window.ts';
 
 const isDev = !app.isPackaged;
 /** In development only, `SPANMETER_DEV_SERVER_URL=http://localhost:5173` loads the Vite dev server. */
@@ -61,7 +61,7 @@ function boundDialog(): DialogLike {
 }
 
 async function createWindow(): Promise<void> {
-  const win = new BrowserWindow(windowOptions(preloadPath));
+  const win = new BrowserWindow(windowOptions(preloadPath, app.isPackaged));
   mainWindow = win;
   win.once('ready-to-show', () => win.show());
   win.on('closed', () => {
@@ -82,6 +82,8 @@ async function start(): Promise<void> {
     return;
   }
 
+  // No developer tools or reload in a packaged build's menu (main/window.ts).
+  Menu.setApplicationMenu(Menu.buildFromTemplate(menuTemplate(app.isPackaged, process.platform)));
   protocol.handle(APP_SCHEME, createAppProtocolHandler({ root: rendererDir }));
   applySessionSecurity(session.defaultSession, securityDeps);
 

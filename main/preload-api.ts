@@ -78,8 +78,6 @@ export function buildSpanmeterApi(invoke: InvokeFn) {
     loadAutosavedRun: () => call('run:load-autosave'),
     /** `run:clear-autosave`: forget the autosaved run. */
     clearAutosavedRun: () => call('run:clear-autosave'),
-    /** `wav:open`: ask for a WAV file and return its bytes, undecoded (at most 200 MiB). */
-    openWav: () => call('wav:open'),
   });
 }
 

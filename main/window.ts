@@ -4,7 +4,7 @@
  * Numbers refer to the Electron security checklist,
  * https://www.electronjs.org/docs/latest/tutorial/security.
  */
-import type { BrowserWindowConstructorOptions, WebPreferences } from 'electron';
+import type { BrowserWindowConstructorOptions, MenuItemConstructorOptions, WebPreferences } from 'electron';
 
 /** Smallest window: the measurement view needs 1280×720 logical pixels. */
 export const MIN_WINDOW_SIZE = { width: 1280, height: 720 } as const;
@@ -65,13 +65,65 @@ export function pageBehaviourRule(): Pick<
 }
 
 /**
+ * Developer tools only in development: a packaged build has no way to open them (no menu item, no
+ * shortcut, no `openDevTools`), so nobody can be talked into pasting code into a console that reaches the
+ * records. (Electron's `webPreferences.devTools`; common practice, no source.)
+ *
+ * @param packaged - `app.isPackaged`.
+ * @example devToolsRule(true) // { devTools: false }
+ */
+export function devToolsRule(packaged: boolean): Pick<WebPreferences, 'devTools'> {
+  return { devTools: !packaged };
+}
+
+/**
+ * The application menu. Electron's default menu carries "Toggle Developer Tools" and "Reload" (which would
+ * drop a run in progress); a packaged build gets neither, only editing, zoom, full screen and the window
+ * items. Development builds add reload and the developer tools under View.
+ *
+ * @param packaged - `app.isPackaged`.
+ * @param platform - `process.platform` (macOS gets the app menu first).
+ * @returns A template for `Menu.buildFromTemplate`.
+ * @example menuTemplate(true, 'linux').flatMap((m) => (m.submenu as { role?: string }[]).map((i) => i.role)).includes('toggleDevTools') // false
+ */
+export function menuTemplate(packaged: boolean, platform: string): MenuItemConstructorOptions[] {
+  const view: MenuItemConstructorOptions[] = [
+    { role: 'resetZoom' },
+    { role: 'zoomIn' },
+    { role: 'zoomOut' },
+    { type: 'separator' },
+    { role: 'togglefullscreen' },
+  ];
+  if (!packaged) view.push({ type: 'separator' }, { role: 'reload' }, { role: 'toggleDevTools' });
+  return [
+    ...(platform === 'darwin' ? [{ role: 'appMenu' } as MenuItemConstructorOptions] : []),
+    { label: 'File', submenu: [{ role: platform === 'darwin' ? 'close' : 'quit' }] },
+    {
+      label: 'Edit',
+      submenu: [
+        { role: 'undo' },
+        { role: 'redo' },
+        { type: 'separator' },
+        { role: 'cut' },
+        { role: 'copy' },
+        { role: 'paste' },
+        { role: 'selectAll' },
+      ],
+    },
+    { label: 'View', submenu: view },
+    { label: 'Window', submenu: [{ role: 'minimize' }, { role: 'close' }] },
+  ];
+}
+
+/**
  * The complete window options.
  *
  * @param preloadPath - absolute path of the bundled preload (`build/main/preload.cjs`).
+ * @param packaged - `app.isPackaged`: a packaged build cannot open the developer tools. Default false.
  * @returns options for `new BrowserWindow(...)`; the window stays hidden until `ready-to-show`.
  * @example windowOptions('/app/build/main/preload.cjs').webPreferences?.sandbox // → true
  */
-export function windowOptions(preloadPath: string): BrowserWindowConstructorOptions {
+export function windowOptions(preloadPath: string, packaged = false): BrowserWindowConstructorOptions {
   if (typeof preloadPath !== 'string' || preloadPath.length === 0) {
     throw new Error(
       `windowOptions: preloadPath must be a non-empty path, got ${JSON.stringify(preloadPath)}`,
@@ -96,6 +148,7 @@ export function windowOptions(preloadPath: string): BrowserWindowConstructorOpti
       ...experimentalFeaturesRule(),
       ...webviewRule(),
       ...pageBehaviourRule(),
+      ...devToolsRule(packaged),
     },
   };
 }

@@ -1,6 +1,9 @@
 // npm run web: Spanmeter in a plain browser. Builds the renderer into build/renderer when it is missing
 // or older than its sources, then serves it from 127.0.0.1 with a tiny static server that sends the same
 // Content-Security-Policy as the desktop app (read from main/security.ts, so the two cannot drift).
+// It answers only requests addressed to 127.0.0.1 or localhost on its own port (a page on another name
+// that resolves to 127.0.0.1, DNS rebinding, gets 403), sends Permissions-Policy and
+// Cross-Origin-Resource-Policy, and answers 500 to a request that fails instead of exiting.
 //   PORT=NNNN npm run web      serve at http://127.0.0.1:NNNN/ (default 5178; 0 picks a free port)
 //   node scripts/web.mjs --no-build   serve what is there
 import { createServer } from 'node:http';
@@ -86,6 +89,80 @@ export function resolveRequestPath(urlPath) {
   return full;
 }
 
+/**
+ * True when a request's Host header names this server: 127.0.0.1 or localhost (any letter case) on its
+ * port. Anything else, including a missing header, is refused: a browser tricked by DNS rebinding sends
+ * the attacker's host name (common practice against DNS rebinding, no source).
+ */
+export function isAllowedHost(host, port) {
+  if (typeof host !== 'string') return false;
+  const h = host.toLowerCase();
+  return h === `127.0.0.1:${port}` || h === `localhost:${port}`;
+}
+
+/** Headers sent with every response. Microphone for the page itself only; every other feature off. */
+export function securityHeaders(csp) {
+  return {
+    'Content-Security-Policy': csp,
+    'X-Content-Type-Options': 'nosniff',
+    'Cross-Origin-Opener-Policy': 'same-origin',
+    'Cross-Origin-Resource-Policy': 'same-origin',
+    'Permissions-Policy':
+      'microphone=(self), camera=(), geolocation=(), usb=(), serial=(), hid=(), midi=(), payment=(), display-capture=()',
+    'Referrer-Policy': 'no-referrer',
+    'Cache-Control': 'no-cache',
+  };
+}
+
+/**
+ * The request handler: GET and HEAD of files under build/renderer. A request that fails (a file removed
+ * meanwhile, one too large to read) is answered 500, and the server keeps running.
+ *
+ * @param csp - The Content-Security-Policy string.
+ * @param port - A function returning the port listened on (known once listening).
+ * @param io - `readFile` (readFileSync) and `resolvePath` (resolveRequestPath), replaceable in tests.
+ */
+export function createHandler(csp, port, io = {}) {
+  const readFile = io.readFile ?? readFileSync;
+  const resolvePath = io.resolvePath ?? resolveRequestPath;
+  const headers = securityHeaders(csp);
+  return (req, res) => {
+    try {
+      if (!isAllowedHost(req.headers.host, port())) {
+        res
+          .writeHead(403, { ...headers, 'Content-Type': 'text/plain; charset=utf-8' })
+          .end('forbidden host\n');
+        return;
+      }
+      if (req.method !== 'GET' && req.method !== 'HEAD') {
+        res.writeHead(405, { ...headers, Allow: 'GET, HEAD' }).end();
+        return;
+      }
+      const file = resolvePath(req.url ?? '/');
+      if (file === null || !existsSync(file) || !statSync(file).isFile()) {
+        res.writeHead(404, { ...headers, 'Content-Type': 'text/plain; charset=utf-8' }).end('not found\n');
+        return;
+      }
+      const body = readFile(file);
+      res.writeHead(200, {
+        ...headers,
+        'Content-Type': MIME[path.extname(file).toLowerCase()] ?? 'application/octet-stream',
+        'Content-Length': body.length,
+      });
+      res.end(req.method === 'HEAD' ? undefined : body);
+    } catch (err) {
+      console.error(
+        `web: ${req.method} ${JSON.stringify(req.url)}: ${err instanceof Error ? err.message : String(err)}`,
+      );
+      if (!res.headersSent) {
+        res.writeHead(500, { ...headers, 'Content-Type': 'text/plain; charset=utf-8' }).end('server error\n');
+      } else {
+        res.destroy();
+      }
+    }
+  };
+}
+
 async function main() {
   const args = process.argv.slice(2);
   if (!args.includes('--no-build') && isStale()) {
@@ -95,30 +172,10 @@ async function main() {
   }
   if (!existsSync(path.join(outDir, 'index.html'))) throw new Error('build/renderer/index.html is missing');
   const csp = await loadCsp();
-  const server = createServer((req, res) => {
-    const headers = {
-      'Content-Security-Policy': csp,
-      'X-Content-Type-Options': 'nosniff',
-      'Cross-Origin-Opener-Policy': 'same-origin',
-      'Referrer-Policy': 'no-referrer',
-      'Cache-Control': 'no-cache',
-    };
-    if (req.method !== 'GET' && req.method !== 'HEAD') {
-      res.writeHead(405, { ...headers, Allow: 'GET, HEAD' }).end();
-      return;
-    }
-    const file = resolveRequestPath(req.url ?? '/');
-    if (file === null || !existsSync(file) || !statSync(file).isFile()) {
-      res.writeHead(404, { ...headers, 'Content-Type': 'text/plain; charset=utf-8' }).end('not found\n');
-      return;
-    }
-    const body = readFileSync(file);
-    res.writeHead(200, {
-      ...headers,
-      'Content-Type': MIME[path.extname(file).toLowerCase()] ?? 'application/octet-stream',
-      'Content-Length': body.length,
-    });
-    res.end(req.method === 'HEAD' ? undefined : body);
+  let boundPort = 0;
+  const server = createServer(createHandler(csp, () => boundPort));
+  server.on('clientError', (_err, socket) => {
+    if (socket.writable) socket.end('HTTP/1.1 400 Bad Request\r\n\r\n');
   });
   const envPort = process.env.PORT;
   const port = envPort === undefined || envPort === '' ? DEFAULT_PORT : Number(envPort);
@@ -130,6 +187,7 @@ async function main() {
   });
   server.listen(port, '127.0.0.1', () => {
     const addr = server.address();
+    boundPort = addr.port;
     console.log(`web: Spanmeter is at http://127.0.0.1:${addr.port}/`);
   });
   const stop = () => {

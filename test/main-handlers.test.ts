@@ -1,23 +1,13 @@
 import { mkdtemp, readFile, readdir, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { createRequire } from 'node:module';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { createHandlers, looksLikeWav, safeExportName, type DialogLike } from '../main/handlers.ts';
+import { createHandlers, safeExportName, type DialogLike } from '../main/handlers.ts';
 import { registerIpc, type InvokeEventLike } from '../main/ipc.ts';
 import type { Channel, IpcResult } from '../main/ipc-contract.ts';
 import { createRecordsStore } from '../main/records-store.ts';
 import { isTrustedSenderFrame } from '../main/security.ts';
 import { sampleDraft, sampleRecord } from './main-fixtures.ts';
-
-const require = createRequire(import.meta.url);
-// wavefile (npm) writes real RIFF/WAVE files: the reference for what a WAV file looks like.
-const { WaveFile } = require('wavefile') as {
-  WaveFile: new () => {
-    fromScratch(ch: number, sr: number, bits: string, samples: number[]): void;
-    toBuffer(): Uint8Array;
-  };
-};
 
 let dir: string;
 let saveAnswer: { canceled: boolean; filePath?: string };
@@ -155,49 +145,5 @@ describe('records:import', () => {
       ok: false,
       error: { code: 'file-too-large', message: 'big.json is 1.0 MiB; a record file is at most 1.0 MiB.' },
     });
-  });
-});
-
-describe('wav:open', () => {
-  it('returns the bytes of a WAV file written by wavefile', async () => {
-    const wav = new WaveFile();
-    wav.fromScratch(
-      1,
-      48000,
-      '16',
-      Array.from({ length: 480 }, (_, i) => Math.round(10000 * Math.sin((2 * Math.PI * 100 * i) / 48000))),
-    );
-    const bytes = wav.toBuffer();
-    expect(looksLikeWav(bytes)).toBe(true);
-    const file = path.join(dir, 'take-01.wav');
-    await writeFile(file, bytes);
-    openAnswer = { canceled: false, filePaths: [file] };
-    const result = (await setup()('wav:open')) as IpcResult<{
-      kind: string;
-      fileName: string;
-      sizeBytes: number;
-      bytes: Uint8Array;
-    }>;
-    expect(result.ok).toBe(true);
-    if (!result.ok) return;
-    expect(result.value.kind).toBe('opened');
-    expect(result.value.fileName).toBe('take-01.wav');
-    // 44-byte canonical header + 480 samples × 2 bytes (RIFF/WAVE PCM layout).
-    expect(result.value.sizeBytes).toBe(44 + 960);
-    expect(Buffer.from(result.value.bytes).equals(Buffer.from(bytes))).toBe(true);
-  });
-
-  it('rejects a file that is not WAV', async () => {
-    const file = path.join(dir, 'notes.wav');
-    await writeFile(file, 'ID3 this is an mp3, honest');
-    openAnswer = { canceled: false, filePaths: [file] };
-    expect(await setup()('wav:open')).toEqual({
-      ok: false,
-      error: { code: 'invalid-file', message: 'notes.wav is not a WAV file (no RIFF/WAVE header).' },
-    });
-  });
-
-  it('reports a cancelled dialog', async () => {
-    expect(await setup()('wav:open')).toEqual({ ok: true, value: { kind: 'cancelled' } });
   });
 });

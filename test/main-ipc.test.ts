@@ -62,7 +62,6 @@ const handlers: IpcHandlers = {
   'run:autosave': () => ({ savedAt: '2031-03-14T10:00:00.000Z' }),
   'run:load-autosave': () => ({ kind: 'none' }),
   'run:clear-autosave': () => ({ cleared: false }),
-  'wav:open': () => ({ kind: 'opened', fileName: 'take.wav', sizeBytes: 4, bytes: new Uint8Array(4) }),
 };
 
 function setup() {
@@ -84,9 +83,9 @@ describe('registerIpc', () => {
 
   it('refuses to start with a channel unhandled', () => {
     const partial = { ...handlers } as Partial<IpcHandlers>;
-    delete partial['wav:open'];
+    delete partial['records:list'];
     expect(() => registerIpc(fakeIpcMain(), partial as IpcHandlers, { isTrustedSender: () => true })).toThrow(
-      'registerIpc: no handler for channel "wav:open"',
+      'registerIpc: no handler for channel "records:list"',
     );
   });
 
@@ -99,8 +98,6 @@ describe('registerIpc', () => {
     });
     const saved = await ipc.invoke('records:save', fromApp, sampleDraft());
     expect(saved.ok).toBe(true);
-    const wav = await ipc.invoke('wav:open', fromApp);
-    expect(wav.ok && (wav.value as { bytes: Uint8Array }).bytes).toBeInstanceOf(Uint8Array);
     expect(
       (await ipc.invoke('run:autosave', fromApp, { state: { step: 3, readings: [1.5, null] } })).ok,
     ).toBe(true);
@@ -276,7 +273,7 @@ describe('measurePayload', () => {
   ])('%j measures %i bytes', (value, bytes) => {
     expect(measurePayload(value)).toEqual({ kind: 'ok', bytes });
   });
-  it('counts binary bytes where allowed (the wav:open response)', () => {
+  it('counts binary bytes where allowed', () => {
     expect(measurePayload({ b: new Uint8Array(1000) }, true)).toEqual({
       kind: 'ok',
       bytes: 1000 + '{"b":null}'.length,
@@ -310,7 +307,6 @@ describe('buildSpanmeterApi (the preload’s API)', () => {
     ['autosaveRun', [{ step: 1 }], 'run:autosave', [{ state: { step: 1 } }]],
     ['loadAutosavedRun', [], 'run:load-autosave', []],
     ['clearAutosavedRun', [], 'run:clear-autosave', []],
-    ['openWav', [], 'wav:open', []],
   ])('%s(…) invokes %s', async (name, args, channel, sent) => {
     seen.length = 0;
     await (api as unknown as Record<string, (...a: unknown[]) => Promise<unknown>>)[name](...args);

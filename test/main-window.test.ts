@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { MIN_WINDOW_SIZE, windowOptions } from '../main/window.ts';
+import { MIN_WINDOW_SIZE, devToolsRule, menuTemplate, windowOptions } from '../main/window.ts';
 
 const options = windowOptions('/opt/spanmeter/build/main/preload.cjs');
 const prefs = options.webPreferences ?? {};
@@ -48,5 +48,30 @@ describe('windowOptions', () => {
 
   it('refuses an empty preload path, naming the value', () => {
     expect(() => windowOptions('')).toThrow('windowOptions: preloadPath must be a non-empty path, got ""');
+  });
+});
+
+describe('developer tools in packaged builds', () => {
+  const roles = (template: ReturnType<typeof menuTemplate>): string[] =>
+    template.flatMap((m) => (Array.isArray(m.submenu) ? m.submenu.map((i) => String(i.role ?? i.type)) : []));
+
+  it.each(['linux', 'win32', 'darwin'])(
+    'a packaged build on %s has no developer-tools or reload item',
+    (platform) => {
+      const r = roles(menuTemplate(true, platform));
+      expect(r).not.toContain('toggleDevTools');
+      expect(r).not.toContain('reload');
+      expect(r).not.toContain('forceReload');
+      expect(r).toContain('copy');
+    },
+  );
+
+  it('a development build keeps them', () => {
+    expect(roles(menuTemplate(false, 'linux'))).toContain('toggleDevTools');
+  });
+
+  it('a packaged window cannot open the developer tools at all (webPreferences.devTools)', () => {
+    expect(windowOptions('/opt/spanmeter/build/main/preload.cjs', true).webPreferences?.devTools).toBe(false);
+    expect(devToolsRule(false)).toEqual({ devTools: true });
   });
 });

@@ -11,6 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it, vi } from 'vitest';
 import wavefile from 'wavefile';
+import { IDBFactory } from 'fake-indexeddb';
 import type { InputNetwork } from '../dsp/advice.ts';
 import type { PitchOk } from '../dsp/reading.ts';
 import { resultToJsonText, type CalibrationResult } from '../dsp/result.ts';
@@ -141,15 +142,7 @@ describe('one plan, every path, one result', () => {
         result: wavResult,
       },
     ];
-    const map = new Map<string, string>();
-    const store = browserStore({
-      storage: {
-        getItem: (k) => map.get(k) ?? null,
-        setItem: (k, v) => void map.set(k, v),
-        removeItem: (k) => void map.delete(k),
-      },
-      download: () => {},
-    });
+    const store = browserStore({ indexedDB: new IDBFactory(), download: () => {} });
     const saved = await store.saveRecord(draftFromInfo(info, runs));
     if (!saved.ok) throw new Error(saved.error.message);
     const loaded = await store.loadRecord(saved.value.id);

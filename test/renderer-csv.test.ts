@@ -11,7 +11,9 @@ import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { CSV_STEP_COLUMNS, runToCsv } from '../renderer/src/lib/export.ts';
 
 function parse(text: string): unknown[][] {
-  const r = Papa.parse<unknown[]>(text, {
+  // The file starts with the UTF-8 byte-order mark (the Unicode Standard §23.8); the parser gets the rest.
+  expect(text.startsWith('\uFEFF')).toBe(true);
+  const r = Papa.parse<unknown[]>(text.slice(1), {
     delimiter: ',',
     newline: '\r\n',
     dynamicTyping: true,
@@ -30,6 +32,14 @@ describe('csvTextField', () => {
     ['@SUM(A1)', `"'@SUM(A1)"`],
     ['\tcmd', `"'\tcmd"`],
     ['\rcmd', `"'\rcmd"`],
+    // The same after leading white space, and the full-width forms (U+FF1D, U+FF0B, U+FF0D, U+FF20), which
+    // some spreadsheets also read as formula starts.
+    [' =1+1', `"' =1+1"`],
+    ['\u3000+1', `"'\u3000+1"`],
+    ['＝1+1', `"'＝1+1"`],
+    ['＋cmd', `"'＋cmd"`],
+    ['－2', `"'－2"`],
+    ['＠SUM(A1)', `"'＠SUM(A1)"`],
   ])('neutralises %j', (input, expected) => {
     expect(csvTextField(input)).toBe(expected);
   });
@@ -44,6 +54,30 @@ describe('csvTextField', () => {
   ])('quotes %j only when needed', (input, expected) => {
     expect(csvTextField(input)).toBe(expected);
   });
+
+  // Text a spreadsheet would coerce stays text (common practice, from memory: Calc and Excel turn "0042"
+  // into 42, "3/4" into a date, "TRUE" into a truth value).
+  it.each([
+    '0042',
+    '1e5',
+    '3/4',
+    '2026-12-02',
+    '2026-12-02T16:00:00.000Z',
+    '12%',
+    'TRUE',
+    'false',
+    '1,234',
+    '09:30',
+  ])('keeps %j text', (input) => {
+    expect(csvTextField(input)).toBe(`"'${input}"`);
+  });
+
+  it.each(['OL3-0417', 'µV', 'Ω trim', 'é', 'VCO 2', 'A4 +3 cents'])(
+    'leaves plain text %j alone',
+    (input) => {
+      expect(csvTextField(input)).toBe(input);
+    },
+  );
 
   it('writes numbers as numbers, negative ones too, and non-finite ones as empty', () => {
     expect(csvField(-0.25)).toBe('-0.25');

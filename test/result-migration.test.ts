@@ -3,6 +3,7 @@
 // (see their README) and are never regenerated.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { IDBFactory } from 'fake-indexeddb';
 import { describe, expect, it } from 'vitest';
 import { analyzeRecording } from '../dsp/recording.ts';
 import { calibrate, runSteps } from '../dsp/pipeline.ts';
@@ -74,7 +75,8 @@ describe('records of schema 1', () => {
     const stored = json('browser-localstorage.json') as Record<string, string>;
     const map = new Map(Object.entries(stored));
     const store = browserStore({
-      storage: {
+      indexedDB: new IDBFactory(),
+      legacy: {
         getItem: (k) => map.get(k) ?? null,
         setItem: (k, v) => void map.set(k, v),
         removeItem: (k) => void map.delete(k),

@@ -403,10 +403,10 @@ describe('decodeWav: errors', () => {
     );
   });
 
-  it('RF64 is refused clearly', () => {
-    expect(
-      expectError(decodeWav(concat(enc('RF64'), u32(0xffffffff), enc('WAVE'))), 'unsupported-format'),
-    ).toMatch(/RF64/);
+  it('an RF64 header with nothing after it is named as truncated (EBU Tech 3306: ds64 comes first)', () => {
+    expect(expectError(decodeWav(concat(enc('RF64'), u32(0xffffffff), enc('WAVE'))), 'truncated')).toBe(
+      "truncated: the RF64 file ends after 12 bytes, before its 'ds64' chunk",
+    );
   });
 
   it('a chunk before the audio that runs past the end of the file', () => {

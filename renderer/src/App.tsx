@@ -329,25 +329,22 @@ export function App() {
         return;
       }
       setWavPlanProblem(null);
-      const bytes = await file.arrayBuffer();
-      client.send(
-        {
-          type: 'wav-analyze',
-          bytes,
-          fileName: file.name,
-          request: {
-            points: [...p.volts],
-            channel: channel + 1,
-            settleSeconds: RECORDING_SETTLE_SECONDS,
-            a4Hz: A4_HZ,
-            clockPpm: setup.clockPpm,
-            ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
-            ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
-            ...(setup.network === undefined ? {} : { network: setup.network }),
-          },
+      // The File itself goes to the worker, which reads it in slices: a recording of any length.
+      client.send({
+        type: 'wav-analyze',
+        file,
+        fileName: file.name,
+        request: {
+          points: [...p.volts],
+          channel: channel + 1,
+          settleSeconds: RECORDING_SETTLE_SECONDS,
+          a4Hz: A4_HZ,
+          clockPpm: setup.clockPpm,
+          ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
+          ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
+          ...(setup.network === undefined ? {} : { network: setup.network }),
         },
-        [bytes],
-      );
+      });
     },
     [client, planText, channel, setup],
   );

@@ -37,13 +37,20 @@ import type {
   TwoPointView,
 } from './protocol.ts';
 import { feedReading, RunCalibrator } from './run-host.ts';
-import { analyzeWavBytes, type WavAnalysisRequest } from './wav-analysis.ts';
+import {
+  analyzeWavBytes,
+  analyzeWavSource,
+  sliceByteSource,
+  type WavAnalysisRequest,
+} from './wav-analysis.ts';
 
 /** How the engine talks back and tells time. */
 export interface EngineHost {
   post(message: FromEngine, transfer?: Transferable[]): void;
   /** Milliseconds, monotonic (performance.now). */
   nowMs(): number;
+  /** Bytes `[start, end)` of a file, read synchronously (the worker's FileReaderSync); absent in tests. */
+  readBlob?(blob: Blob, start: number, end: number): Uint8Array;
 }
 
 /** Glide of the simulator's control voltage, as if the user turned the reference. */
@@ -235,7 +242,7 @@ export class EngineCore {
         this.postDrift();
         return;
       case 'wav-analyze':
-        this.analyzeWav(msg.bytes, msg.fileName, msg.request);
+        this.analyzeWav(msg, msg.fileName, msg.request);
         return;
     }
   }
@@ -527,7 +534,11 @@ export class EngineCore {
    * engine is busy with the file meanwhile, so live audio would arrive late) and otherwise left as it
    * is: its captures stay, whatever the file gives.
    */
-  private analyzeWav(bytes: ArrayBuffer, fileName: string, request: WavAnalysisRequest): void {
+  private analyzeWav(
+    input: { readonly file?: Blob; readonly bytes?: ArrayBuffer },
+    fileName: string,
+    request: WavAnalysisRequest,
+  ): void {
     this.host.post({ type: 'wav-started', fileName });
     if (this.run) {
       if (isRunActive(this.run) && this.run.phase !== 'paused') {
@@ -535,7 +546,15 @@ export class EngineCore {
         this.postRun();
       }
     }
-    const outcome = analyzeWavBytes(new Uint8Array(bytes), request);
+    const { file, bytes } = input;
+    const read = this.host.readBlob?.bind(this.host);
+    const outcome =
+      file && read
+        ? analyzeWavSource(
+            sliceByteSource(file.size, (a, b) => read(file, a, b)),
+            request,
+          )
+        : analyzeWavBytes(new Uint8Array(bytes ?? new ArrayBuffer(0)), request);
     this.host.post({ type: 'wav-done', fileName, outcome });
   }
 }

@@ -13,10 +13,16 @@ interface WorkerScope {
   onmessage: ((event: MessageEvent) => void) | null;
 }
 
+/** The dedicated worker's synchronous file reader (not in the DOM type library). */
+declare const FileReaderSync: { new (): { readAsArrayBuffer(blob: Blob): ArrayBuffer } };
+
 const scope = self as unknown as WorkerScope;
 const core = new EngineCore({
   post: (message: FromEngine, transfer?: Transferable[]) => scope.postMessage(message, transfer ?? []),
   nowMs: () => performance.now(),
+  // "Open WAV…" reads the File in slices, never whole (wav-analysis.ts).
+  readBlob: (blob: Blob, start: number, end: number) =>
+    new Uint8Array(new FileReaderSync().readAsArrayBuffer(blob.slice(start, end))),
 });
 
 let audioPort: MessagePort | null = null;

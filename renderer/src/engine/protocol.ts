@@ -67,7 +67,9 @@ export type ToEngine =
   | {
       /** Analyse a recording with `analyzeRecording` (dsp/recording.ts); the live run is paused, not replaced. */
       readonly type: 'wav-analyze';
-      readonly bytes: ArrayBuffer;
+      /** The file itself, read in slices by the worker (never copied whole); or its bytes. */
+      readonly file?: Blob;
+      readonly bytes?: ArrayBuffer;
       readonly fileName: string;
       readonly request: WavAnalysisRequest;
     };

@@ -1,8 +1,10 @@
 /**
- * The worker's side of "Open WAV…": decode the file (`dsp/wav.ts`), pick the channel and hand it to
- * `analyzeRecording` (`dsp/recording.ts`), the same analysis `spanmeter analyze` runs, so the app and
- * the command line give the same answer for the same file. Pure; no worker globals, so tests call it
- * in Node.
+ * The worker's side of "Open WAV…": read the file's header (`dsp/wav.ts`), pick the channel and hand it,
+ * read a block at a time (`dsp/recording-input.ts`), to `analyzeRecording` (`dsp/recording.ts`), the same
+ * analysis `spanmeter analyze` runs, so the app and the command line give the same answer for the same
+ * file. The file is never copied whole: the worker reads the `File` it was given in slices (through the
+ * host's synchronous reader, `FileReaderSync` in the worker), so a recording of any length fits. Pure; no
+ * worker globals, so tests call it in Node.
  */
 import type { InputNetwork } from '../../../dsp/advice.ts';
 import {
@@ -12,7 +14,8 @@ import {
   type RecordingErrorCode,
 } from '../../../dsp/recording.ts';
 import type { Hertz, Ppm, Seconds, Volts } from '../../../dsp/units.ts';
-import { decodeWav, pickChannel, type WavErrorCode } from '../../../dsp/wav.ts';
+import { wavChannelSource } from '../../../dsp/recording-input.ts';
+import { bytesSource, openWav, type ByteSource, type WavErrorCode } from '../../../dsp/wav.ts';
 
 /**
  * What the page asks for: the plan's voltages, the settle time, the tuning reference and the channel,
@@ -62,9 +65,31 @@ export type WavAnalysisOutcome =
     };
 
 /**
- * Decodes a WAV file and analyses one channel as a recorded calibration pass. Never throws: a file it
- * cannot read, a typed non-answer of `analyzeRecording` and options it refuses all come back as
- * `{ kind: 'error', code, message }`.
+ * A {@link ByteSource} over a file read in slices by a synchronous reader (the worker's `FileReaderSync`
+ * over `blob.slice(start, end)`).
+ *
+ * @param sizeBytes - The file's size, bytes.
+ * @param readRange - Returns bytes `[start, end)` of the file.
+ * @example sliceByteSource(file.size, (a, b) => new Uint8Array(new FileReaderSync().readAsArrayBuffer(file.slice(a, b))))
+ */
+export function sliceByteSource(
+  sizeBytes: number,
+  readRange: (start: number, end: number) => Uint8Array,
+): ByteSource {
+  return {
+    sizeBytes,
+    read(offset, into) {
+      const end = Math.min(sizeBytes, offset + into.length);
+      if (end <= offset) return 0;
+      const got = readRange(offset, end);
+      into.set(got.subarray(0, end - offset));
+      return Math.min(got.length, end - offset);
+    },
+  };
+}
+
+/**
+ * Decodes a WAV file held in memory and analyses one channel (see {@link analyzeWavSource}).
  *
  * @param bytes - The whole file.
  * @param request - See {@link WavAnalysisRequest}.
@@ -74,35 +99,70 @@ export type WavAnalysisOutcome =
  * // { kind: 'error', code: 'plateau-count-mismatch', message: 'found 3 plateaus (at 0.3–2.9 s, …) but 2 voltages were given', … }
  */
 export function analyzeWavBytes(bytes: Uint8Array, request: WavAnalysisRequest): WavAnalysisOutcome {
-  const decoded = decodeWav(bytes);
-  if (decoded.kind === 'error') {
-    return { kind: 'error', code: decoded.code, message: decoded.message, plateaus: [], file: null };
+  return analyzeWavSource(bytesSource(bytes), request);
+}
+
+/**
+ * Reads a WAV file's header and analyses one channel as a recorded calibration pass, reading the samples
+ * a block at a time. Never throws: a file it cannot read, a typed non-answer of `analyzeRecording` and
+ * options it refuses all come back as `{ kind: 'error', code, message }`.
+ *
+ * @param src - The file's bytes, read on request (see {@link sliceByteSource}).
+ * @param request - See {@link WavAnalysisRequest}.
+ * @param onProgress - Called with the fraction of the file read, 0…1.
+ * @example analyzeWavSource(sliceByteSource(file.size, read), { points: [0, 1, 2], channel: 1 }).kind // 'ok'
+ */
+export function analyzeWavSource(
+  src: ByteSource,
+  request: WavAnalysisRequest,
+  onProgress?: (fraction: number) => void,
+): WavAnalysisOutcome {
+  const layout = openWav(src);
+  if (layout.kind === 'error') {
+    return { kind: 'error', code: layout.code, message: layout.message, plateaus: [], file: null };
   }
-  let picked: ReturnType<typeof pickChannel>;
-  try {
-    picked = pickChannel(decoded, request.channel);
-  } catch (err) {
-    return { kind: 'error', code: 'bad-request', message: messageOf(err), plateaus: [], file: null };
+  const channel = request.channel;
+  if (!Number.isInteger(channel) || channel < 1) {
+    return {
+      kind: 'error',
+      code: 'bad-request',
+      message: `channelNumber must be an integer ≥ 1 (channels are numbered from 1), got ${channel}`,
+      plateaus: [],
+      file: null,
+    };
   }
-  if (picked.kind === 'error') {
-    return { kind: 'error', code: picked.code, message: picked.message, plateaus: [], file: null };
+  if (channel > layout.channelCount) {
+    const count = layout.channelCount;
+    const range = count === 1 ? 'only channel 1' : `${count} channels, numbered 1 to ${count}`;
+    return {
+      kind: 'error',
+      code: 'no-such-channel',
+      message: `no channel ${channel}: the file has ${range}`,
+      plateaus: [],
+      file: null,
+    };
   }
   const file: WavFileInfo = {
-    sampleRateHz: decoded.sampleRateHz,
-    durationSeconds: decoded.durationSeconds,
-    channelCount: decoded.channelCount,
-    channelNumber: picked.channelNumber,
+    sampleRateHz: layout.sampleRateHz,
+    durationSeconds: layout.durationSeconds,
+    channelCount: layout.channelCount,
+    channelNumber: channel,
   };
   try {
-    const a = analyzeRecording(picked.samples, picked.sampleRateHz, {
-      points: request.points,
-      ...(request.settleSeconds === undefined ? {} : { settleSeconds: request.settleSeconds }),
-      ...(request.a4Hz === undefined ? {} : { a4Hz: request.a4Hz }),
-      ...(request.clockPpm === undefined ? {} : { clockPpm: request.clockPpm }),
-      ...(request.fitFromVolts === undefined ? {} : { fitFromVolts: request.fitFromVolts }),
-      ...(request.fitToVolts === undefined ? {} : { fitToVolts: request.fitToVolts }),
-      ...(request.network === undefined ? {} : { network: request.network }),
-    });
+    const a = analyzeRecording(
+      wavChannelSource(src, layout, channel - 1),
+      layout.sampleRateHz,
+      {
+        points: request.points,
+        ...(request.settleSeconds === undefined ? {} : { settleSeconds: request.settleSeconds }),
+        ...(request.a4Hz === undefined ? {} : { a4Hz: request.a4Hz }),
+        ...(request.clockPpm === undefined ? {} : { clockPpm: request.clockPpm }),
+        ...(request.fitFromVolts === undefined ? {} : { fitFromVolts: request.fitFromVolts }),
+        ...(request.fitToVolts === undefined ? {} : { fitToVolts: request.fitToVolts }),
+        ...(request.network === undefined ? {} : { network: request.network }),
+      },
+      onProgress,
+    );
     if (a.kind === 'error') {
       return { kind: 'error', code: a.code, message: a.message, plateaus: a.plateaus, file };
     }
