@@ -7,8 +7,10 @@
  * the first readings at each window size (warm-up), `push` allocates only the reading objects it emits.
  */
 
+import { subWindowRepeatability } from './allan.ts';
 import { PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
 import type { PitchReading } from './reading.ts';
+import { MAX_BREAKS } from './refine.ts';
 import type { Hertz, Seconds } from './units.ts';
 
 /** Options of a {@link PitchTracker}. */
@@ -32,6 +34,9 @@ export interface TrackerOptions extends Omit<PitchOptions, 'timeSeconds' | 'hint
   /** Harmonics fitted per live reading (settled averages use up to 64). Default 12. */
   readonly liveHarmonics?: number;
 }
+
+/** Most sub-windows a settled average is split into for the repeatability estimate. */
+const MAX_SUB_WINDOWS = 8;
 
 function req(name: string, v: number, lo: number, hi: number, integer = false): number {
   if (!Number.isFinite(v) || v < lo || v > hi || (integer && !Number.isInteger(v))) {
@@ -65,6 +70,13 @@ export class PitchTracker {
   private total = 0;
   private sinceReading = 0;
   private hintHz: Hertz = 0;
+  // Breaks in the stream (dropped blocks), as stream sample indices, newest last (a small ring).
+  private readonly breakAt = new Float64Array(64);
+  private breakCount = 0;
+  private readonly breakScratch = new Float64Array(MAX_BREAKS);
+  // Sub-window results of the latest settled average (cents against its frequency) and their σ.
+  private readonly subCents = new Float64Array(MAX_SUB_WINDOWS);
+  private readonly subSigma = new Float64Array(MAX_SUB_WINDOWS);
 
   /** @throws RangeError for options outside their ranges (each message names the option and its range). */
   constructor(options: TrackerOptions) {
@@ -91,6 +103,19 @@ export class PitchTracker {
       segments: 8,
     });
     this.settled = new PitchEstimator(this.ring.length, fs, pitchOptions);
+  }
+
+  /**
+   * Marks a break in the stream at the current position: the next sample pushed does not follow the last
+   * one (the capture dropped a block, an interface overran). Windows that span it fit each side with its
+   * own phase and say so (`breaks` on the reading). Allocation-free, never throws.
+   */
+  markBreak(): void {
+    if (this.total === 0) return;
+    const cap = this.breakAt.length;
+    if (this.breakCount > 0 && this.breakAt[(this.breakCount - 1) % cap] === this.total) return;
+    this.breakAt[this.breakCount % cap] = this.total;
+    this.breakCount++;
   }
 
   /** Seconds of audio received so far (of the analysed channel). */
@@ -197,7 +222,40 @@ export class PitchTracker {
     if (s < this.total - this.ring.length || e - s > this.ring.length) {
       return { kind: 'none', reason: 'no-pitch', level: this.live.lastLevel(), timeSeconds: t };
     }
-    return this.measureRange(this.settled, s, e - s, t);
+    const full = this.measureRange(this.settled, s, e - s, t);
+    if (full.kind !== 'ok') return full;
+    // The oscillator's own wander: the scatter of back-to-back sub-window estimates over the span
+    // (dsp/allan.ts, subWindowRepeatability). Sub-windows hold at least 8 periods each.
+    const n = e - s;
+    const periods = (n * full.hz) / fs;
+    const J = Math.min(MAX_SUB_WINDOWS, Math.floor(periods / 8), Math.floor(n / 256));
+    let used = 0;
+    if (J >= 3) {
+      const len = Math.floor(n / J);
+      for (let j = 0; j < J; j++) {
+        const r = this.measureRange(this.settled, s + j * len, len, t, full.hz);
+        if (r.kind !== 'ok') continue;
+        this.subCents[used] = 1200 * Math.log2(r.hz / full.hz);
+        this.subSigma[used] = r.uncertaintyCents;
+        used++;
+      }
+    }
+    const estimatorCents = full.uncertaintyCents;
+    let repeatabilityCents = 0;
+    let dof = Infinity;
+    if (used >= 3) {
+      const rep = subWindowRepeatability(this.subCents.subarray(0, used), this.subSigma.subarray(0, used));
+      repeatabilityCents = rep.repeatabilityCents;
+      // Welch–Satterthwaite (JCGM 100:2008, G.4.1); the estimator's part is already widened for its own
+      // degrees of freedom and counts as exact here.
+      const uc2 = estimatorCents * estimatorCents + repeatabilityCents * repeatabilityCents;
+      if (repeatabilityCents > 0) dof = (uc2 * uc2) / (repeatabilityCents ** 4 / rep.dof);
+    }
+    return {
+      ...full,
+      uncertaintyCents: Math.sqrt(estimatorCents ** 2 + repeatabilityCents ** 2),
+      components: { estimatorCents, repeatabilityCents, settlingCents: 0, dof },
+    };
   }
 
   /** Forgets all audio and the frequency hint (after a device change, for example). */
@@ -206,6 +264,7 @@ export class PitchTracker {
     this.total = 0;
     this.sinceReading = 0;
     this.hintHz = 0;
+    this.breakCount = 0;
   }
 
   private measure(est: PitchEstimator, n: number, t: Seconds): PitchReading {
@@ -213,13 +272,27 @@ export class PitchTracker {
   }
 
   /** Copies samples [start, start+n) of the stream out of the ring and measures them. */
-  private measureRange(est: PitchEstimator, start: number, n: number, t: Seconds): PitchReading {
+  private measureRange(
+    est: PitchEstimator,
+    start: number,
+    n: number,
+    t: Seconds,
+    hintHz = est === this.live ? this.hintHz : 0,
+  ): PitchReading {
+    // Breaks inside the window, as positions from its start.
+    let nb = 0;
+    const kept = Math.min(this.breakCount, this.breakAt.length);
+    for (let q = this.breakCount - kept; q < this.breakCount && nb < MAX_BREAKS; q++) {
+      const b = this.breakAt[q % this.breakAt.length];
+      if (b > start && b < start + n) this.breakScratch[nb++] = b - start;
+    }
+    est.setBreaks(this.breakScratch, nb);
     const cap = this.ring.length;
     // Ring index of stream sample `start`.
     const first = (((this.writePos - (this.total - start)) % cap) + cap) % cap;
     const tail = Math.min(n, cap - first);
     this.window.set(this.ring.subarray(first, first + tail), 0);
     if (tail < n) this.window.set(this.ring.subarray(0, n - tail), tail);
-    return est.estimate(this.window, 0, n, t, 1, est === this.live ? this.hintHz : 0);
+    return est.estimate(this.window, 0, n, t, 1, hintHz);
   }
 }
