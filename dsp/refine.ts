@@ -67,6 +67,8 @@ const MAX_FOUND_BREAKS = 3;
 const SHARPNESS = 20;
 /** Power a segment holding a break keeps, at most, relative to its neighbours (for a less sharp break). */
 const DIP = 0.85;
+/** Segments either side of a candidate break that its test looks at (so other breaks do not mask it). */
+const LOCAL_SEGMENTS = 4;
 /** Most unbroken stretches per window. */
 const MAX_STRETCHES = MAX_BREAKS + MAX_FOUND_BREAKS + 1;
 
@@ -683,7 +685,7 @@ export class HarmonicRefiner {
   /**
    * Looks for a break the data show but nobody reported: a step in the phase residuals (a time shift,
    * the same for every harmonic in time units) inside an unbroken stretch. For each candidate segment b,
-   * with at least two segments of the same stretch on either side, the residuals (`re`, of row `row`, or of
+   * with at least two segments of the same stretch on either side among the four nearest, the residuals (`re`, of row `row`, or of
    * every active harmonic when row = −1) are tested for a step at b against a straight line per harmonic
    * (segment b itself left out): the reduction in the weighted residual sum of squares over the residual
    * variance of the stepped model (an F-type statistic; change-point test in the manner of D. V. Hinkley,
@@ -706,7 +708,9 @@ export class HarmonicRefiner {
       if (r < 0) continue;
       let nl = 0;
       let nr = 0;
-      for (let m = 0; m < M; m++) {
+      const m0 = Math.max(0, b - LOCAL_SEGMENTS);
+      const m1 = Math.min(M - 1, b + LOCAL_SEGMENTS);
+      for (let m = m0; m <= m1; m++) {
         if (this.seg[m] !== r || m === b) continue;
         if (m < b) nl++;
         else nr++;
@@ -728,7 +732,7 @@ export class HarmonicRefiner {
         let Wur = 0;
         let Wrr = 0;
         let cells = 0;
-        for (let m = 0; m < M; m++) {
+        for (let m = m0; m <= m1; m++) {
           if (this.seg[m] !== r || m === b) continue;
           const idx = j * ms + m;
           const wt = this.w[idx];

@@ -4,7 +4,7 @@
  */
 import { createPlateauState } from '../../../dsp/plateau.ts';
 import type { PitchOk, PitchReading } from '../../../dsp/reading.ts';
-import { runReducer, type HostMeasurement, type RunState } from '../../../dsp/run.ts';
+import { restoreInfiniteDof, runReducer, type HostMeasurement, type RunState } from '../../../dsp/run.ts';
 
 /** Measures a span of the stream, seconds since its first sample (`PitchTracker.averageOfSpan`). */
 export type SpanMeasurer = (startSeconds: number, endSeconds: number) => PitchReading;
@@ -48,7 +48,13 @@ export function answerPendingCapture(
   if (m.kind === 'none' && m.reason === 'warming-up') return { state, measured: null };
   const result: HostMeasurement =
     m.kind === 'ok'
-      ? { kind: 'ok', hz: m.hz, uncertaintyCents: m.uncertaintyCents }
+      ? {
+          kind: 'ok',
+          hz: m.hz,
+          uncertaintyCents: m.uncertaintyCents,
+          ...(m.components ? { components: m.components } : {}),
+          ...(m.breaks ? { breaks: m.breaks } : {}),
+        }
       : { kind: 'unavailable' };
   const next = runReducer(state, {
     type: 'capture-result',
@@ -91,7 +97,7 @@ export function feedReading(state: RunState, reading: PitchReading, measure: Spa
  * @returns A valid run state (see `validateRunState`).
  */
 export function rebaseRun(state: RunState): RunState {
-  const s: RunState = JSON.parse(JSON.stringify(state));
+  const s: RunState = restoreInfiniteDof(JSON.parse(JSON.stringify(state)));
   const over = s.phase === 'finished' || s.phase === 'aborted';
   s.detector = createPlateauState();
   s.capture = null;
