@@ -60,6 +60,25 @@ describe('EngineCore with the simulated oscillator', () => {
     }
   });
 
+  it('a run started before the input opens waits for it, then runs; a later restart pauses with a reason', () => {
+    const options = simOptions(simSettingsForUnit('ol3-0412'));
+    const { core, lastRun } = collect();
+    core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
+    expect(lastRun()?.state.phase).toBe('apply-voltage');
+    expect(lastRun()?.waitingForInput).toBe(true);
+    core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
+    expect(lastRun()?.state.phase).not.toBe('paused');
+    for (let i = 0; i < 300 && (lastRun()?.state.steps[0].capture ?? null) === null; i++) core.tickSim(0.05);
+    expect(lastRun()?.state.steps[0].status).toBe('captured');
+    // With a step captured, a new stream clock pauses the run, and the snapshot says why.
+    core.handle({ type: 'source-sim', sampleRateHz: 44_100, options, volts: 0 });
+    expect(lastRun()?.state.phase).toBe('paused');
+    expect(lastRun()?.pausedReason).toMatch(/sample rate changed/);
+    core.handle({ type: 'run-event', event: { type: 'resume' } });
+    expect(lastRun()?.state.phase).not.toBe('paused');
+    expect(lastRun()?.pausedReason).toBeNull();
+  });
+
   it('pauses a live run when the source goes away and keeps its captures', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
     const { core, lastRun } = collect();
