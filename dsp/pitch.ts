@@ -26,6 +26,11 @@ export const MAX_SAMPLE_RATE_HZ = 384000;
 
 const CENTS_PER_LN = 1200 / Math.LN2;
 const NO_BREAKS = new Float64Array(0);
+/**
+ * A pitch this close under `minHz` (a hundredth of a cent) still counts as in range: a tone set exactly at
+ * the floor (a 2 Hz LFO with `minHz: 2`) must not be refused for its last digit.
+ */
+const EDGE = 1 - 1e-5;
 
 /** Options of the pitch estimator. All have defaults. */
 export interface PitchOptions {
@@ -234,7 +239,8 @@ export class PitchEstimator {
       if (Math.abs(snapped / mpmHz - 1) < 0.05) f = snapped;
     }
     f = this.octaveCheck(f);
-    if (f < o.minHz) return none('below-range', f);
+    // The coarse value may be a few tenths of a percent off: the precise value below makes the call.
+    if (f < o.minHz * 0.97) return none('below-range', f);
     if (f > o.maxHz) return none('above-range', f);
     const periods = (count * f) / fs;
     if (periods < 3) return none('below-range', f);
@@ -271,7 +277,7 @@ export class PitchEstimator {
     const res = this.refined;
     if (!res.ok) return none('no-pitch', f);
     if (res.explainedFraction < 0.3) return none('no-pitch', res.hz);
-    if (res.hz < o.minHz) return none('below-range', res.hz);
+    if (res.hz < o.minHz * EDGE) return none('below-range', res.hz);
     if (res.hz > o.maxHz) return none('above-range', res.hz);
     return {
       kind: 'ok',
