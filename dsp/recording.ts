@@ -48,8 +48,9 @@ import {
 } from './fit.ts';
 import { A4_HZ, nearestNote, type NearestNote } from './notes.ts';
 import { PitchEstimator } from './pitch.ts';
+import { measureSettled } from './settled.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
-import type { PitchOk, PitchReading } from './reading.ts';
+import type { PitchOk, PitchReading, StepFlag, UncertaintyComponents } from './reading.ts';
 import { PitchTracker } from './stream.ts';
 import { buildErrorTable, type ErrorTable } from './table.ts';
 import type { Cents, Hertz, Ppm, Seconds, Volts } from './units.ts';
@@ -151,8 +152,12 @@ export interface RecordingStep {
   readonly measuredVolts: Volts | null;
   /** Measured frequency, Hz (clock-corrected). */
   readonly hz: Hertz;
-  /** Standard uncertainty of `hz`, cents (1σ, JCGM 100:2008). */
+  /** Standard uncertainty of `hz`, cents (1σ, JCGM 100:2008): the root-sum-square of `components`. */
   readonly uncertaintyCents: Cents;
+  /** What the step went through (`spans-break`: the window held a break); empty when all is well. */
+  readonly flags: StepFlag[];
+  /** The parts of `uncertaintyCents`, cents (estimator, the oscillator's repeatability, settling). */
+  readonly components: UncertaintyComponents;
   /** Nearest 12-TET note at `a4Hz`, middle C = C4. */
   readonly note: NearestNote;
   /** Error from the ideal 1 V/oct line through the first step, cents (0 for the first); null without volts. */
@@ -494,13 +499,11 @@ export function analyzeRecording(
     let [w0, w1] = windowOf(piece, fs);
     let reading: PitchOk | null = null;
     if (w1 - w0 >= minWindowSeconds(p.meanHz)) {
-      if (w1 - w0 > cap) {
-        const mid = (w0 + w1) / 2;
-        [w0, w1] = [mid - cap / 2, mid + cap / 2];
-      }
+      // The last settled part of the plateau: any creep left after the step has had longest to die out.
+      if (w1 - w0 > cap) w0 = w1 - cap;
       const s0 = Math.max(0, Math.round(w0 * fs));
       const n = Math.min(samples.length - s0, Math.round((w1 - w0) * fs), estimator.maxSamples);
-      const r = estimator.estimate(samples, s0, n, (s0 + n / 2) / fs, 1, p.meanHz);
+      const r = measureSettled(estimator, samples, s0, n, (s0 + n / 2) / fs);
       // A window that disagrees with its own live readings by more than the band has caught something the
       // readings did not (a click at the edge): keep the readings' mean instead.
       if (
@@ -561,6 +564,13 @@ export function analyzeRecording(
       measuredVolts: row ? row.measuredVolts : null,
       hz: m.hz,
       uncertaintyCents: m.uncertaintyCents,
+      flags: m.reading && (m.reading.breaks ?? 0) > 0 ? ['spans-break'] : [],
+      components: m.reading?.components ?? {
+        estimatorCents: m.uncertaintyCents,
+        repeatabilityCents: 0,
+        settlingCents: 0,
+        dof: Infinity,
+      },
       note: nearestNote(m.hz, a4Hz),
       centsFromIdeal: row ? row.centsFromIdeal : null,
       centsFromIdealUncertainty: row ? row.centsFromIdealUncertainty : null,

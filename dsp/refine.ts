@@ -208,6 +208,7 @@ export class HarmonicRefiner {
     this.unwrapped = new Float64Array(maxSegments);
     this.stat = new Float64Array(maxSegments);
     this.segPow = new Float64Array(maxSegments);
+    this.edge = new Uint8Array(maxSegments);
   }
 
   /**
@@ -565,6 +566,7 @@ export class HarmonicRefiner {
   private readonly unwrapped: Float64Array;
   private readonly stat: Float64Array;
   private readonly segPow: Float64Array;
+  private readonly edge: Uint8Array;
 
   /**
    * Tells the next {@link refine} call where the signal breaks (dropped samples, a restarted stream),
@@ -685,14 +687,14 @@ export class HarmonicRefiner {
   /**
    * Looks for a break the data show but nobody reported: a step in the phase residuals (a time shift,
    * the same for every harmonic in time units) inside an unbroken stretch. For each candidate segment b,
-   * with at least two segments of the same stretch on either side among the four nearest, the residuals (`re`, of row `row`, or of
+   * with segments of the same stretch on both sides among the four nearest (at least three in all), the residuals (`re`, of row `row`, or of
    * every active harmonic when row = −1) are tested for a step at b against a straight line per harmonic
    * (segment b itself left out): the reduction in the weighted residual sum of squares over the residual
    * variance of the stepped model (an F-type statistic; change-point test in the manner of D. V. Hinkley,
    * "Inference about the change-point in a sequence of random variables", Biometrika 57(1), 1970).
    * A break is taken when the statistic passes max(60, K + 5.5·√(2K) + 12) for K harmonics (far in the
-   * tail of χ²_K over up to 48 candidates) and is sharp: at least 20 times its value one and two
-   * segments either side. A dropout is abrupt and passes; the slow phase wander of frequency noise is broad and does not.
+   * tail of χ²_K over up to 48 candidates) and is sharp: at least 20 times its value two segments
+   * either side and the lesser of its values one segment either side. A dropout is abrupt and passes; the slow phase wander of frequency noise is broad and does not.
    *
    * @returns The segment holding the break, or −1.
    */
@@ -715,7 +717,9 @@ export class HarmonicRefiner {
         if (m < b) nl++;
         else nr++;
       }
-      if (nl < 2 || nr < 2) continue;
+      // Two segments on one side and at least one on the other (a break near the window's edge).
+      if (nl < 1 || nr < 1 || nl + nr < 3) continue;
+      this.edge[b] = nl < 2 || nr < 2 ? 1 : 0;
       let dRss = 0;
       let rss = 0;
       let n = 0;
@@ -774,18 +778,22 @@ export class HarmonicRefiner {
     if (best < 0) return -1;
     const threshold = Math.max(60, rows + 5.5 * Math.sqrt(2 * rows) + 12);
     if (!(stat[best] > threshold)) return -1;
-    let side = 0;
-    for (let d = -2; d <= 2; d++) {
-      const q = best + d;
-      if (d !== 0 && q >= 0 && q < M) side = Math.max(side, stat[q]);
-    }
-    if (stat[best] >= SHARPNESS * side) return best;
-    // Less sharp (frequency wander nearby): take it only when the segment also lost power, as a segment
-    // with a phase jump inside does (its two parts add out of phase) and a wandering tone does not.
+    // Neighbours two segments away, and the lesser of the two next to it: a break close to a segment
+    // boundary shows in both segments around that boundary, and is no less sharp for it.
+    const at = (q: number) => (q >= 0 && q < M ? stat[q] : 0);
+    // Over all harmonics jointly (row < 0), where frequency wander weighs most, both neighbours count.
+    const near = row < 0 ? Math.max(at(best - 1), at(best + 1)) : Math.min(at(best - 1), at(best + 1));
+    const side = Math.max(at(best - 2), at(best + 2), near);
     const lo = best > 0 ? this.segPow[best - 1] : Infinity;
     const hi = best + 1 < M ? this.segPow[best + 1] : Infinity;
     const ref = Math.min(lo, hi);
-    return stat[best] >= 3 * side && Number.isFinite(ref) && this.segPow[best] <= DIP * ref ? best : -1;
+    const dipped = Number.isFinite(ref) && this.segPow[best] <= DIP * ref;
+    // Next to the window's edge the neighbours say little: the segment must also have lost power.
+    if (this.edge[best]) return stat[best] >= SHARPNESS * side && dipped ? best : -1;
+    if (stat[best] >= SHARPNESS * side) return best;
+    // Less sharp (frequency wander nearby): take it only when the segment also lost power, as a segment
+    // with a phase jump inside does (its two parts add out of phase) and a wandering tone does not.
+    return stat[best] >= 3 * side && dipped ? best : -1;
   }
 
   /** Weighted means of segment time and phase of harmonic slot `j`, per stretch, into stT/stY. */

@@ -83,6 +83,8 @@ export const DEFAULT_RUN_OPTIONS: Omit<RunOptions, 'plateau'> = Object.freeze({
   settleTimeoutSeconds: 4,
 });
 
+/** A move of the pitch this far from a capture window's mean, cents, means the user moved on. */
+const CAPTURE_JUMP_CENTS = 20;
 /** Trailing span over which the creep's slope is measured, seconds (at least the capture window). */
 const CREEP_WINDOW_SECONDS = 2;
 
@@ -881,7 +883,13 @@ function onReading(s: RunState, reading: unknown): RunState {
 
   if (s.phase === 'capturing' && s.capture) {
     const cap = s.capture;
-    const lost = u.gap || (cap.plateauStartSeconds !== null && u.ended !== null);
+    // The plateau ending drops the window only when the pitch jumped (the user moved on); a pitch that
+    // merely creeps out of the plateau's band is what the slope test below waits out.
+    const jumped =
+      reading.kind === 'ok' &&
+      cap.anchorHz !== null &&
+      Math.abs(centsBetween(reading.hz, cap.anchorHz) - cap.meanCents) > CAPTURE_JUMP_CENTS;
+    const lost = u.gap || (cap.plateauStartSeconds !== null && u.ended !== null && jumped);
     if (lost) {
       dropCapture(s, u.gap ? 'signal-lost' : 'pitch-moved');
       toListening(s);

@@ -7,10 +7,10 @@
  * the first readings at each window size (warm-up), `push` allocates only the reading objects it emits.
  */
 
-import { subWindowRepeatability } from './allan.ts';
 import { PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
 import type { PitchReading } from './reading.ts';
 import { MAX_BREAKS } from './refine.ts';
+import { measureSettled } from './settled.ts';
 import type { Hertz, Seconds } from './units.ts';
 
 /** Options of a {@link PitchTracker}. */
@@ -34,9 +34,6 @@ export interface TrackerOptions extends Omit<PitchOptions, 'timeSeconds' | 'hint
   /** Harmonics fitted per live reading (settled averages use up to 64). Default 12. */
   readonly liveHarmonics?: number;
 }
-
-/** Most sub-windows a settled average is split into for the repeatability estimate. */
-const MAX_SUB_WINDOWS = 8;
 
 function req(name: string, v: number, lo: number, hi: number, integer = false): number {
   if (!Number.isFinite(v) || v < lo || v > hi || (integer && !Number.isInteger(v))) {
@@ -74,9 +71,6 @@ export class PitchTracker {
   private readonly breakAt = new Float64Array(64);
   private breakCount = 0;
   private readonly breakScratch = new Float64Array(MAX_BREAKS);
-  // Sub-window results of the latest settled average (cents against its frequency) and their σ.
-  private readonly subCents = new Float64Array(MAX_SUB_WINDOWS);
-  private readonly subSigma = new Float64Array(MAX_SUB_WINDOWS);
 
   /** @throws RangeError for options outside their ranges (each message names the option and its range). */
   constructor(options: TrackerOptions) {
@@ -222,40 +216,7 @@ export class PitchTracker {
     if (s < this.total - this.ring.length || e - s > this.ring.length) {
       return { kind: 'none', reason: 'no-pitch', level: this.live.lastLevel(), timeSeconds: t };
     }
-    const full = this.measureRange(this.settled, s, e - s, t);
-    if (full.kind !== 'ok') return full;
-    // The oscillator's own wander: the scatter of back-to-back sub-window estimates over the span
-    // (dsp/allan.ts, subWindowRepeatability). Sub-windows hold at least 8 periods each.
-    const n = e - s;
-    const periods = (n * full.hz) / fs;
-    const J = Math.min(MAX_SUB_WINDOWS, Math.floor(periods / 8), Math.floor(n / 256));
-    let used = 0;
-    if (J >= 3) {
-      const len = Math.floor(n / J);
-      for (let j = 0; j < J; j++) {
-        const r = this.measureRange(this.settled, s + j * len, len, t, full.hz);
-        if (r.kind !== 'ok') continue;
-        this.subCents[used] = 1200 * Math.log2(r.hz / full.hz);
-        this.subSigma[used] = r.uncertaintyCents;
-        used++;
-      }
-    }
-    const estimatorCents = full.uncertaintyCents;
-    let repeatabilityCents = 0;
-    let dof = Infinity;
-    if (used >= 3) {
-      const rep = subWindowRepeatability(this.subCents.subarray(0, used), this.subSigma.subarray(0, used));
-      repeatabilityCents = rep.repeatabilityCents;
-      // Welch–Satterthwaite (JCGM 100:2008, G.4.1); the estimator's part is already widened for its own
-      // degrees of freedom and counts as exact here.
-      const uc2 = estimatorCents * estimatorCents + repeatabilityCents * repeatabilityCents;
-      if (repeatabilityCents > 0) dof = (uc2 * uc2) / (repeatabilityCents ** 4 / rep.dof);
-    }
-    return {
-      ...full,
-      uncertaintyCents: Math.sqrt(estimatorCents ** 2 + repeatabilityCents ** 2),
-      components: { estimatorCents, repeatabilityCents, settlingCents: 0, dof },
-    };
+    return this.measureRange(this.settled, s, e - s, t, 0, true);
   }
 
   /** Forgets all audio and the frequency hint (after a device change, for example). */
@@ -278,6 +239,7 @@ export class PitchTracker {
     n: number,
     t: Seconds,
     hintHz = est === this.live ? this.hintHz : 0,
+    settled = false,
   ): PitchReading {
     // Breaks inside the window, as positions from its start.
     let nb = 0;
@@ -286,13 +248,15 @@ export class PitchTracker {
       const b = this.breakAt[q % this.breakAt.length];
       if (b > start && b < start + n) this.breakScratch[nb++] = b - start;
     }
-    est.setBreaks(this.breakScratch, nb);
     const cap = this.ring.length;
     // Ring index of stream sample `start`.
     const first = (((this.writePos - (this.total - start)) % cap) + cap) % cap;
     const tail = Math.min(n, cap - first);
     this.window.set(this.ring.subarray(first, first + tail), 0);
     if (tail < n) this.window.set(this.ring.subarray(0, n - tail), tail);
+    // A settled average carries the oscillator's repeatability from sub-windows (dsp/settled.ts).
+    if (settled) return measureSettled(est, this.window, 0, n, t, this.breakScratch, nb);
+    est.setBreaks(this.breakScratch, nb);
     return est.estimate(this.window, 0, n, t, 1, hintHz);
   }
 }
