@@ -17,11 +17,7 @@ import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
 import { calibrate } from '../dsp/pipeline.ts';
 import { resultToJsonText } from '../dsp/result.ts';
 import type { Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
-import {
-  analyzeRecording,
-  describePlateauSpans,
-  type RecordingAnalysisError,
-} from '../dsp/recording.ts';
+import { analyzeRecording, describePlateauSpans, type RecordingAnalysisError } from '../dsp/recording.ts';
 import { arraySource, wavChannelSource, type SampleSource } from '../dsp/recording-input.ts';
 import { analyzeSteadyTone, LONG_TONE_SECONDS } from '../dsp/steady-tone.ts';
 import type { WavDecoded, WavLayout } from '../dsp/wav.ts';

@@ -18,6 +18,7 @@ import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts
 import { encodeWav } from './simulate.ts';
 import { CliError } from './errors.ts';
 import { modelBenchCases } from './bench-model.ts';
+import { integrityCases } from './bench-integrity.ts';
 
 const SHAPES: Shape[] = ['saw', 'square', 'pulse10', 'triangle', 'sine'];
 const RATES = [44100, 48000, 96000];
@@ -508,7 +509,7 @@ export async function main(args: string[]): Promise<number> {
     else if (a === '--help' || a === '-h') {
       console.log(
         'usage: spanmeter bench [--quick] [--only CASES]\n  --quick  a smaller grid and fewer trials, for a first look\n' +
-          '  --only   comma list of: clean, noise, hum, crb, live, uncertainty, throughput, recording, wrong-volts, droop, loop',
+          '  --only   comma list of: clean, noise, hum, crb, live, uncertainty, throughput, recording, wrong-volts, droop, loop, dropouts, wander, tails, lfo, long, user',
       );
       return 0;
     } else throw new CliError(`unknown option '${a}' (try --help)`, 2);
@@ -567,6 +568,7 @@ export async function main(args: string[]): Promise<number> {
   if (want('recording')) results.push(['recording', recordingCase(quick ? 3 : 7)]);
   results.push(...modelBenchCases(want, quick));
   results.push(...(await import('./bench-long.ts')).benchLong(want, quick));
+  results.push(...integrityCases(quick, want));
   console.log('\n### Summary\n');
   for (const [name, ok] of results) console.log(`- ${name}: ${ok ? 'meets target' : 'MISSES target'}`);
   console.log(`\nBench time ${((performance.now() - t0) / 1000).toFixed(0)} s.`);

@@ -25,6 +25,12 @@ export const MIN_SAMPLE_RATE_HZ = 8000;
 export const MAX_SAMPLE_RATE_HZ = 384000;
 
 const CENTS_PER_LN = 1200 / Math.LN2;
+const NO_BREAKS = new Float64Array(0);
+/**
+ * A pitch this close under `minHz` (a hundredth of a cent) still counts as in range: a tone set exactly at
+ * the floor (a 2 Hz LFO with `minHz: 2`) must not be refused for its last digit.
+ */
+const EDGE = 1 - 1e-5;
 
 /** Options of the pitch estimator. All have defaults. */
 export interface PitchOptions {
@@ -187,10 +193,13 @@ export class PitchEstimator {
     const st = this.stats;
     conditionInto(src, start, count, this.work, st, stride);
     const level = levelOf(st);
-    const none = (reason: NoPitchReason, coarseHz?: number): PitchReading =>
-      coarseHz === undefined
+    const none = (reason: NoPitchReason, coarseHz?: number): PitchReading => {
+      // Breaks are given for one call only.
+      this.refiner.setBreaks(NO_BREAKS, 0);
+      return coarseHz === undefined
         ? { kind: 'none', reason, level, timeSeconds }
         : { kind: 'none', reason, level, timeSeconds, coarseHz };
+    };
     if (st.badSamples > 0) return none('bad-samples');
     if (count < 64) return none('warming-up');
     if (!(level.rmsDbfs >= o.silenceDbfs)) return none('silent');
@@ -230,7 +239,8 @@ export class PitchEstimator {
       if (Math.abs(snapped / mpmHz - 1) < 0.05) f = snapped;
     }
     f = this.octaveCheck(f);
-    if (f < o.minHz) return none('below-range', f);
+    // The coarse value may be a few tenths of a percent off: the precise value below makes the call.
+    if (f < o.minHz * 0.97) return none('below-range', f);
     if (f > o.maxHz) return none('above-range', f);
     const periods = (count * f) / fs;
     if (periods < 3) return none('below-range', f);
@@ -262,12 +272,12 @@ export class PitchEstimator {
     if (!r.ok) return none('no-pitch', f);
     // A second pass centred on the first pass's answer, where the phase model is exact. Skipped only when
     // a hinted first pass landed within ~0.05 cent of its centre (its bias is a few per cent of that offset).
-    if (!hinted || Math.abs(r.hz / f - 1) > 3e-5) {
-      if (!pass(r.hz).ok) return none('no-pitch', f);
-    }
+    if (!hinted || Math.abs(r.hz / f - 1) > 3e-5) pass(r.hz);
+    this.refiner.setBreaks(NO_BREAKS, 0);
     const res = this.refined;
+    if (!res.ok) return none('no-pitch', f);
     if (res.explainedFraction < 0.3) return none('no-pitch', res.hz);
-    if (res.hz < o.minHz) return none('below-range', res.hz);
+    if (res.hz < o.minHz * EDGE) return none('below-range', res.hz);
     if (res.hz > o.maxHz) return none('above-range', res.hz);
     return {
       kind: 'ok',
@@ -278,7 +288,20 @@ export class PitchEstimator {
       windowSeconds: count / fs,
       harmonicsUsed: res.harmonicsUsed,
       timeSeconds,
+      ...(res.breaks > 0 ? { breaks: res.breaks } : {}),
     };
+  }
+
+  /**
+   * Breaks in the signal for the next {@link estimate} call only (dropped blocks the capture reported), in
+   * samples from its `start`. Each unbroken stretch gets its own phase in the fit (see
+   * `HarmonicRefiner.setBreaks`). Breaks the data show are found without this. Allocation-free.
+   *
+   * @param positions - Break positions, samples from the window start.
+   * @param count - How many entries to use (at most `MAX_BREAKS` = 8 are kept).
+   */
+  setBreaks(positions: ArrayLike<number>, count: number): void {
+    this.refiner.setBreaks(positions, count);
   }
 
   /** Level of the last analysed window (for meters). */

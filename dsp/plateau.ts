@@ -558,3 +558,86 @@ export function findPlateaus(
   if (last) out.push(last);
   return out;
 }
+
+/** The trend of the held readings over a span (see {@link trailingSlope}). */
+export interface PitchSlope {
+  /** Least-squares slope of pitch against time, cents per second. */
+  readonly centsPerSecond: number;
+  /** Its standard error from the residual scatter, cents per second. */
+  readonly standardErrorCentsPerSecond: number;
+  /** Readings that entered. */
+  readonly count: number;
+  /** Time span they cover, seconds. */
+  readonly spanSeconds: Seconds;
+}
+
+/**
+ * The pitch's trend over the held readings in [fromSeconds, toSeconds]: the ordinary least-squares slope
+ * of cents against time and its standard error s/√Sxx from the residuals (NIST/SEMATECH e-Handbook of
+ * Statistical Methods, §4.1.4.1; residual-based, so it does not trust the readings' own σ). Used to tell
+ * whether a thermal tail has died out.
+ *
+ * @param state - A detector state.
+ * @param fromSeconds - Span start, seconds.
+ * @param toSeconds - Span end, seconds.
+ * @returns The slope, or null with fewer than 5 readings in the span.
+ * @example trailingSlope(state, t - 2, t)?.centsPerSecond // 0.003
+ */
+export function trailingSlope(
+  state: PlateauDetectorState,
+  fromSeconds: Seconds,
+  toSeconds: Seconds,
+): PitchSlope | null {
+  const idx: number[] = [];
+  for (let i = 0; i < state.times.length; i++) {
+    const t = state.times[i];
+    if (t >= fromSeconds - TIME_EPS && t <= toSeconds + TIME_EPS) idx.push(i);
+  }
+  let fit = lineFit(state, idx);
+  if (!fit) return null;
+  // A lone wild reading (the plateau tolerates one) must not pass for scatter or for creep: leave out
+  // readings more than 5 robust standard deviations (1.4826·MAD) off the line, and fit again.
+  const f0 = fit;
+  const res = idx.map((i) => Math.abs(state.cents[i] - f0.cb - f0.b * (state.times[i] - f0.tb)));
+  const sorted = res.slice().sort((a, b) => a - b);
+  const sigma = 1.4826 * sorted[Math.floor(sorted.length / 2)];
+  if (sigma > 0) {
+    const kept = idx.filter((_, k) => res[k] <= 5 * sigma);
+    if (kept.length < idx.length) fit = lineFit(state, kept) ?? fit;
+  }
+  return {
+    centsPerSecond: fit.b,
+    standardErrorCentsPerSecond: fit.se,
+    count: fit.n,
+    spanSeconds: fit.span,
+  };
+}
+
+/** Ordinary least-squares line through the held readings at `idx`; null with fewer than 5. */
+function lineFit(
+  state: PlateauDetectorState,
+  idx: readonly number[],
+): { b: number; se: number; tb: number; cb: number; n: number; span: number } | null {
+  const n = idx.length;
+  if (n < 5) return null;
+  let st = 0;
+  let sc = 0;
+  for (const i of idx) {
+    st += state.times[i];
+    sc += state.cents[i];
+  }
+  const tb = st / n;
+  const cb = sc / n;
+  let sxx = 0;
+  let sxy = 0;
+  for (const i of idx) {
+    sxx += (state.times[i] - tb) ** 2;
+    sxy += (state.times[i] - tb) * (state.cents[i] - cb);
+  }
+  if (!(sxx > 0)) return null;
+  const b = sxy / sxx;
+  let ss = 0;
+  for (const i of idx) ss += (state.cents[i] - cb - b * (state.times[i] - tb)) ** 2;
+  const span = state.times[idx[n - 1]] - state.times[idx[0]];
+  return { b, se: Math.sqrt(ss / (n - 2) / sxx), tb, cb, n, span };
+}

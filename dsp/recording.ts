@@ -36,12 +36,12 @@ import type { BudgetOptions } from './budget.ts';
 import { calibrate, checkCalibrationOptions, type CapturedStep } from './pipeline.ts';
 import { MAX_CONTROL_VOLTS as MAX_VOLTS } from './plan.ts';
 import { findPlateaus, resolvePlateauOptions, type Plateau, type PlateauOptions } from './plateau.ts';
-import type { PitchOk, PitchReading } from './reading.ts';
+import type { PitchOk, StepFlag, UncertaintyComponents } from './reading.ts';
 import type { CalibrationResult } from './result.ts';
-import { PitchTracker } from './stream.ts';
+import { measureSettled } from './settled.ts';
 import type { InputNetwork, TrimAdvice } from './advice.ts';
 import { arraySource, describeNoSignal, livePass, type SampleSource } from './recording-input.ts';
-import { buildErrorTable, type ErrorTable } from './table.ts';
+import type { ErrorTable } from './table.ts';
 import type { Cents, Hertz, Ppm, Seconds, Volts } from './units.ts';
 
 /**
@@ -144,8 +144,12 @@ export interface RecordingStep {
   readonly measuredVolts: Volts | null;
   /** Measured frequency, Hz (clock-corrected). */
   readonly hz: Hertz;
-  /** Standard uncertainty of `hz`, cents (1σ, JCGM 100:2008). */
+  /** Standard uncertainty of `hz`, cents (1σ, JCGM 100:2008): the root-sum-square of `components`. */
   readonly uncertaintyCents: Cents;
+  /** What the step went through (`spans-break`: the window held a break); empty when all is well. */
+  readonly flags: StepFlag[];
+  /** The parts of `uncertaintyCents`, cents (estimator, the oscillator's repeatability, settling). */
+  readonly components: UncertaintyComponents;
   /** Nearest 12-TET note at `a4Hz`, middle C = C4. */
   readonly note: NearestNote;
   /** Error from the ideal 1 V/oct line through the first step, cents (0 for the first); null without volts. */
@@ -464,14 +468,12 @@ export function analyzeRecording(
     let [w0, w1] = windowOf(piece, fs);
     let reading: PitchOk | null = null;
     if (w1 - w0 >= minWindowSeconds(p.meanHz)) {
-      if (w1 - w0 > cap) {
-        const mid = (w0 + w1) / 2;
-        [w0, w1] = [mid - cap / 2, mid + cap / 2];
-      }
+      // The last settled part of the plateau: any creep left after the step has had longest to die out.
+      if (w1 - w0 > cap) w0 = w1 - cap;
       const s0 = Math.max(0, Math.round(w0 * fs));
       const want = Math.min(source.frameCount - s0, Math.round((w1 - w0) * fs), estimator.maxSamples);
       const n = source.read(s0, windowSamples.subarray(0, Math.max(0, want)));
-      const r = estimator.estimate(windowSamples, 0, n, (s0 + n / 2) / fs, 1, p.meanHz);
+      const r = measureSettled(estimator, windowSamples, 0, n, (s0 + n / 2) / fs);
       // A window that disagrees with its own live readings by more than the band has caught something the
       // readings did not (a click at the edge): keep the readings' mean instead.
       if (
@@ -492,6 +494,13 @@ export function analyzeRecording(
       reading,
       windowStartSeconds: reading ? w0 : piece.startSeconds,
       windowEndSeconds: reading ? w1 : piece.endSeconds,
+      flags: (reading && (reading.breaks ?? 0) > 0 ? ['spans-break'] : []) as StepFlag[],
+      components: (reading?.components ?? {
+        estimatorCents: reading ? reading.uncertaintyCents : p.standardErrorCents,
+        repeatabilityCents: 0,
+        settlingCents: 0,
+        dof: Infinity,
+      }) as UncertaintyComponents,
     };
   });
 
@@ -502,6 +511,8 @@ export function analyzeRecording(
     measuredVolts: measured?.[i] ?? null,
     rawHz: m.rawHz,
     uncertaintyCents: m.uncertaintyCents,
+    flags: m.flags,
+    components: m.components,
     capture: {
       source: m.reading ? 'window' : 'readings',
       startSeconds: m.group.pieces[0].startSeconds,
@@ -532,6 +543,8 @@ export function analyzeRecording(
       measuredVolts: r.measuredVolts,
       hz: r.hz,
       uncertaintyCents: r.uncertaintyCents,
+      flags: m.flags,
+      components: m.components,
       note: nearestNote(r.hz, a4Hz),
       centsFromIdeal: r.centsFromIdeal,
       centsFromIdealUncertainty: r.centsFromIdealUncertainty,

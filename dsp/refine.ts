@@ -54,11 +54,38 @@ export interface RefineResult {
   explainedFraction: number;
   /** Residual degrees of freedom. */
   dof: number;
+  /** Breaks inside the fitted span (reported through `setBreaks` or found in the data). */
+  breaks: number;
+  /** How many of `breaks` were found in the data. */
+  foundBreaks: number;
 }
+
+/** Most break positions a window can be given. */
+export const MAX_BREAKS = 8;
+/** Most breaks looked for in the data per window. */
+const MAX_FOUND_BREAKS = 3;
+/** How far a break's test statistic must stand above its neighbours' (within two segments). */
+const SHARPNESS = 20;
+/** Power a segment holding a break keeps, at most, relative to its neighbours (for a less sharp break). */
+const DIP = 0.85;
+/** Segments either side of a candidate break that its test looks at (so other breaks do not mask it). */
+const LOCAL_SEGMENTS = 4;
+/** Most unbroken stretches per window. */
+const MAX_STRETCHES = MAX_BREAKS + MAX_FOUND_BREAKS + 1;
 
 /** Creates an empty {@link RefineResult}. */
 export function emptyRefineResult(): RefineResult {
-  return { ok: false, hz: 0, stdErrHz: 0, harmonicsUsed: 0, segments: 0, explainedFraction: 0, dof: 0 };
+  return {
+    ok: false,
+    hz: 0,
+    stdErrHz: 0,
+    harmonicsUsed: 0,
+    segments: 0,
+    explainedFraction: 0,
+    dof: 0,
+    breaks: 0,
+    foundBreaks: 0,
+  };
 }
 
 // Two-sided 97.5 % quantiles of Student's t for 1…30 degrees of freedom (any statistics handbook,
@@ -141,6 +168,11 @@ export class HarmonicRefiner {
   private readonly humFor: Int32Array;
   private readonly humG: Float64Array;
   private readonly scratch: Float64Array;
+  private readonly phase0: Float64Array;
+  private readonly seg: Int32Array;
+  private readonly cut: Uint8Array;
+  private readonly breakPos = new Float64Array(MAX_BREAKS);
+  private knownBreaks = 0;
 
   /**
    * @param maxSamples - Longest window to refine, samples.
@@ -171,6 +203,13 @@ export class HarmonicRefiner {
     this.humFor = new Int32Array(maxHarmonics);
     this.humG = new Float64Array(maxHarmonics);
     this.scratch = new Float64Array(cells);
+    this.phase0 = new Float64Array(cells);
+    this.seg = new Int32Array(maxSegments);
+    this.cut = new Uint8Array(maxSegments);
+    this.unwrapped = new Float64Array(maxSegments);
+    this.stat = new Float64Array(maxSegments);
+    this.segPow = new Float64Array(maxSegments);
+    this.edge = new Uint8Array(maxSegments);
   }
 
   /**
@@ -337,129 +376,175 @@ export class HarmonicRefiner {
     }
     if (strongest < 0 || strongestPow <= 0) return out;
 
-    // Stage A: slope of the strongest harmonic alone, with sequential unwrapping.
     const kA = this.hk[strongest];
-    let prev = this.phase[strongest * ms];
-    let unwrapped = prev;
-    let sw = 0;
-    let swt = 0;
-    let swy = 0;
-    let swtt = 0;
-    let swty = 0;
+    this.placeKnownBreaks(M, L, offset);
     for (let m = 0; m < M; m++) {
-      const idx = strongest * ms + m;
-      if (m > 0) {
-        unwrapped += wrapPi(this.phase[idx] - prev);
-        prev = this.phase[idx];
-      }
-      const wt = this.w[idx];
-      const tm = this.t[m];
-      sw += wt;
-      swt += wt * tm;
-      swy += wt * unwrapped;
-      swtt += wt * tm * tm;
-      swty += wt * tm * unwrapped;
+      let p = 0;
+      for (let j = 0; j < K; j++) if (this.active[j]) p += this.w[j * ms + m];
+      this.segPow[m] = p;
     }
-    const den = sw * swtt - swt * swt;
-    if (!(den > 0)) return out;
-    const slopeA = (sw * swty - swt * swy) / den;
-    const deltaA = slopeA / (TWO_PI * kA);
-
-    // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit,
-    // re-weighted three times with Tukey's biweight.
-    let activeCount = 0;
+    let nStretch = this.assignStretches(M);
+    this.zeroDropped(K, M);
+    // Keep the raw phases: a break found in the data restarts the fit from them.
     for (let j = 0; j < K; j++) {
       if (!this.active[j]) continue;
-      activeCount++;
-      const k = this.hk[j];
-      // Circular weighted mean of the residual phase sets the intercept used for wrapping.
-      let cr = 0;
-      let ci = 0;
-      for (let m = 0; m < M; m++) {
-        const idx = j * ms + m;
-        const r = this.phase[idx] - TWO_PI * k * deltaA * this.t[m];
-        cr += this.w[idx] * Math.cos(r);
-        ci += this.w[idx] * Math.sin(r);
-      }
-      const a0 = Math.atan2(ci, cr);
-      for (let m = 0; m < M; m++) {
-        const idx = j * ms + m;
-        this.phase[idx] = wrapPi(this.phase[idx] - TWO_PI * k * deltaA * this.t[m] - a0);
-      }
+      for (let m = 0; m < M; m++) this.phase0[j * ms + m] = this.phase[j * ms + m];
     }
-    const nPoints = activeCount * M;
-    const dof = nPoints - activeCount - 1;
-    if (dof < 1) return out;
-
+    let found = 0;
+    let deltaA = 0;
     let delta = 0;
     let s2 = 0;
     let sxx = 0;
-    let dofOut = dof;
-    for (let pass = 0; pass < 4; pass++) {
-      let sxy = 0;
+    let dofOut = 0;
+    let activeCount = 0;
+    for (let attempt = 0; ; attempt++) {
+      const mayLook = found < MAX_FOUND_BREAKS && attempt < 2 * MAX_FOUND_BREAKS;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        for (let m = 0; m < M; m++) this.phase[j * ms + m] = this.phase0[j * ms + m];
+      }
+      // Stage A: slope of the strongest harmonic alone, unwrapped sequentially inside each unbroken stretch,
+      // with one intercept per stretch.
+      const slopeA = this.stageA(strongest, M, nStretch);
+      if (!Number.isFinite(slopeA)) return out;
+      deltaA = slopeA / (TWO_PI * kA);
+      if (mayLook) {
+        const b = this.findBreak(strongest, K, M);
+        if (b >= 0) {
+          this.cut[b] = 1;
+          nStretch = this.assignStretches(M);
+          this.zeroDropped(K, M);
+          found++;
+          continue;
+        }
+      }
+
+      // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
+      // one intercept per harmonic and stretch, and Tukey re-weighting.
+      activeCount = 0;
+      let usable = 0;
+      for (let m = 0; m < M; m++) if (this.seg[m] >= 0) usable++;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        activeCount++;
+        const k = this.hk[j];
+        // Circular weighted mean of the residual phase per stretch sets the intercept used for wrapping.
+        for (let r = 0; r < nStretch; r++) {
+          this.stT[r] = 0;
+          this.stY[r] = 0;
+        }
+        for (let m = 0; m < M; m++) {
+          const r = this.seg[m];
+          if (r < 0) continue;
+          const idx = j * ms + m;
+          const e = this.phase[idx] - TWO_PI * k * deltaA * this.t[m];
+          this.stT[r] += this.w[idx] * Math.cos(e);
+          this.stY[r] += this.w[idx] * Math.sin(e);
+        }
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const r = this.seg[m];
+          if (r < 0) {
+            this.phase[idx] = 0;
+            this.wr[idx] = 0;
+            continue;
+          }
+          const a0 = Math.atan2(this.stY[r], this.stT[r]);
+          this.phase[idx] = wrapPi(this.phase[idx] - TWO_PI * k * deltaA * this.t[m] - a0);
+          this.wr[idx] = 1;
+        }
+      }
+      const nPoints = activeCount * usable;
+      if (nPoints - activeCount * nStretch - 1 < 1) return out;
+
+      delta = 0;
+      s2 = 0;
       sxx = 0;
-      for (let j = 0; j < K; j++) {
-        if (!this.active[j]) continue;
-        const k = this.hk[j];
-        if (!this.weightedMeans(j, M)) continue;
-        const tb = this.meanT;
-        const yb = this.meanY;
-        for (let m = 0; m < M; m++) {
-          const idx = j * ms + m;
-          const ww = this.w[idx] * this.wr[idx];
-          const dt = this.t[m] - tb;
-          sxy += ww * k * dt * (this.phase[idx] - yb);
-          sxx += ww * k * k * dt * dt;
+      dofOut = 0;
+      for (let pass = 0; pass < 4; pass++) {
+        let sxy = 0;
+        sxx = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          const k = this.hk[j];
+          this.weightedMeans(j, M, nStretch);
+          for (let m = 0; m < M; m++) {
+            const r = this.seg[m];
+            if (r < 0) continue;
+            const idx = j * ms + m;
+            const ww = this.w[idx] * this.wr[idx];
+            const dt = this.t[m] - this.stT[r];
+            sxy += ww * k * dt * (this.phase[idx] - this.stY[r]);
+            sxx += ww * k * k * dt * dt;
+          }
+        }
+        if (!(sxx > 0)) return out;
+        // Model: phase = a_{k,r} + (2π·k·d)·t  ⇒  d = Σ w k Δt Δy / (2π Σ w k² Δt²).
+        delta = sxy / (TWO_PI * sxx);
+        // Residuals and scale.
+        let ss = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          const k = this.hk[j];
+          this.weightedMeans(j, M, nStretch);
+          for (let m = 0; m < M; m++) {
+            const idx = j * ms + m;
+            const r = this.seg[m];
+            if (r < 0) {
+              this.re[idx] = 0;
+              continue;
+            }
+            const e = this.phase[idx] - this.stY[r] - TWO_PI * k * delta * (this.t[m] - this.stT[r]);
+            // The residual is kept in `re` (the coefficients are no longer needed).
+            this.re[idx] = e;
+            ss += this.w[idx] * this.wr[idx] * e * e;
+          }
+        }
+        // Robust scale from the median absolute standardised residual (1.4826·MAD estimates σ for normal
+        // errors), then Tukey's biweight with c = 4.685·σ: a segment hit by a click or a DC step gets weight
+        // 0 instead of pulling the slope (Huber, "Robust Statistics"; Mosteller & Tukey, 1977).
+        let nu = 0;
+        let nEff = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          for (let m = 0; m < M; m++) {
+            if (this.seg[m] < 0) continue;
+            const idx = j * ms + m;
+            this.scratch[nu++] = Math.abs(this.re[idx]) * Math.sqrt(this.w[idx]);
+            nEff += this.wr[idx];
+          }
+        }
+        const effDof = nEff - activeCount * nStretch - 1;
+        s2 = effDof > 0 ? ss / effDof : 0;
+        dofOut = effDof;
+        if (pass === 3) break;
+        const scale = 1.4826 * selectMedian(this.scratch, nu);
+        if (!(scale > 0)) break;
+        const c = 4.685 * scale;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          for (let m = 0; m < M; m++) {
+            if (this.seg[m] < 0) continue;
+            const idx = j * ms + m;
+            const u = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / c;
+            this.wr[idx] = u < 1 ? (1 - u * u) * (1 - u * u) : 0;
+          }
         }
       }
-      if (!(sxx > 0)) return out;
-      // Model: phase = a_k + (2π·k·d)·t  ⇒  d = Σ w k Δt Δy / (2π Σ w k² Δt²).
-      delta = sxy / (TWO_PI * sxx);
-      // Residuals and scale.
-      let ss = 0;
-      for (let j = 0; j < K; j++) {
-        if (!this.active[j]) continue;
-        const k = this.hk[j];
-        this.weightedMeans(j, M);
-        const tb = this.meanT;
-        const yb = this.meanY;
-        for (let m = 0; m < M; m++) {
-          const idx = j * ms + m;
-          const e = this.phase[idx] - yb - TWO_PI * k * delta * (this.t[m] - tb);
-          // Store the residual temporarily in xw-free scratch: reuse `re` (no longer needed).
-          this.re[idx] = e;
-          ss += this.w[idx] * this.wr[idx] * e * e;
+      if (mayLook) {
+        const b = this.findBreak(-1, K, M);
+        if (b >= 0) {
+          this.cut[b] = 1;
+          nStretch = this.assignStretches(M);
+          this.zeroDropped(K, M);
+          found++;
+          continue;
         }
       }
-      // Robust scale from the median absolute standardised residual (1.4826·MAD estimates σ for normal
-      // errors), then Tukey's biweight with c = 4.685·σ: a segment hit by a click or a DC step gets weight 0
-      // instead of pulling the slope (Huber, "Robust Statistics"; Mosteller & Tukey, 1977).
-      let nu = 0;
-      let nEff = 0;
-      for (let j = 0; j < K; j++) {
-        if (!this.active[j]) continue;
-        for (let m = 0; m < M; m++) {
-          const idx = j * ms + m;
-          this.scratch[nu++] = Math.abs(this.re[idx]) * Math.sqrt(this.w[idx]);
-          nEff += this.wr[idx];
-        }
-      }
-      const effDof = nEff - activeCount - 1;
-      s2 = effDof > 0 ? ss / effDof : 0;
-      dofOut = effDof;
-      if (pass === 3) break;
-      const scale = 1.4826 * selectMedian(this.scratch, nu);
-      if (!(scale > 0)) break;
-      const c = 4.685 * scale;
-      for (let j = 0; j < K; j++) {
-        if (!this.active[j]) continue;
-        for (let m = 0; m < M; m++) {
-          const idx = j * ms + m;
-          const u = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / c;
-          this.wr[idx] = u < 1 ? (1 - u * u) * (1 - u * u) : 0;
-        }
-      }
+      break;
     }
+    let breaks = 0;
+    for (let m = 0; m < M; m++) if (this.cut[m] !== 0 && (m > 0 || this.cut[m] === 1)) breaks++;
     const hz = f0Hz + deltaA + delta;
     // var(d) = s² / (4π² Σ w k² Δt²)  (weighted least squares with unknown scale).
     if (!(dofOut >= 1)) return out;
@@ -471,28 +556,270 @@ export class HarmonicRefiner {
     out.segments = M;
     out.explainedFraction = totalPower > 0 ? Math.min(1, explained / totalPower) : 0;
     out.dof = dofOut;
+    out.breaks = breaks;
+    out.foundBreaks = found;
     return out;
   }
 
-  private meanT = 0;
-  private meanY = 0;
+  private readonly stT = new Float64Array(MAX_STRETCHES);
+  private readonly stY = new Float64Array(MAX_STRETCHES);
+  private readonly stW = new Float64Array(MAX_STRETCHES);
+  private readonly unwrapped: Float64Array;
+  private readonly stat: Float64Array;
+  private readonly segPow: Float64Array;
+  private readonly edge: Uint8Array;
 
-  /** Weighted means of segment time and phase of harmonic slot `j` into meanT/meanY; false if no weight. */
-  private weightedMeans(j: number, M: number): boolean {
-    const ms = this.maxSegments;
-    let sw = 0;
-    let swt = 0;
-    let swy = 0;
+  /**
+   * Tells the next {@link refine} call where the signal breaks (dropped samples, a restarted stream),
+   * in samples from the start of its window. The segment holding a break is left out and each unbroken
+   * stretch gets its own phase per harmonic, so the break costs a little precision and adds no bias.
+   * Positions outside the window are ignored; at most {@link MAX_BREAKS} are kept. Allocation-free.
+   *
+   * @param positions - Break positions, samples from the window start.
+   * @param count - How many entries of `positions` to use.
+   */
+  setBreaks(positions: ArrayLike<number>, count: number): void {
+    const n = Math.max(0, Math.min(count, MAX_BREAKS, positions.length));
+    for (let i = 0; i < n; i++) this.breakPos[i] = positions[i];
+    this.knownBreaks = n;
+  }
+
+  /** Marks the segments the known breaks fall in (1: left out, 2: a new stretch starts here). */
+  private placeKnownBreaks(M: number, L: number, offset: number): void {
+    this.cut.fill(0, 0, M);
+    for (let q = 0; q < this.knownBreaks; q++) {
+      const rel = this.breakPos[q] - offset;
+      if (!(rel > 0) || rel >= M * L) continue;
+      const m = Math.floor(rel / L);
+      if (rel === m * L) {
+        if (this.cut[m] === 0) this.cut[m] = 2;
+      } else this.cut[m] = 1;
+    }
+  }
+
+  /** Stretch number of each segment from `cut` into `seg` (−1: left out); returns the number of stretches. */
+  private assignStretches(M: number): number {
+    let id = 0;
+    let used = false;
     for (let m = 0; m < M; m++) {
+      const c = this.cut[m];
+      if (c === 2 && used && id + 1 < MAX_STRETCHES) {
+        id++;
+        used = false;
+      }
+      if (c === 1) {
+        this.seg[m] = -1;
+        if (used && id + 1 < MAX_STRETCHES) {
+          id++;
+          used = false;
+        }
+        continue;
+      }
+      this.seg[m] = id;
+      used = true;
+    }
+    return used ? id + 1 : Math.max(1, id);
+  }
+
+  /** Zero weight for every cell of a left-out segment. */
+  private zeroDropped(K: number, M: number): void {
+    const ms = this.maxSegments;
+    for (let m = 0; m < M; m++) {
+      if (this.seg[m] >= 0) continue;
+      for (let j = 0; j < K; j++) this.w[j * ms + m] = 0;
+    }
+  }
+
+  /**
+   * Stage A: weighted least-squares slope (rad/s) of harmonic slot `j`'s phase, unwrapped sequentially
+   * inside each stretch, one intercept per stretch. Leaves the residuals in `re` (row j). NaN on failure.
+   */
+  private stageA(j: number, M: number, nStretch: number): number {
+    const ms = this.maxSegments;
+    const ua = this.unwrapped;
+    let prevM = -1;
+    let prevId = -1;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const ph = this.phase[j * ms + m];
+      ua[m] = r !== prevId ? ph : ua[prevM] + wrapPi(ph - this.phase[j * ms + prevM]);
+      prevM = m;
+      prevId = r;
+    }
+    for (let r = 0; r < nStretch; r++) {
+      this.stW[r] = 0;
+      this.stT[r] = 0;
+      this.stY[r] = 0;
+    }
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const wt = this.w[j * ms + m];
+      this.stW[r] += wt;
+      this.stT[r] += wt * this.t[m];
+      this.stY[r] += wt * ua[m];
+    }
+    for (let r = 0; r < nStretch; r++) {
+      if (this.stW[r] > 0) {
+        this.stT[r] /= this.stW[r];
+        this.stY[r] /= this.stW[r];
+      }
+    }
+    let sxy = 0;
+    let sxx = 0;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const wt = this.w[j * ms + m];
+      const dt = this.t[m] - this.stT[r];
+      sxy += wt * dt * (ua[m] - this.stY[r]);
+      sxx += wt * dt * dt;
+    }
+    if (!(sxx > 0)) return NaN;
+    const slope = sxy / sxx;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      this.re[j * ms + m] = r < 0 ? 0 : ua[m] - this.stY[r] - slope * (this.t[m] - this.stT[r]);
+    }
+    return slope;
+  }
+
+  /**
+   * Looks for a break the data show but nobody reported: a step in the phase residuals (a time shift,
+   * the same for every harmonic in time units) inside an unbroken stretch. For each candidate segment b,
+   * with segments of the same stretch on both sides among the four nearest (at least three in all), the residuals (`re`, of row `row`, or of
+   * every active harmonic when row = −1) are tested for a step at b against a straight line per harmonic
+   * (segment b itself left out): the reduction in the weighted residual sum of squares over the residual
+   * variance of the stepped model (an F-type statistic; change-point test in the manner of D. V. Hinkley,
+   * "Inference about the change-point in a sequence of random variables", Biometrika 57(1), 1970).
+   * A break is taken when the statistic passes max(60, K + 5.5·√(2K) + 12) for K harmonics (far in the
+   * tail of χ²_K over up to 48 candidates) and is sharp: at least 20 times its value two segments
+   * either side and the lesser of its values one segment either side. A dropout is abrupt and passes; the slow phase wander of frequency noise is broad and does not.
+   *
+   * @returns The segment holding the break, or −1.
+   */
+  private findBreak(row: number, K: number, M: number): number {
+    const ms = this.maxSegments;
+    const stat = this.stat;
+    let rows = 0;
+    for (let j = 0; j < K; j++) if (this.active[j] && (row < 0 || j === row)) rows++;
+    if (rows === 0) return -1;
+    for (let b = 0; b < M; b++) {
+      stat[b] = 0;
+      const r = this.seg[b];
+      if (r < 0) continue;
+      let nl = 0;
+      let nr = 0;
+      const m0 = Math.max(0, b - LOCAL_SEGMENTS);
+      const m1 = Math.min(M - 1, b + LOCAL_SEGMENTS);
+      for (let m = m0; m <= m1; m++) {
+        if (this.seg[m] !== r || m === b) continue;
+        if (m < b) nl++;
+        else nr++;
+      }
+      // Two segments on one side and at least one on the other (a break near the window's edge).
+      if (nl < 1 || nr < 1 || nl + nr < 3) continue;
+      this.edge[b] = nl < 2 || nr < 2 ? 1 : 0;
+      let dRss = 0;
+      let rss = 0;
+      let n = 0;
+      let used = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j] || (row >= 0 && j !== row)) continue;
+        let W = 0;
+        let Wt = 0;
+        let Wtt = 0;
+        let Wu = 0;
+        let Wtu = 0;
+        let Wr = 0;
+        let Wtr = 0;
+        let Wur = 0;
+        let Wrr = 0;
+        let cells = 0;
+        for (let m = m0; m <= m1; m++) {
+          if (this.seg[m] !== r || m === b) continue;
+          const idx = j * ms + m;
+          const wt = this.w[idx];
+          if (!(wt > 0)) continue;
+          const t = this.t[m] - this.t[b];
+          const e = this.re[idx];
+          const u = m > b ? 1 : 0;
+          W += wt;
+          Wt += wt * t;
+          Wtt += wt * t * t;
+          Wu += wt * u;
+          Wtu += wt * t * u;
+          Wr += wt * e;
+          Wtr += wt * t * e;
+          Wur += wt * u * e;
+          Wrr += wt * e * e;
+          cells++;
+        }
+        const det = W * Wtt - Wt * Wt;
+        if (!(det > 0) || cells < 4) continue;
+        const a = (Wtt * Wr - Wt * Wtr) / det;
+        const c = (W * Wtr - Wt * Wr) / det;
+        const alpha = (Wtt * Wu - Wt * Wtu) / det;
+        const beta = (W * Wtu - Wt * Wu) / det;
+        const num = Wur - alpha * Wr - beta * Wtr;
+        const den = Wu - alpha * Wu - beta * Wtu;
+        rss += Math.max(0, Wrr - a * Wr - c * Wtr);
+        if (den > 0) dRss += (num * num) / den;
+        n += cells;
+        used++;
+      }
+      const nu = n - 3 * used;
+      if (used === 0 || nu < 2) continue;
+      const rest = Math.max(rss - dRss, 1e-300);
+      stat[b] = dRss / (rest / nu);
+    }
+    let best = -1;
+    for (let b = 0; b < M; b++) if (stat[b] > 0 && (best < 0 || stat[b] > stat[best])) best = b;
+    if (best < 0) return -1;
+    const threshold = Math.max(60, rows + 5.5 * Math.sqrt(2 * rows) + 12);
+    if (!(stat[best] > threshold)) return -1;
+    // Neighbours two segments away, and the lesser of the two next to it: a break close to a segment
+    // boundary shows in both segments around that boundary, and is no less sharp for it.
+    const at = (q: number) => (q >= 0 && q < M ? stat[q] : 0);
+    // Over all harmonics jointly (row < 0), where frequency wander weighs most, both neighbours count.
+    const near = row < 0 ? Math.max(at(best - 1), at(best + 1)) : Math.min(at(best - 1), at(best + 1));
+    const side = Math.max(at(best - 2), at(best + 2), near);
+    const lo = best > 0 ? this.segPow[best - 1] : Infinity;
+    const hi = best + 1 < M ? this.segPow[best + 1] : Infinity;
+    const ref = Math.min(lo, hi);
+    const dipped = Number.isFinite(ref) && this.segPow[best] <= DIP * ref;
+    // Next to the window's edge the neighbours say little: the segment must also have lost power.
+    if (this.edge[best]) return stat[best] >= SHARPNESS * side && dipped ? best : -1;
+    if (stat[best] >= SHARPNESS * side) return best;
+    // Less sharp (frequency wander nearby): take it only when the segment also lost power, as a segment
+    // with a phase jump inside does (its two parts add out of phase) and a wandering tone does not.
+    return stat[best] >= 3 * side && dipped ? best : -1;
+  }
+
+  /** Weighted means of segment time and phase of harmonic slot `j`, per stretch, into stT/stY. */
+  private weightedMeans(j: number, M: number, nStretch: number): void {
+    const ms = this.maxSegments;
+    for (let r = 0; r < nStretch; r++) {
+      this.stW[r] = 0;
+      this.stT[r] = 0;
+      this.stY[r] = 0;
+    }
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
       const idx = j * ms + m;
       const ww = this.w[idx] * this.wr[idx];
-      sw += ww;
-      swt += ww * this.t[m];
-      swy += ww * this.phase[idx];
+      this.stW[r] += ww;
+      this.stT[r] += ww * this.t[m];
+      this.stY[r] += ww * this.phase[idx];
     }
-    this.meanT = sw > 0 ? swt / sw : 0;
-    this.meanY = sw > 0 ? swy / sw : 0;
-    return sw > 0;
+    for (let r = 0; r < nStretch; r++) {
+      if (this.stW[r] > 0) {
+        this.stT[r] /= this.stW[r];
+        this.stY[r] /= this.stW[r];
+      }
+    }
   }
 
   /**

@@ -3,8 +3,9 @@
  * where the pitch settles, captures each step once and keeps the results.
  *
  * Everything is driven by the readings' `timeSeconds`: there are no clocks and no timers. The state is
- * plain JSON (no Maps, classes, functions, NaN or Infinity), so `JSON.parse(JSON.stringify(state))` is a
- * working state and a run can resume after a restart ({@link serializeRun}, {@link deserializeRun}).
+ * plain JSON (no Maps, classes, functions or NaN; the one Infinity, a capture's unknown `components.dof`,
+ * comes back from JSON's null through {@link restoreInfiniteDof} or {@link deserializeRun}), so
+ * `JSON.parse(JSON.stringify(state))` is a working state and a run can resume after a restart.
  * The reducer never throws and never mutates its input; an event that makes no sense in the current
  * phase is ignored and leaves a typed note in `notes`.
  *
@@ -33,11 +34,12 @@ import {
   openPlateau,
   pushReading,
   resolvePlateauOptions,
+  trailingSlope,
   type PlateauDetectorState,
   type PlateauOptions,
 } from './plateau.ts';
 import { PLAN_LIMITS, validatePlanVolts, type Plan } from './plan.ts';
-import type { PitchReading } from './reading.ts';
+import type { PitchReading, StepFlag, UncertaintyComponents } from './reading.ts';
 import type { Cents, Hertz, Seconds, Volts } from './units.ts';
 
 /** Settings of a run. */
@@ -52,6 +54,16 @@ export interface RunOptions {
   hostTimeoutSeconds: Seconds;
   /** Octaves per volt assumed before two steps are captured, in [0.25, 4]. Default 1 (1 V/oct). */
   octavesPerVoltStart: number;
+  /**
+   * How far the creep still under way may move a capture, cents, in [0.0001, 10]. Default 0.01. A capture
+   * closes once the trailing slope, counted over `creepHorizonSeconds`, is within this (or within two
+   * standard errors of zero, when the readings are too noisy to tell less).
+   */
+  settleLimitCents: Cents;
+  /** How long creep at the current rate is counted as still to come, seconds, in [0, 60]. Default 3.5 (thermal tails of τ up to about 3 s). */
+  creepHorizonSeconds: Seconds;
+  /** How long a completed capture window may wait for the creep to die out before it is taken anyway and flagged `still-settling`, seconds, in [0, 600]. Default 4. */
+  settleTimeoutSeconds: Seconds;
   /** Plateau detector settings (see `dsp/plateau.ts`). */
   plateau: PlateauOptions;
 }
@@ -66,7 +78,15 @@ export const DEFAULT_RUN_OPTIONS: Omit<RunOptions, 'plateau'> = Object.freeze({
   capturedHoldSeconds: 0.5,
   hostTimeoutSeconds: 10,
   octavesPerVoltStart: 1,
+  settleLimitCents: 0.01,
+  creepHorizonSeconds: 3.5,
+  settleTimeoutSeconds: 4,
 });
+
+/** A move of the pitch this far from a capture window's mean, cents, means the user moved on. */
+const CAPTURE_JUMP_CENTS = 20;
+/** Trailing span over which the creep's slope is measured, seconds (at least the capture window). */
+const CREEP_WINDOW_SECONDS = 2;
 
 /** Limits of the estimated slope; outside them the start value is used instead, octaves per volt. */
 const SLOPE_LIMITS = [0.25, 4] as const;
@@ -93,6 +113,10 @@ export interface StepCapture {
   how: CaptureHow;
   /** Pitch the fit expected, Hz (null for the first step or a manual capture with nothing to expect). */
   expectedHz: Hertz | null;
+  /** What the capture went through (`spans-break`, `still-settling`); empty when all is well. */
+  flags: StepFlag[];
+  /** The parts of `uncertaintyCents` (its root-sum-square), cents; `dof` may be Infinity. */
+  components: UncertaintyComponents;
 }
 
 /** One step of the plan with its result. */
@@ -127,6 +151,14 @@ export interface CaptureWindow {
   /** Running sum of squared deviations, cents² (Welford). */
   m2: number;
   sumSigma: Cents;
+  /** When the window first completed, seconds (the settle timeout counts from here); null while running. */
+  firstCloseSeconds: Seconds | null;
+  /** Latest trailing slope of the pitch, cents per second (null until measured). */
+  creepCentsPerSecond: number | null;
+  /** Residual creep counted into the capture, standard uncertainty, cents. */
+  settlingCents: Cents;
+  /** True when the window was taken on the settle timeout with the creep still measurable. */
+  timedOut: boolean;
 }
 
 /** What the run asks the host to measure: the engine's long average over [startSeconds, endSeconds]. */
@@ -245,7 +277,17 @@ export interface RunState {
 }
 
 /** A capture result from the host for a {@link PendingCapture}. */
-export type HostMeasurement = { kind: 'ok'; hz: Hertz; uncertaintyCents: Cents } | { kind: 'unavailable' };
+export type HostMeasurement =
+  | {
+      kind: 'ok';
+      hz: Hertz;
+      uncertaintyCents: Cents;
+      /** The parts of `uncertaintyCents` (estimator and repeatability), when the host has them. */
+      components?: UncertaintyComponents;
+      /** Breaks in the signal inside the window (the step is then flagged `spans-break`). */
+      breaks?: number;
+    }
+  | { kind: 'unavailable' };
 
 /** Everything the run responds to. */
 export type RunEvent =
@@ -293,6 +335,9 @@ export function resolveRunOptions(options: RunOptionsInput = {}): RunOptions {
   checkOption('capturedHoldSeconds', o.capturedHoldSeconds, 0, 10);
   checkOption('hostTimeoutSeconds', o.hostTimeoutSeconds, 0.1, 600);
   checkOption('octavesPerVoltStart', o.octavesPerVoltStart, SLOPE_LIMITS[0], SLOPE_LIMITS[1]);
+  checkOption('settleLimitCents', o.settleLimitCents, 0.0001, 10);
+  checkOption('creepHorizonSeconds', o.creepHorizonSeconds, 0, 60);
+  checkOption('settleTimeoutSeconds', o.settleTimeoutSeconds, 0, 600);
   return { ...o, plateau: { ...resolvePlateauOptions(plateau ?? {}) } };
 }
 
@@ -584,7 +629,25 @@ export function runCaptures(state: RunState): CapturedPoint[] {
 function cloneState(s: RunState): RunState {
   const c: RunState = JSON.parse(JSON.stringify({ ...s, detector: null }));
   c.detector = clonePlateauState(s.detector);
-  return c;
+  return restoreInfiniteDof(c);
+}
+
+/**
+ * Puts back the infinite degrees of freedom that JSON wrote as null in the captures' `components.dof`
+ * (after a `JSON.parse(JSON.stringify(state))` copy). Changes the state in place and returns it.
+ *
+ * @example restoreInfiniteDof(JSON.parse(JSON.stringify(run))).steps[0].capture?.components.dof // Infinity
+ */
+export function restoreInfiniteDof(s: RunState): RunState {
+  const fix = (c: StepCapture | null) => {
+    if (c && c.components && (c.components.dof === null || c.components.dof === undefined))
+      c.components = { ...c.components, dof: Infinity };
+  };
+  for (const st of s.steps) {
+    fix(st.capture);
+    for (const e of st.earlier) fix(e);
+  }
+  return s;
 }
 
 function note(s: RunState, n: RunNote): void {
@@ -661,6 +724,10 @@ function startCapture(
     meanCents: 0,
     m2: 0,
     sumSigma: 0,
+    firstCloseSeconds: null,
+    creepCentsPerSecond: null,
+    settlingCents: 0,
+    timedOut: false,
   };
   s.pendingCapture = null;
   s.warning = null;
@@ -728,9 +795,17 @@ function storeLiveMean(s: RunState): void {
   }
   const sd = cap.count >= 2 ? Math.sqrt(cap.m2 / (cap.count - 1)) : 0;
   const sem = sd > 0 ? sd / Math.sqrt(cap.count) : cap.sumSigma / cap.count / Math.sqrt(cap.count);
+  const components: UncertaintyComponents = {
+    estimatorCents: sem,
+    repeatabilityCents: 0,
+    settlingCents: cap.settlingCents,
+    dof: sd > 0 ? cap.count - 1 : Infinity,
+  };
   storeCapture(s, {
     hz: cap.anchorHz * Math.pow(2, cap.meanCents / 1200),
-    uncertaintyCents: sem,
+    uncertaintyCents: rss(components),
+    flags: cap.timedOut ? ['still-settling'] : [],
+    components,
     startSeconds: cap.startSeconds,
     endSeconds: cap.endSeconds,
     source: 'live-mean',
@@ -738,6 +813,79 @@ function storeLiveMean(s: RunState): void {
     how: cap.how,
     expectedHz: cap.expectedHz,
   });
+}
+
+function rss(c: UncertaintyComponents): number {
+  return Math.sqrt(c.estimatorCents ** 2 + c.repeatabilityCents ** 2 + c.settlingCents ** 2);
+}
+
+/** The host's components, when they are well formed (dof may be Infinity or, from JSON, null). */
+function okComponents(v: unknown): UncertaintyComponents | null {
+  if (typeof v !== 'object' || v === null) return null;
+  const c = v as Record<string, unknown>;
+  const fin = (x: unknown) => typeof x === 'number' && Number.isFinite(x) && x >= 0;
+  if (!fin(c.estimatorCents) || !fin(c.repeatabilityCents)) return null;
+  const dof = typeof c.dof === 'number' && c.dof > 0 ? c.dof : Infinity;
+  return {
+    estimatorCents: c.estimatorCents as number,
+    repeatabilityCents: c.repeatabilityCents as number,
+    settlingCents: 0,
+    dof,
+  };
+}
+
+/**
+ * Settling on the slope. Called when the capture window [start, end] has completed at time t: measures
+ * the trailing slope b ± u_b of the pitch (dsp/plateau.ts, trailingSlope, over the last
+ * max(2 s, captureSeconds) of the plateau) and counts creep at that rate over `creepHorizonSeconds` H as
+ * still to come. The window is taken when (|b| + u_b)·H ≤ settleLimitCents (the creep cannot move the
+ * result by more than the limit) or |b| ≤ 2·u_b (no creep the readings can resolve); or, flagged
+ * `still-settling`, when the settle timeout has run out. Either way the residual creep enters the step as
+ * a rectangular term: settlingCents = (|b| + u_b)·H/√3 (JCGM 100:2008 §4.3.7). For an exponential tail of
+ * time constant τ, the window mean lies b·τ²/T·(e^{T/τ} − 1) from the settled value, about 1.6–3.6·|b| for
+ * τ = 0.5–3 s and T = 1 s, inside (|b| + u_b)·H with H = 3.5 s.
+ */
+function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
+  const o = s.options;
+  if (cap.firstCloseSeconds === null) cap.firstCloseSeconds = t;
+  const from = Math.max(
+    cap.plateauStartSeconds ?? cap.startSeconds,
+    t - Math.max(CREEP_WINDOW_SECONDS, o.captureSeconds),
+  );
+  const slope = trailingSlope(s.detector, from, t);
+  if (!slope || !(o.creepHorizonSeconds > 0)) {
+    cap.creepCentsPerSecond = slope ? slope.centsPerSecond : null;
+    cap.settlingCents = 0;
+    return true;
+  }
+  const b = Math.abs(slope.centsPerSecond);
+  const ub = slope.standardErrorCentsPerSecond;
+  const H = o.creepHorizonSeconds;
+  cap.creepCentsPerSecond = slope.centsPerSecond;
+  cap.settlingCents = ((b + ub) * H) / Math.sqrt(3);
+  if ((b + ub) * H <= o.settleLimitCents || b <= 2 * ub) return true;
+  if (t - cap.firstCloseSeconds >= o.settleTimeoutSeconds - 1e-9) {
+    cap.timedOut = true;
+    return true;
+  }
+  return false;
+}
+
+/** Moves a completed window on to the latest `captureSeconds` and rebuilds its live statistics. */
+function slideWindow(s: RunState, cap: CaptureWindow, t: number): void {
+  cap.startSeconds = t - s.options.captureSeconds;
+  cap.endSeconds = t;
+  cap.anchorHz = null;
+  cap.count = 0;
+  cap.meanCents = 0;
+  cap.m2 = 0;
+  cap.sumSigma = 0;
+  const d = s.detector;
+  if (d.anchorHz === null) return;
+  for (let i = 0; i < d.times.length; i++) {
+    if (d.times[i] < cap.startSeconds - 1e-9 || d.times[i] > t + 1e-9) continue;
+    accumulate(cap, d.anchorHz * Math.pow(2, d.cents[i] / 1200), d.sigmas[i]);
+  }
 }
 
 type Verdict =
@@ -852,7 +1000,13 @@ function onReading(s: RunState, reading: unknown): RunState {
 
   if (s.phase === 'capturing' && s.capture) {
     const cap = s.capture;
-    const lost = u.gap || (cap.plateauStartSeconds !== null && u.ended !== null);
+    // The plateau ending drops the window only when the pitch jumped (the user moved on); a pitch that
+    // merely creeps out of the plateau's band is what the slope test below waits out.
+    const jumped =
+      reading.kind === 'ok' &&
+      cap.anchorHz !== null &&
+      Math.abs(centsBetween(reading.hz, cap.anchorHz) - cap.meanCents) > CAPTURE_JUMP_CENTS;
+    const lost = u.gap || (cap.plateauStartSeconds !== null && u.ended !== null && jumped);
     if (lost) {
       dropCapture(s, u.gap ? 'signal-lost' : 'pitch-moved');
       toListening(s);
@@ -860,6 +1014,12 @@ function onReading(s: RunState, reading: unknown): RunState {
     }
     if (reading.kind === 'ok' && t >= cap.startSeconds && t <= cap.endSeconds + 1e-9) {
       accumulate(cap, reading.hz, reading.uncertaintyCents);
+    }
+    if (t >= cap.endSeconds - 1e-9 && cap.how !== 'manual' && !settledEnough(s, cap, t)) {
+      // Still creeping: the window slides on with the readings until the creep dies out or time is up.
+      slideWindow(s, cap, t);
+      s.progress = 1;
+      return s;
     }
     if (t >= cap.endSeconds - 1e-9) {
       cap.closedAtSeconds = t;
@@ -973,9 +1133,22 @@ function reduce(s: RunState, e: RunEvent): RunState {
           Number.isFinite(r.uncertaintyCents) &&
           r.uncertaintyCents >= 0;
         if (okHz && okU) {
+          const hc = okComponents((r as { components?: unknown }).components);
+          const components: UncertaintyComponents = {
+            estimatorCents: hc ? hc.estimatorCents : (r.uncertaintyCents as number) + 0,
+            repeatabilityCents: hc ? hc.repeatabilityCents : 0,
+            settlingCents: s.capture.settlingCents,
+            dof: hc ? hc.dof : Infinity,
+          };
+          const breaks = (r as { breaks?: unknown }).breaks;
+          const flags: StepFlag[] = [];
+          if (typeof breaks === 'number' && breaks > 0) flags.push('spans-break');
+          if (s.capture.timedOut) flags.push('still-settling');
           storeCapture(s, {
             hz: r.hz as number,
-            uncertaintyCents: (r.uncertaintyCents as number) + 0,
+            uncertaintyCents: rss(components),
+            flags,
+            components,
             startSeconds: pc.startSeconds,
             endSeconds: pc.endSeconds,
             source: 'host',
@@ -1144,16 +1317,35 @@ const num = z.number();
 const nnum = z.number().nullable();
 const howSchema = z.enum(['first', 'expected', 'accepted-anyway', 'manual']);
 const sourceSchema = z.enum(['host', 'live-mean']);
-const captureSchema = z.object({
-  hz: num.positive(),
-  uncertaintyCents: num.nonnegative(),
-  startSeconds: num,
-  endSeconds: num,
-  source: sourceSchema,
-  liveCount: num.int().nonnegative(),
-  how: howSchema,
-  expectedHz: nnum,
-});
+const flagSchema = z.enum(['spans-break', 'still-settling', 'suspect-voltage', 'outside-tolerance-unknown']);
+const captureSchema = z
+  .object({
+    hz: num.positive(),
+    uncertaintyCents: num.nonnegative(),
+    startSeconds: num,
+    endSeconds: num,
+    source: sourceSchema,
+    liveCount: num.int().nonnegative(),
+    how: howSchema,
+    expectedHz: nnum,
+    flags: z.array(flagSchema).optional(),
+    components: z
+      .object({
+        estimatorCents: num.nonnegative(),
+        repeatabilityCents: num.nonnegative(),
+        settlingCents: num.nonnegative(),
+        // JSON writes Infinity as null.
+        dof: z.number().positive().nullable(),
+      })
+      .optional(),
+  })
+  .transform((c) => ({
+    ...c,
+    flags: c.flags ?? [],
+    components: c.components
+      ? { ...c.components, dof: c.components.dof ?? Infinity }
+      : { estimatorCents: c.uncertaintyCents, repeatabilityCents: 0, settlingCents: 0, dof: Infinity },
+  }));
 const plateauOptionsSchema = z.object({
   settleSeconds: num,
   sigmaMultiple: num,
@@ -1227,6 +1419,9 @@ const stateSchema = z.object({
     capturedHoldSeconds: num,
     hostTimeoutSeconds: num,
     octavesPerVoltStart: num,
+    settleLimitCents: num.default(DEFAULT_RUN_OPTIONS.settleLimitCents),
+    creepHorizonSeconds: num.default(DEFAULT_RUN_OPTIONS.creepHorizonSeconds),
+    settleTimeoutSeconds: num.default(DEFAULT_RUN_OPTIONS.settleTimeoutSeconds),
     plateau: plateauOptionsSchema,
   }),
   steps: z.array(
@@ -1267,6 +1462,10 @@ const stateSchema = z.object({
       meanCents: num,
       m2: num.nonnegative(),
       sumSigma: num.nonnegative(),
+      firstCloseSeconds: nnum.default(null),
+      creepCentsPerSecond: nnum.default(null),
+      settlingCents: num.nonnegative().default(0),
+      timedOut: z.boolean().default(false),
     })
     .nullable(),
   pendingCapture: z.object({ stepIndex: num.int(), startSeconds: num, endSeconds: num }).nullable(),

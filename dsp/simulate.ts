@@ -78,6 +78,18 @@ export interface OscillatorOptions {
   readonly jitterCents?: Cents;
   /** Correlation time of the pitch jitter, seconds, 1e-4…60. Default 0.05. */
   readonly jitterTauSeconds?: Seconds;
+  /**
+   * White frequency noise, as its Allan deviation at τ = 1 s, cents, 0…10. Default 0. Drawn every
+   * millisecond and held (white FM up to 500 Hz, far above any capture's sub-windows).
+   */
+  readonly whiteFmCents?: Cents;
+  /**
+   * Flicker frequency noise, as its (flat) Allan deviation, cents, 0…10. Default 0. Made as the sum of
+   * {@link FLICKER_TAUS_SECONDS}.length Ornstein–Uhlenbeck processes with time constants four times apart,
+   * each of RMS `flickerFmCents`: Lorentzians spaced by a factor 4 sum to S_y ≈ σ²/(f·ln4), whose Allan
+   * variance 2·ln2·h₋₁ is σ² (IEEE Std 1139-2008, table 1). Flicker holds between 10 ms and 2.6 s.
+   */
+  readonly flickerFmCents?: Cents;
   /** Waveform. Default 'saw' (a rising ramp). */
   readonly shape?: OscillatorShape;
   /** Fraction of the period the pulse is high, 0.01…0.99 (only for 'pulse'). Default 0.25. */
@@ -127,6 +139,8 @@ export const DEFAULT_OSCILLATOR_OPTIONS: Readonly<Omit<ResolvedOscillatorOptions
     tailTauSeconds: 1,
     jitterCents: 0,
     jitterTauSeconds: 0.05,
+    whiteFmCents: 0,
+    flickerFmCents: 0,
     shape: 'saw',
     pulseWidth: 0.25,
     amplitude: 0.5,
@@ -141,6 +155,11 @@ export const DEFAULT_OSCILLATOR_OPTIONS: Readonly<Omit<ResolvedOscillatorOptions
     maxHarmonics: 200,
     seed: 1,
   });
+
+/** Time constants of the Ornstein–Uhlenbeck processes that make the simulator's flicker FM, seconds. */
+export const FLICKER_TAUS_SECONDS: readonly Seconds[] = [0.01, 0.04, 0.16, 0.64, 2.56];
+/** Update interval of the simulator's frequency noise, seconds. */
+const FM_STEP_SECONDS = 0.001;
 
 /** Fraction of the sample rate kept by default: harmonics at or above 0.45·fs are absent. */
 export const DEFAULT_BAND_LIMIT_FRACTION = 0.45;
@@ -219,6 +238,8 @@ export function resolveOscillatorOptions(options: OscillatorOptions = {}): Resol
     tailTauSeconds: requireFiniteRange('tailTauSeconds', o.tailTauSeconds, 0.001, 600, 's'),
     jitterCents: requireFiniteRange('jitterCents', o.jitterCents, 0, 100, 'cents'),
     jitterTauSeconds: requireFiniteRange('jitterTauSeconds', o.jitterTauSeconds, 1e-4, 60, 's'),
+    whiteFmCents: requireFiniteRange('whiteFmCents', o.whiteFmCents, 0, 10, 'cents'),
+    flickerFmCents: requireFiniteRange('flickerFmCents', o.flickerFmCents, 0, 10, 'cents'),
     shape: o.shape,
     pulseWidth: requireFiniteRange('pulseWidth', o.pulseWidth, 0.01, 0.99, ''),
     amplitude: requireFiniteRange('amplitude', o.amplitude, 0, 1, 'full scale'),
@@ -543,6 +564,14 @@ class OscillatorStreamImpl implements OscillatorStream {
   private readonly tailK: number;
   private readonly jitterRho: number;
   private readonly jitterKick: number;
+  private readonly fmEvery: number;
+  private readonly flickerRho: Float64Array;
+  private readonly flickerKick: Float64Array;
+  private readonly flicker: Float64Array;
+  private readonly whiteFmSigma: number;
+  private fmRng!: Gaussian;
+  private fmCents = 0;
+  private fmCountdown = 0;
   // State.
   private noise!: Gaussian;
   private jitterRng!: Gaussian;
@@ -596,6 +625,18 @@ class OscillatorStreamImpl implements OscillatorStream {
     // Ornstein–Uhlenbeck process sampled exactly: x ← ρ·x + σ·√(1 − ρ²)·N(0, 1).
     this.jitterRho = Math.exp(-1 / (fs * o.jitterTauSeconds));
     this.jitterKick = o.jitterCents * Math.sqrt(1 - this.jitterRho * this.jitterRho);
+    // Frequency noise, updated every millisecond (`fmEvery` samples) and held. White FM held over Δ
+    // has Allan variance σ²Δ/τ, so σ = ADEV(1 s)/√Δ.
+    this.fmEvery = Math.max(1, Math.round(fs * FM_STEP_SECONDS));
+    const dt = this.fmEvery / fs;
+    this.whiteFmSigma = o.whiteFmCents / Math.sqrt(dt);
+    this.flickerRho = new Float64Array(FLICKER_TAUS_SECONDS.length);
+    this.flickerKick = new Float64Array(FLICKER_TAUS_SECONDS.length);
+    this.flicker = new Float64Array(FLICKER_TAUS_SECONDS.length);
+    FLICKER_TAUS_SECONDS.forEach((tau, i) => {
+      this.flickerRho[i] = Math.exp(-dt / tau);
+      this.flickerKick[i] = o.flickerFmCents * Math.sqrt(1 - this.flickerRho[i] ** 2);
+    });
     this.reset();
   }
 
@@ -621,6 +662,12 @@ class OscillatorStreamImpl implements OscillatorStream {
     this.volts = NaN;
     this.lagVolts = NaN;
     this.jitter = 0;
+    this.fmRng = new Gaussian((seed ^ 0x5bd1e995) + 7);
+    // Start the flicker processes in their stationary state, so the noise is the same from the first sample.
+    for (let i = 0; i < this.flicker.length; i++)
+      this.flicker[i] = this.options.flickerFmCents * this.fmRng.next();
+    this.fmCents = 0;
+    this.fmCountdown = 0;
     this.hpX = 0;
     this.hpY = 0;
     this.w[0] = NaN;
@@ -638,6 +685,7 @@ class OscillatorStreamImpl implements OscillatorStream {
     const warmRate = 1 / o.warmupTauSeconds;
     const tailPerVolt = o.tailCentsPerVolt;
     const hasJitter = o.jitterCents > 0;
+    const hasFm = o.whiteFmCents > 0 || o.flickerFmCents > 0;
     const limit = o.bandLimitHz;
     const fade = this.fadeHz;
     const fullLimit = limit - fade;
@@ -669,6 +717,19 @@ class OscillatorStreamImpl implements OscillatorStream {
       if (hasJitter) {
         this.jitter = this.jitter * this.jitterRho + this.jitterKick * this.jitterRng.next();
         offset += this.jitter;
+      }
+      if (hasFm) {
+        if (this.fmCountdown <= 0) {
+          this.fmCountdown = this.fmEvery;
+          let c = this.whiteFmSigma > 0 ? this.whiteFmSigma * this.fmRng.next() : 0;
+          for (let q = 0; q < this.flicker.length; q++) {
+            this.flicker[q] = this.flicker[q] * this.flickerRho[q] + this.flickerKick[q] * this.fmRng.next();
+            c += this.flicker[q];
+          }
+          this.fmCents = c;
+        }
+        this.fmCountdown--;
+        offset += this.fmCents;
       }
       // Frequency (physical) and as recorded.
       const hz = modelHz(hz0, scale, alpha, reset, v, offset, this.w);
@@ -1110,4 +1171,54 @@ export const demoUnits: readonly DemoUnit[] = Object.freeze([
  */
 export function findDemoUnit(id: string): DemoUnit | undefined {
   return demoUnits.find((u) => u.id === id);
+}
+
+/** A stretch of samples an interface lost (an overrun, a dropped block). */
+export interface Dropout {
+  /** Where the samples go missing, seconds from the first sample of the input. */
+  readonly atSeconds: Seconds;
+  /** How much is lost, seconds (≥ 0). */
+  readonly seconds: Seconds;
+}
+
+/**
+ * The recording an interface that dropped samples would have made: each dropout's samples are cut out
+ * and the rest closes up, so the waveform jumps in phase at the join (there is no marker in the file).
+ *
+ * @param samples - The unbroken signal.
+ * @param sampleRateHz - Its sample rate, Hz.
+ * @param dropouts - Where and how long, in the unbroken signal's time; overlapping ones merge.
+ * @returns The shortened signal and the break positions in it, samples.
+ * @throws RangeError for a dropout outside the signal or of negative length.
+ * @example withDropouts(x, 48000, [{ atSeconds: 1, seconds: 0.01 }]).breaks // [48000]
+ */
+export function withDropouts(
+  samples: Float32Array | Float64Array,
+  sampleRateHz: Hertz,
+  dropouts: readonly Dropout[],
+): { samples: Float64Array; breaks: number[] } {
+  const cuts = dropouts
+    .map((d, i) => {
+      const a = Math.round(d.atSeconds * sampleRateHz);
+      const b = a + Math.round(d.seconds * sampleRateHz);
+      if (!(d.seconds >= 0) || a < 0 || b > samples.length) {
+        throw new RangeError(
+          `dropouts[${i}] must lie inside the ${samples.length / sampleRateHz} s signal, got ${d.atSeconds} s for ${d.seconds} s`,
+        );
+      }
+      return [a, b] as const;
+    })
+    .sort((p, q) => p[0] - q[0]);
+  const out = new Float64Array(samples.length);
+  const breaks: number[] = [];
+  let w = 0;
+  let r = 0;
+  for (const [a, b] of cuts) {
+    if (b <= r) continue;
+    for (; r < a; r++) out[w++] = samples[r];
+    if (b > Math.max(a, r) && w > 0 && breaks[breaks.length - 1] !== w) breaks.push(w);
+    r = Math.max(r, b);
+  }
+  for (; r < samples.length; r++) out[w++] = samples[r];
+  return { samples: out.slice(0, w), breaks };
 }

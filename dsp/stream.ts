@@ -9,6 +9,8 @@
 
 import { PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
 import type { PitchReading } from './reading.ts';
+import { MAX_BREAKS } from './refine.ts';
+import { measureSettled } from './settled.ts';
 import type { Hertz, Seconds } from './units.ts';
 
 /** Options of a {@link PitchTracker}. */
@@ -65,6 +67,10 @@ export class PitchTracker {
   private total = 0;
   private sinceReading = 0;
   private hintHz: Hertz = 0;
+  // Breaks in the stream (dropped blocks), as stream sample indices, newest last (a small ring).
+  private readonly breakAt = new Float64Array(64);
+  private breakCount = 0;
+  private readonly breakScratch = new Float64Array(MAX_BREAKS);
 
   /** @throws RangeError for options outside their ranges (each message names the option and its range). */
   constructor(options: TrackerOptions) {
@@ -91,6 +97,19 @@ export class PitchTracker {
       segments: 8,
     });
     this.settled = new PitchEstimator(this.ring.length, fs, pitchOptions);
+  }
+
+  /**
+   * Marks a break in the stream at the current position: the next sample pushed does not follow the last
+   * one (the capture dropped a block, an interface overran). Windows that span it fit each side with its
+   * own phase and say so (`breaks` on the reading). Allocation-free, never throws.
+   */
+  markBreak(): void {
+    if (this.total === 0) return;
+    const cap = this.breakAt.length;
+    if (this.breakCount > 0 && this.breakAt[(this.breakCount - 1) % cap] === this.total) return;
+    this.breakAt[this.breakCount % cap] = this.total;
+    this.breakCount++;
   }
 
   /** Seconds of audio received so far (of the analysed channel). */
@@ -197,7 +216,7 @@ export class PitchTracker {
     if (s < this.total - this.ring.length || e - s > this.ring.length) {
       return { kind: 'none', reason: 'no-pitch', level: this.live.lastLevel(), timeSeconds: t };
     }
-    return this.measureRange(this.settled, s, e - s, t);
+    return this.measureRange(this.settled, s, e - s, t, 0, true);
   }
 
   /** Forgets all audio and the frequency hint (after a device change, for example). */
@@ -206,6 +225,7 @@ export class PitchTracker {
     this.total = 0;
     this.sinceReading = 0;
     this.hintHz = 0;
+    this.breakCount = 0;
   }
 
   private measure(est: PitchEstimator, n: number, t: Seconds): PitchReading {
@@ -213,13 +233,30 @@ export class PitchTracker {
   }
 
   /** Copies samples [start, start+n) of the stream out of the ring and measures them. */
-  private measureRange(est: PitchEstimator, start: number, n: number, t: Seconds): PitchReading {
+  private measureRange(
+    est: PitchEstimator,
+    start: number,
+    n: number,
+    t: Seconds,
+    hintHz = est === this.live ? this.hintHz : 0,
+    settled = false,
+  ): PitchReading {
+    // Breaks inside the window, as positions from its start.
+    let nb = 0;
+    const kept = Math.min(this.breakCount, this.breakAt.length);
+    for (let q = this.breakCount - kept; q < this.breakCount && nb < MAX_BREAKS; q++) {
+      const b = this.breakAt[q % this.breakAt.length];
+      if (b > start && b < start + n) this.breakScratch[nb++] = b - start;
+    }
     const cap = this.ring.length;
     // Ring index of stream sample `start`.
     const first = (((this.writePos - (this.total - start)) % cap) + cap) % cap;
     const tail = Math.min(n, cap - first);
     this.window.set(this.ring.subarray(first, first + tail), 0);
     if (tail < n) this.window.set(this.ring.subarray(0, n - tail), tail);
-    return est.estimate(this.window, 0, n, t, 1, est === this.live ? this.hintHz : 0);
+    // A settled average carries the oscillator's repeatability from sub-windows (dsp/settled.ts).
+    if (settled) return measureSettled(est, this.window, 0, n, t, this.breakScratch, nb);
+    est.setBreaks(this.breakScratch, nb);
+    return est.estimate(this.window, 0, n, t, 1, hintHz);
   }
 }

@@ -341,7 +341,6 @@ export const AutosaveResultSchema = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('none') }),
 ]);
 
-
 // ---------------------------------------------------------------------------------------------
 // The contract
 

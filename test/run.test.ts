@@ -11,6 +11,7 @@ import {
   estimateOctavesPerVolt,
   expectedPitch,
   runCaptures,
+  restoreInfiniteDof,
   runReducer,
   serializeRun,
   validateRunState,
@@ -129,7 +130,8 @@ function apply(s: RunState, e: RunEvent, check = false): RunState {
     expect(serializeRun(s)).toBe(before); // the input is untouched
     const rt = deserializeRun(serializeRun(next));
     expect(rt).toEqual(next);
-    expect(JSON.parse(JSON.stringify(next))).toEqual(next);
+    // Plain JSON, but for a capture's unknown degrees of freedom (Infinity, written as null).
+    expect(restoreInfiniteDof(JSON.parse(JSON.stringify(next)))).toEqual(next);
   }
   return next;
 }
@@ -295,15 +297,24 @@ describe('a rough hand and a warm junction', () => {
       seed: 4,
     },
   );
-  const { s, captures } = driveCollect(createRun(presetPlan('octaves-0-4')), sess);
+  // The user holds each voltage only 4.5 s, moving on whatever the screen says, so the run must not wait
+  // for the creep to die out (settle timeout 0): it captures when the window completes and flags it.
+  const { s, captures } = driveCollect(
+    createRun(presetPlan('octaves-0-4'), { settleTimeoutSeconds: 0 }),
+    sess,
+  );
   it('captures each step once, after the overshoot, close to the settled pitch', () => {
     expect(s.phase).toBe('finished');
     expect([...captures.values()]).toEqual([1, 1, 1, 1, 1]);
     for (const [i, v] of volts.entries()) {
       const c = s.steps[i].capture as StepCapture;
       expect(c.startSeconds).toBeGreaterThan(sess.starts[i] + 0.2 + 0.3);
-      // What is left of the tail during the window stays under 0.3 cent.
-      expect(Math.abs(cents(c.hz, unitHz(v)))).toBeLessThan(0.3);
+      // What is left of the tail during the window stays under 0.3 cent; a window still inside the creep
+      // says so, and counts the creep in its uncertainty.
+      const off = cents(c.hz, unitHz(v));
+      expect(Math.abs(off)).toBeLessThan(0.3);
+      if (Math.abs(off) > 0.02) expect(c.flags).toContain('still-settling');
+      expect(Math.abs(off)).toBeLessThan(2 * c.uncertaintyCents);
     }
     expect(s.log.some((n) => n.kind === 'unexpected-pitch')).toBe(false);
   });
@@ -449,7 +460,12 @@ describe('when the host cannot measure', () => {
       const ref = inWindow[0].hz;
       const c0 = inWindow.map((r) => cents(r.hz, ref));
       expect(cents(c.hz, ref)).toBeCloseTo(mean(c0), 9);
-      expect(c.uncertaintyCents).toBeCloseTo(sampleStandardDeviation(c0) / Math.sqrt(c0.length), 9);
+      expect(c.components.estimatorCents).toBeCloseTo(sampleStandardDeviation(c0) / Math.sqrt(c0.length), 9);
+      // The residual-creep term joins it as a root-sum-square (JCGM 100:2008, eq. 10).
+      expect(c.uncertaintyCents).toBeCloseTo(
+        Math.hypot(c.components.estimatorCents, c.components.repeatabilityCents, c.components.settlingCents),
+        12,
+      );
       expect(Math.abs(cents(c.hz, unitHz(st.nominalVolts)))).toBeLessThan(4 * c.uncertaintyCents);
     }
   });
@@ -669,6 +685,53 @@ describe('the acceptance window narrows after three steps', () => {
     const { s } = driveCollect(createRun(volts), sess);
     expect(s.phase).toBe('finished');
     expect(s.log.some((n) => n.kind === 'unexpected-pitch')).toBe(false);
+  });
+});
+
+describe('settling on the slope', () => {
+  // A thermal tail of 1.5 cents per step with τ = 1.5 s (FIELD-NOTES.md: the pitch creeps after a step as
+  // the junction settles); the user holds each voltage 12 s, long enough for the creep to die out.
+  const volts = [0, 1, 2];
+  const sess = session(holds(volts, 12, { creepCents: 1.5, tauSeconds: 1.5 }), { seed: 7, sigma: 0.005 });
+  it('waits until the creep cannot move the result, then captures within 0.02 cent, unflagged', () => {
+    const { s } = driveCollect(createRun(volts, { settleTimeoutSeconds: 8 }), sess);
+    expect(s.phase).toBe('finished');
+    for (const [i, v] of volts.entries()) {
+      const c = s.steps[i].capture as StepCapture;
+      const off = cents(c.hz, unitHz(v));
+      // Target of the issue: within 0.02 cent of the settled value, or flagged.
+      expect(Math.abs(off), `step ${i}: ${off} cent`).toBeLessThan(0.02);
+      expect(c.flags).toEqual([]);
+      expect(c.components.settlingCents).toBeGreaterThan(0);
+      expect(Math.abs(off)).toBeLessThan(2 * c.uncertaintyCents);
+    }
+  });
+  it('without waiting the same tail leaves the capture off by more, and says so', () => {
+    const { s } = driveCollect(createRun(volts, { settleTimeoutSeconds: 0, settleLimitCents: 0.0001 }), sess);
+    const c = s.steps[1].capture as StepCapture;
+    expect(Math.abs(cents(c.hz, unitHz(1)))).toBeGreaterThan(0.02);
+    expect(c.flags).toContain('still-settling');
+    expect(Math.abs(cents(c.hz, unitHz(1)))).toBeLessThan(2 * c.uncertaintyCents);
+  });
+  it('loads a saved run from before flags and components, with defaults', () => {
+    const { s } = driveCollect(createRun(volts), sess);
+    const old = JSON.parse(serializeRun(s));
+    delete old.options.settleLimitCents;
+    delete old.options.creepHorizonSeconds;
+    delete old.options.settleTimeoutSeconds;
+    for (const st of old.steps) {
+      delete st.capture.flags;
+      delete st.capture.components;
+    }
+    const back = deserializeRun(JSON.stringify(old));
+    expect(back.steps[0].capture?.flags).toEqual([]);
+    expect(back.steps[0].capture?.components).toEqual({
+      estimatorCents: back.steps[0].capture?.uncertaintyCents,
+      repeatabilityCents: 0,
+      settlingCents: 0,
+      dof: Infinity,
+    });
+    expect(back.options.settleTimeoutSeconds).toBe(4);
   });
 });
 

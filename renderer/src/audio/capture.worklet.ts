@@ -2,7 +2,9 @@
  * The capture worklet: runs on the audio rendering thread and only copies. Each render quantum's
  * samples of the selected channel go into a preallocated buffer; a full buffer is transferred to the
  * engine worker over a MessagePort and comes back through the same port for reuse. When no buffer is
- * free (the worker is behind) the block is dropped and counted. Nothing here allocates per quantum.
+ * free (the worker is behind) the block is dropped and counted; the next buffer sent carries the count
+ * (`dropped`, render quanta lost just before its first sample), so the engine knows where the stream
+ * breaks. Nothing here allocates per quantum.
  */
 
 // Minimal declarations of the AudioWorkletGlobalScope (Web Audio API, W3C Recommendation, §1.32).

@@ -81,6 +81,9 @@ interface DriftState {
   bins: DriftBinner;
 }
 
+/** The pause reason shown when the user paused the run. */
+const PAUSED_BY_USER = 'Paused by you. Resume to go on.';
+
 export class EngineCore {
   private readonly host: EngineHost;
   private tracker: PitchTracker | null = null;
@@ -103,6 +106,8 @@ export class EngineCore {
   private capturedAt: (number | null)[] = [];
   private lastCurrent = -1;
   private runDirty = false;
+  /** Why the run is paused, in words for the screen (null unless paused). */
+  private pausedReason: string | null = null;
   /** Always-on plateau detector for the live readout's settled indicator. */
   private readonly liveDetector: PlateauDetector = createPlateauDetector();
   // Modes.
@@ -185,6 +190,7 @@ export class EngineCore {
         return;
       case 'run-start':
         this.run = createRun({ id: msg.plan.id, label: msg.plan.label, volts: msg.plan.volts }, msg.options);
+        this.pausedReason = null;
         this.resetRunSide(msg.plan.volts.length);
         this.setMode('run');
         this.afterRunChange();
@@ -192,6 +198,8 @@ export class EngineCore {
         return;
       case 'run-restore':
         this.run = runReducer(msg.state, { type: 'rebase' });
+        this.pausedReason =
+          this.run.phase === 'paused' ? 'Restored from the autosave, paused. Resume to go on.' : null;
         this.resetRunSide(this.run.steps.length);
         this.afterRunChange();
         this.postRun();
@@ -199,6 +207,7 @@ export class EngineCore {
       case 'run-event':
         if (!this.run) return;
         this.run = runReducer(this.run, msg.event);
+        if (msg.event.type === 'pause' && this.run.phase === 'paused') this.pausedReason = PAUSED_BY_USER;
         this.afterRunChange();
         this.postRun();
         return;
@@ -263,10 +272,22 @@ export class EngineCore {
     let runRebased = false;
     if (this.run) {
       // A new stream clock (and perhaps a new rate): the run keeps its captures and waits, paused, for
-      // the user.
+      // the user. A run that has captured nothing yet (started before the input opened, say) has nothing
+      // to protect: it goes on listening on the new stream, unless the user paused it.
       const was = this.run.phase;
-      runRebased = isRunActive(this.run);
+      const captured = this.run.steps.some((st) => st.capture !== null);
+      const userPaused = was === 'paused' && this.pausedReason === PAUSED_BY_USER;
+      runRebased = was !== 'finished' && was !== 'aborted' && (captured || userPaused);
       this.run = runReducer(this.run, { type: 'rebase' });
+      if (!runRebased && this.run.phase === 'paused') {
+        this.run = runReducer(this.run, { type: 'resume' });
+        this.pausedReason = null;
+      } else if (runRebased && !userPaused) {
+        this.pausedReason =
+          previousRate > 0 && previousRate !== sampleRateHz
+            ? `The sample rate changed (${previousRate} Hz to ${sampleRateHz} Hz); the captured steps are kept. Resume to go on.`
+            : 'The input restarted; the captured steps are kept. Resume to go on.';
+      }
       if (was !== this.run.phase || this.run.lastSeconds === null) this.postRun();
       this.stepStartedAt = this.stepStartedAt.map(() => null);
     }
@@ -286,6 +307,8 @@ export class EngineCore {
     this.sim = null;
     this.sourceKind = 'none';
     if (isRunActive(this.run)) {
+      if (this.run.phase !== 'paused' || this.pausedReason !== PAUSED_BY_USER)
+        this.pausedReason = `The input stopped (${reason}); the captured steps are kept. Resume once it is back.`;
       this.run = runReducer(this.run, { type: 'rebase' });
       this.postRun();
     }
@@ -304,6 +327,7 @@ export class EngineCore {
     if (this.mode === 'run' && this.run) {
       if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
+        this.pausedReason = `Paused while the ${mode === 'drift' ? 'drift check' : 'two-point check'} runs. Resume to go on.`;
         this.postRun();
       }
     }
@@ -352,6 +376,9 @@ export class EngineCore {
   pushLive(block: Float32Array, dropped = 0): void {
     if (this.sourceKind !== 'live' || !this.tracker) return;
     this.dropped += dropped;
+    // The worklet dropped audio just before this block: a break in the stream, which the tracker's
+    // windows fit around (each side its own phase) and report (`breaks`, flag `spans-break`).
+    if (dropped > 0) this.tracker.markBreak();
     this.process(block);
   }
 
@@ -455,8 +482,11 @@ export class EngineCore {
 
   private snapshot(): RunSnapshot | null {
     if (!this.run) return null;
+    if (this.run.phase !== 'paused') this.pausedReason = null;
     return {
       state: this.run,
+      pausedReason: this.run.phase === 'paused' ? (this.pausedReason ?? PAUSED_BY_USER) : null,
+      waitingForInput: this.sourceKind === 'none',
       details: { ...this.details },
       calibration: this.calibrator.of(this.run, this.details),
       stepStartedAt: [...this.stepStartedAt],
@@ -543,6 +573,7 @@ export class EngineCore {
     if (this.run) {
       if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
+        this.pausedReason = `Paused while the file ${fileName} was analysed. Resume to go on.`;
         this.postRun();
       }
     }

@@ -77,6 +77,10 @@ export type ToEngine =
 /** The run as the page sees it. */
 export interface RunSnapshot {
   readonly state: RunState;
+  /** Why the run is paused, in words for the screen (null when it is not paused). */
+  readonly pausedReason?: string | null;
+  /** True while no input is open: the run waits for it. */
+  readonly waitingForInput?: boolean;
   /** Engine detail of each captured step, by step index. */
   readonly details: Readonly<Record<number, CaptureDetail>>;
   /** The run's calibration (`dsp/pipeline.ts`), made in the worker with the Setup last sent. */

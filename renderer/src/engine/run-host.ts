@@ -55,7 +55,13 @@ export function answerPendingCapture(
   if (m.kind === 'none' && m.reason === 'warming-up') return { state, measured: null };
   const result: HostMeasurement =
     m.kind === 'ok'
-      ? { kind: 'ok', hz: m.hz, uncertaintyCents: m.uncertaintyCents }
+      ? {
+          kind: 'ok',
+          hz: m.hz,
+          uncertaintyCents: m.uncertaintyCents,
+          ...(m.components ? { components: m.components } : {}),
+          ...(m.breaks ? { breaks: m.breaks } : {}),
+        }
       : { kind: 'unavailable' };
   const next = runReducer(state, {
     type: 'capture-result',

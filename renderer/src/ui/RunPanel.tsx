@@ -27,7 +27,16 @@ function Kbd(props: { k: string }) {
 }
 
 /** The prompt line for the run's phase. */
-export function promptFor(s: RunState, simulated: boolean): { title: string; detail: string } {
+function formatCreep(centsPerSecond: number | null): string {
+  if (centsPerSecond === null) return 'measuring its slope';
+  return `${Math.abs(centsPerSecond) < 0.001 ? '< 0.001' : Math.abs(centsPerSecond).toFixed(3)} cent/s`;
+}
+
+export function promptFor(
+  s: RunState,
+  simulated: boolean,
+  why: { pausedReason?: string | null; waitingForInput?: boolean } = {},
+): { title: string; detail: string } {
   const st = s.steps[s.current];
   const v = formatVolts(st?.nominalVolts ?? 0);
   const apply = simulated
@@ -35,11 +44,20 @@ export function promptFor(s: RunState, simulated: boolean): { title: string; det
     : `Set ${v} at the oscillator’s 1 V/oct input and check it with the meter.`;
   switch (s.phase) {
     case 'apply-voltage':
-      return { title: `Apply ${v}`, detail: apply };
+      return {
+        title: `Apply ${v}`,
+        detail: why.waitingForInput ? `Waiting for the input to open. ${apply}` : apply,
+      };
     case 'settling':
       return { title: `Settling at ${v}`, detail: 'Hold still: waiting for the pitch to settle.' };
     case 'capturing':
-      return { title: `Capturing ${v}`, detail: 'Measuring the settled pitch.' };
+      return {
+        title: `Capturing ${v}`,
+        detail:
+          s.capture?.firstCloseSeconds != null && s.capture.closedAtSeconds === null
+            ? `Waiting for the pitch to stop creeping (${formatCreep(s.capture.creepCentsPerSecond)}).`
+            : 'Measuring the settled pitch.',
+      };
     case 'measuring':
       return { title: `Measuring ${v}`, detail: 'Working out the precise average.' };
     case 'captured':
@@ -54,7 +72,7 @@ export function promptFor(s: RunState, simulated: boolean): { title: string; det
     case 'paused':
       return {
         title: 'Paused',
-        detail: `Step ${s.current + 1} of ${s.steps.length} (${v}) is next. Resume to go on.`,
+        detail: `${why.pausedReason ? `${why.pausedReason} ` : ''}Step ${s.current + 1} of ${s.steps.length} (${v}) is next.${why.pausedReason ? '' : ' Resume to go on.'}`,
       };
     case 'finished': {
       const c = s.steps.filter((x) => x.status === 'captured').length;
@@ -137,7 +155,7 @@ export function RunPanel(p: RunPanelProps) {
   const rows = p.analysis?.table?.rows ?? [];
   const rowByStep = new Map<number, (typeof rows)[number]>();
   p.analysis?.points.forEach((pt, i) => rows[i] && rowByStep.set(pt.stepIndex, rows[i]));
-  const prompt = s ? promptFor(s, p.simulated) : null;
+  const prompt = s ? promptFor(s, p.simulated, p.run ?? {}) : null;
   const redoTarget = s ? (s.lastCapturedStep ?? s.current) : 0;
   return (
     <div className="run-panel">
