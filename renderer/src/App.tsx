@@ -29,6 +29,8 @@ import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.
 import { RecordingPanel } from './ui/RecordingPanel.tsx';
 import { OpenWavControl, RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
 import { SetupPanel } from './ui/SetupPanel.tsx';
+import { useDrive } from './drive/use-drive.ts';
+import { DrivePanel, HandsOffPanel } from './ui/DrivePanel.tsx';
 import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
 
 type Tab = 'run' | 'pair' | 'drift' | 'book';
@@ -276,6 +278,18 @@ export function App() {
     setTab('run');
     resumeAudio();
   }, [planText, client, resumeAudio]);
+
+  const drive = useDrive({
+    client,
+    source,
+    startWithSim: params.drive === 'sim',
+    tab,
+    planText,
+    pairConfig,
+    setup,
+    driftVolts: view.drift?.volts ?? null,
+    startRun,
+  });
 
   const sendEvent = useCallback((e: UserRunEvent) => client.send({ type: 'run-event', event: e }), [client]);
 
@@ -527,6 +541,7 @@ export function App() {
               onSimVolts={(v) => client.send({ type: 'sim-volts', volts: v, glideSeconds: 0.05 })}
               runDrivesSim={active && tab === 'run'}
             />
+            <DrivePanel api={drive} />
           </div>
           <div className="right panel">
             {view.lastError && (
@@ -534,6 +549,7 @@ export function App() {
                 {view.lastError}
               </p>
             )}
+            <HandsOffPanel api={drive} tab={tab} />
             {tab === 'run' && recordingView && recordingAnalysis && (
               <RecordingPanel
                 fileName={recordingView.fileName}
