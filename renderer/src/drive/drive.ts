@@ -178,7 +178,8 @@ export class Drive {
    */
   setLevel(level: number): number {
     if (this.closed) return this.level;
-    const l = clampLevel(level, this.bounds());
+    // A DC level is a 32-bit sample: the level sent is the rounded one.
+    const l = this.dc ? Math.fround(clampLevel(level, this.bounds())) : clampLevel(level, this.bounds());
     const s = this.settings;
     if (this.dc) this.dc.setLevel(l, s.rampSeconds);
     else if (this.midi) {

@@ -116,6 +116,8 @@ export interface DriveApi {
   readonly midiPorts: readonly { id: string; name: string }[];
   readonly open: boolean;
   readonly outputVolts: number;
+  /** The level the drive holds: 0 at rest (0 V sent). */
+  readonly outputLevel: number;
   readonly calibration: DriveCalibration | null;
   readonly message: DriveMessage | null;
   readonly session: CalibrationSession | null;
@@ -174,6 +176,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
   const [message, setMessage] = useState<DriveMessage | null>(null);
   const [open, setOpen] = useState(false);
   const [outputVolts, setOutputVolts] = useState(0);
+  const [outputLevel, setOutputLevel] = useState(0);
   const [session, setSession] = useState<CalibrationSession | null>(null);
   const [applied, setApplied] = useState<Record<number, Applied>>({});
   const [handsOff, setHandsOff] = useState<HandsOffState>({
@@ -206,7 +209,10 @@ export function useDrive(deps: DriveDeps): DriveApi {
     setStored((s) => ({ ...s, settings: { ...s.settings, ...patch } }));
   }, []);
 
-  const showVolts = useCallback(() => setOutputVolts(driveRef.current?.volts ?? 0), []);
+  const showVolts = useCallback(() => {
+    setOutputVolts(driveRef.current?.volts ?? 0);
+    setOutputLevel(driveRef.current?.level ?? 0);
+  }, []);
 
   /** Any fault: the run paused and kept, the drive back to 0 V, hands-off stopped. */
   const fault = useCallback(
@@ -297,6 +303,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
     settings.dcDeviceId,
     settings.dcChannel,
     settings.midiChannel,
+    settings.zeroVoltsNote,
     midiPort,
     usable,
     simAvailable,
@@ -369,10 +376,12 @@ export function useDrive(deps: DriveDeps): DriveApi {
   }, [midiAccess, settings.midiPortId, settings.kind, fault]);
 
   // ---- Calibration ---------------------------------------------------------------------------
+  /** Sends a calibration level; returns the level actually sent (a note's level, a 32-bit sample). */
   const sendLevel = useCallback(
-    (level: number) => {
-      driveRef.current?.setLevel(level);
+    (level: number): number => {
+      const sent = driveRef.current?.setLevel(level) ?? level;
       showVolts();
+      return sent;
     },
     [showVolts],
   );
@@ -384,10 +393,9 @@ export function useDrive(deps: DriveDeps): DriveApi {
       return;
     }
     const targets = calibrationTargets(settings.maxVolts, settings.kind);
-    const level = nextCalibrationLevel(targets, [], d.nominalGain) ?? 0;
+    const level = sendLevel(nextCalibrationLevel(targets, [], d.nominalGain) ?? 0);
     setSession({ targetsVolts: targets, readings: [], level, holdDueAtMs: null });
     setMessage(null);
-    sendLevel(level);
   }, [settings.maxVolts, settings.kind, sendLevel]);
 
   const cancelCalibration = useCallback(() => {
@@ -455,8 +463,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       const readings = [...s.readings, { level: s.level, readingVolts: volts }];
       const next = nextCalibrationLevel(s.targetsVolts, readings, d.nominalGain);
       if (next !== null) {
-        setSession({ ...s, readings, level: next });
-        sendLevel(next);
+        setSession({ ...s, readings, level: sendLevel(next) });
         return;
       }
       if (settings.kind === 'dc') {
@@ -702,6 +709,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       midiPorts: midiPorts.map((p) => ({ id: p.id, name: p.name ?? p.id })),
       open,
       outputVolts,
+      outputLevel,
       calibration,
       message,
       session,
@@ -727,6 +735,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       midiPorts,
       open,
       outputVolts,
+      outputLevel,
       calibration,
       message,
       session,

@@ -152,6 +152,37 @@ function Calibration(props: { api: DriveApi }) {
   );
 }
 
+/** Sets one voltage by hand through the drive (the keypress way of running a plan). */
+function SetVolts(props: { api: DriveApi }) {
+  const [text, setText] = useState('');
+  const { api } = props;
+  if (!api.open || !api.calibration) return null;
+  return (
+    <form
+      className="row"
+      onSubmit={(e) => {
+        e.preventDefault();
+        const v = Number(text.trim().replace(',', '.'));
+        if (text.trim() !== '' && Number.isFinite(v)) api.setLevelVolts(v);
+      }}
+    >
+      <label className="field">
+        <span>Set the output to, V</span>
+        <input
+          value={text}
+          onChange={(e) => setText(e.target.value)}
+          inputMode="decimal"
+          disabled={api.handsOff.active}
+          data-testid="drive-set-volts"
+        />
+      </label>
+      <button type="submit" disabled={api.handsOff.active} data-testid="drive-set">
+        Set
+      </button>
+    </form>
+  );
+}
+
 const KINDS: { id: DriveKind; label: string }[] = [
   { id: 'off', label: 'Off (set voltages by hand)' },
   { id: 'dc', label: 'DC-coupled interface output' },
@@ -396,10 +427,17 @@ export function DrivePanel(props: { api: DriveApi }) {
             data-testid="drive-status"
             data-open={api.open ? 'yes' : 'no'}
             data-output-volts={String(api.outputVolts)}
+            data-output-level={String(api.outputLevel)}
+            data-at-rest={api.outputLevel === 0 ? 'yes' : 'no'}
           >
-            {api.open ? `Output ${fmtV(api.outputVolts, 3)}` : 'Output closed (0 V)'}
+            {!api.open
+              ? 'Output closed (0 V)'
+              : api.outputLevel === 0
+                ? `Output at rest: 0 V sent${api.calibration ? ` (the output’s own offset, ${(api.calibration.offsetVolts * 1000).toFixed(1)} mV, remains)` : ''}`
+                : `Output ${fmtV(api.outputVolts, 3)}`}
             {s.kind === 'sim' && ' · patched into the simulated oscillator’s 1 V/oct input'}
           </p>
+          <SetVolts api={api} />
           <Calibration api={api} />
         </>
       )}
