@@ -107,6 +107,22 @@ describe('drive calibration fit', () => {
       expect(r.message).toContain('do not fit a line');
     }
   });
+  it('blames a high-leverage outlier, not the point its pull moved off the line', () => {
+    // A converter read at notes for 0, 2, 5 and 7 V whose last reading is wrong (common practice, no source).
+    const r = fitDriveCalibration(
+      [0.003, 2.007, 5.013, 6.2].map((readingVolts, i) => ({ level: [0, 2, 5, 7][i], readingVolts })),
+      BENCH_METER_4_5_DIGIT,
+      { expectedGain: 1 },
+    );
+    expect(r.kind).toBe('not-linear');
+    if (r.kind === 'not-linear') {
+      expect(r.worstIndex).toBe(3);
+      expect(r.residualVolts).toBeCloseTo(6.2 - 7.017, 3);
+      expect(r.message).toBe(
+        'The readings do not fit a line: reading 4 (6.2 V) is -817.0 mV off the line, more than the 10.6 mV the meter allows. Check the reading and the patch, then calibrate again.',
+      );
+    }
+  });
   it('needs three readings and a span', () => {
     expect(fitDriveCalibration(readings.slice(0, 2), METER_0_1MV).kind).toBe('too-few-readings');
     expect(

@@ -77,6 +77,21 @@ export interface CalibrationFitOptions {
   readonly holdCheck?: HoldCheck;
 }
 
+/** Least-squares line through readings, or null without a span. */
+function olsLine(rs: readonly CalibrationReading[]): { gain: number; offset: number } | null {
+  const n = rs.length;
+  const mx = rs.reduce((a, r) => a + r.level, 0) / n;
+  const my = rs.reduce((a, r) => a + r.readingVolts, 0) / n;
+  let sxx = 0;
+  let sxy = 0;
+  for (const r of rs) {
+    sxx += (r.level - mx) ** 2;
+    sxy += (r.level - mx) * (r.readingVolts - my);
+  }
+  if (!(sxx > 0)) return null;
+  return { gain: sxy / sxx, offset: my - (sxy / sxx) * mx };
+}
+
 function fmtMv(v: number): string {
   return `${(v * 1000).toFixed(1)} mV`;
 }
@@ -145,16 +160,43 @@ export function fitDriveCalibration(
   const residuals = readings.map((r) => r.readingVolts - (gain * r.level + offset));
   let worst = 0;
   for (let i = 1; i < n; i++) if (Math.abs(residuals[i]) > Math.abs(residuals[worst])) worst = i;
-  const u = meterUncertainty(readings[worst].readingVolts, meter).standardVolts;
-  const limit = Math.max(LINEARITY_LIMIT_SIGMAS * u, 2 * meter.resolutionVolts);
-  if (Math.abs(residuals[worst]) > limit)
+  const limitOf = (i: number) =>
+    Math.max(
+      LINEARITY_LIMIT_SIGMAS * meterUncertainty(readings[i].readingVolts, meter).standardVolts,
+      2 * meter.resolutionVolts,
+    );
+  if (Math.abs(residuals[worst]) > limitOf(worst)) {
+    // Name the reading that spoils the line: the one whose removal leaves the others on a line, judged
+    // by its distance from the line through the others (a high-leverage outlier drags a least-squares
+    // line towards itself, so its own residual is not the largest). With three readings any two fit,
+    // and the least-squares residual decides.
+    let blame = worst;
+    let blameDev = residuals[worst];
+    if (n >= 4) {
+      let best = Infinity;
+      for (let i = 0; i < n; i++) {
+        const rest = readings.filter((_, j) => j !== i);
+        const line = olsLine(rest);
+        if (!line) continue;
+        const spread = Math.max(
+          ...rest.map((r) => Math.abs(r.readingVolts - (line.gain * r.level + line.offset))),
+        );
+        if (spread < best) {
+          best = spread;
+          blame = i;
+          blameDev = readings[i].readingVolts - (line.gain * readings[i].level + line.offset);
+        }
+      }
+    }
+    const limit = limitOf(blame);
     return {
       kind: 'not-linear',
-      worstIndex: worst,
-      residualVolts: residuals[worst],
+      worstIndex: blame,
+      residualVolts: blameDev,
       limitVolts: limit,
-      message: `The readings do not fit a line: reading ${worst + 1} (${readings[worst].readingVolts} V) is ${fmtMv(residuals[worst])} off it, more than the ${fmtMv(limit)} the meter allows. Check the reading and the patch, then calibrate again.`,
+      message: `The readings do not fit a line: reading ${blame + 1} (${readings[blame].readingVolts} V) is ${fmtMv(blameDev)} off the line, more than the ${fmtMv(limit)} the meter allows. Check the reading and the patch, then calibrate again.`,
     };
+  }
   const hc = options.holdCheck;
   if (hc) {
     const b =
