@@ -285,7 +285,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
         { t: 0.5, volts: 3 }, // above the maximum: clamped to 2.5 V
         { t: 0.7, volts: 0.5 },
       ];
-      for (const s of steps) dc.rampAt(d.levelForVolts(cal, s.volts), s.t, ramp);
+      const ramps = steps.map((s) => dc.rampAt(d.levelForVolts(cal, s.volts), s.t, ramp));
       dc.rampAt(0, 0.9, ramp); // back to rest
       const buf = await ctx.startRendering();
       const ch0 = buf.getChannelData(0);
@@ -316,18 +316,25 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
         high: bounds.high,
         other,
         rampSamples,
+        clampedTo: ramps[2].to,
+        rampSeconds: ramps.map((r: { seconds: number }) => r.seconds),
       };
     });
     console.log('e2e drive offline DC:', JSON.stringify(out));
     expect(out.before).toBe(0);
+    expect(out.plateaus[2]).toBe(out.clampedTo);
     for (let i = 0; i < 4; i++) {
-      expect(out.plateaus[i]).toBe(out.expected[i]);
+      if (i !== 2) expect(out.plateaus[i]).toBe(out.expected[i]);
+      else expect(Math.abs(out.plateaus[i] - out.expected[i])).toBeLessThanOrEqual(3e-8); // one ulp inside
       // As voltage: the calibrated gain and offset give the step's voltage back, to 32-bit precision.
       const volts = out.gain * out.plateaus[i] + out.offset;
       expect(Math.abs(volts - [1, 2, 2.5, 0.5][i])).toBeLessThan(2e-6);
+      expect(volts).toBeLessThanOrEqual(2.5);
     }
     expect(out.rest).toBe(0);
-    expect(out.max).toBeLessThanOrEqual(Math.fround(out.high));
+    // Never above the maximum, not even by the 32-bit rounding of a sample.
+    expect(out.max).toBeLessThanOrEqual(out.high);
+    expect(out.gain * out.max + out.offset).toBeLessThanOrEqual(2.5);
     expect(out.other).toBe(0);
     // 20 ms at 48 kHz is 960 samples; the ends may fall either side of a sample.
     expect(Math.abs(out.rampSamples - 960)).toBeLessThanOrEqual(2);

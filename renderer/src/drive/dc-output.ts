@@ -15,6 +15,16 @@ export interface LevelBounds {
   readonly high: number;
 }
 
+/** The nearest 32-bit float on the inner side of `x` (towards zero), so a rounded sample never passes a bound. */
+function float32Inside(x: number): number {
+  const f = Math.fround(x);
+  if (Math.abs(f) <= Math.abs(x)) return f;
+  const a = new Float32Array([f]);
+  const bits = new Uint32Array(a.buffer);
+  bits[0] -= 1; // one ulp smaller in magnitude, for either sign
+  return a[0];
+}
+
 /** Full-scale bounds: what the graph accepts before any calibration narrows them. */
 export const FULL_SCALE: LevelBounds = { low: -1, high: 1 };
 
@@ -66,9 +76,10 @@ export class DcOutput {
 
   /** Sets the bounds every later level is clamped into (from `levelBounds` in dsp/drive). */
   setBounds(bounds: LevelBounds): void {
+    // Samples are 32-bit floats: each bound is rounded inwards, so no sample passes the maximum.
     this.bounds = {
-      low: Math.max(FULL_SCALE.low, Math.min(0, bounds.low)),
-      high: Math.min(FULL_SCALE.high, Math.max(0, bounds.high)),
+      low: float32Inside(Math.max(FULL_SCALE.low, Math.min(0, bounds.low))),
+      high: float32Inside(Math.min(FULL_SCALE.high, Math.max(0, bounds.high))),
     };
   }
 
