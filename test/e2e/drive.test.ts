@@ -37,6 +37,9 @@ const TOLERANCE_CENTS = 0.05;
 
 const enabled = chromiumAvailable();
 
+/** Actions wait long on a loaded machine: nothing here is timed, only counted. */
+const ACTION_TIMEOUT_MS = 120_000;
+
 async function attr(page: Page, testId: string, name: string): Promise<string> {
   return (await page.getAttribute(`[data-testid="${testId}"]`, name)) ?? '';
 }
@@ -55,7 +58,7 @@ async function waitLive(page: Page): Promise<void> {
   await page.waitForFunction(
     () => Number(document.querySelector('[data-testid="live-hz"]')?.getAttribute('data-hz')) > 0,
     undefined,
-    { timeout: 30_000 },
+    { timeout: ACTION_TIMEOUT_MS },
   );
 }
 
@@ -65,7 +68,7 @@ async function simCalibrate(page: Page): Promise<void> {
     () =>
       document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') === 'yes',
     undefined,
-    { timeout: 30_000 },
+    { timeout: ACTION_TIMEOUT_MS },
   );
 }
 
@@ -134,6 +137,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
 
   it('runs 0–7 V hands-off on the simulated bench: 8 steps, no input after Start, each within 0.05 cent of the truth at its calibrated voltage', async () => {
     const page = await browser.newPage({ viewport: VIEWPORT });
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
     await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=${PLAN8.join(',')}`);
@@ -147,7 +151,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await page.waitForFunction(
       () => document.querySelector('[data-testid="run-prompt"]')?.getAttribute('data-phase') === 'finished',
       undefined,
-      { timeout: 20_000 },
+      { timeout: ACTION_TIMEOUT_MS },
     );
     await page.click('text=Applied voltages');
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-hands-off-1280x900.png') });
@@ -209,10 +213,11 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
     expect(errors).toEqual([]);
     await page.close();
-  }, 240_000);
+  }, 480_000);
 
   it('keeps a pass history through a trim loop of three passes', async () => {
     const page = await browser.newPage({ viewport: VIEWPORT });
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
     await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=0,1,2,3,4`);
@@ -225,7 +230,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       () => document.querySelectorAll('[data-testid="pass-row"]').length >= 3,
       undefined,
       {
-        timeout: 240_000,
+        timeout: 480_000,
       },
     );
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-trim-loop-1280x900.png') });
@@ -242,7 +247,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
     expect(errors).toEqual([]);
     await page.close();
-  }, 300_000);
+  }, 600_000);
 
   it('renders the DC output in an OfflineAudioContext: calibrated levels per step, ramps of the set length, never above the maximum', async () => {
     const bundle = await build({
@@ -259,6 +264,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       target: 'es2022',
     });
     const page = await browser.newPage();
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     // A blank page: the app's Content-Security-Policy (rightly) refuses an injected script.
     await page.goto('about:blank');
     await page.addScriptTag({ content: bundle.outputFiles[0].text });
@@ -339,12 +345,13 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     // 20 ms at 48 kHz is 960 samples; the ends may fall either side of a sample.
     expect(Math.abs(out.rampSamples - 960)).toBeLessThanOrEqual(2);
     await page.close();
-  }, 60_000);
+  }, 240_000);
 
   it('sends the exact MIDI bytes: note-on 0x90 + channel per step, note-off on change and on stop, nothing after', async () => {
     const ctx = await browser.newContext({ viewport: VIEWPORT });
     await ctx.addInitScript(midiStub(false));
     const page = await ctx.newPage();
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3`);
     await waitLive(page);
     await page.selectOption('[data-testid="drive-kind"]', 'midi');
@@ -368,7 +375,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await page.waitForFunction(
       () => document.querySelector('[data-testid="hands-off-state"]')?.getAttribute('data-active') === 'no',
       undefined,
-      { timeout: 20_000 },
+      { timeout: ACTION_TIMEOUT_MS },
     );
     await page.waitForTimeout(2000); // nothing may follow the stop
     const sent = await midiSent(page);
@@ -419,12 +426,13 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     // The converter's calibrated voltage for each note: 1.002·nominal + 3 mV.
     rows.forEach((v, i) => expect(v).toBeCloseTo(1.002 * i + 0.003, 6));
     await ctx.close();
-  }, 180_000);
+  }, 400_000);
 
   it('faults: MIDI access refused mid-run gives a clear message, keeps the run and leaves the drive at 0 V', async () => {
     const ctx = await browser.newContext({ viewport: VIEWPORT });
     await ctx.addInitScript(midiStub(true));
     const page = await ctx.newPage();
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4`);
     await waitLive(page);
     await page.click('[data-testid="start-run"]');
@@ -440,12 +448,13 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
     expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
     await ctx.close();
-  }, 120_000);
+  }, 400_000);
 
   it('faults: readings that do not fit a line are refused, the run is kept and the converter goes back to its 0 V note', async () => {
     const ctx = await browser.newContext({ viewport: VIEWPORT });
     await ctx.addInitScript(midiStub(false));
     const page = await ctx.newPage();
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4`);
     await waitLive(page);
     await page.click('[data-testid="start-run"]');
@@ -474,12 +483,13 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       [0x80, 36, 0],
     ]);
     await ctx.close();
-  }, 120_000);
+  }, 400_000);
 
   it('faults: the DC output device disappearing mid-run pauses the run, keeps its steps and stops the drive', async () => {
     const ctx = await browser.newContext({ viewport: VIEWPORT });
     await ctx.addInitScript(OUTPUT_STUB);
     const page = await ctx.newPage();
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4,5`);
     await waitLive(page);
     await page.selectOption('[data-testid="drive-kind"]', 'dc');
@@ -530,10 +540,11 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-fault-device-gone-1280x900.png') });
     await ctx.close();
-  }, 180_000);
+  }, 400_000);
 
   it('bench: the same 8-step run driven by keypresses (typing each voltage), for the timing beside hands-off', async () => {
     const page = await browser.newPage({ viewport: VIEWPORT });
+    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=${PLAN8.join(',')}`);
     await waitLive(page);
     await simCalibrate(page);
@@ -551,5 +562,5 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     console.log(`e2e drive: keypress-driven 0–7 V, Start to 8-step table: ${(ms / 1000).toFixed(1)} s`);
     expect(await rowCount(page)).toBe(PLAN8.length);
     await page.close();
-  }, 240_000);
+  }, 480_000);
 });
