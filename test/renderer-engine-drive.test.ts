@@ -104,6 +104,11 @@ describe('EngineCore with the drive patched in', () => {
     }
     const run = lastRun();
     expect(run?.state.phase).toBe('finished');
+    const started = run!.stepStartedAt[0] ?? 0;
+    const done = Math.max(...run!.capturedAt.map((x) => x ?? 0));
+    console.log(
+      `drive hands-off in Node: Start to 8-step table in ${(done - started).toFixed(2)} s of audio`,
+    );
     for (const st of run!.state.steps) {
       const truth = trueHz(truthVolts[st.index], options);
       const off = cents(st.capture!.hz, truth);
