@@ -334,6 +334,11 @@ describe('applySecurity wiring', () => {
         await request(f.session, APP_PAGE_URL, 'media', { isMainFrame: true, mediaTypes: ['video'] }),
       ).toBe(false);
       expect(asked).toBe(1); // never asked for a request that was denied anyway
+      // The drive's permissions (issue 12) are granted without the microphone prompt; sysex never.
+      expect(await request(f.session, APP_PAGE_URL, 'midi', { isMainFrame: true })).toBe(true);
+      expect(await request(f.session, APP_PAGE_URL, 'speaker-selection', { isMainFrame: true })).toBe(true);
+      expect(await request(f.session, APP_PAGE_URL, 'midiSysex', { isMainFrame: true })).toBe(false);
+      expect(asked).toBe(1);
     }
   });
 
