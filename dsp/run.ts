@@ -126,6 +126,13 @@ export interface RunStep {
   nominalVolts: Volts;
   /** The user's meter reading at the oscillator input, V (null until entered). */
   measuredVolts: Volts | null;
+  /**
+   * The voltage a calibrated drive applied for this step, V (dsp/drive: `appliedVoltsAt`), or absent/null
+   * when the voltage was set by hand. Used when no meter reading was typed.
+   */
+  appliedVolts?: Volts | null;
+  /** Standard uncertainty of `appliedVolts`, V, from the meter's specification and the drive's fit. */
+  appliedVoltsUncertainty?: Volts | null;
   status: 'pending' | 'captured' | 'skipped';
   capture: StepCapture | null;
   /** Earlier captures of this step that a newer one replaced (after `back` or a repeat), oldest first. */
@@ -306,6 +313,7 @@ export type RunEvent =
   | { type: 'resume' }
   | { type: 'abort' }
   | { type: 'set-measured-volts'; stepIndex: number; volts: Volts | null }
+  | { type: 'set-applied-volts'; stepIndex: number; volts: Volts | null; uncertaintyVolts: Volts | null }
   | { type: 'capture-now' }
   | { type: 'accept-pitch' }
   /**
@@ -395,7 +403,7 @@ function centsBetween(hz: number, refHz: number): number {
 
 function stepVolts(s: RunState, i: number): number {
   const st = s.steps[i];
-  return st.measuredVolts ?? st.nominalVolts;
+  return st.measuredVolts ?? st.appliedVolts ?? st.nominalVolts;
 }
 
 /** The fitted slope and the steps it came from. */
@@ -1242,6 +1250,23 @@ function reduce(s: RunState, e: RunEvent): RunState {
       s.steps[e.stepIndex].measuredVolts = v === null ? null : v + 0; // + 0 turns −0 into 0, as JSON would
       return s;
     }
+    case 'set-applied-volts': {
+      if (s.phase === 'aborted') return ignore(s, type, 'run-over');
+      if (!isStepIndex(s, e.stepIndex)) return ignore(s, type, 'bad-step-index');
+      const v = e.volts;
+      const u = e.uncertaintyVolts;
+      const bad = (x: unknown) =>
+        x !== null &&
+        (typeof x !== 'number' ||
+          !Number.isFinite(x) ||
+          x < PLAN_LIMITS.minVolts ||
+          x > PLAN_LIMITS.maxVolts);
+      if (bad(v) || (u !== null && (typeof u !== 'number' || !Number.isFinite(u) || u < 0)))
+        return ignore(s, type, 'bad-volts');
+      s.steps[e.stepIndex].appliedVolts = v === null ? null : v + 0;
+      s.steps[e.stepIndex].appliedVoltsUncertainty = v === null || u === null ? null : u + 0;
+      return s;
+    }
     case 'capture-now': {
       if (over) return ignore(s, type, 'run-over');
       if (s.phase === 'paused') return ignore(s, type, 'paused');
@@ -1429,6 +1454,8 @@ const stateSchema = z.object({
       index: num.int(),
       nominalVolts: num,
       measuredVolts: nnum,
+      appliedVolts: nnum.optional(),
+      appliedVoltsUncertainty: nnum.optional(),
       status: z.enum(['pending', 'captured', 'skipped']),
       capture: captureSchema.nullable(),
       earlier: z.array(captureSchema),

@@ -127,6 +127,36 @@ function onlyAudio(mediaTypes: readonly string[] | undefined): boolean {
   return Array.isArray(mediaTypes) && mediaTypes.length > 0 && mediaTypes.every((t) => t === 'audio');
 }
 
+/**
+ * Permissions the drive needs (renderer/src/drive): `midi` for Web MIDI to a MIDI-to-CV converter (never
+ * `midiSysex`: the drive sends notes and pitch bend only) and `speaker-selection` for choosing the DC
+ * output's device (`AudioContext.setSinkId`). Checklist item 5 again: granted to the app's own page only.
+ */
+export const DRIVE_PERMISSIONS: readonly string[] = Object.freeze(['midi', 'speaker-selection']);
+
+/**
+ * True for a permission the drive needs ({@link DRIVE_PERMISSIONS}); `midiSysex` is not one.
+ *
+ * @example isDrivePermission('midi') // → true
+ * @example isDrivePermission('midiSysex') // → false
+ */
+export function isDrivePermission(permission: string): boolean {
+  return DRIVE_PERMISSIONS.includes(permission);
+}
+
+/** The drive's permissions: the main frame of the app's own page, as for audio capture. */
+function driveAllowed(
+  url: string,
+  details: { isMainFrame?: boolean; requestingUrl?: string; securityOrigin?: string },
+  policy: OriginPolicy,
+): boolean {
+  if (details.isMainFrame === false) return false;
+  if (!isAllowedOrigin(url, policy)) return false;
+  if (details.requestingUrl !== undefined && !isAllowedOrigin(details.requestingUrl, policy)) return false;
+  if (details.securityOrigin !== undefined && !isAllowedOrigin(details.securityOrigin, policy)) return false;
+  return true;
+}
+
 /** What a permission request's details may hold (Electron passes one of several shapes). */
 export type PermissionRequestDetails = Partial<PermissionRequest> & {
   mediaTypes?: readonly string[];
@@ -135,8 +165,9 @@ export type PermissionRequestDetails = Partial<PermissionRequest> & {
 
 /**
  * Checklist item 5, "Handle session permission requests from remote content": grant `media`
- * with `mediaTypes` exactly `['audio']` (one or more `'audio'`), asked by the main frame of the
- * app's own page; deny video, screen capture and every other permission.
+ * with `mediaTypes` exactly `['audio']` (one or more `'audio'`), and the drive's `midi` and
+ * `speaker-selection`, asked by the main frame of the app's own page; deny video, screen capture,
+ * system-exclusive MIDI and every other permission.
  *
  * @param permission - Electron's permission name, e.g. `'media'`, `'geolocation'`.
  * @param requestingUrl - URL of the page asking (`webContents.getURL()`).
@@ -150,6 +181,7 @@ export function permissionDecision(
   details: PermissionRequestDetails,
   policy: OriginPolicy = {},
 ): boolean {
+  if (isDrivePermission(permission)) return driveAllowed(requestingUrl, details, policy);
   if (permission !== 'media') return false;
   if (!onlyAudio(details.mediaTypes)) return false;
   if (details.isMainFrame === false) return false;
@@ -161,7 +193,8 @@ export function permissionDecision(
 
 /**
  * The same rule for Chromium's synchronous permission checks (`setPermissionCheckHandler`): true
- * only for `media` with `mediaType` `'audio'` from the app's own origin.
+ * only for `media` with `mediaType` `'audio'`, and for `midi` and `speaker-selection`, from the app's
+ * own origin.
  *
  * @param permission - Electron's permission name.
  * @param requestingOrigin - origin of the frame checking, e.g. `'app://spanmeter'`.
@@ -175,6 +208,7 @@ export function permissionCheck(
   details: Partial<PermissionCheckHandlerHandlerDetails>,
   policy: OriginPolicy = {},
 ): boolean {
+  if (isDrivePermission(permission)) return driveAllowed(requestingOrigin, details, policy);
   if (permission !== 'media' || details.mediaType !== 'audio') return false;
   if (details.isMainFrame === false) return false;
   if (!isAllowedOrigin(requestingOrigin, policy)) return false;
@@ -271,7 +305,7 @@ export function applySessionSecurity(session: SessionLike, deps: SecurityDeps): 
       callback(false);
       return;
     }
-    if (!deps.confirmMicrophoneAccess) {
+    if (!deps.confirmMicrophoneAccess || permission !== 'media') {
       callback(true);
       return;
     }

@@ -195,7 +195,13 @@ describe('permissionDecision (checklist item 5)', () => {
     ['geolocation', 'geolocation', own, main, false],
     ['notifications', 'notifications', own, main, false],
     ['screen capture', 'display-capture', own, { ...main, mediaTypes: ['audio'] }, false],
-    ['MIDI', 'midi', own, main, false],
+    // The drive (issue 12): MIDI without sysex and output-device selection, for the app's own page only.
+    ['MIDI', 'midi', own, main, true],
+    ['MIDI with system-exclusive messages', 'midiSysex', own, main, false],
+    ['MIDI from another page', 'midi', 'https://example.com/', main, false],
+    ['MIDI from a sub-frame', 'midi', own, { isMainFrame: false, requestingUrl: own }, false],
+    ['output device selection', 'speaker-selection', own, main, true],
+    ['output device selection from another page', 'speaker-selection', 'https://example.com/', main, false],
     ['clipboard read', 'clipboard-read', own, main, false],
     ['openExternal', 'openExternal', own, main, false],
     ['fullscreen', 'fullscreen', own, main, false],
@@ -215,6 +221,11 @@ describe('permissionCheck (checklist item 5)', () => {
     ['geolocation', APP_ORIGIN, { isMainFrame: true }, false],
     ['notifications', APP_ORIGIN, { isMainFrame: true }, false],
     ['serial', APP_ORIGIN, { isMainFrame: true }, false],
+    ['midi', APP_ORIGIN, { isMainFrame: true }, true],
+    ['midiSysex', APP_ORIGIN, { isMainFrame: true }, false],
+    ['midi', 'https://example.com', { isMainFrame: true }, false],
+    ['speaker-selection', APP_ORIGIN, { isMainFrame: true }, true],
+    ['speaker-selection', APP_ORIGIN, { isMainFrame: false }, false],
   ])('%s from %s %j → %s', (permission, origin, details, expected) => {
     expect(permissionCheck(permission, origin, details)).toBe(expected);
   });
@@ -323,6 +334,11 @@ describe('applySecurity wiring', () => {
         await request(f.session, APP_PAGE_URL, 'media', { isMainFrame: true, mediaTypes: ['video'] }),
       ).toBe(false);
       expect(asked).toBe(1); // never asked for a request that was denied anyway
+      // The drive's permissions (issue 12) are granted without the microphone prompt; sysex never.
+      expect(await request(f.session, APP_PAGE_URL, 'midi', { isMainFrame: true })).toBe(true);
+      expect(await request(f.session, APP_PAGE_URL, 'speaker-selection', { isMainFrame: true })).toBe(true);
+      expect(await request(f.session, APP_PAGE_URL, 'midiSysex', { isMainFrame: true })).toBe(false);
+      expect(asked).toBe(1);
     }
   });
 

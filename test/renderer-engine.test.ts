@@ -364,10 +364,15 @@ describe('page side', () => {
       planText: '0,1,2,3',
       unitId: 'ol3-0417',
       simRateHz: 96_000,
+      drive: null,
       problems: [],
     });
     const bad = parseStartupParams('?plan=0,0&unit=nope&rate=12');
     expect(bad.input).toBe('device');
     expect(bad.problems).toHaveLength(3);
+    expect(parseStartupParams('?input=sim&drive=sim').drive).toBe('sim');
+    expect(parseStartupParams('?drive=sim').problems).toEqual([
+      'drive=sim needs input=sim: the simulated drive is patched into the simulated oscillator',
+    ]);
   });
 });

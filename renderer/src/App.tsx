@@ -32,6 +32,8 @@ import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.
 import { RecordingPanel } from './ui/RecordingPanel.tsx';
 import { OpenWavControl, RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
 import { SetupPanel } from './ui/SetupPanel.tsx';
+import { useDrive } from './drive/use-drive.ts';
+import { DrivePanel, HandsOffPanel } from './ui/DrivePanel.tsx';
 import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
 
 type Tab = 'run' | 'pair' | 'drift' | 'book';
@@ -282,6 +284,17 @@ export function App() {
     resumeAudio();
   }, [planText, client, resumeAudio]);
 
+  const drive = useDrive({
+    client,
+    source,
+    startWithSim: params.drive === 'sim',
+    tab,
+    planText,
+    pairConfig,
+    driftVolts: view.drift?.volts ?? null,
+    startRun,
+  });
+
   const sendEvent = useCallback((e: UserRunEvent) => client.send({ type: 'run-event', event: e }), [client]);
 
   const runRef = useRef<RunState | null>(null);
@@ -526,6 +539,7 @@ export function App() {
               onSimVolts={(v) => client.send({ type: 'sim-volts', volts: v, glideSeconds: 0.05 })}
               runDrivesSim={active && tab === 'run'}
             />
+            <DrivePanel api={drive} />
           </div>
           <div className="right panel">
             {autosaveStatus.kind === 'failed' && (
@@ -538,6 +552,7 @@ export function App() {
                 {view.lastError}
               </p>
             )}
+            <HandsOffPanel api={drive} tab={tab} />
             {tab === 'run' && recordingView && recordingAnalysis && (
               <RecordingPanel
                 fileName={recordingView.fileName}

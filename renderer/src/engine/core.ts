@@ -98,6 +98,8 @@ export class EngineCore {
   private simOwed = 0;
   private glide: Glide = { from: 0, to: 0, t0: 0, seconds: 0 };
   private manualVolts = 0;
+  /** True while the drive is patched into the simulator's control input (`sim-patch`). */
+  private patched = false;
   // Run.
   private run: RunState | null = null;
   private details: Record<number, CaptureDetail> = {};
@@ -165,7 +167,7 @@ export class EngineCore {
           // A run in progress keeps the simulator on its current step's voltage across a restart of the
           // source (a new sample rate, say); otherwise the page's control voltage applies.
           const r = this.run;
-          const active = this.mode === 'run' && isRunActive(r);
+          const active = this.mode === 'run' && !this.patched && isRunActive(r);
           const v = active ? r.steps[r.current].nominalVolts : msg.volts;
           this.glide = { from: v, to: v, t0: 0, seconds: 0 };
         }
@@ -181,6 +183,9 @@ export class EngineCore {
         this.sim = createOscillatorStream(this.simOptions);
         return;
       }
+      case 'sim-patch':
+        this.patched = msg.patched;
+        return;
       case 'sim-volts':
         this.manualVolts = msg.volts;
         this.glideTo(msg.volts, msg.glideSeconds);
@@ -228,7 +233,7 @@ export class EngineCore {
           switchedAt: this.streamSeconds,
           onHigh: false,
         };
-        if (this.mode === 'two-point') this.glideTo(msg.config.voltsLow, SIM_GLIDE_SECONDS);
+        if (this.mode === 'two-point') this.autoGlide(msg.config.voltsLow);
         return;
       case 'two-point-reset':
         if (this.twoPoint) {
@@ -243,7 +248,7 @@ export class EngineCore {
           bins: new DriftBinner(),
         };
         this.setMode('drift');
-        this.glideTo(msg.volts, SIM_GLIDE_SECONDS);
+        this.autoGlide(msg.volts);
         this.postDrift();
         return;
       case 'drift-stop':
@@ -335,9 +340,9 @@ export class EngineCore {
     if (mode === 'two-point' && this.twoPoint) {
       this.twoPoint.switchedAt = this.streamSeconds;
       this.twoPoint.onHigh = false;
-      this.glideTo(this.twoPoint.config.voltsLow, SIM_GLIDE_SECONDS);
+      this.autoGlide(this.twoPoint.config.voltsLow);
     }
-    if (mode === 'drift' && this.drift) this.glideTo(this.drift.volts, SIM_GLIDE_SECONDS);
+    if (mode === 'drift' && this.drift) this.autoGlide(this.drift.volts);
     if (mode === 'run') this.afterRunChange();
   }
 
@@ -348,8 +353,13 @@ export class EngineCore {
     if (s.current !== this.lastCurrent && isRunActive(s)) {
       this.lastCurrent = s.current;
       this.stepStartedAt[s.current] = this.streamSeconds;
-      if (this.sim && this.mode === 'run') this.glideTo(s.steps[s.current].nominalVolts, SIM_GLIDE_SECONDS);
+      if (this.sim && this.mode === 'run') this.autoGlide(s.steps[s.current].nominalVolts);
     }
+  }
+
+  /** The simulator following the app by itself (run steps, two-point, drift), unless the drive is patched. */
+  private autoGlide(volts: number): void {
+    if (!this.patched) this.glideTo(volts, SIM_GLIDE_SECONDS);
   }
 
   private glideTo(volts: number, seconds: number): void {
@@ -399,7 +409,7 @@ export class EngineCore {
     const sim = this.sim;
     if (!sim) return;
     const fs = this.sampleRateHz;
-    if (this.mode === 'two-point' && this.twoPoint) {
+    if (this.mode === 'two-point' && this.twoPoint && !this.patched) {
       const tp = this.twoPoint;
       const now = this.simSamples / fs;
       if (now - tp.switchedAt >= tp.config.alternateSeconds) {
@@ -521,7 +531,10 @@ export class EngineCore {
     if (!d.bins.started) {
       // Start once the pitch has settled at the held voltage (after the simulator's glide, or once the
       // user has set the voltage), so the hold does not begin with the step into it.
-      const gliding = this.sim !== null && this.cvAt(r.timeSeconds) !== d.volts;
+      const g = this.glide;
+      const gliding =
+        this.sim !== null &&
+        (this.patched ? r.timeSeconds < g.t0 + g.seconds : this.cvAt(r.timeSeconds) !== d.volts);
       if (gliding || this.liveDetector.current() === null) return;
       d.bins.start(r.timeSeconds, r.hz);
     }

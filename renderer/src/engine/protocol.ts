@@ -53,6 +53,11 @@ export type ToEngine =
   | { readonly type: 'source-stop'; readonly reason: string }
   | { readonly type: 'sim-options'; readonly options: OscillatorOptions }
   | { readonly type: 'sim-volts'; readonly volts: number; readonly glideSeconds: number }
+  /**
+   * The drive is patched into the simulator's control input (renderer/src/drive): the simulator then
+   * follows only `sim-volts`, not the run's steps, the two-point alternation or the drift hold.
+   */
+  | { readonly type: 'sim-patch'; readonly patched: boolean }
   | { readonly type: 'mode'; readonly mode: EngineMode }
   | { readonly type: 'run-start'; readonly plan: PlanSpec; readonly options?: RunOptionsInput }
   | { readonly type: 'run-restore'; readonly state: RunState }

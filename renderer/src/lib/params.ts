@@ -15,6 +15,8 @@ export interface StartupParams {
   readonly unitId: string | null;
   /** Sample rate of the simulated oscillator, Hz, or null. */
   readonly simRateHz: number | null;
+  /** `drive=sim`: the simulated bench output patched into the simulated oscillator (renderer/src/drive). */
+  readonly drive: 'sim' | null;
   /** Problems found in the query, one line each, to show the user. */
   readonly problems: readonly string[];
 }
@@ -51,5 +53,11 @@ export function parseStartupParams(search: string): StartupParams {
     if (SIM_RATES.includes(r)) simRateHz = r;
     else problems.push(`rate in the address: ${rate} is not one of ${SIM_RATES.join(', ')} Hz`);
   }
-  return { input, planText, unitId, simRateHz, problems };
+  const driveParam = q.get('drive');
+  const drive = driveParam === 'sim' ? 'sim' : null;
+  if (driveParam !== null && drive === null)
+    problems.push(`drive in the address: "${driveParam}" is not sim`);
+  else if (drive === 'sim' && input !== 'sim')
+    problems.push('drive=sim needs input=sim: the simulated drive is patched into the simulated oscillator');
+  return { input, planText, unitId, simRateHz, drive, problems };
 }

@@ -315,6 +315,7 @@ export function RunPanel(p: RunPanelProps) {
                       data-testid="step-row"
                       data-step={st.index}
                       data-volts={String(st.nominalVolts)}
+                      data-applied-volts={st.appliedVolts == null ? '' : String(st.appliedVolts)}
                       data-hz={String(row.hz)}
                       data-uncertainty-cents={String(st.capture.uncertaintyCents)}
                       data-source={st.capture.source}

@@ -1,0 +1,610 @@
+/**
+ * The drive: which output sets the reference voltages (a DC-coupled interface output, a MIDI-to-CV
+ * converter, or the simulated bench's output), its safety settings, the caution before first use, and
+ * the guided calibration with the multimeter at the oscillator's input jack. `HandsOffPanel` holds
+ * the hands-off controls of the Span run (one sweep or a trim loop, with its pass history), the Scale
+ * pair and the Hold.
+ */
+import { useState } from 'react';
+import { MAX_DRIVE_VOLTS_CEILING, meterUncertainty, MIDDLE_C_NOTE } from '../../../dsp/drive/index.ts';
+import { midiToName } from '../../../dsp/notes.ts';
+import type { DriveApi } from '../drive/use-drive.ts';
+import type { DriveKind } from '../drive/drive.ts';
+
+function fmtV(v: number, digits = 4): string {
+  return Number.isFinite(v) ? `${(v + 0).toFixed(digits)} V` : '—';
+}
+
+function fmtC(c: number | null, digits = 2): string {
+  return c === null || !Number.isFinite(c) ? '—' : `${c >= 0 ? '+' : ''}${c.toFixed(digits)}`;
+}
+
+/** The caution shown before a real output is first used. */
+export function DriveCaution(props: { onAccept(): void }) {
+  const [checked, setChecked] = useState(false);
+  return (
+    <div
+      className="banner drive-caution"
+      data-testid="drive-caution"
+      role="alertdialog"
+      aria-label="Before the drive is used"
+    >
+      <strong>Before Spanmeter drives your oscillator</strong>
+      <ul>
+        <li>
+          Use a <b>DC-coupled</b> output (or a MIDI-to-CV converter). Most interface outputs are AC-coupled
+          and cannot hold a voltage; check your interface’s manual.
+        </li>
+        <li>
+          Patch the output <b>only to the oscillator’s 1 V/oct input</b>. Never connect it to a power rail
+          (Eurorack ±12 V, +5 V) or to another output.
+        </li>
+        <li>
+          Set the maximum voltage below what your oscillator’s input accepts. The drive starts at 0 V, ramps
+          between levels and returns to 0 V when it stops.
+        </li>
+        <li>
+          Follow the manuals of your interface, converter and module; when in doubt, ask someone qualified.
+        </li>
+      </ul>
+      <label className="check">
+        <input
+          type="checkbox"
+          checked={checked}
+          onChange={(e) => setChecked(e.target.checked)}
+          data-testid="drive-caution-check"
+        />
+        The output is DC-coupled and patched only to the 1 V/oct input.
+      </label>
+      <button disabled={!checked} onClick={props.onAccept} data-testid="drive-caution-accept">
+        Enable the drive
+      </button>
+    </div>
+  );
+}
+
+function Calibration(props: { api: DriveApi }) {
+  const { api } = props;
+  const [text, setText] = useState('');
+  const s = api.session;
+  const cal = api.calibration;
+  const sim = api.settings.kind === 'sim';
+  const meter = sim ? null : api.settings.meter;
+  if (!s)
+    return (
+      <div className="drive-cal">
+        <div className="row">
+          <span data-testid="drive-calibration" data-calibrated={cal ? 'yes' : 'no'}>
+            {cal
+              ? `Calibrated: ${cal.gainVoltsPerLevel.toFixed(4)} ${api.settings.kind === 'midi' ? 'V per nominal volt' : 'V at full scale'}, offset ${(cal.offsetVolts * 1000).toFixed(1)} mV (${cal.readings.length} readings)`
+              : 'Not calibrated: the applied voltage is not known yet.'}
+          </span>
+        </div>
+        <div className="row">
+          <button
+            onClick={api.startCalibration}
+            disabled={!api.open || api.handsOff.active}
+            data-testid="drive-calibrate"
+          >
+            {cal ? 'Calibrate again' : 'Calibrate with my meter'}
+          </button>
+          {sim && (
+            <button
+              onClick={() => void api.simMeterAnswer()}
+              disabled={!api.open || api.handsOff.active}
+              data-testid="drive-sim-calibrate"
+            >
+              Calibrate with the simulated meter
+            </button>
+          )}
+        </div>
+        {meter && (
+          <p className="hint">
+            Meter: ±({meter.percentOfReading} % + {meter.counts} counts), {meter.resolutionVolts * 1000} mV
+            per count: ±{(meterUncertainty(5, meter).boundVolts * 1000).toFixed(1)} mV at 5 V.
+          </p>
+        )}
+        {sim && <p className="hint">Simulated meter: ±(0.05 % + 3 counts), 0.1 mV per count.</p>}
+      </div>
+    );
+  const k = s.readings.length;
+  const hold = s.level === null;
+  const holdWait =
+    hold && s.holdDueAtMs !== null ? Math.max(0, Math.ceil((s.holdDueAtMs - Date.now()) / 1000)) : 0;
+  return (
+    <div className="drive-cal" data-testid="drive-cal-session" data-reading-index={k}>
+      <p>
+        {hold
+          ? `Hold check: leave the top level on and read the meter again${holdWait > 0 ? ` in about ${holdWait} s` : ' now'}. A level that falls means an AC-coupled output.`
+          : `Level ${k + 1} of ${s.targetsVolts.length} is out (about ${fmtV(s.targetsVolts[k], 3)}). Read the meter at the oscillator’s 1 V/oct input jack, with the cable connected, and type the reading.`}
+      </p>
+      <form
+        className="row"
+        onSubmit={(e) => {
+          e.preventDefault();
+          const v = Number(text.trim().replace(',', '.'));
+          if (text.trim() === '' || !Number.isFinite(v)) return;
+          api.enterReading(v);
+          setText('');
+        }}
+      >
+        <label className="field">
+          <span>Meter reading, V</span>
+          <input
+            value={text}
+            onChange={(e) => setText(e.target.value)}
+            inputMode="decimal"
+            data-testid="drive-cal-reading"
+            autoFocus
+          />
+        </label>
+        <button type="submit" data-testid="drive-cal-next">
+          Enter
+        </button>
+        <button type="button" onClick={api.cancelCalibration}>
+          Cancel
+        </button>
+      </form>
+      {k > 0 && (
+        <p className="hint">Read so far: {s.readings.map((r) => `${r.readingVolts} V`).join(', ')}</p>
+      )}
+    </div>
+  );
+}
+
+/** Sets one voltage by hand through the drive (the keypress way of running a plan). */
+function SetVolts(props: { api: DriveApi }) {
+  const [text, setText] = useState('');
+  const { api } = props;
+  if (!api.open || !api.calibration) return null;
+  return (
+    <form
+      className="row"
+      onSubmit={(e) => {
+        e.preventDefault();
+        const v = Number(text.trim().replace(',', '.'));
+        if (text.trim() !== '' && Number.isFinite(v)) api.setLevelVolts(v);
+      }}
+    >
+      <label className="field">
+        <span>Set the output to, V</span>
+        <input
+          value={text}
+          onChange={(e) => setText(e.target.value)}
+          inputMode="decimal"
+          disabled={api.handsOff.active}
+          data-testid="drive-set-volts"
+        />
+      </label>
+      <button type="submit" disabled={api.handsOff.active} data-testid="drive-set">
+        Set
+      </button>
+    </form>
+  );
+}
+
+const KINDS: { id: DriveKind; label: string }[] = [
+  { id: 'off', label: 'Off (set voltages by hand)' },
+  { id: 'dc', label: 'DC-coupled interface output' },
+  { id: 'midi', label: 'MIDI to a MIDI-to-CV converter' },
+  { id: 'sim', label: 'Simulated bench output' },
+];
+
+/** The drive's panel (left column). */
+export function DrivePanel(props: { api: DriveApi }) {
+  const { api } = props;
+  const s = api.settings;
+  const needsCaution = (s.kind === 'dc' || s.kind === 'midi') && !api.cautionAccepted;
+  return (
+    <section className="panel drive-panel" aria-label="Drive" data-testid="drive-panel">
+      <h2>Drive</h2>
+      <div className="row">
+        <label className="field grow">
+          <span>Sets the voltages</span>
+          <select
+            value={s.kind}
+            onChange={(e) => api.setSettings({ kind: e.target.value as DriveKind })}
+            disabled={api.handsOff.active}
+            data-testid="drive-kind"
+          >
+            {KINDS.filter((k) => k.id !== 'sim' || api.simAvailable).map((k) => (
+              <option key={k.id} value={k.id}>
+                {k.label}
+              </option>
+            ))}
+          </select>
+        </label>
+      </div>
+      {needsCaution && <DriveCaution onAccept={api.acceptCaution} />}
+      {s.kind === 'dc' && !needsCaution && (
+        <div className="row">
+          <label className="field grow">
+            <span>Output device</span>
+            <select
+              value={s.dcDeviceId}
+              onChange={(e) => api.setSettings({ dcDeviceId: e.target.value })}
+              data-testid="drive-dc-device"
+            >
+              <option value="default">System default output</option>
+              {api.dcOutputs
+                .filter((d) => d.deviceId !== 'default' && d.deviceId !== '')
+                .map((d) => (
+                  <option key={d.deviceId} value={d.deviceId}>
+                    {d.label}
+                  </option>
+                ))}
+            </select>
+          </label>
+          <label className="field">
+            <span>Channel</span>
+            <input
+              type="number"
+              min={1}
+              max={32}
+              value={s.dcChannel + 1}
+              onChange={(e) =>
+                api.setSettings({ dcChannel: Math.max(0, Math.round(Number(e.target.value)) - 1 || 0) })
+              }
+              data-testid="drive-dc-channel"
+            />
+          </label>
+          <label className="field">
+            <span>V at full scale (manual)</span>
+            <input
+              type="number"
+              min={1}
+              max={30}
+              step={0.1}
+              value={s.nominalVoltsPerFullScale}
+              onChange={(e) => {
+                const v = Number(e.target.value);
+                if (v > 0 && v <= 30) api.setSettings({ nominalVoltsPerFullScale: v });
+              }}
+              data-testid="drive-dc-fullscale"
+            />
+          </label>
+        </div>
+      )}
+      {s.kind === 'midi' && !needsCaution && (
+        <>
+          <div className="row">
+            <label className="field grow">
+              <span>MIDI output</span>
+              <select
+                value={s.midiPortId}
+                onChange={(e) => api.setSettings({ midiPortId: e.target.value })}
+                data-testid="drive-midi-port"
+              >
+                {api.midiPorts.length === 0 && <option value="">No MIDI output found</option>}
+                {api.midiPorts.map((p) => (
+                  <option key={p.id} value={p.id}>
+                    {p.name}
+                  </option>
+                ))}
+              </select>
+            </label>
+            <label className="field">
+              <span>Channel</span>
+              <input
+                type="number"
+                min={1}
+                max={16}
+                value={s.midiChannel}
+                onChange={(e) => {
+                  const c = Math.round(Number(e.target.value));
+                  if (c >= 1 && c <= 16) api.setSettings({ midiChannel: c });
+                }}
+                data-testid="drive-midi-channel"
+              />
+            </label>
+            <label className="field">
+              <span>Note at 0 V</span>
+              <input
+                type="number"
+                min={0}
+                max={127}
+                value={s.zeroVoltsNote}
+                onChange={(e) => {
+                  const n = Math.round(Number(e.target.value));
+                  if (n >= 0 && n <= 127) api.setSettings({ zeroVoltsNote: n });
+                }}
+                data-testid="drive-midi-zero-note"
+              />
+              <small>
+                {midiToName(s.zeroVoltsNote)} (middle C = {MIDDLE_C_NOTE} = C4); see the converter’s manual
+              </small>
+            </label>
+          </div>
+          <div className="row">
+            <label className="check">
+              <input
+                type="checkbox"
+                checked={s.bendRangeSemitones !== null}
+                onChange={(e) => api.setSettings({ bendRangeSemitones: e.target.checked ? 2 : null })}
+                data-testid="drive-midi-bend"
+              />
+              My converter follows pitch bend
+            </label>
+            {s.bendRangeSemitones !== null && (
+              <label className="field">
+                <span>Bend range, ± semitones</span>
+                <input
+                  type="number"
+                  min={0.1}
+                  max={48}
+                  step={0.1}
+                  value={s.bendRangeSemitones}
+                  onChange={(e) => {
+                    const v = Number(e.target.value);
+                    if (v >= 0.1 && v <= 48) api.setSettings({ bendRangeSemitones: v });
+                  }}
+                />
+              </label>
+            )}
+          </div>
+        </>
+      )}
+      {s.kind !== 'off' && !needsCaution && (
+        <>
+          <div className="row">
+            <label className="field">
+              <span>Maximum, V</span>
+              <input
+                type="number"
+                min={0.5}
+                max={MAX_DRIVE_VOLTS_CEILING}
+                step={0.5}
+                value={s.maxVolts}
+                onChange={(e) => {
+                  const v = Number(e.target.value);
+                  if (v > 0 && v <= MAX_DRIVE_VOLTS_CEILING) api.setSettings({ maxVolts: v });
+                }}
+                disabled={api.handsOff.active}
+                data-testid="drive-max-volts"
+              />
+            </label>
+            <label className="field">
+              <span>Ramp, ms</span>
+              <input
+                type="number"
+                min={5}
+                max={2000}
+                step={5}
+                value={Math.round(s.rampSeconds * 1000)}
+                onChange={(e) => {
+                  const v = Number(e.target.value);
+                  if (v >= 5 && v <= 2000) api.setSettings({ rampSeconds: v / 1000 });
+                }}
+                data-testid="drive-ramp-ms"
+              />
+            </label>
+            {s.kind !== 'sim' && (
+              <label className="field">
+                <span>Meter ± % + counts, count mV</span>
+                <span className="inline">
+                  <input
+                    type="number"
+                    min={0}
+                    max={10}
+                    step={0.01}
+                    value={s.meter.percentOfReading}
+                    onChange={(e) => {
+                      const v = Number(e.target.value);
+                      if (v >= 0 && v <= 10) api.setSettings({ meter: { ...s.meter, percentOfReading: v } });
+                    }}
+                    aria-label="Meter accuracy, percent of reading"
+                  />
+                  <input
+                    type="number"
+                    min={0}
+                    max={1000}
+                    value={s.meter.counts}
+                    onChange={(e) => {
+                      const v = Number(e.target.value);
+                      if (v >= 0 && v <= 1000) api.setSettings({ meter: { ...s.meter, counts: v } });
+                    }}
+                    aria-label="Meter accuracy, counts"
+                  />
+                  <input
+                    type="number"
+                    min={0.001}
+                    max={1000}
+                    step={0.01}
+                    value={s.meter.resolutionVolts * 1000}
+                    onChange={(e) => {
+                      const v = Number(e.target.value);
+                      if (v > 0 && v <= 1000)
+                        api.setSettings({ meter: { ...s.meter, resolutionVolts: v / 1000 } });
+                    }}
+                    aria-label="Meter count, millivolts"
+                  />
+                </span>
+              </label>
+            )}
+          </div>
+          <p
+            className="drive-status"
+            data-testid="drive-status"
+            data-open={api.open ? 'yes' : 'no'}
+            data-output-volts={String(api.outputVolts)}
+            data-output-level={String(api.outputLevel)}
+            data-at-rest={api.outputLevel === 0 ? 'yes' : 'no'}
+          >
+            {!api.open
+              ? 'Output closed (0 V)'
+              : api.outputLevel === 0
+                ? `Output at rest: 0 V sent${api.calibration ? ` (the output’s own offset, ${(api.calibration.offsetVolts * 1000).toFixed(1)} mV, remains)` : ''}`
+                : `Output ${fmtV(api.outputVolts, 3)}`}
+            {s.kind === 'sim' && ' · patched into the simulated oscillator’s 1 V/oct input'}
+          </p>
+          <SetVolts api={api} />
+          <Calibration api={api} />
+        </>
+      )}
+      {api.message && (
+        <p
+          className={`message ${api.message.kind}`}
+          role={api.message.kind === 'error' ? 'alert' : undefined}
+          data-testid="drive-message"
+        >
+          {api.message.text}
+        </p>
+      )}
+    </section>
+  );
+}
+
+/** Hands-off controls for the tab shown (right panel, above the tab's own panel). */
+export function HandsOffPanel(props: { api: DriveApi; tab: string }) {
+  const { api, tab } = props;
+  const [loop, setLoop] = useState(false);
+  const [passes, setPasses] = useState(3);
+  const s = api.settings;
+  if (s.kind === 'off') return null;
+  const ready = api.open && api.calibration !== null;
+  const h = api.handsOff;
+  if (tab === 'pair')
+    return (
+      <div className="hands-off row" data-testid="hands-off-pair">
+        <label className="check">
+          <input
+            type="checkbox"
+            checked={api.pairDriving}
+            disabled={!ready}
+            onChange={(e) => api.setPairDriving(e.target.checked)}
+            data-testid="pair-drive"
+          />
+          The drive alternates the two voltages (turn the scale trimmer meanwhile)
+        </label>
+        {!ready && <span className="hint">Open and calibrate the drive first.</span>}
+      </div>
+    );
+  if (tab === 'drift')
+    return (
+      <div className="hands-off row" data-testid="hands-off-drift">
+        <span className="hint">
+          {ready
+            ? 'The drive holds the hold’s voltage while the drift is logged.'
+            : 'Open and calibrate the drive to hold the voltage for you.'}
+        </span>
+      </div>
+    );
+  if (tab !== 'run') return null;
+  const steps = Object.entries(api.applied).map(([k, a]) => ({ step: Number(k), ...a }));
+  return (
+    <div className="hands-off" data-testid="hands-off">
+      <div className="row">
+        {!h.active ? (
+          <button
+            className="primary"
+            onClick={() => api.startHandsOff(loop ? passes : null)}
+            disabled={!ready}
+            data-testid="start-hands-off"
+            title={ready ? '' : 'Open and calibrate the drive first'}
+          >
+            {loop ? `Start trim loop (${passes} passes)` : 'Start hands-off'}
+          </button>
+        ) : (
+          <button onClick={api.stopHandsOff} data-testid="stop-hands-off">
+            Stop the drive (to 0 V)
+          </button>
+        )}
+        <label className="check">
+          <input
+            type="checkbox"
+            checked={loop}
+            onChange={(e) => setLoop(e.target.checked)}
+            disabled={h.active}
+            data-testid="trim-loop"
+          />
+          Trim loop
+        </label>
+        {loop && (
+          <label className="field">
+            <span>Passes</span>
+            <input
+              type="number"
+              min={1}
+              max={50}
+              value={passes}
+              onChange={(e) => {
+                const n = Math.round(Number(e.target.value));
+                if (n >= 1 && n <= 50) setPasses(n);
+              }}
+              disabled={h.active}
+              data-testid="trim-loop-passes"
+            />
+          </label>
+        )}
+        <span className="hint" data-testid="hands-off-state" data-active={h.active ? 'yes' : 'no'}>
+          {h.active
+            ? `Hands off: the drive sets each step${h.loopPasses ? `, pass ${h.passes.length + 1} of ${h.loopPasses}` : ''}.`
+            : ready
+              ? ''
+              : 'Calibrate the drive to run hands-off.'}
+        </span>
+      </div>
+      {h.verdict && (
+        <p className="message info" data-testid="loop-verdict">
+          {h.verdict}
+        </p>
+      )}
+      {h.passes.length > 0 && (
+        <table className="pass-history" data-testid="pass-history">
+          <caption>Pass history</caption>
+          <thead>
+            <tr>
+              <th>Pass</th>
+              <th>Scale, ¢/oct</th>
+              <th>HF, ¢</th>
+              <th>Offset, ¢</th>
+              <th>Verdict</th>
+            </tr>
+          </thead>
+          <tbody>
+            {h.passes.map((p) => (
+              <tr
+                key={p.pass}
+                data-testid="pass-row"
+                data-pass={p.pass}
+                data-scale-cents-per-octave={
+                  p.scaleCentsPerOctave === null ? '' : String(p.scaleCentsPerOctave)
+                }
+                data-hf-cents={p.hfCents === null ? '' : String(p.hfCents)}
+                data-offset-cents={p.offsetCents === null ? '' : String(p.offsetCents)}
+              >
+                <td>{p.pass}</td>
+                <td>{fmtC(p.scaleCentsPerOctave)}</td>
+                <td>{fmtC(p.hfCents)}</td>
+                <td>{fmtC(p.offsetCents)}</td>
+                <td>{p.withinTolerance ? 'within tolerance' : 'trim'}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      )}
+      {steps.length > 0 && (
+        <details className="drive-log">
+          <summary>Applied voltages</summary>
+          <ul>
+            {steps.map((a) => (
+              <li
+                key={a.step}
+                data-testid="drive-step"
+                data-step={a.step}
+                data-applied-volts={String(a.volts)}
+                data-applied-uncertainty-volts={String(a.uncertaintyVolts)}
+                data-true-volts={a.trueVolts === null ? '' : String(a.trueVolts)}
+                data-note={a.note === null ? '' : String(a.note)}
+              >
+                Step {a.step + 1}: {fmtV(a.volts)} ± {(a.uncertaintyVolts * 1000).toFixed(2)} mV
+                {a.note !== null && ` (note ${a.note}, ${midiToName(a.note)})`}
+                {a.trueVolts !== null && ` · simulated jack ${fmtV(a.trueVolts)}`}
+              </li>
+            ))}
+          </ul>
+        </details>
+      )}
+    </div>
+  );
+}
