@@ -204,3 +204,28 @@ export async function waitForStepRows(page: Page, n: number, timeoutMs = 30_000)
 export async function runPhase(page: Page): Promise<string> {
   return (await page.getAttribute('[data-testid="run-prompt"]', 'data-phase').catch(() => null)) ?? '';
 }
+
+/** Every entry of the browser's unit book (IndexedDB `spanmeter-book`, store `records`), as text. */
+export function readBookEntries(page: Page): Promise<string[]> {
+  return page.evaluate(
+    () =>
+      new Promise<string[]>((resolve, reject) => {
+        const req = indexedDB.open('spanmeter-book');
+        req.onerror = () => reject(req.error);
+        req.onsuccess = () => {
+          const db = req.result;
+          if (!db.objectStoreNames.contains('records')) {
+            db.close();
+            resolve([]);
+            return;
+          }
+          const all = db.transaction('records', 'readonly').objectStore('records').getAll();
+          all.onsuccess = () => {
+            db.close();
+            resolve((all.result as unknown[]).map((v) => (typeof v === 'string' ? v : JSON.stringify(v))));
+          };
+          all.onerror = () => reject(all.error);
+        };
+      }),
+  );
+}

@@ -17,6 +17,7 @@ import {
   centsBetween,
   chromiumArgs,
   chromiumAvailable,
+  readBookEntries,
   readStepRows,
   runPhase,
   startWebServer,
@@ -100,14 +101,8 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
     await page.click('[data-testid="tab-book"]');
     await page.click('[data-testid="save-run"]');
     await page.waitForSelector('text=Saved as run');
-    const saved = await page.evaluate(() => {
-      const out: unknown[] = [];
-      for (let i = 0; i < localStorage.length; i++) {
-        const k = localStorage.key(i)!;
-        if (k.includes('record')) out.push(localStorage.getItem(k));
-      }
-      return out.join('\n');
-    });
+    // The browser's unit book is in IndexedDB since issue 10 (it was one localStorage blob).
+    const saved = (await readBookEntries(page)).join('\n');
     expect(saved).toContain(String(ref.steps[2].hz));
     expect(errors).toEqual([]);
     await page.close();
