@@ -1,98 +1,72 @@
 /**
- * Spanmeter's window: the input and live reading on the left, the work on the right (a guided run,
- * the two-point scale trim, the drift hold, the unit book), and a status line. State that the
- * engine owns arrives through {@link EngineClient}; this component holds only what the user chose.
+ * Spanmeter's window: the input and live reading on the left, the work on the right (a guided run, the
+ * scale pair, the drift hold, the unit book), a top bar with the engine's status, and the bench view.
+ * State the engine owns arrives through {@link EngineClient}; the input, the autosave, the run's keys and
+ * the recording each live in a hook of their own (hooks/); this component wires them together and holds
+ * only what the user chose.
  */
-import { useCallback, useEffect, useMemo, useRef, useState, useSyncExternalStore } from 'react';
+import { useCallback, useEffect, useMemo, useState, useSyncExternalStore } from 'react';
 import { A4_HZ } from '../../dsp/notes.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
-import { recordingToJson, recordingToRecordResult } from '../../dsp/recording.ts';
-import { serializeRun, validateRunState, type RunState } from '../../dsp/run.ts';
-import type { AnalysisResult, JsonValue, UnitRecord } from '../../main/api-types.ts';
-import { listInputs, openInput, type InputDevice, type OpenInput } from './audio/input.ts';
+import { recordingToRecordResult } from '../../dsp/recording.ts';
+import type { RunState } from '../../dsp/run.ts';
+import type { AnalysisResult, UnitRecord } from '../../main/api-types.ts';
 import { EngineClient } from './engine/client.ts';
 import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
-import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult, toAnalyzeJson } from './lib/analysis.ts';
-import { runToCsv } from './lib/export.ts';
-import { formatClock } from './lib/format.ts';
+import { useAudioInput } from './hooks/useAudioInput.ts';
+import { useCaptureSignal, type CaptureSignal } from './hooks/useCaptureSignal.ts';
+import { pageStorage } from './hooks/pageStorage.ts';
+import { capturedCount, useRunAutosave, type RunSource } from './hooks/useRunAutosave.ts';
+import { useRunKeys } from './hooks/useRunKeys.ts';
+import { useTheme } from './hooks/useTheme.ts';
+import { useWavAnalysis } from './hooks/useWavAnalysis.ts';
+import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult } from './lib/analysis.ts';
+import { numberOrNull } from './lib/fields.ts';
+import { formatHz, formatVolts } from './lib/format.ts';
 import { parseStartupParams } from './lib/params.ts';
-import { loadSetup, saveSetup, setupOptions, type SetupForm, type SetupStorage } from './lib/setup.ts';
-import { DEFAULT_SIM_UNIT, simOptions, simSettingsForUnit, type SimSettings } from './lib/sim-settings.ts';
+import { loadSetup, saveSetup, setupOptions, type SetupForm } from './lib/setup.ts';
+import { simSettingsForUnit } from './lib/sim-settings.ts';
 import { pickStore } from './storage/store.ts';
+import { BenchView } from './ui/BenchView.tsx';
 import { StripChart } from './ui/charts.tsx';
 import { DriftPanel } from './ui/DriftPanel.tsx';
-import { FrameMeter } from './ui/FrameMeter.tsx';
 import { InputPanel } from './ui/InputPanel.tsx';
 import { LiveReadout } from './ui/LiveReadout.tsx';
 import { PrintReport } from './ui/PrintReport.tsx';
-import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.tsx';
+import { EMPTY_UNIT_INFO, RecordsPanel, UNIT_RULES, type UnitInfo } from './ui/RecordsPanel.tsx';
 import { RecordingPanel } from './ui/RecordingPanel.tsx';
-import { OpenWavControl, RUN_KEYS, RunPanel } from './ui/RunPanel.tsx';
+import {
+  DEFAULT_TOLERANCE_CENTS,
+  SOFTWARE_VERSION,
+  reportFileName,
+  reportToCsv,
+  reportToJson,
+  resultFromAnalysis,
+  type RunReport,
+} from './ui/results/index.ts';
+import { OpenWavControl, RunPanel } from './ui/RunPanel.tsx';
 import { SetupPanel } from './ui/SetupPanel.tsx';
+import { TopBar, type Tab } from './ui/TopBar.tsx';
 import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
-
-type Tab = 'run' | 'pair' | 'drift' | 'book';
-
-const TABS: { id: Tab; label: string }[] = [
-  { id: 'run', label: 'Span run' },
-  { id: 'pair', label: 'Scale pair' },
-  { id: 'drift', label: 'Hold & drift' },
-  { id: 'book', label: 'Unit book' },
-];
 
 function modeFor(tab: Tab): EngineMode {
   return tab === 'pair' ? 'two-point' : tab === 'drift' ? 'drift' : 'run';
 }
 
-/**
- * Settle time used when a recording is analysed, s: `analyzeRecording`'s default, the same as
- * `spanmeter analyze` without `--settle` (dsp/recording.ts).
- */
-const RECORDING_SETTLE_SECONDS = 0.5;
-
 /** Said wherever a fault stops the input while a run is in progress. */
 const RUN_KEPT = 'The run is kept with its captured steps, paused: press Resume once the input is back.';
 
-function capturedCount(s: RunState): number {
-  return s.steps.filter((x) => x.capture !== null).length;
-}
-
-/** `window.localStorage`, or null where the page may not use it. */
-function pageStorage(): SetupStorage | null {
-  try {
-    return window.localStorage;
-  } catch {
-    return null;
-  }
-}
-
-function fileSlug(s: string): string {
-  const t = s
-    .toLowerCase()
-    .replace(/[^a-z0-9]+/g, '-')
-    .replace(/^-+|-+$/g, '');
-  return t || 'spanmeter-run';
-}
+/** How far the first step may be from the same voltage in the unit's last run and count as known, cents. */
+const FIRST_STEP_MATCH_CENTS = 150;
 
 export function App() {
   const params = useMemo(() => parseStartupParams(window.location.search), []);
   const client = useMemo(() => new EngineClient(), []);
   const view = useSyncExternalStore(client.subscribe, client.getView);
   const store = useMemo(() => pickStore(), []);
+  const audio = useAudioInput(client, params);
+  const [theme, setTheme] = useTheme();
 
-  const [source, setSource] = useState<'device' | 'sim'>(params.input);
-  const [devices, setDevices] = useState<InputDevice[]>([]);
-  const [deviceId, setDeviceId] = useState<string | null>(null);
-  const [channel, setChannel] = useState(0);
-  const [channelCount, setChannelCount] = useState(1);
-  const [inputMsg, setInputMsg] = useState<{ kind: 'info' | 'warn' | 'error'; text: string } | null>(
-    params.problems.length > 0 ? { kind: 'warn', text: params.problems.join(' ') } : null,
-  );
-  const [suspended, setSuspended] = useState(false);
-  const inputRef = useRef<OpenInput | null>(null);
-  const [sim, setSim] = useState<SimSettings>(() =>
-    simSettingsForUnit(params.unitId ?? DEFAULT_SIM_UNIT, params.simRateHz ?? 48_000),
-  );
   const [planText, setPlanText] = useState(params.planText ?? formatPlan(presetPlan().volts));
   const [tab, setTab] = useState<Tab>('run');
   const [info, setInfo] = useState<UnitInfo>(EMPTY_UNIT_INFO);
@@ -102,110 +76,20 @@ export function App() {
     toleranceCents: 1,
     alternateSeconds: 3,
   });
-  const [resumeOffer, setResumeOffer] = useState<{ state: RunState; text: string } | null>(null);
   const [exportMsg, setExportMsg] = useState<string | null>(null);
   const [openRecord, setOpenRecord] = useState<UnitRecord | null>(null);
-  /** Whether the Span run tab shows the opened recording (true) or the live run. */
-  const [showRecording, setShowRecording] = useState(false);
-  /** Bumped by "Open the input again" to reopen the audio input after a failure. */
-  const [inputAttempt, setInputAttempt] = useState(0);
-  const [inputClosed, setInputClosed] = useState(false);
-  /** The Span run's Setup (clock correction, fit range, input network), kept between sessions. */
+  const [printReport, setPrintReport] = useState<RunReport | null>(null);
+  const [bench, setBench] = useState(false);
+  /** The run as it was before a Close, Redo or Restart, to put back with Undo. */
+  const [undo, setUndo] = useState<{ text: string; state: RunState } | null>(null);
+  /** The run whose first step the user has confirmed (by its plan and first capture). */
+  const [firstConfirmed, setFirstConfirmed] = useState<string | null>(null);
+  /** Wall-clock time of the current run's first capture, ISO 8601. */
+  const [runTakenAt, setRunTakenAt] = useState<string | null>(null);
+  /** The Span run's Setup (clock correction, fit range and input network), kept between sessions. */
   const [setupForm, setSetupForm] = useState<SetupForm>(() => loadSetup(pageStorage()));
   const setup = useMemo(() => setupOptions(setupForm), [setupForm]);
   useEffect(() => saveSetup(pageStorage(), setupForm), [setupForm]);
-
-  // ---- Input source ------------------------------------------------------------------------
-  const inputGone = useCallback(
-    (why: string) => {
-      inputRef.current?.close();
-      inputRef.current = null;
-      client.send({ type: 'source-stop', reason: why });
-      setInputClosed(true);
-      setInputMsg({
-        kind: 'error',
-        text: `${why} Reconnect the interface and press “Open the input again”.`,
-      });
-    },
-    [client],
-  );
-
-  useEffect(() => {
-    let cancelled = false;
-    inputRef.current?.close();
-    inputRef.current = null;
-    if (source === 'sim') {
-      client.send({ type: 'source-sim', sampleRateHz: sim.sampleRateHz, options: simOptions(sim), volts: 0 });
-      setSuspended(false);
-      return;
-    }
-    void (async () => {
-      const r = await openInput({
-        deviceId,
-        channel,
-        connectEngine: (port, rate) => client.send({ type: 'source-live', sampleRateHz: rate, port }, [port]),
-        onChannels: (n) => setChannelCount(n),
-        onEnded: () => inputGone('The audio input stopped (unplugged or taken by the system).'),
-      });
-      if (cancelled) {
-        if (r.ok) r.input.close();
-        return;
-      }
-      if (!r.ok) {
-        setInputMsg({ kind: 'error', text: r.failure.message });
-        setInputClosed(true);
-        client.send({ type: 'source-stop', reason: r.failure.kind });
-        return;
-      }
-      inputRef.current = r.input;
-      setInputClosed(false);
-      setInputMsg(params.problems.length > 0 ? { kind: 'warn', text: params.problems.join(' ') } : null);
-      const ctx = r.input.context;
-      setSuspended(ctx.state === 'suspended');
-      ctx.onstatechange = () => setSuspended(ctx.state === 'suspended');
-      setDevices(await listInputs());
-    })();
-    return () => {
-      cancelled = true;
-    };
-    // The sim's knobs are sent separately below; only its sample rate restarts the source.
-  }, [source, deviceId, sim.sampleRateHz, client, inputGone, inputAttempt]);
-
-  useEffect(() => {
-    if (source === 'sim') client.send({ type: 'sim-options', options: simOptions(sim) });
-  }, [sim, source, client]);
-
-  useEffect(() => {
-    inputRef.current?.setChannel(channel);
-  }, [channel]);
-
-  useEffect(() => {
-    const md = navigator.mediaDevices;
-    if (!md?.addEventListener) return;
-    const onChange = async () => {
-      const list = await listInputs();
-      setDevices(list);
-      if (source === 'device' && deviceId !== null && !list.some((d) => d.deviceId === deviceId)) {
-        inputGone('The chosen audio input was disconnected.');
-      }
-    };
-    md.addEventListener('devicechange', onChange);
-    return () => md.removeEventListener('devicechange', onChange);
-  }, [source, deviceId, inputGone]);
-
-  const resumeAudio = useCallback(() => {
-    void inputRef.current?.resume();
-  }, []);
-
-  useEffect(() => {
-    const f = () => resumeAudio();
-    window.addEventListener('pointerdown', f);
-    window.addEventListener('keydown', f);
-    return () => {
-      window.removeEventListener('pointerdown', f);
-      window.removeEventListener('keydown', f);
-    };
-  }, [resumeAudio]);
 
   // ---- Modes ---------------------------------------------------------------------------------
   useEffect(() => {
@@ -217,32 +101,18 @@ export function App() {
   }, [pairConfig, client]);
 
   // ---- Autosave and resume -------------------------------------------------------------------
-  useEffect(() => {
-    let last = -1;
-    return client.onMessage((m) => {
-      const run = m.type === 'run' ? m.run : m.type === 'tick' ? m.run : undefined;
-      if (!run) return;
-      const n = capturedCount(run.state);
-      if (n !== last) {
-        if (n > 0) void store.autosave(JSON.parse(serializeRun(run.state)) as JsonValue);
-        last = n;
-      }
-    });
-  }, [client, store]);
-
-  useEffect(() => {
-    void (async () => {
-      const r = await store.loadAutosave();
-      if (!r.ok || r.value.kind !== 'found') return;
-      const v = validateRunState(r.value.state);
-      if (v.kind !== 'ok' || capturedCount(v.state) === 0) return;
-      const fin = v.state.phase === 'finished' || v.state.phase === 'aborted';
-      setResumeOffer({
-        state: v.state,
-        text: `${fin ? 'The last run' : 'An unfinished run'} from ${new Date(r.value.savedAt).toLocaleString()}: ${capturedCount(v.state)} of ${v.state.steps.length} steps captured.`,
-      });
-    })();
-  }, [store]);
+  const currentSource: RunSource =
+    audio.source === 'sim' ? { kind: 'sim', unitId: audio.sim.unitId } : { kind: 'device' };
+  const { setSource, setSim, sim } = audio;
+  const onResumeSource = useCallback(
+    (s: RunSource) => {
+      setSource(s.kind);
+      if (s.kind === 'sim' && s.unitId && s.unitId !== sim.unitId)
+        setSim(simSettingsForUnit(s.unitId, sim.sampleRateHz));
+    },
+    [setSource, setSim, sim.unitId, sim.sampleRateHz],
+  );
+  const autosave = useRunAutosave(client, store, currentSource, onResumeSource);
 
   // ---- Run -----------------------------------------------------------------------------------
   const run = view.run;
@@ -259,10 +129,36 @@ export function App() {
   // Recomputed only when a capture or a meter reading changes, not on every reading.
   const analysis = useMemo(() => (runState ? analyzeRun(runState, A4_HZ, setup) : null), [captureKey, setup]);
   const active = runState !== null && runState.phase !== 'finished' && runState.phase !== 'aborted';
+  const captured = runState ? capturedCount(runState) : 0;
+  const capture = useCaptureSignal(runState);
+
+  useEffect(() => {
+    if (captured === 0) setRunTakenAt(null);
+    else setRunTakenAt((t) => t ?? new Date().toISOString());
+  }, [captured]);
+
+  const sendEvent = useCallback((e: UserRunEvent) => client.send({ type: 'run-event', event: e }), [client]);
+
+  /** Sends a run event that drops a capture, keeping the run as it was for Undo. */
+  const sendWithUndo = useCallback(
+    (e: UserRunEvent) => {
+      if (runState && e.type === 'redo' && runState.steps[e.stepIndex]?.capture) {
+        setUndo({ text: `Step ${e.stepIndex + 1} is being measured again.`, state: runState });
+      }
+      sendEvent(e);
+    },
+    [runState, sendEvent],
+  );
 
   const startRun = useCallback(() => {
     const p = parsePlan(planText);
     if (p.kind !== 'ok') return;
+    if (runState && capturedCount(runState) > 0) {
+      setUndo({
+        text: `The previous run (${capturedCount(runState)} captured steps) was replaced.`,
+        state: runState,
+      });
+    }
     const preset = PLAN_PRESETS.find((x) => formatPlan(x.volts) === formatPlan(p.volts));
     client.send({
       type: 'run-start',
@@ -272,95 +168,68 @@ export function App() {
         volts: [...p.volts],
       },
     });
-    setResumeOffer(null);
+    setFirstConfirmed(null);
+    setRunTakenAt(null);
+    autosave.dismiss();
     setTab('run');
-    resumeAudio();
-  }, [planText, client, resumeAudio]);
+    audio.resumeAudio();
+  }, [planText, client, audio, runState, autosave]);
 
-  const sendEvent = useCallback((e: UserRunEvent) => client.send({ type: 'run-event', event: e }), [client]);
+  const closeRun = useCallback(() => {
+    if (runState && capturedCount(runState) > 0) {
+      setUndo({ text: `Run closed with ${capturedCount(runState)} captured steps.`, state: runState });
+    } else void store.clearAutosave();
+    client.send({ type: 'run-close' });
+  }, [runState, client, store]);
 
-  const runRef = useRef<RunState | null>(null);
-  runRef.current = runState;
-  useEffect(() => {
-    const onKey = (e: KeyboardEvent) => {
-      const t = e.target as HTMLElement | null;
-      if (
-        t &&
-        (t.tagName === 'INPUT' || t.tagName === 'TEXTAREA' || t.tagName === 'SELECT' || t.isContentEditable)
-      )
-        return;
-      if (e.ctrlKey || e.metaKey || e.altKey) return;
-      const s = runRef.current;
-      if (!s || tab !== 'run') return;
-      const k = e.key.length === 1 ? e.key.toLowerCase() : e.key;
-      let ev: UserRunEvent | null = null;
-      if (k === RUN_KEYS.captureNow) ev = { type: 'capture-now' };
-      else if (k === RUN_KEYS.redo)
-        ev = { type: 'redo', stepIndex: s.warning ? s.current : (s.lastCapturedStep ?? s.current) };
-      else if (k === RUN_KEYS.skip) ev = { type: 'skip' };
-      else if (k === RUN_KEYS.back) ev = { type: 'back' };
-      else if (k === RUN_KEYS.pause) ev = { type: s.phase === 'paused' ? 'resume' : 'pause' };
-      else if (k === RUN_KEYS.accept && s.warning) ev = { type: 'accept-pitch' };
-      if (ev) {
-        e.preventDefault();
-        sendEvent(ev);
-      }
-    };
-    window.addEventListener('keydown', onKey);
-    return () => window.removeEventListener('keydown', onKey);
-  }, [sendEvent, tab]);
+  const doUndo = useCallback(() => {
+    if (!undo) return;
+    client.send({ type: 'run-restore', state: undo.state });
+    setUndo(null);
+  }, [undo, client]);
+
+  // ---- First step: confirmed against what is known ---------------------------------------------
+  const first = runState?.steps[0] ?? null;
+  const firstKey = runState && first?.capture ? `${runState.plan.volts.join(',')}@${first.capture.hz}` : null;
+  const knownFirst = useMemo(() => {
+    if (!first?.capture || !openRecord) return null;
+    const last = openRecord.runs.at(-1);
+    const same = last?.result.steps.find((s) => Math.abs(s.volts - first.nominalVolts) < 1e-6);
+    if (!same) return null;
+    const cents = 1200 * Math.log2(first.capture.hz / same.hz);
+    return { cents, label: last?.label ?? 'last run' };
+  }, [first, openRecord]);
+  const firstNeedsAnswer =
+    audio.source === 'device' &&
+    firstKey !== null &&
+    firstConfirmed !== firstKey &&
+    !(knownFirst && Math.abs(knownFirst.cents) <= FIRST_STEP_MATCH_CENTS);
+  const confirmFirst = useCallback(() => setFirstConfirmed(firstKey), [firstKey]);
+
+  useRunKeys(runState, tab === 'run' && !bench, sendWithUndo, (key) => {
+    if (firstNeedsAnswer && key.toLowerCase() === 'y') {
+      confirmFirst();
+      return true;
+    }
+    return false;
+  });
 
   // ---- Recording (Open WAV…) -------------------------------------------------------------------
-  const [wavPlanProblem, setWavPlanProblem] = useState<string | null>(null);
+  const wav = useWavAnalysis(client, view, planText, audio.channel, setup);
   const onOpenWav = useCallback(
-    async (file: File | null) => {
-      if (!file) return;
-      setTab('run');
-      const p = parsePlan(planText);
-      if (p.kind !== 'ok') {
-        setWavPlanProblem(
-          `${file.name} was not analysed: the plan’s voltages are needed to map the steps (${p.message}).`,
-        );
-        return;
-      }
-      setWavPlanProblem(null);
-      const bytes = await file.arrayBuffer();
-      client.send(
-        {
-          type: 'wav-analyze',
-          bytes,
-          fileName: file.name,
-          request: {
-            points: [...p.volts],
-            channel: channel + 1,
-            settleSeconds: RECORDING_SETTLE_SECONDS,
-            a4Hz: A4_HZ,
-            clockPpm: setup.clockPpm,
-            ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
-            ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
-            ...(setup.network === undefined ? {} : { network: setup.network }),
-          },
-        },
-        [bytes],
-      );
+    (f: File | null) => {
+      if (f) setTab('run');
+      void wav.openWav(f);
     },
-    [client, planText, channel, setup],
+    [wav],
   );
-  useEffect(
-    () =>
-      client.onMessage((m) => {
-        if (m.type === 'wav-done' && m.outcome.kind === 'ok') setShowRecording(true);
-      }),
-    [client],
-  );
-  const wavOk =
-    view.wav?.outcome?.kind === 'ok' ? { fileName: view.wav.fileName, ...view.wav.outcome } : null;
-  const recordingView = showRecording && wavOk ? wavOk : null;
+  const wavOk = wav.wavOk;
+  const recordingView = wav.recordingView;
   const recordingAnalysis = useMemo(
     () => (wavOk ? recordingAsRunAnalysis(wavOk.analysis) : null),
     [wavOk?.analysis],
   );
-  /** What the unit book, the exports and the printed report work on: the recording shown, else the run. */
+  /** What the unit book and the live exports work on: the recording shown, else the run. */
   const shownAnalysis = recordingView ? recordingAnalysis : analysis;
   const shownPlanVolts = recordingView
     ? recordingView.analysis.steps.map((s) => s.volts ?? 0)
@@ -371,29 +240,31 @@ export function App() {
       return r ? { steps: [...r.steps], fit: r.fit, advice: r.advice.map((a) => ({ ...a })) } : null;
     }
     return analysis && (analysis.table?.rows.length ?? 0) > 0 ? toAnalysisResult(analysis) : null;
-  }, [recordingView?.analysis, analysis]);
+  }, [recordingView, analysis]);
+
+  const liveReport = useMemo((): RunReport | null => {
+    if (!shownAnalysis || (shownAnalysis.table?.rows.length ?? 0) === 0) return null;
+    return {
+      result: resultFromAnalysis(shownAnalysis),
+      unitName: info.unitName.trim() || info.serial.trim(),
+      serial: info.serial.trim() || null,
+      label: recordingView ? recordingView.fileName : 'not saved',
+      takenAt: recordingView ? null : runTakenAt,
+      roomTempC: numberOrNull(info.roomTempC, UNIT_RULES.roomTempC),
+      meterUsed: info.meterUsed.trim() || null,
+      warmUpMinutes: numberOrNull(info.warmUpMinutes, UNIT_RULES.warmUpMinutes),
+      notes: info.notes.trim() || null,
+      planVolts: shownPlanVolts,
+      toleranceCents: numberOrNull(info.toleranceCents, UNIT_RULES.toleranceCents) ?? DEFAULT_TOLERANCE_CENTS,
+      saved: false,
+      softwareVersion: SOFTWARE_VERSION,
+    };
+  }, [shownAnalysis, info, recordingView, runTakenAt, shownPlanVolts]);
 
   const doExport = useCallback(
-    async (format: 'csv' | 'json') => {
-      const a = shownAnalysis;
-      if (!a) return;
-      const name = `${fileSlug(info.unitName || info.serial)}-${new Date().toISOString().slice(0, 10)}`;
-      const rt = Number(info.roomTempC);
-      const content =
-        format === 'csv'
-          ? runToCsv(a, {
-              unitName: info.unitName,
-              serial: info.serial,
-              notes: info.notes,
-              meterUsed: info.meterUsed,
-              takenAt: new Date().toISOString(),
-              ...(info.roomTempC.trim() !== '' && Number.isFinite(rt) ? { roomTempC: rt } : {}),
-            })
-          : recordingView
-            ? // The recording's JSON is the command line's (`spanmeter analyze --json`).
-              JSON.stringify(recordingToJson(recordingView.analysis))
-            : toAnalyzeJson(a, run?.details ?? {});
-      const r = await store.exportFile({ format, suggestedName: name, content });
+    async (report: RunReport, format: 'csv' | 'json') => {
+      const content = format === 'csv' ? reportToCsv(report) : reportToJson(report);
+      const r = await store.exportFile({ format, suggestedName: reportFileName(report), content });
       setExportMsg(
         r.ok
           ? r.value.kind === 'saved'
@@ -402,30 +273,29 @@ export function App() {
           : r.error.message,
       );
     },
-    [shownAnalysis, recordingView, info, run, store],
+    [store],
   );
 
-  const wavStatus = useMemo((): { kind: 'info' | 'error'; text: string } | null => {
-    if (wavPlanProblem) return { kind: 'error', text: wavPlanProblem };
-    const w = view.wav;
-    if (!w) return null;
-    const o = w.outcome;
-    if (!o) return { kind: 'info', text: `Analysing ${w.fileName}…` };
-    if (o.kind === 'ok') {
-      const n = o.analysis.steps.length;
-      return {
-        kind: 'info',
-        text: `${w.fileName}: ${o.file.durationSeconds.toFixed(1)} s at ${o.file.sampleRateHz} Hz, channel ${o.file.channelNumber} of ${o.file.channelCount}: ${n} step${n === 1 ? '' : 's'} measured.`,
-      };
-    }
-    const hint =
-      o.code === 'plateau-count-mismatch'
-        ? ' Set the plan’s voltages to the ones the recording steps through, then open it again.'
-        : '';
-    return { kind: 'error', text: `${w.fileName} gave no analysis: ${o.message}.${hint}` };
-  }, [view.wav, wavPlanProblem]);
+  const doPrint = useCallback((report: RunReport) => {
+    setPrintReport(report);
+    // Print once the report has rendered.
+    window.setTimeout(() => window.print(), 50);
+  }, []);
+
+  /** One click from a piece of advice to the scale pair, with the advised voltages filled in. */
+  const checkAdvice = useCallback(
+    (trimmer: 'scale' | 'hf') => {
+      const a = shownAnalysis ? resultFromAnalysis(shownAnalysis) : null;
+      const pair = a?.pairs[trimmer];
+      if (!pair) return;
+      setPairConfig((c) => ({ ...c, voltsLow: pair.low, voltsHigh: pair.high }));
+      setTab('pair');
+    },
+    [shownAnalysis],
+  );
+
   const runKeptNote =
-    wavStatus?.kind === 'error' && runState
+    wav.status?.kind === 'error' && runState
       ? ` Your run is kept${runState.phase === 'paused' ? ' (paused: press Resume to go on)' : ''}.`
       : '';
   // Shown while the run it paused is still waiting; the rate readout shows the new rate in any case.
@@ -437,60 +307,47 @@ export function App() {
         }
       : null;
 
-  const stats = view.stats;
+  const firstStepQuestion =
+    runState && first?.capture && tab === 'run' ? (
+      firstNeedsAnswer ? (
+        <div className="warning first-step" role="alert" data-testid="first-step-question">
+          <strong>
+            Is this {formatVolts(first.nominalVolts)}? Step 1 read {formatHz(first.capture.hz)} Hz.
+          </strong>
+          <span>
+            If the voltage was not {formatVolts(first.nominalVolts)}, every step would be labelled wrong:
+            confirm, or redo step 1 with the right voltage.
+          </span>
+          <button onClick={confirmFirst} data-testid="first-step-yes">
+            Yes, it is <kbd>Y</kbd>
+          </button>
+          <button onClick={() => sendWithUndo({ type: 'redo', stepIndex: 0 })}>Redo step 1</button>
+        </div>
+      ) : knownFirst && firstKey !== firstConfirmed && audio.source === 'device' ? (
+        <p className="message info small" data-testid="first-step-known">
+          Step 1 is {knownFirst.cents >= 0 ? '+' : '−'}
+          {Math.abs(knownFirst.cents).toFixed(1)} ¢ from the same voltage in “{knownFirst.label}” of{' '}
+          {openRecord?.unitName}: the voltage looks right.
+        </p>
+      ) : null
+    ) : null;
+
+  const inputMessage =
+    audio.message?.kind === 'error' && active
+      ? { ...audio.message, text: `${audio.message.text} ${RUN_KEPT}` }
+      : (audio.message ?? rateMsg);
+
   return (
     <>
-      <div className="app">
-        <header className="topbar">
-          <div className="brand">
-            <svg className="logo" viewBox="0 0 32 32" width="24" height="24" aria-hidden="true">
-              <path
-                d="M5 25 L11 19 L17 13 L23 7"
-                stroke="currentColor"
-                strokeWidth="3"
-                fill="none"
-                strokeLinecap="round"
-              />
-              <circle cx="5" cy="25" r="2.6" fill="#9ab8ff" />
-              <circle cx="14" cy="16" r="2.6" fill="#9ab8ff" />
-              <circle cx="23" cy="7" r="2.6" fill="#9ab8ff" />
-            </svg>
-            Spanmeter
-          </div>
-          <nav className="tabs" role="tablist">
-            {TABS.map((t) => (
-              <button
-                key={t.id}
-                role="tab"
-                aria-selected={tab === t.id}
-                className={tab === t.id ? 'on' : ''}
-                onClick={() => setTab(t.id)}
-                data-testid={`tab-${t.id}`}
-              >
-                {t.label}
-              </button>
-            ))}
-          </nav>
-          <div className="status" data-testid="engine-stats">
-            <span>
-              {view.source.kind === 'sim' ? 'Simulator' : view.source.kind === 'live' ? 'Input' : 'No input'}
-            </span>
-            <span>{formatClock(view.streamSeconds)}</span>
-            <span
-              data-testid="engine-load"
-              data-load-percent={stats ? stats.loadPercent.toFixed(2) : ''}
-              data-sim-load-percent={stats ? stats.simLoadPercent.toFixed(2) : ''}
-              data-max-capture-ms={stats ? stats.maxCaptureMs.toFixed(1) : ''}
-              data-rate={stats ? String(stats.sampleRateHz) : ''}
-            >
-              engine {stats ? `${stats.loadPercent.toFixed(1)} %` : '—'}
-            </span>
-            {stats && stats.droppedBlocks > 0 && (
-              <span className="warn-text">{stats.droppedBlocks} blocks dropped</span>
-            )}
-            <FrameMeter />
-          </div>
-        </header>
+      <div className={`app ${capture.flashing ? 'flash' : ''}`}>
+        <TopBar
+          view={view}
+          tab={tab}
+          onTab={setTab}
+          theme={theme}
+          onTheme={setTheme}
+          onBenchView={() => setBench(true)}
+        />
         <main className="layout">
           <div className="left">
             <LiveReadout
@@ -499,30 +356,26 @@ export function App() {
               streamSeconds={view.streamSeconds}
               clockPpm={setup.clockPpm}
             />
-            <section className="panel strip-panel">
+            <section className="panel strip-panel" aria-label="Pitch over the last seconds">
               <StripChart history={view.history} now={view.streamSeconds} />
             </section>
             <InputPanel
-              source={source}
-              onSource={setSource}
-              devices={devices}
-              deviceId={deviceId}
-              onDevice={setDeviceId}
-              channel={channel}
-              channelCount={channelCount}
-              onChannel={setChannel}
+              source={audio.source}
+              onSource={audio.setSource}
+              devices={audio.devices}
+              deviceId={audio.deviceId}
+              onDevice={audio.setDeviceId}
+              channel={audio.channel}
+              channelCount={audio.channelCount}
+              onChannel={audio.setChannel}
               sampleRateHz={view.source.sampleRateHz}
-              message={
-                inputMsg?.kind === 'error' && active
-                  ? { ...inputMsg, text: `${inputMsg.text} ${RUN_KEPT}` }
-                  : (inputMsg ?? rateMsg)
-              }
-              onReopen={inputClosed ? () => setInputAttempt((n) => n + 1) : null}
-              suspended={suspended && source === 'device'}
-              onResumeAudio={resumeAudio}
+              message={inputMessage}
+              onReopen={audio.closed ? audio.reopen : null}
+              suspended={audio.suspended}
+              onResumeAudio={audio.resumeAudio}
               reading={view.reading}
-              sim={sim}
-              onSim={setSim}
+              sim={audio.sim}
+              onSim={audio.setSim}
               simVolts={view.simVolts}
               onSimVolts={(v) => client.send({ type: 'sim-volts', volts: v, glideSeconds: 0.05 })}
               runDrivesSim={active && tab === 'run'}
@@ -534,15 +387,33 @@ export function App() {
                 {view.lastError}
               </p>
             )}
+            {undo && (
+              <div className="banner" role="status" data-testid="undo-banner">
+                <span>{undo.text}</span>
+                <button onClick={doUndo} data-testid="undo">
+                  Undo
+                </button>
+                <button
+                  className="quiet"
+                  onClick={() => {
+                    setUndo(null);
+                    if (!runState) void store.clearAutosave();
+                  }}
+                >
+                  Dismiss
+                </button>
+              </div>
+            )}
             {tab === 'run' && recordingView && recordingAnalysis && (
               <RecordingPanel
                 fileName={recordingView.fileName}
                 file={recordingView.file}
                 recording={recordingView.analysis}
                 analysis={recordingAnalysis}
-                onBackToRun={runState ? () => setShowRecording(false) : null}
-                onClose={() => setShowRecording(false)}
-                openWav={<OpenWavControl onOpenWav={(f) => void onOpenWav(f)} />}
+                onBackToRun={runState ? () => wav.setShowRecording(false) : null}
+                onClose={() => wav.setShowRecording(false)}
+                openWav={<OpenWavControl onOpenWav={onOpenWav} />}
+                onCheckAdvice={checkAdvice}
               />
             )}
             {tab === 'run' && !recordingView && (
@@ -552,29 +423,19 @@ export function App() {
                 planText={planText}
                 onPlanText={setPlanText}
                 onStart={startRun}
-                onEvent={sendEvent}
-                onClose={() => {
-                  client.send({ type: 'run-close' });
-                  void store.clearAutosave();
-                }}
-                simulated={source === 'sim'}
+                onEvent={sendWithUndo}
+                onClose={closeRun}
+                simulated={audio.source === 'sim'}
                 resumeOffer={
-                  resumeOffer && !runState
-                    ? {
-                        text: resumeOffer.text,
-                        onResume: () => {
-                          client.send({ type: 'run-restore', state: resumeOffer.state });
-                          setResumeOffer(null);
-                        },
-                        onDiscard: () => {
-                          void store.clearAutosave();
-                          setResumeOffer(null);
-                        },
-                      }
+                  autosave.offer && !runState
+                    ? { text: autosave.offer.text, onResume: autosave.resume, onDiscard: autosave.discard }
                     : null
                 }
-                onOpenWav={(f) => void onOpenWav(f)}
-                wavStatus={wavStatus && { ...wavStatus, text: wavStatus.text + runKeptNote }}
+                onOpenWav={onOpenWav}
+                wavStatus={wav.status && { ...wav.status, text: wav.status.text + runKeptNote }}
+                firstStep={firstStepQuestion}
+                onCheckAdvice={checkAdvice}
+                onBenchView={() => setBench(true)}
                 setup={
                   <SetupPanel
                     form={setupForm}
@@ -582,17 +443,20 @@ export function App() {
                     problems={setup.problems}
                     reading={view.reading}
                     settled={view.settled}
+                    captureSignal={capture.signal}
+                    onCaptureSignal={(s: CaptureSignal) => capture.setSignal(s)}
                   />
                 }
               />
             )}
             {tab === 'pair' && (
               <TwoPointPanel
+                key={`${pairConfig.voltsLow}-${pairConfig.voltsHigh}-${pairConfig.toleranceCents}`}
                 view={view.twoPoint}
                 config={pairConfig}
                 onConfig={setPairConfig}
                 onReset={() => client.send({ type: 'two-point-reset' })}
-                simulated={source === 'sim'}
+                simulated={audio.source === 'sim'}
               />
             )}
             {tab === 'drift' && (
@@ -600,7 +464,7 @@ export function App() {
                 view={view.drift}
                 onStart={(v, w) => client.send({ type: 'drift-start', volts: v, windowSeconds: w })}
                 onStop={() => client.send({ type: 'drift-stop' })}
-                simulated={source === 'sim'}
+                simulated={audio.source === 'sim'}
               />
             )}
             {tab === 'book' && (
@@ -610,18 +474,35 @@ export function App() {
                 onInfo={setInfo}
                 result={recordResult}
                 planVolts={shownPlanVolts}
-                onExport={(f) => void doExport(f)}
-                onPrint={() => window.print()}
+                liveReport={liveReport}
+                onExport={(r, f) => void doExport(r, f)}
+                onPrint={doPrint}
                 onSaved={() => void store.clearAutosave()}
                 openRecord={openRecord}
                 onOpenRecord={setOpenRecord}
               />
             )}
-            {exportMsg && tab === 'book' && <p className="message info">{exportMsg}</p>}
+            {exportMsg && tab === 'book' && (
+              <p className="message info" role="status" data-testid="export-message">
+                {exportMsg}
+              </p>
+            )}
           </div>
         </main>
       </div>
-      <PrintReport analysis={shownAnalysis} info={info} planVolts={shownPlanVolts} />
+      {bench && (
+        <BenchView
+          view={view}
+          mode={tab === 'pair' ? 'pair' : 'live'}
+          pairTolerance={pairConfig.toleranceCents}
+          clockPpm={setup.clockPpm}
+          run={runState}
+          simulated={audio.source === 'sim'}
+          flashing={capture.flashing}
+          onClose={() => setBench(false)}
+        />
+      )}
+      <PrintReport report={printReport ?? liveReport} />
     </>
   );
 }

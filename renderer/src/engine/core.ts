@@ -53,6 +53,12 @@ export const SIM_GLIDE_SECONDS = 0.15;
 const SIM_CHUNK = 1024;
 /** Two plateaus closer than this are the same side of the two-point check, cents (a quarter octave). */
 const SAME_SIDE_CENTS = 300;
+/**
+ * The scale pair's unexpected-pitch guard, cents: an interval further than this from the pair's nominal
+ * interval is not a trimming error but a wrong or stale voltage, and gives no instruction (the same
+ * margin as the run's default pitch tolerance, dsp/run.ts DEFAULT_RUN_OPTIONS).
+ */
+export const PAIR_GUARD_CENTS = 150;
 
 interface TwoPointState {
   config: TwoPointConfig;
@@ -60,6 +66,8 @@ interface TwoPointState {
   low: { hz: number; start: number } | null;
   high: { hz: number; start: number } | null;
   liveStart: number | null;
+  /** When the pair was opened or set up, stream seconds: readings before it are not used. */
+  enteredAt: number;
   /** Simulator: when the voltage last switched, stream seconds, and which side it is on. */
   switchedAt: number;
   onHigh: boolean;
@@ -75,6 +83,8 @@ interface DriftState {
   binCount: number;
   refHz: number | null;
   lastPost: number;
+  /** Settling of the held voltage, fed only with readings taken after the hold was asked for. */
+  detector: PlateauDetector;
 }
 
 export class EngineCore {
@@ -208,6 +218,7 @@ export class EngineCore {
           low: null,
           high: null,
           liveStart: null,
+          enteredAt: this.streamSeconds,
           switchedAt: this.streamSeconds,
           onHigh: false,
         };
@@ -218,6 +229,7 @@ export class EngineCore {
           this.twoPoint.detector.reset();
           this.twoPoint.low = null;
           this.twoPoint.high = null;
+          this.twoPoint.enteredAt = this.streamSeconds;
         }
         return;
       case 'drift-start':
@@ -231,6 +243,7 @@ export class EngineCore {
           binCount: 0,
           refHz: null,
           lastPost: 0,
+          detector: createPlateauDetector(),
         };
         this.setMode('drift');
         this.glideTo(msg.volts, SIM_GLIDE_SECONDS);
@@ -309,6 +322,12 @@ export class EngineCore {
     }
     this.mode = mode;
     if (mode === 'two-point' && this.twoPoint) {
+      // A fresh start: nothing heard before the pair was opened (the run's last step, say) counts.
+      this.twoPoint.detector.reset();
+      this.twoPoint.low = null;
+      this.twoPoint.high = null;
+      this.twoPoint.liveStart = null;
+      this.twoPoint.enteredAt = this.streamSeconds;
       this.twoPoint.switchedAt = this.streamSeconds;
       this.twoPoint.onHigh = false;
       this.glideTo(this.twoPoint.config.voltsLow, SIM_GLIDE_SECONDS);
@@ -469,11 +488,14 @@ export class EngineCore {
 
   private updateTwoPoint(r: PitchReading): TwoPointView {
     const tp = this.twoPoint as TwoPointState;
+    if (r.timeSeconds < tp.enteredAt) {
+      return { low: null, high: null, result: null, status: 'settling', unexpected: null };
+    }
     const u = tp.detector.push(r);
     const open = tp.detector.current();
     let status: TwoPointView['status'] = u.status.kind === 'no-signal' ? 'no-signal' : 'settling';
     tp.liveStart = null;
-    if (open) {
+    if (open && open.startSeconds >= tp.enteredAt) {
       status = 'settled';
       tp.liveStart = open.startSeconds;
       const cand = { hz: open.meanHz, start: open.startSeconds };
@@ -488,22 +510,29 @@ export class EngineCore {
       if (tp.low && tp.high && tp.low.hz > tp.high.hz) [tp.low, tp.high] = [tp.high, tp.low];
     }
     let result: TwoPointResult | null = null;
+    let unexpected: TwoPointView['unexpected'] = null;
     if (tp.low && tp.high) {
-      try {
-        result = twoPointIntervalError(
-          tp.low.hz,
-          tp.high.hz,
-          tp.config.voltsLow,
-          tp.config.voltsHigh,
-          tp.config.toleranceCents,
-        );
-      } catch {
-        result = null;
+      const measuredCents = 1200 * Math.log2(tp.high.hz / tp.low.hz);
+      const expectedCents = 1200 * (tp.config.voltsHigh - tp.config.voltsLow);
+      if (Math.abs(measuredCents - expectedCents) > PAIR_GUARD_CENTS) {
+        unexpected = { measuredCents, expectedCents };
+      } else {
+        try {
+          result = twoPointIntervalError(
+            tp.low.hz,
+            tp.high.hz,
+            tp.config.voltsLow,
+            tp.config.voltsHigh,
+            tp.config.toleranceCents,
+          );
+        } catch {
+          result = null;
+        }
       }
     }
     const side = (s: { hz: number; start: number } | null) =>
       s ? { hz: s.hz, live: tp.liveStart !== null && s.start === tp.liveStart } : null;
-    return { low: side(tp.low), high: side(tp.high), result, status };
+    return { low: side(tp.low), high: side(tp.high), result, status, unexpected };
   }
 
   private updateDrift(r: PitchReading): void {
@@ -513,7 +542,8 @@ export class EngineCore {
       // Start once the pitch has settled at the held voltage (after the simulator's glide, or once the
       // user has set the voltage), so the hold does not begin with the step into it.
       const gliding = this.sim !== null && this.cvAt(r.timeSeconds) !== d.volts;
-      if (gliding || this.liveDetector.current() === null) return;
+      d.detector.push(r);
+      if (gliding || d.detector.current() === null) return;
       d.startedAt = r.timeSeconds;
       d.binStart = r.timeSeconds;
       d.refHz = r.hz;
