@@ -1,5 +1,6 @@
 /**
- * Light or dark theme, kept between sessions; the first choice follows the system's preference. The
+ * Light or dark theme, kept between sessions; dark until the user picks light (a bench display in a
+ * dim workshop; the light theme is one click away in the top bar). The
  * theme is the `data-theme` attribute of the page's root element (styles.css holds both palettes).
  */
 import { useEffect, useState } from 'react';
@@ -17,9 +18,7 @@ function initialTheme(): Theme {
   } catch {
     // storage refused: fall through to the system's preference
   }
-  return typeof window.matchMedia === 'function' && window.matchMedia('(prefers-color-scheme: light)').matches
-    ? 'light'
-    : 'dark';
+  return 'dark';
 }
 
 export function useTheme(): [Theme, (t: Theme) => void] {

@@ -3,6 +3,7 @@
  * printed (see the print rules in styles.css). It shows the run it is given (a saved run with its own
  * date, label and unit details, or the live run) and nothing else.
  */
+import { memo } from 'react';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
 import { StepChart } from './charts.tsx';
 import { formatTakenAt, verdictFor, type RunReport } from './results/index.ts';
@@ -16,7 +17,8 @@ function Meta(props: { k: string; v: string | null | undefined }) {
   );
 }
 
-export function PrintReport(props: { report: RunReport | null }) {
+/** Re-rendered only when the report changes (not on every reading). */
+export const PrintReport = memo(function PrintReport(props: { report: RunReport | null }) {
   const r = props.report;
   if (!r) {
     return (
@@ -155,4 +157,4 @@ export function PrintReport(props: { report: RunReport | null }) {
       </footer>
     </section>
   );
-}
+});

@@ -325,16 +325,6 @@ export function RunPanel(p: RunPanelProps) {
             aria-invalid={!preview.ok}
             aria-describedby="plan-preview"
           />
-          <span
-            id="plan-preview"
-            className={preview.ok ? 'field-hint' : 'field-error'}
-            data-testid="plan-preview"
-            data-ok={String(preview.ok)}
-          >
-            {preview.ok
-              ? `${preview.text} · commas between values, ranges like 0-7 or 0-4/0.5; decimal point only (0.5)`
-              : preview.text}
-          </span>
         </div>
         <button
           className="primary"
@@ -346,6 +336,19 @@ export function RunPanel(p: RunPanelProps) {
         </button>
         <OpenWavControl onOpenWav={p.onOpenWav} />
       </div>
+      <p className="plan-hints">
+        <span
+          id="plan-preview"
+          className={preview.ok ? 'plan-preview' : 'field-error'}
+          data-testid="plan-preview"
+          data-ok={String(preview.ok)}
+        >
+          {preview.text}
+        </span>{' '}
+        <span className="field-hint">
+          · commas between values, ranges like 0-7 or 0-4/0.5; decimal point only
+        </span>
+      </p>
       {p.setup}
       {p.wavStatus && (
         <p
