@@ -66,3 +66,50 @@ export function programAvailable(name: string, debianPackage: string): boolean {
 }
 
 export { existsSync };
+
+/** The screens every layout and accessibility check visits, and how to reach each. */
+export const SCREENS = [
+  { id: 'run', open: '[data-testid="tab-run"]' },
+  { id: 'pair', open: '[data-testid="tab-pair"]' },
+  { id: 'drift', open: '[data-testid="tab-drift"]' },
+  { id: 'book', open: '[data-testid="tab-book"]' },
+] as const;
+
+/** A control the user cannot reach: outside the viewport even after scrolling to it. */
+export interface Unreachable {
+  readonly what: string;
+  readonly rect: readonly number[];
+}
+
+/**
+ * Scrolls to every visible control (buttons, fields, links, disclosures) and lists those that still lie
+ * outside the viewport. Controls hidden on purpose (a closed disclosure, the print-only report, the
+ * file input behind "Open WAV…") are left out.
+ */
+export function unreachableControls(page: Page): Promise<Unreachable[]> {
+  return page.evaluate(() => {
+    const sel =
+      'button, input:not([type="hidden"]), select, textarea, a[href], summary, [tabindex]:not([tabindex="-1"])';
+    const out: { what: string; rect: number[] }[] = [];
+    for (const el of Array.from(document.querySelectorAll<HTMLElement>(sel))) {
+      if (el.closest('.print-report')) continue;
+      const st = getComputedStyle(el);
+      if (st.display === 'none' || st.visibility === 'hidden') continue;
+      if (el.offsetParent === null && st.position !== 'fixed') continue;
+      el.scrollIntoView({ block: 'center', inline: 'center' });
+      const r = el.getBoundingClientRect();
+      if (r.width === 0 || r.height === 0) continue;
+      if (r.left < -1 || r.top < -1 || r.right > window.innerWidth + 1 || r.bottom > window.innerHeight + 1) {
+        const what = `${el.tagName.toLowerCase()} ${el.getAttribute('data-testid') ?? el.getAttribute('aria-label') ?? el.textContent?.trim().slice(0, 30) ?? ''}`;
+        out.push({ what, rect: [r.left, r.top, r.right, r.bottom].map(Math.round) });
+      }
+    }
+    window.scrollTo(0, 0);
+    return out;
+  });
+}
+
+/** Page width beyond the viewport, px (0 when there is no horizontal scrolling). */
+export function horizontalOverflow(page: Page): Promise<number> {
+  return page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+}
