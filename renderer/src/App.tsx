@@ -9,20 +9,20 @@ import { useCallback, useEffect, useMemo, useState, useSyncExternalStore } from 
 import { A4_HZ } from '../../dsp/notes.ts';
 import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
 import { recordingToRecordResult } from '../../dsp/recording.ts';
-import type { RunState } from '../../dsp/run.ts';
 import type { AnalysisResult, UnitRecord } from '../../main/api-types.ts';
 import { EngineClient } from './engine/client.ts';
 import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
 import { useAudioInput } from './hooks/useAudioInput.ts';
 import { useCaptureSignal, type CaptureSignal } from './hooks/useCaptureSignal.ts';
+import { useFirstStep } from './hooks/useFirstStep.ts';
 import { pageStorage } from './hooks/pageStorage.ts';
 import { capturedCount, useRunAutosave, type RunSource } from './hooks/useRunAutosave.ts';
 import { useRunKeys } from './hooks/useRunKeys.ts';
+import { useRunReports } from './hooks/useRunReports.ts';
+import { useRunUndo } from './hooks/useRunUndo.ts';
 import { useTheme } from './hooks/useTheme.ts';
 import { useWavAnalysis } from './hooks/useWavAnalysis.ts';
 import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult } from './lib/analysis.ts';
-import { numberOrNull } from './lib/fields.ts';
-import { formatHz, formatVolts } from './lib/format.ts';
 import { parseStartupParams } from './lib/params.ts';
 import { loadSetup, saveSetup, setupOptions, type SetupForm } from './lib/setup.ts';
 import { simSettingsForUnit } from './lib/sim-settings.ts';
@@ -30,20 +30,13 @@ import { pickStore } from './storage/store.ts';
 import { BenchView } from './ui/BenchView.tsx';
 import { StripChart } from './ui/charts.tsx';
 import { DriftPanel } from './ui/DriftPanel.tsx';
+import { FirstStepQuestion } from './ui/FirstStepQuestion.tsx';
 import { InputPanel } from './ui/InputPanel.tsx';
 import { LiveReadout } from './ui/LiveReadout.tsx';
 import { PrintReport } from './ui/PrintReport.tsx';
-import { EMPTY_UNIT_INFO, RecordsPanel, UNIT_RULES, type UnitInfo } from './ui/RecordsPanel.tsx';
+import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.tsx';
 import { RecordingPanel } from './ui/RecordingPanel.tsx';
-import {
-  DEFAULT_TOLERANCE_CENTS,
-  SOFTWARE_VERSION,
-  reportFileName,
-  reportToCsv,
-  reportToJson,
-  resultFromAnalysis,
-  type RunReport,
-} from './ui/results/index.ts';
+import { resultFromAnalysis } from './ui/results/index.ts';
 import { OpenWavControl, RunPanel } from './ui/RunPanel.tsx';
 import { SetupPanel } from './ui/SetupPanel.tsx';
 import { TopBar, type Tab } from './ui/TopBar.tsx';
@@ -56,13 +49,29 @@ function modeFor(tab: Tab): EngineMode {
 /** Said wherever a fault stops the input while a run is in progress. */
 const RUN_KEPT = 'The run is kept with its captured steps, paused: press Resume once the input is back.';
 
-/** How far the first step may be from the same voltage in the unit's last run and count as known, cents. */
-const FIRST_STEP_MATCH_CENTS = 150;
-
 export function App() {
   const params = useMemo(() => parseStartupParams(window.location.search), []);
   const client = useMemo(() => new EngineClient(), []);
-  const view = useSyncExternalStore(client.subscribe, client.getView);
+  // The engine reports every reading; the page redraws at most once a frame, with the latest view, so a
+  // burst of readings on a busy machine never queues up renders.
+  const subscribeFramed = useMemo(
+    () => (notify: () => void) => {
+      let frame = 0;
+      const stop = client.subscribe(() => {
+        if (frame === 0)
+          frame = requestAnimationFrame(() => {
+            frame = 0;
+            notify();
+          });
+      });
+      return () => {
+        stop();
+        if (frame !== 0) cancelAnimationFrame(frame);
+      };
+    },
+    [client],
+  );
+  const view = useSyncExternalStore(subscribeFramed, client.getView);
   const store = useMemo(() => pickStore(), []);
   const audio = useAudioInput(client, params);
   const [theme, setTheme] = useTheme();
@@ -76,14 +85,8 @@ export function App() {
     toleranceCents: 1,
     alternateSeconds: 3,
   });
-  const [exportMsg, setExportMsg] = useState<string | null>(null);
   const [openRecord, setOpenRecord] = useState<UnitRecord | null>(null);
-  const [printReport, setPrintReport] = useState<RunReport | null>(null);
   const [bench, setBench] = useState(false);
-  /** The run as it was before a Close, Redo or Restart, to put back with Undo. */
-  const [undo, setUndo] = useState<{ text: string; state: RunState } | null>(null);
-  /** The run whose first step the user has confirmed (by its plan and first capture). */
-  const [firstConfirmed, setFirstConfirmed] = useState<string | null>(null);
   /** Wall-clock time of the current run's first capture, ISO 8601. */
   const [runTakenAt, setRunTakenAt] = useState<string | null>(null);
   /** The Span run's Setup (clock correction, fit range and input network), kept between sessions. */
@@ -139,26 +142,19 @@ export function App() {
 
   const sendEvent = useCallback((e: UserRunEvent) => client.send({ type: 'run-event', event: e }), [client]);
 
-  /** Sends a run event that drops a capture, keeping the run as it was for Undo. */
-  const sendWithUndo = useCallback(
-    (e: UserRunEvent) => {
-      if (runState && e.type === 'redo' && runState.steps[e.stepIndex]?.capture) {
-        setUndo({ text: `Step ${e.stepIndex + 1} is being measured again.`, state: runState });
-      }
-      sendEvent(e);
-    },
-    [runState, sendEvent],
-  );
+  const {
+    undo,
+    sendWithUndo,
+    beforeRestart,
+    closeRun,
+    doUndo,
+    dismiss: dismissUndo,
+  } = useRunUndo(client, store, runState, sendEvent);
 
   const startRun = useCallback(() => {
     const p = parsePlan(planText);
     if (p.kind !== 'ok') return;
-    if (runState && capturedCount(runState) > 0) {
-      setUndo({
-        text: `The previous run (${capturedCount(runState)} captured steps) was replaced.`,
-        state: runState,
-      });
-    }
+    beforeRestart();
     const preset = PLAN_PRESETS.find((x) => formatPlan(x.volts) === formatPlan(p.volts));
     client.send({
       type: 'run-start',
@@ -168,47 +164,18 @@ export function App() {
         volts: [...p.volts],
       },
     });
-    setFirstConfirmed(null);
     setRunTakenAt(null);
     autosave.dismiss();
     setTab('run');
     audio.resumeAudio();
-  }, [planText, client, audio, runState, autosave]);
-
-  const closeRun = useCallback(() => {
-    if (runState && capturedCount(runState) > 0) {
-      setUndo({ text: `Run closed with ${capturedCount(runState)} captured steps.`, state: runState });
-    } else void store.clearAutosave();
-    client.send({ type: 'run-close' });
-  }, [runState, client, store]);
-
-  const doUndo = useCallback(() => {
-    if (!undo) return;
-    client.send({ type: 'run-restore', state: undo.state });
-    setUndo(null);
-  }, [undo, client]);
+  }, [planText, client, audio, beforeRestart, autosave]);
 
   // ---- First step: confirmed against what is known ---------------------------------------------
-  const first = runState?.steps[0] ?? null;
-  const firstKey = runState && first?.capture ? `${runState.plan.volts.join(',')}@${first.capture.hz}` : null;
-  const knownFirst = useMemo(() => {
-    if (!first?.capture || !openRecord) return null;
-    const last = openRecord.runs.at(-1);
-    const same = last?.result.steps.find((s) => Math.abs(s.volts - first.nominalVolts) < 1e-6);
-    if (!same) return null;
-    const cents = 1200 * Math.log2(first.capture.hz / same.hz);
-    return { cents, label: last?.label ?? 'last run' };
-  }, [first, openRecord]);
-  const firstNeedsAnswer =
-    audio.source === 'device' &&
-    firstKey !== null &&
-    firstConfirmed !== firstKey &&
-    !(knownFirst && Math.abs(knownFirst.cents) <= FIRST_STEP_MATCH_CENTS);
-  const confirmFirst = useCallback(() => setFirstConfirmed(firstKey), [firstKey]);
+  const first = useFirstStep(runState, audio.source === 'device', openRecord);
 
   useRunKeys(runState, tab === 'run' && !bench, sendWithUndo, (key) => {
-    if (firstNeedsAnswer && key.toLowerCase() === 'y') {
-      confirmFirst();
+    if (first.needsAnswer && key.toLowerCase() === 'y') {
+      first.confirm();
       return true;
     }
     return false;
@@ -242,45 +209,14 @@ export function App() {
     return analysis && (analysis.table?.rows.length ?? 0) > 0 ? toAnalysisResult(analysis) : null;
   }, [recordingView, analysis]);
 
-  const liveReport = useMemo((): RunReport | null => {
-    if (!shownAnalysis || (shownAnalysis.table?.rows.length ?? 0) === 0) return null;
-    return {
-      result: resultFromAnalysis(shownAnalysis),
-      unitName: info.unitName.trim() || info.serial.trim(),
-      serial: info.serial.trim() || null,
-      label: recordingView ? recordingView.fileName : 'not saved',
-      takenAt: recordingView ? null : runTakenAt,
-      roomTempC: numberOrNull(info.roomTempC, UNIT_RULES.roomTempC),
-      meterUsed: info.meterUsed.trim() || null,
-      warmUpMinutes: numberOrNull(info.warmUpMinutes, UNIT_RULES.warmUpMinutes),
-      notes: info.notes.trim() || null,
-      planVolts: shownPlanVolts,
-      toleranceCents: numberOrNull(info.toleranceCents, UNIT_RULES.toleranceCents) ?? DEFAULT_TOLERANCE_CENTS,
-      saved: false,
-      softwareVersion: SOFTWARE_VERSION,
-    };
-  }, [shownAnalysis, info, recordingView, runTakenAt, shownPlanVolts]);
-
-  const doExport = useCallback(
-    async (report: RunReport, format: 'csv' | 'json') => {
-      const content = format === 'csv' ? reportToCsv(report) : reportToJson(report);
-      const r = await store.exportFile({ format, suggestedName: reportFileName(report), content });
-      setExportMsg(
-        r.ok
-          ? r.value.kind === 'saved'
-            ? `Exported ${r.value.fileName}.`
-            : 'Export cancelled.'
-          : r.error.message,
-      );
-    },
-    [store],
+  const reports = useRunReports(
+    store,
+    shownAnalysis,
+    info,
+    recordingView ? recordingView.fileName : 'not saved',
+    recordingView ? null : runTakenAt,
+    shownPlanVolts,
   );
-
-  const doPrint = useCallback((report: RunReport) => {
-    setPrintReport(report);
-    // Print once the report has rendered.
-    window.setTimeout(() => window.print(), 50);
-  }, []);
 
   /** One click from a piece of advice to the scale pair, with the advised voltages filled in. */
   const checkAdvice = useCallback(
@@ -306,31 +242,6 @@ export function App() {
           text: `The sample rate changed from ${view.rateChange.fromHz.toLocaleString('en-US')} Hz to ${view.rateChange.toHz.toLocaleString('en-US')} Hz. The run is kept with its captured steps and paused on the new stream: press Resume to go on.`,
         }
       : null;
-
-  const firstStepQuestion =
-    runState && first?.capture && tab === 'run' ? (
-      firstNeedsAnswer ? (
-        <div className="warning first-step" role="alert" data-testid="first-step-question">
-          <strong>
-            Is this {formatVolts(first.nominalVolts)}? Step 1 read {formatHz(first.capture.hz)} Hz.
-          </strong>
-          <span>
-            If the voltage was not {formatVolts(first.nominalVolts)}, every step would be labelled wrong:
-            confirm, or redo step 1 with the right voltage.
-          </span>
-          <button onClick={confirmFirst} data-testid="first-step-yes">
-            Yes, it is <kbd>Y</kbd>
-          </button>
-          <button onClick={() => sendWithUndo({ type: 'redo', stepIndex: 0 })}>Redo step 1</button>
-        </div>
-      ) : knownFirst && firstKey !== firstConfirmed && audio.source === 'device' ? (
-        <p className="message info small" data-testid="first-step-known">
-          Step 1 is {knownFirst.cents >= 0 ? '+' : '−'}
-          {Math.abs(knownFirst.cents).toFixed(1)} ¢ from the same voltage in “{knownFirst.label}” of{' '}
-          {openRecord?.unitName}: the voltage looks right.
-        </p>
-      ) : null
-    ) : null;
 
   const inputMessage =
     audio.message?.kind === 'error' && active
@@ -393,13 +304,7 @@ export function App() {
                 <button onClick={doUndo} data-testid="undo">
                   Undo
                 </button>
-                <button
-                  className="quiet"
-                  onClick={() => {
-                    setUndo(null);
-                    if (!runState) void store.clearAutosave();
-                  }}
-                >
+                <button className="quiet" onClick={dismissUndo}>
                   Dismiss
                 </button>
               </div>
@@ -433,7 +338,12 @@ export function App() {
                 }
                 onOpenWav={onOpenWav}
                 wavStatus={wav.status && { ...wav.status, text: wav.status.text + runKeptNote }}
-                firstStep={firstStepQuestion}
+                firstStep={
+                  <FirstStepQuestion
+                    first={first}
+                    onRedo={() => sendWithUndo({ type: 'redo', stepIndex: 0 })}
+                  />
+                }
                 onCheckAdvice={checkAdvice}
                 onBenchView={() => setBench(true)}
                 setup={
@@ -474,17 +384,17 @@ export function App() {
                 onInfo={setInfo}
                 result={recordResult}
                 planVolts={shownPlanVolts}
-                liveReport={liveReport}
-                onExport={(r, f) => void doExport(r, f)}
-                onPrint={doPrint}
+                liveReport={reports.liveReport}
+                onExport={(r, f) => void reports.doExport(r, f)}
+                onPrint={reports.doPrint}
                 onSaved={() => void store.clearAutosave()}
                 openRecord={openRecord}
                 onOpenRecord={setOpenRecord}
               />
             )}
-            {exportMsg && tab === 'book' && (
+            {reports.exportMsg && tab === 'book' && (
               <p className="message info" role="status" data-testid="export-message">
-                {exportMsg}
+                {reports.exportMsg}
               </p>
             )}
           </div>
@@ -502,7 +412,7 @@ export function App() {
           onClose={() => setBench(false)}
         />
       )}
-      <PrintReport report={printReport ?? liveReport} />
+      <PrintReport report={reports.printReport} />
     </>
   );
 }
