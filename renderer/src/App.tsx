@@ -20,6 +20,7 @@ import { capturedCount, useRunAutosave, type RunSource } from './hooks/useRunAut
 import { useRunKeys } from './hooks/useRunKeys.ts';
 import { useRunReports } from './hooks/useRunReports.ts';
 import { useRunUndo } from './hooks/useRunUndo.ts';
+import { useSettledShown } from './hooks/useSettledShown.ts';
 import { useTheme } from './hooks/useTheme.ts';
 import { useWavAnalysis } from './hooks/useWavAnalysis.ts';
 import { analyzeRun, recordingAsRunAnalysis, toAnalysisResult } from './lib/analysis.ts';
@@ -74,6 +75,7 @@ export function App() {
   const view = useSyncExternalStore(subscribeFramed, client.getView);
   const store = useMemo(() => pickStore(), []);
   const audio = useAudioInput(client, params);
+  const settledShown = useSettledShown(view.settled, view.simVolts, view.streamSeconds);
   const [theme, setTheme] = useTheme();
 
   const [planText, setPlanText] = useState(params.planText ?? formatPlan(presetPlan().volts));
@@ -263,7 +265,7 @@ export function App() {
           <div className="left">
             <LiveReadout
               reading={view.reading}
-              settled={view.settled}
+              settled={settledShown}
               streamSeconds={view.streamSeconds}
               clockPpm={setup.clockPpm}
             />
