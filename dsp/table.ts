@@ -1,6 +1,8 @@
 /**
  * The octave-spread error table: one row per measured step, with the nearest note, the error from the
- * ideal 1 V/oct line through the first step, and the interval to the previous step.
+ * ideal 1 V/oct line through the lowest-voltage step, and the interval from the next lower voltage. Rows
+ * keep the order the steps were played in; the reference and the intervals follow the voltage order, so a
+ * descending or unordered plan gives interval errors with the same sign as the fitted scale error.
  *
  * Cents are `1200·log2(f1/f2)` (A. J. Ellis, 1885); note names use 12-TET with A4 = 440 Hz by default
  * (ISO 16:1975) and scientific pitch notation, middle C = C4.
@@ -36,15 +38,23 @@ export interface TableRow {
   readonly noteName: string;
   /** Cents from that note to the reading, in [−50, +50). */
   readonly noteCents: Cents;
-  /** `1200·log2(f/f₀) − 1200·(V − V₀)` against the first row; 0 for the first row itself. */
+  /**
+   * `1200·log2(f/f₀) − 1200·(V − V₀)` against the reference row, the lowest voltage (the first of
+   * equal lowest voltages); 0 for the reference row itself.
+   */
   readonly centsFromIdeal: Cents;
-  /** Standard uncertainty of `centsFromIdeal`: √(σ² + σ₀²), 0 for the first row. */
+  /** Standard uncertainty of `centsFromIdeal`: √(σ² + σ₀²), 0 for the reference row. */
   readonly centsFromIdealUncertainty: Cents;
-  /** `1200·log2(f/f_prev)`, or null for the first row. */
+  /**
+   * Position (`index`) of the row this row's interval is taken from: the previous row in voltage order
+   * (ties in input order), or null for the lowest row.
+   */
+  readonly belowIndex: number | null;
+  /** `1200·log2(f/f_below)`, or null for the lowest row. */
   readonly intervalCents: Cents | null;
-  /** `intervalCents − 1200·(V − V_prev)`, or null for the first row. */
+  /** `intervalCents − 1200·(V − V_below)`, or null for the lowest row. */
   readonly intervalErrorCents: Cents | null;
-  /** Standard uncertainty of the interval: √(σ² + σ_prev²), or null for the first row. */
+  /** Standard uncertainty of the interval: √(σ² + σ_below²), or null for the lowest row. */
   readonly intervalUncertaintyCents: Cents | null;
   /** The reading's own standard uncertainty, cents. */
   readonly uncertaintyCents: Cents;
@@ -74,8 +84,9 @@ export interface ErrorTableOptions {
 }
 
 /**
- * Builds the octave-spread error table. Rows keep the input order, and "previous step" means the
- * previous row, so walk the steps in the order they were measured (normally rising).
+ * Builds the octave-spread error table. Rows keep the input order (the order of play); each row's
+ * interval is taken from the next lower voltage and the ideal line goes through the lowest voltage, so
+ * the signs do not depend on the order the plan was played in (a wide octave is positive either way).
  *
  * @param steps - Steps with nominal (and optionally measured) volts, Hz > 0 and uncertainty ≥ 0.
  * @param opts - `a4Hz`, default 440.
@@ -114,11 +125,17 @@ export function buildErrorTable(
   });
   if (steps.length === 0) return { kind: 'none', reason: 'no-steps' };
   const v = (s: TableStep) => s.measuredVolts ?? s.nominalVolts;
-  const s0 = steps[0];
+  // Voltage order, ties in input order (Array.prototype.sort is stable, ECMAScript 2019).
+  const order = steps.map((_, i) => i).sort((a, b) => v(steps[a]) - v(steps[b]));
+  const below = new Array<number | null>(steps.length).fill(null);
+  order.forEach((idx, k) => (below[idx] = k > 0 ? order[k - 1] : null));
+  const s0 = steps[order[0]];
   const rows: TableRow[] = steps.map((s, i) => {
     const note = nearestNote(s.hz, a4Hz);
-    const prev = i > 0 ? steps[i - 1] : null;
+    const b = below[i];
+    const prev = b === null ? null : steps[b];
     const interval = prev === null ? null : CENTS_PER_OCTAVE * Math.log2(s.hz / prev.hz);
+    const isRef = i === order[0];
     return {
       index: i,
       nominalVolts: s.nominalVolts,
@@ -127,9 +144,11 @@ export function buildErrorTable(
       hz: s.hz,
       noteName: note.name,
       noteCents: note.cents,
-      centsFromIdeal:
-        i === 0 ? 0 : CENTS_PER_OCTAVE * Math.log2(s.hz / s0.hz) - CENTS_PER_OCTAVE * (v(s) - v(s0)),
-      centsFromIdealUncertainty: i === 0 ? 0 : Math.hypot(s.uncertaintyCents, s0.uncertaintyCents),
+      centsFromIdeal: isRef
+        ? 0
+        : CENTS_PER_OCTAVE * Math.log2(s.hz / s0.hz) - CENTS_PER_OCTAVE * (v(s) - v(s0)),
+      centsFromIdealUncertainty: isRef ? 0 : Math.hypot(s.uncertaintyCents, s0.uncertaintyCents),
+      belowIndex: b,
       intervalCents: interval,
       intervalErrorCents:
         prev === null || interval === null ? null : interval - CENTS_PER_OCTAVE * (v(s) - v(prev)),

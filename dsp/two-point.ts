@@ -80,3 +80,44 @@ export function pairingResult(pairing: TwoPointPairing, settings: TwoPointSettin
     return null;
   }
 }
+
+/**
+ * The scale pair's unexpected-pitch guard, cents: an interval further than this from the pair's nominal
+ * interval (1200 cents per volt) is not a trimming error but a wrong or stale voltage, and gives no
+ * instruction. The same margin as the run's default pitch tolerance (dsp/run.ts DEFAULT_RUN_OPTIONS);
+ * common practice, no source.
+ */
+export const PAIR_GUARD_CENTS: Cents = 150;
+
+/** Two sides heard whose interval is too far from the nominal one to be the pair. */
+export interface UnexpectedInterval {
+  /** Interval between the heard sides, cents. */
+  readonly measuredCents: Cents;
+  /** Nominal interval of the pair, 1200 cents per volt, cents. */
+  readonly expectedCents: Cents;
+}
+
+/** The pair's verdict: an interval error, or the guard's reason for giving none. */
+export interface PairingCheck {
+  readonly result: TwoPointResult | null;
+  readonly unexpected: UnexpectedInterval | null;
+}
+
+/**
+ * The pair's interval error behind the unexpected-pitch guard: when both sides are heard and their
+ * interval is more than {@link PAIR_GUARD_CENTS} from the nominal `1200 · (voltsHigh − voltsLow)` cents
+ * (1 V/oct), `unexpected` says so and there is no result; otherwise as {@link pairingResult}.
+ *
+ * @param pairing - The sides.
+ * @param settings - Voltages and tolerance.
+ * @example checkPairing({ low: { hz: 130, startSeconds: 0 }, high: { hz: 1040, startSeconds: 3 } }, { voltsLow: 1, voltsHigh: 3, toleranceCents: 1 }).unexpected // { measuredCents: 3600, expectedCents: 2400 }
+ */
+export function checkPairing(pairing: TwoPointPairing, settings: TwoPointSettings): PairingCheck {
+  if (!pairing.low || !pairing.high) return { result: null, unexpected: null };
+  const measuredCents = CENTS_PER_OCTAVE * Math.log2(pairing.high.hz / pairing.low.hz);
+  const expectedCents = CENTS_PER_OCTAVE * (settings.voltsHigh - settings.voltsLow);
+  if (!(Math.abs(measuredCents - expectedCents) <= PAIR_GUARD_CENTS)) {
+    return { result: null, unexpected: { measuredCents, expectedCents } };
+  }
+  return { result: pairingResult(pairing, settings), unexpected: null };
+}

@@ -163,6 +163,11 @@ const recordFields = {
     .min(0)
     .max(24 * 60)
     .optional(),
+  /**
+   * The unit's tracking tolerance, ± cents: a run passes when every step lies within it of the ideal
+   * 1 V/oct line through its lowest step. Absent: the app's default (2 cents, FIELD-NOTES).
+   */
+  toleranceCents: finite().positive().max(100).optional(),
   runs: z.array(RunSchema).max(1000),
   /**
    * The record's revision: 1 when first stored, one more on every change. In a draft it is the revision

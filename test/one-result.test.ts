@@ -125,6 +125,7 @@ describe('one plan, every path, one result', () => {
       roomTempC: '',
       meterUsed: '',
       warmUpMinutes: '',
+      toleranceCents: '',
     };
     const runs = [
       {

@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import { buildErrorTable, type TableStep } from '../dsp/table.ts';
+import { fitTracking } from '../dsp/fit.ts';
 
 const ok = (steps: readonly TableStep[], a4Hz?: number) => {
   const t = buildErrorTable(steps, a4Hz === undefined ? {} : { a4Hz });
@@ -71,6 +72,50 @@ describe('buildErrorTable', () => {
       uncertaintyCents: 0.01,
     }));
     ok(steps).rows.forEach((r, i) => expect(r.centsFromIdeal).toBeCloseTo(errors[i], 9));
+  });
+
+  describe('descending and unordered plans', () => {
+    // An oscillator whose octaves are 3.61 cents wide: f(V) = 55·2^(V·(1 + 3.61/1200)). Cents after
+    // A. J. Ellis (1885): an interval of one volt is 1203.61 cents, so its error is +3.61 in either
+    // direction of play; the fitted scale error has that same sign.
+    const WIDE = 3.61;
+    const hzAt = (v: number) => 55 * 2 ** (v * (1 + WIDE / 1200));
+    const steps = (volts: readonly number[]): TableStep[] =>
+      volts.map((v) => ({ nominalVolts: v, hz: hzAt(v), uncertaintyCents: 0.01 }));
+
+    it.each([
+      ['7,6,5', [7, 6, 5]],
+      ['5,6,7', [5, 6, 7]],
+      ['6,7,5', [6, 7, 5]],
+      ['0,4,2,7,1', [0, 4, 2, 7, 1]],
+    ])('plan %s: interval errors have the sign of the fit', (_name, volts) => {
+      const t = ok(steps(volts));
+      const fit = fitTracking(volts.map((v) => ({ volts: v, hz: hzAt(v), uncertaintyCents: 0.01 })));
+      if (fit.kind !== 'ok') throw new Error('expected a fit');
+      expect(fit.scaleErrorCentsPerOctave).toBeCloseTo(WIDE, 6);
+      const lowest = Math.min(...volts);
+      t.rows.forEach((r) => {
+        // Rows keep the order of play.
+        expect(r.nominalVolts).toBe(volts[r.index]);
+        if (r.nominalVolts === lowest) {
+          expect(r.intervalErrorCents).toBeNull();
+          expect(r.centsFromIdeal).toBe(0);
+        } else {
+          const below = Math.max(...volts.filter((v) => v < r.nominalVolts));
+          expect(volts[r.belowIndex as number]).toBe(below);
+          expect(r.intervalErrorCents as number).toBeCloseTo(WIDE * (r.nominalVolts - below), 6);
+          expect(Math.sign(r.intervalErrorCents as number)).toBe(Math.sign(fit.scaleErrorCentsPerOctave));
+          expect(r.centsFromIdeal).toBeCloseTo(WIDE * (r.nominalVolts - lowest), 6);
+        }
+      });
+    });
+
+    it('repeated voltages: the later one takes its interval from the earlier (repeatability)', () => {
+      const t = ok(steps([0, 1, 1]));
+      expect(t.rows[1].belowIndex).toBe(0);
+      expect(t.rows[2].belowIndex).toBe(1);
+      expect(t.rows[2].intervalErrorCents as number).toBeCloseTo(0, 9);
+    });
   });
 
   it('returns a typed non-answer for no steps', () => {

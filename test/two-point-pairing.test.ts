@@ -2,7 +2,14 @@
 // the engine into dsp/). Cents are 1200·log2(f1/f2) (Ellis, 1885).
 import { describe, expect, it } from 'vitest';
 import { DriftBinner } from '../dsp/drift-bins.ts';
-import { EMPTY_PAIRING, pairingResult, pairPlateau, SAME_SIDE_CENTS } from '../dsp/two-point.ts';
+import {
+  checkPairing,
+  EMPTY_PAIRING,
+  PAIR_GUARD_CENTS,
+  pairingResult,
+  pairPlateau,
+  SAME_SIDE_CENTS,
+} from '../dsp/two-point.ts';
 
 describe('pairPlateau', () => {
   it('fills low then high, keeps the lower pitch low, and lets the trimmer move a side', () => {
@@ -52,5 +59,34 @@ describe('DriftBinner', () => {
     expect(bin?.timeSeconds).toBeCloseTo(0.5, 12);
     expect(1200 * Math.log2(bin!.hz / 440)).toBeCloseTo(1, 9);
     expect(b.readings).toHaveLength(1);
+  });
+});
+
+describe('checkPairing (unexpected-pitch guard)', () => {
+  const settings = { voltsLow: 1, voltsHigh: 3, toleranceCents: 1 };
+  it('gives the interval error when the pair is within the guard of 1200 cents per volt (1 V/oct)', () => {
+    // 2 V at 1 V/oct is two octaves (FIELD-NOTES); 5 cents narrow is well inside the guard.
+    const high = 130 * Math.pow(2, (2400 - 5) / 1200);
+    const c = checkPairing(
+      { low: { hz: 130, startSeconds: 0 }, high: { hz: high, startSeconds: 3 } },
+      settings,
+    );
+    expect(c.unexpected).toBeNull();
+    expect(c.result).toEqual(
+      pairingResult({ low: { hz: 130, startSeconds: 0 }, high: { hz: high, startSeconds: 3 } }, settings),
+    );
+  });
+  it('gives no instruction when the interval is a whole octave off (a wrong voltage)', () => {
+    const c = checkPairing(
+      { low: { hz: 130, startSeconds: 0 }, high: { hz: 1040, startSeconds: 3 } },
+      settings,
+    );
+    expect(c.result).toBeNull();
+    expect(c.unexpected?.expectedCents).toBe(2400);
+    expect(c.unexpected?.measuredCents).toBeCloseTo(3600, 9);
+    expect(PAIR_GUARD_CENTS).toBe(150);
+  });
+  it('is empty until both sides are heard', () => {
+    expect(checkPairing(EMPTY_PAIRING, settings)).toEqual({ result: null, unexpected: null });
   });
 });

@@ -109,6 +109,9 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
   }, 60_000);
 
   it('reports a plateau-count mismatch by count and time, and keeps the live run', async () => {
+    // The file is written before the run starts, so the run is still going when it is opened.
+    const rec = render([0, 1, 2]);
+    const file = writeWav('e2e-open-wav-3-steps.wav', rec.samples, rec.sampleRateHz);
     const { page, errors } = await openPage(`?input=sim&unit=ol3-0412&plan=${PLAN.join(',')}`);
     await page.waitForFunction(
       () => Number(document.querySelector('[data-testid="live-hz"]')?.getAttribute('data-hz')) > 0,
@@ -118,9 +121,6 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
     await page.click('[data-testid="start-run"]');
     await waitForStepRows(page, 1, 20_000);
     const before = await readStepRows(page);
-
-    const rec = render([0, 1, 2]);
-    const file = writeWav('e2e-open-wav-3-steps.wav', rec.samples, rec.sampleRateHz);
     await page.setInputFiles('[data-testid="open-wav"]', file);
     await page.waitForSelector('[data-testid="wav-message"][data-kind="error"]', { timeout: 30_000 });
     const text = await page.innerText('[data-testid="wav-message"]');

@@ -13,8 +13,8 @@ import { DriftBinner } from '../../../dsp/drift-bins.ts';
 import { createPlateauDetector, type PlateauDetector } from '../../../dsp/plateau.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
 import {
+  checkPairing,
   EMPTY_PAIRING,
-  pairingResult,
   pairPlateau,
   type TwoPointPairing,
   type TwoPointSideState,
@@ -65,11 +65,16 @@ interface Glide {
 export const SIM_GLIDE_SECONDS = 0.15;
 
 const SIM_CHUNK = 1024;
+/** The scale pair's unexpected-pitch guard, cents (dsp/two-point.ts). */
+export { PAIR_GUARD_CENTS } from '../../../dsp/two-point.ts';
+
 interface TwoPointState {
   config: TwoPointConfig;
   detector: PlateauDetector;
   pairing: TwoPointPairing;
   liveStart: number | null;
+  /** When the pair was opened or set up, stream seconds: readings before it are not used. */
+  enteredAt: number;
   /** Simulator: when the voltage last switched, stream seconds, and which side it is on. */
   switchedAt: number;
   onHigh: boolean;
@@ -79,6 +84,8 @@ interface DriftState {
   volts: number;
   windowSeconds: number;
   bins: DriftBinner;
+  /** Settling of the held voltage, fed only with readings taken after the hold was asked for. */
+  detector: PlateauDetector;
 }
 
 /** The pause reason shown when the user paused the run. */
@@ -230,6 +237,7 @@ export class EngineCore {
           detector: createPlateauDetector(),
           pairing: EMPTY_PAIRING,
           liveStart: null,
+          enteredAt: this.streamSeconds,
           switchedAt: this.streamSeconds,
           onHigh: false,
         };
@@ -239,6 +247,7 @@ export class EngineCore {
         if (this.twoPoint) {
           this.twoPoint.detector.reset();
           this.twoPoint.pairing = EMPTY_PAIRING;
+          this.twoPoint.enteredAt = this.streamSeconds;
         }
         return;
       case 'drift-start':
@@ -246,6 +255,7 @@ export class EngineCore {
           volts: msg.volts,
           windowSeconds: msg.windowSeconds,
           bins: new DriftBinner(),
+          detector: createPlateauDetector(),
         };
         this.setMode('drift');
         this.autoGlide(msg.volts);
@@ -338,6 +348,11 @@ export class EngineCore {
     }
     this.mode = mode;
     if (mode === 'two-point' && this.twoPoint) {
+      // A fresh start: nothing heard before the pair was opened (the run's last step, say) counts.
+      this.twoPoint.detector.reset();
+      this.twoPoint.pairing = EMPTY_PAIRING;
+      this.twoPoint.liveStart = null;
+      this.twoPoint.enteredAt = this.streamSeconds;
       this.twoPoint.switchedAt = this.streamSeconds;
       this.twoPoint.onHigh = false;
       this.autoGlide(this.twoPoint.config.voltsLow);
@@ -510,19 +525,22 @@ export class EngineCore {
 
   private updateTwoPoint(r: PitchReading): TwoPointView {
     const tp = this.twoPoint as TwoPointState;
+    if (r.timeSeconds < tp.enteredAt) {
+      return { low: null, high: null, result: null, status: 'settling', unexpected: null };
+    }
     const u = tp.detector.push(r);
     const open = tp.detector.current();
     let status: TwoPointView['status'] = u.status.kind === 'no-signal' ? 'no-signal' : 'settling';
     tp.liveStart = null;
-    if (open) {
+    if (open && open.startSeconds >= tp.enteredAt) {
       status = 'settled';
       tp.liveStart = open.startSeconds;
       tp.pairing = pairPlateau(tp.pairing, { hz: open.meanHz, startSeconds: open.startSeconds });
     }
-    const result = pairingResult(tp.pairing, tp.config);
+    const { result, unexpected } = checkPairing(tp.pairing, tp.config);
     const side = (s: TwoPointSideState | null) =>
       s ? { hz: s.hz, live: tp.liveStart !== null && s.startSeconds === tp.liveStart } : null;
-    return { low: side(tp.pairing.low), high: side(tp.pairing.high), result, status };
+    return { low: side(tp.pairing.low), high: side(tp.pairing.high), result, status, unexpected };
   }
 
   private updateDrift(r: PitchReading): void {
@@ -535,7 +553,8 @@ export class EngineCore {
       const gliding =
         this.sim !== null &&
         (this.patched ? r.timeSeconds < g.t0 + g.seconds : this.cvAt(r.timeSeconds) !== d.volts);
-      if (gliding || this.liveDetector.current() === null) return;
+      d.detector.push(r);
+      if (gliding || d.detector.current() === null) return;
       d.bins.start(r.timeSeconds, r.hz);
     }
     if (d.bins.push(r.timeSeconds, r.hz)) this.postDrift();

@@ -110,6 +110,11 @@ export interface TwoPointView {
   readonly result: TwoPointResult | null;
   /** 'settling' while a new pitch settles, 'settled' on a plateau, 'no-signal'. */
   readonly status: 'settling' | 'settled' | 'no-signal';
+  /**
+   * Set when the two pitches are further from the pair's interval than the unexpected-pitch guard
+   * allows (a wrong or stale voltage): no instruction is given. Cents, measured and nominal.
+   */
+  readonly unexpected?: { readonly measuredCents: number; readonly expectedCents: number } | null;
 }
 
 /** The drift hold as it stands. */

@@ -8,6 +8,7 @@ import { MAX_CLOCK_PPM } from '../../../dsp/clock.ts';
 import { parseOhms } from '../../../dsp/eseries.ts';
 import { MAX_CONTROL_VOLTS } from '../../../dsp/plan.ts';
 import type { CalibrationOptions } from '../../../dsp/recording.ts';
+import { parseNumberField } from './fields.ts';
 
 /** The Setup as the form holds it: the text of every field, so a half-typed value is never lost. */
 export interface SetupForm {
@@ -51,11 +52,15 @@ export const RESISTOR_NAMES: Readonly<Record<InputNetwork['topology'], readonly 
 /** Voltages accepted for the fit range, V: the one limit of every control voltage (dsp/plan.ts). */
 const FIT_VOLTS_LIMIT = MAX_CONTROL_VOLTS;
 
+/** A number by the one field rule (lib/fields.ts: decimal point or comma, no exponent), or null. */
 function parseNumber(text: string): number | null {
-  const t = text.trim().replace(',', '.').replace('−', '-');
-  if (!/^[+-]?(\d+\.?\d*|\.\d+)(e[+-]?\d+)?$/i.test(t)) return null;
-  const v = Number(t);
-  return Number.isFinite(v) ? v : null;
+  const p = parseNumberField(text);
+  return p.kind === 'ok' ? p.value : null;
+}
+
+/** Resistor text for `parseOhms`, with a decimal comma read as a point ("1,8k" is "1.8k"). */
+function ohmsText(text: string): string {
+  return text.replace(/(\d),(\d)/, '$1.$2');
 }
 
 /**
@@ -101,7 +106,7 @@ export function setupOptions(form: SetupForm): SetupOptions {
   if (form.topology !== 'none') {
     const names = RESISTOR_NAMES[form.topology];
     const ohms = [form.firstOhms, form.secondOhms].map((text, i) => {
-      const r = parseOhms(text);
+      const r = parseOhms(ohmsText(text));
       if (r.kind === 'ok') return r.ohms;
       problems.push(`${names[i]}: ${text.trim() === '' ? 'needs a value such as 100k' : r.message}.`);
       return null;
@@ -121,6 +126,33 @@ export function setupOptions(form: SetupForm): SetupOptions {
     ...(network === undefined ? {} : { network }),
     problems,
   };
+}
+
+/**
+ * The Setup in one line, saying only what is in use (a field that cannot be used is named as ignored,
+ * never repeated as if it applied).
+ *
+ * @example setupSummary(DEFAULT_SETUP) // 'no clock correction, every step fitted, no network'
+ */
+export function setupSummary(form: SetupForm): string {
+  const o = setupOptions(form);
+  const parts: string[] = [];
+  if (o.clockPpm !== 0) parts.push(`clock ${o.clockPpm > 0 ? '+' : ''}${o.clockPpm} ppm`);
+  if (o.fitFromVolts !== undefined || o.fitToVolts !== undefined) {
+    parts.push(`fit ${o.fitFromVolts ?? 'lowest'} to ${o.fitToVolts ?? 'highest'} V`);
+  }
+  if (o.network) {
+    const n = o.network;
+    parts.push(
+      n.topology === 'divider'
+        ? `divider ${form.firstOhms.trim()}, ${form.secondOhms.trim()}`
+        : `summer ${form.firstOhms.trim()}, ${form.secondOhms.trim()}`,
+    );
+  }
+  const used = parts.length > 0 ? parts.join(' · ') : 'no clock correction, every step fitted, no network';
+  return o.problems.length > 0
+    ? `${used} · ${o.problems.length} field${o.problems.length === 1 ? '' : 's'} ignored (invalid)`
+    : used;
 }
 
 /** The `localStorage` key of the Setup. */

@@ -71,7 +71,9 @@ export function DriftPanel(props: {
               : res.kind === 'settled'
                 ? `warm after ${formatClock(res.warmUpSeconds)} (rate now ${formatCents(res.driftRateCentsPerMinute, 3)} ¢/min)`
                 : res.kind === 'not-yet-settled'
-                  ? 'still drifting'
+                  ? lastRate !== null && Math.abs(lastRate) < 0.1
+                    ? `not warm yet: under 0.1 ¢/min now, and it must stay so for ${formatClock((v?.windowSeconds ?? 60) / 2)}`
+                    : 'not warm yet: the rate must fall under 0.1 ¢/min and stay there'
                   : res.kind === 'none'
                     ? `collecting: needs ${v?.windowSeconds ?? 0} s of readings`
                     : res.message}

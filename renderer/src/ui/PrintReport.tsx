@@ -1,92 +1,160 @@
 /**
- * The printable report: hidden on screen, the only thing printed (see the print rules in styles.css).
+ * The printed report of one run: a document a customer could receive. Hidden on screen; the only thing
+ * printed (see the print rules in styles.css). It shows the run it is given (a saved run with its own
+ * date, label and unit details, or the live run) and nothing else.
  */
-import type { RunAnalysis } from '../lib/analysis.ts';
+import { memo } from 'react';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
 import { StepChart } from './charts.tsx';
-import type { UnitInfo } from './RecordsPanel.tsx';
-import { FitAndAdvice } from './RunPanel.tsx';
+import { formatTakenAt, verdictFor, type RunReport } from './results/index.ts';
 
-export function PrintReport(props: {
-  analysis: RunAnalysis | null;
-  info: UnitInfo;
-  planVolts: readonly number[];
-}) {
-  const a = props.analysis;
-  const i = props.info;
+function Meta(props: { k: string; v: string | null | undefined }) {
   return (
-    <section className="print-report" aria-hidden="true">
-      <h1>Spanmeter tracking report</h1>
+    <>
+      <th scope="row">{props.k}</th>
+      <td>{props.v === null || props.v === undefined || props.v === '' ? '—' : props.v}</td>
+    </>
+  );
+}
+
+/** Re-rendered only when the report changes (not on every reading). */
+export const PrintReport = memo(function PrintReport(props: { report: RunReport | null }) {
+  const r = props.report;
+  if (!r) {
+    return (
+      <section className="print-report" aria-hidden="true">
+        <p>Nothing to print: choose a run in the unit book first.</p>
+      </section>
+    );
+  }
+  const verdict = verdictFor(r.result, r.toleranceCents);
+  const fit = r.result.fit;
+  return (
+    <section className="print-report" aria-hidden="true" data-testid="print-report">
+      <header className="print-head">
+        <div>
+          <div className="print-brand">Spanmeter</div>
+          <h1>1 V/octave tracking report</h1>
+        </div>
+        <div className={`print-verdict ${verdict.kind}`}>
+          {verdict.kind === 'pass' ? 'PASS' : verdict.kind === 'fail' ? 'FAIL' : '—'}
+          <span>±{r.toleranceCents} ¢</span>
+        </div>
+      </header>
       <table className="print-meta">
         <tbody>
           <tr>
-            <th>Unit</th>
-            <td>{i.unitName || '—'}</td>
-            <th>Serial</th>
-            <td>{i.serial || '—'}</td>
+            <Meta k="Unit" v={r.unitName} />
+            <Meta k="Serial" v={r.serial} />
           </tr>
           <tr>
-            <th>Date</th>
-            <td>{new Date().toLocaleString()}</td>
-            <th>Room</th>
-            <td>{i.roomTempC ? `${i.roomTempC} °C` : '—'}</td>
+            <Meta k="Run" v={r.label} />
+            <Meta k="Measured" v={formatTakenAt(r.takenAt)} />
           </tr>
           <tr>
-            <th>Meter</th>
-            <td>{i.meterUsed || '—'}</td>
-            <th>Warm-up</th>
-            <td>{i.warmUpMinutes ? `${i.warmUpMinutes} min` : '—'}</td>
+            <Meta k="Room" v={r.roomTempC === null ? null : `${r.roomTempC} °C`} />
+            <Meta k="Warm-up" v={r.warmUpMinutes === null ? null : `${r.warmUpMinutes} min`} />
+          </tr>
+          <tr>
+            <Meta k="Meter" v={r.meterUsed} />
+            <Meta k="Plan" v={`${r.planVolts.length} points, ${r.planVolts.join(', ')} V`} />
           </tr>
         </tbody>
       </table>
-      {i.notes && <p>{i.notes}</p>}
-      {a?.table ? (
+      <div className="print-summary">
+        <div>
+          <div className="print-label">Scale error</div>
+          <div className="print-figure">
+            {fit ? `${formatCents(fit.scaleErrorCentsPerOctave)} ¢/oct` : '—'}
+            {fit && fit.scaleErrorStdErrCents !== null && (
+              <small> ± {formatUncertainty(fit.scaleErrorStdErrCents)}</small>
+            )}
+          </div>
+        </div>
+        <div>
+          <div className="print-label">Worst step from ideal</div>
+          <div className="print-figure">
+            {verdict.worstCents === null ? '—' : `${verdict.worstCents.toFixed(2)} ¢`}
+          </div>
+        </div>
+        <div>
+          <div className="print-label">Pitch at 0 V</div>
+          <div className="print-figure">{fit ? `${formatHz(fit.hzAt0V)} Hz` : '—'}</div>
+        </div>
+      </div>
+      <p className="print-verdict-text">{verdict.text}.</p>
+      {r.notes && (
+        <p className="print-notes">
+          <strong>Notes:</strong> {r.notes}
+        </p>
+      )}
+      {r.result.rows.length > 0 ? (
         <>
           <table className="print-table">
             <thead>
               <tr>
-                <th>V set</th>
-                <th>V meter</th>
-                <th>Hz</th>
+                <th>Step</th>
+                <th>Set, V</th>
+                <th>Meter, V</th>
+                <th>Frequency, Hz</th>
                 <th>Note</th>
-                <th>¢ from ideal</th>
-                <th>¢ interval error</th>
-                <th>± ¢</th>
+                <th>From ideal, ¢</th>
+                <th>Interval error, ¢</th>
+                <th>±, ¢ (1σ)</th>
               </tr>
             </thead>
             <tbody>
-              {a.table.rows.map((r) => (
-                <tr key={r.index}>
-                  <td>{formatVolts(r.nominalVolts)}</td>
-                  <td>{r.measuredVolts === null ? '—' : formatVolts(r.measuredVolts)}</td>
-                  <td>{formatHz(r.hz)}</td>
+              {r.result.rows.map((x) => (
+                <tr key={x.step}>
+                  <td>{x.step}</td>
+                  <td>{formatVolts(x.nominalVolts, false)}</td>
+                  <td>{x.measuredVolts === null ? '—' : formatVolts(x.measuredVolts, false)}</td>
+                  <td>{formatHz(x.hz)}</td>
                   <td>
-                    {r.noteName} {formatCents(r.noteCents, 1)}
+                    {x.noteName} {formatCents(x.noteCents, 1)}
                   </td>
-                  <td>{formatCents(r.centsFromIdeal)}</td>
-                  <td>{formatCents(r.intervalErrorCents)}</td>
-                  <td>{formatUncertainty(r.uncertaintyCents)}</td>
+                  <td>{formatCents(x.centsFromIdeal)}</td>
+                  <td>{formatCents(x.intervalErrorCents)}</td>
+                  <td>{formatUncertainty(x.uncertaintyCents)}</td>
                 </tr>
               ))}
             </tbody>
           </table>
-          <StepChart
-            planVolts={props.planVolts}
-            steps={a.table.rows.map((r) => ({
-              volts: r.volts,
-              centsFromIdeal: r.centsFromIdeal,
-              intervalErrorCents: r.intervalErrorCents,
-              uncertaintyCents: r.uncertaintyCents,
-            }))}
-          />
-          <FitAndAdvice analysis={a} />
+          <div className="print-chart">
+            <StepChart
+              planVolts={r.planVolts}
+              steps={r.result.rows.map((x) => ({
+                volts: x.volts,
+                centsFromIdeal: x.centsFromIdeal,
+                intervalErrorCents: x.intervalErrorCents,
+                uncertaintyCents: x.uncertaintyCents,
+              }))}
+            />
+          </div>
+          {r.result.advice.length > 0 && (
+            <div className="print-advice">
+              <h2>Trim advice</h2>
+              <ol>
+                {r.result.advice.map((a, i) => (
+                  <li key={i}>{a.text}</li>
+                ))}
+              </ol>
+            </div>
+          )}
         </>
       ) : (
         <p>No captured steps.</p>
       )}
-      <p className="small">
-        Notes use A4 = 440 Hz and middle C = C4. Uncertainties are one standard uncertainty.
-      </p>
+      <footer className="print-foot">
+        <p>
+          Frequencies measured by Spanmeter {r.softwareVersion}. Notes use A4 = 440 Hz (ISO 16) and middle C =
+          C4. Cents are 1200·log2 of a frequency ratio. “From ideal” is the error against an exact 1 V/octave
+          line through the lowest step; “interval error” is the error of each interval from the next lower
+          voltage (positive: the interval is wide). Uncertainties are one standard uncertainty (GUM, JCGM
+          100:2008).
+        </p>
+        <p className="print-sign">Checked by: ______________________ Date: ____________</p>
+      </footer>
     </section>
   );
-}
+});

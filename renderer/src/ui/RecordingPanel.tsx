@@ -9,7 +9,7 @@ import type { WavFileInfo } from '../engine/wav-analysis.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
 import { StepChart } from './charts.tsx';
-import { AdviceList, ErrorTableHead, FitSummary } from './RunPanel.tsx';
+import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
 
 export interface RecordingPanelProps {
   fileName: string;
@@ -22,10 +22,13 @@ export interface RecordingPanelProps {
   onClose(): void;
   /** The "Open WAV…" control, to open another file from here. */
   openWav: ReactNode;
+  /** Opens the scale pair from a piece of advice. */
+  onCheckAdvice?(trimmer: 'scale' | 'hf'): void;
 }
 
 export function RecordingPanel(p: RecordingPanelProps) {
   const r = p.recording;
+  const result = resultFromAnalysis(p.analysis);
   const f = p.file;
   return (
     <div className="run-panel" data-testid="recording-panel">
@@ -51,6 +54,7 @@ export function RecordingPanel(p: RecordingPanelProps) {
       <div className="run-grid">
         <div className="table-wrap">
           <table className="error-table" data-testid="error-table">
+            <caption className="sr-only">Steps found in the recording, in order of time</caption>
             <ErrorTableHead last="At, s" />
             <tbody>
               {r.steps.map((s) => (
@@ -96,9 +100,9 @@ export function RecordingPanel(p: RecordingPanelProps) {
             }))}
           />
         </div>
-        <FitSummary analysis={p.analysis} />
+        <FitSummary result={result} />
       </div>
-      <AdviceList analysis={p.analysis} />
+      <AdviceList result={result} onCheck={p.onCheckAdvice} />
     </div>
   );
 }

@@ -1,37 +1,35 @@
 /**
- * The guided run: plan, prompt with settling progress, controls on keys, the error table filling in,
- * the per-step chart, the fit summary and the trim advice.
+ * The guided run: plan with its parsed preview, prompt with a settle countdown that says what it waits
+ * for, controls on keys, the error table filling in (rows in voltage order, meter cells checked), the
+ * per-step chart, the fit summary and the trim advice.
  */
 import { useState, type ReactNode } from 'react';
-import type { ResistorChange } from '../../../dsp/advice.ts';
-import { formatOhms } from '../../../dsp/eseries.ts';
-import { PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/plan.ts';
-import { isRunActive, type RunState } from '../../../dsp/run.ts';
+import { PLAN_LIMITS, PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/plan.ts';
+import { isRunActive, type RunState, type RunStep } from '../../../dsp/run.ts';
 import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
+import { RUN_KEYS, redoTarget } from '../hooks/useRunKeys.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
+import { DECIMAL_HINT, meterQuestion, parseNumberField } from '../lib/fields.ts';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
 import { StepChart } from './charts.tsx';
+import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
 
-/** The keys of the run's commands (shown on the buttons). */
-export const RUN_KEYS = {
-  captureNow: ' ',
-  redo: 'r',
-  skip: 's',
-  back: 'b',
-  pause: 'p',
-  accept: 'Enter',
-} as const;
+export { RUN_KEYS };
 
 function Kbd(props: { k: string }) {
   return <kbd>{props.k === ' ' ? 'Space' : props.k.length === 1 ? props.k.toUpperCase() : props.k}</kbd>;
 }
 
-/** The prompt line for the run's phase. */
+/** The creep rate the capture waits on, in words. */
 function formatCreep(centsPerSecond: number | null): string {
   if (centsPerSecond === null) return 'measuring its slope';
   return `${Math.abs(centsPerSecond) < 0.001 ? '< 0.001' : Math.abs(centsPerSecond).toFixed(3)} cent/s`;
 }
 
+/**
+ * The prompt line for the run's phase: one source for the run's status text (settle and capture
+ * countdowns, why the run is paused, an input not yet open, a capture waiting for the pitch to stop creeping).
+ */
 export function promptFor(
   s: RunState,
   simulated: boolean,
@@ -42,22 +40,35 @@ export function promptFor(
   const apply = simulated
     ? `The simulator moves to ${v} by itself.`
     : `Set ${v} at the oscillator’s 1 V/oct input and check it with the meter.`;
+  const p = s.options.plateau;
   switch (s.phase) {
     case 'apply-voltage':
       return {
         title: `Apply ${v}`,
-        detail: why.waitingForInput ? `Waiting for the input to open. ${apply}` : apply,
+        detail: why.waitingForInput
+          ? `Waiting for the input to open. ${apply}`
+          : `${apply} Waiting for a steady pitch.`,
       };
-    case 'settling':
-      return { title: `Settling at ${v}`, detail: 'Hold still: waiting for the pitch to settle.' };
-    case 'capturing':
+    case 'settling': {
+      const left = Math.max(0, (1 - s.progress) * p.settleSeconds);
+      return {
+        title: `Settling at ${v}`,
+        detail: `Hold still: waiting for the pitch to stay within ±${p.maxHalfWidthCents} ¢ for ${p.settleSeconds} s (${left.toFixed(1)} s to go).`,
+      };
+    }
+    case 'capturing': {
+      if (s.capture?.firstCloseSeconds != null && s.capture.closedAtSeconds === null) {
+        return {
+          title: `Capturing ${v}`,
+          detail: `Waiting for the pitch to stop creeping (${formatCreep(s.capture.creepCentsPerSecond)}).`,
+        };
+      }
+      const left = Math.max(0, (1 - s.progress) * s.options.captureSeconds);
       return {
         title: `Capturing ${v}`,
-        detail:
-          s.capture?.firstCloseSeconds != null && s.capture.closedAtSeconds === null
-            ? `Waiting for the pitch to stop creeping (${formatCreep(s.capture.creepCentsPerSecond)}).`
-            : 'Measuring the settled pitch.',
+        detail: `Averaging the settled pitch over ${s.options.captureSeconds} s (${left.toFixed(1)} s to go).`,
       };
+    }
     case 'measuring':
       return { title: `Measuring ${v}`, detail: 'Working out the precise average.' };
     case 'captured':
@@ -68,7 +79,7 @@ export function promptFor(
           : '',
       };
     case 'confirm-pitch':
-      return { title: `Unexpected pitch at ${v}`, detail: 'See the warning below.' };
+      return { title: `Unexpected pitch at ${v}`, detail: 'Answer the question below to go on.' };
     case 'paused':
       return {
         title: 'Paused',
@@ -83,6 +94,64 @@ export function promptFor(
   }
 }
 
+/** What a step's row says before it has a capture (agrees with the prompt). */
+export function pendingText(st: RunStep, s: RunState): string {
+  if (st.status === 'skipped') return 'skipped';
+  if (st.index !== s.current) return 'waiting';
+  switch (s.phase) {
+    case 'settling':
+      return 'settling…';
+    case 'capturing':
+    case 'measuring':
+      return 'capturing…';
+    case 'apply-voltage':
+      return 'apply the voltage';
+    case 'confirm-pitch':
+      return 'unexpected pitch: see below';
+    case 'paused':
+      return 'paused';
+    default:
+      return 'waiting';
+  }
+}
+
+/**
+ * What the plan field parsed, in words: "8 points, 0 to 7 V, 1 V steps", or why it cannot be used.
+ *
+ * @example planPreview('0,1,2,3,4,5,6,7') // { ok: true, text: '8 points, 0 to 7 V, 1 V steps' }
+ */
+export function planPreview(text: string): { ok: boolean; text: string } {
+  const raw = text
+    .split(/[,;\n]+/)
+    .map((x) => x.trim())
+    .filter((x) => x !== '');
+  if (raw.length > PLAN_LIMITS.maxPoints) {
+    return {
+      ok: false,
+      text: `Too many points: ${raw.length} typed, a plan takes at most ${PLAN_LIMITS.maxPoints}.`,
+    };
+  }
+  const p = parsePlan(text);
+  if (p.kind !== 'ok') return { ok: false, text: p.message };
+  const v = p.volts;
+  const n = v.length;
+  const lo = Math.min(...v);
+  const hi = Math.max(...v);
+  const d = v.slice(1).map((x, i) => x - v[i]);
+  const even = d.length > 0 && d.every((x) => Math.abs(x - d[0]) < 1e-9);
+  const fmt = (x: number) => String(Number(x.toFixed(4)));
+  const order =
+    n < 2
+      ? ''
+      : even
+        ? `, ${fmt(Math.abs(d[0]))} V steps`
+        : d.every((x) => x > 0)
+          ? ', rising'
+          : ', in the order typed';
+  const dir = n >= 2 && d.every((x) => x < 0) ? ' (played high to low)' : '';
+  return { ok: true, text: `${n} point${n === 1 ? '' : 's'}, ${fmt(lo)} to ${fmt(hi)} V${order}${dir}` };
+}
+
 export interface RunPanelProps {
   run: RunSnapshot | null;
   analysis: RunAnalysis | null;
@@ -90,6 +159,7 @@ export interface RunPanelProps {
   onPlanText(t: string): void;
   onStart(): void;
   onEvent(e: UserRunEvent): void;
+  /** Closes the run (the caller asks first when steps would be lost). */
   onClose(): void;
   simulated: boolean;
   resumeOffer: { text: string; onResume(): void; onDiscard(): void } | null;
@@ -98,55 +168,131 @@ export interface RunPanelProps {
   wavStatus: { kind: 'info' | 'error'; text: string } | null;
   /** The Setup disclosure, shown under the plan. */
   setup?: ReactNode;
+  /** The first-step question, when open. */
+  firstStep?: ReactNode;
+  /** Opens the scale pair from a piece of advice. */
+  onCheckAdvice?(trimmer: 'scale' | 'hf'): void;
+  /** Opens the full-screen bench view. */
+  onBenchView?(): void;
 }
 
 /**
- * "Open WAV…": a file input inside a label styled as a button (in the browser build and in the
- * desktop app alike; tests set its file with playwright's setInputFiles).
+ * "Open WAV…": a real button (reachable with Tab) that opens a hidden file input (tests set its file
+ * with playwright's setInputFiles on `data-testid="open-wav"`).
  */
 export function OpenWavControl(props: { onOpenWav(file: File | null): void }) {
+  let input: HTMLInputElement | null = null;
   return (
-    <label className="button-like">
-      Open WAV…
+    <>
+      <button type="button" onClick={() => input?.click()} data-testid="open-wav-button">
+        Open WAV…
+      </button>
       <input
+        ref={(el) => {
+          input = el;
+        }}
         type="file"
         accept=".wav,audio/wav,audio/x-wav"
         className="hidden-file"
+        tabIndex={-1}
+        aria-hidden="true"
         data-testid="open-wav"
         onChange={(e) => {
           props.onOpenWav(e.target.files?.[0] ?? null);
           e.target.value = '';
         }}
       />
-    </label>
+    </>
   );
 }
 
-function MeterCell(props: { stepIndex: number; value: number | null; onSet(v: number | null): void }) {
+/**
+ * The meter cell of one step: parsed by the one field rule (decimal point or comma); an invalid entry is
+ * shown as invalid and not used; a reading far from the set voltage is questioned and used only once
+ * confirmed. Until then the step uses its set voltage, and the cell says so.
+ */
+export function MeterCell(props: {
+  stepIndex: number;
+  setVolts: number;
+  value: number | null;
+  onSet(v: number | null): void;
+}) {
   const [text, setText] = useState(props.value === null ? '' : String(props.value));
+  const [question, setQuestion] = useState<{ value: number; text: string } | null>(null);
+  const parsed = parseNumberField(text, { min: -20, max: 20, unit: 'V' });
   const commit = () => {
-    const t = text.trim().replace(',', '.');
-    if (t === '') props.onSet(null);
-    else if (Number.isFinite(Number(t))) props.onSet(Number(t));
+    if (parsed.kind === 'invalid') {
+      setQuestion(null);
+      if (props.value !== null) props.onSet(null);
+      return;
+    }
+    if (parsed.kind === 'empty') {
+      setQuestion(null);
+      if (props.value !== null) props.onSet(null);
+      return;
+    }
+    if (parsed.value === props.value) return;
+    const q = meterQuestion(parsed.value, props.setVolts);
+    if (q) {
+      setQuestion({ value: parsed.value, text: q });
+      if (props.value !== null) props.onSet(null);
+      return;
+    }
+    setQuestion(null);
+    props.onSet(parsed.value);
   };
+  const invalid = parsed.kind === 'invalid';
+  const label = `Meter reading for step ${props.stepIndex + 1} (set ${formatVolts(props.setVolts)}), volts, ${DECIMAL_HINT}`;
   return (
-    <input
-      className="meter-input"
-      inputMode="decimal"
-      placeholder="meter V"
-      aria-label={`Meter reading for step ${props.stepIndex + 1}, volts`}
-      value={text}
-      onChange={(e) => setText(e.target.value)}
-      onBlur={commit}
-      onKeyDown={(e) => {
-        if (e.key === 'Enter') commit();
-      }}
-    />
+    <div className={`meter-cell ${invalid ? 'invalid' : ''} ${question ? 'questioned' : ''}`}>
+      <input
+        className="meter-input"
+        inputMode="decimal"
+        placeholder="meter V"
+        aria-label={label}
+        aria-invalid={invalid || question !== null}
+        data-testid={`meter-${props.stepIndex}`}
+        data-state={invalid ? 'invalid' : question ? 'questioned' : props.value !== null ? 'used' : 'empty'}
+        value={text}
+        onChange={(e) => setText(e.target.value)}
+        onBlur={commit}
+        onKeyDown={(e) => {
+          if (e.key === 'Enter') commit();
+        }}
+      />
+      {invalid && (
+        <span className="field-error" role="alert">
+          {parsed.reason}; using the set {formatVolts(props.setVolts)}
+        </span>
+      )}
+      {question && (
+        <span className="meter-question" role="alert" data-testid={`meter-question-${props.stepIndex}`}>
+          {question.text}{' '}
+          <button
+            className="small"
+            data-testid={`meter-confirm-${props.stepIndex}`}
+            onClick={() => {
+              props.onSet(question.value);
+              setQuestion(null);
+            }}
+          >
+            Use {question.value} V
+          </button>{' '}
+          <span className="dim">Until then the set {formatVolts(props.setVolts)} is used.</span>
+        </span>
+      )}
+    </div>
   );
+}
+
+/** Steps in voltage order (ties in order of play): the table's order. */
+function byVoltage(steps: readonly RunStep[]): RunStep[] {
+  return [...steps].sort((a, b) => a.nominalVolts - b.nominalVolts || a.index - b.index);
 }
 
 export function RunPanel(p: RunPanelProps) {
   const parsed = parsePlan(p.planText);
+  const preview = planPreview(p.planText);
   const s = p.run?.state ?? null;
   const active = isRunActive(s);
   const presetMatch = PLAN_PRESETS.find(
@@ -154,22 +300,29 @@ export function RunPanel(p: RunPanelProps) {
   );
   const rows = p.analysis?.table?.rows ?? [];
   const rowByStep = new Map<number, (typeof rows)[number]>();
-  p.analysis?.points.forEach((pt, i) => rows[i] && rowByStep.set(pt.stepIndex, rows[i]));
+  rows.forEach((r) => {
+    const pt = p.analysis?.points[r.index];
+    if (pt) rowByStep.set(pt.stepIndex, r);
+  });
+  const result = p.analysis ? resultFromAnalysis(p.analysis) : null;
   const prompt = s ? promptFor(s, p.simulated, p.run ?? {}) : null;
-  const redoTarget = s ? (s.lastCapturedStep ?? s.current) : 0;
+  const redo = s ? redoTarget(s) : 0;
   return (
     <div className="run-panel">
       {p.resumeOffer && (
-        <div className="banner" data-testid="resume-offer">
+        <div className="banner" data-testid="resume-offer" role="status">
           <span>{p.resumeOffer.text}</span>
-          <button onClick={p.resumeOffer.onResume}>Resume</button>
+          <button onClick={p.resumeOffer.onResume} data-testid="resume-run">
+            Resume
+          </button>
           <button onClick={p.resumeOffer.onDiscard}>Discard</button>
         </div>
       )}
       <div className="row plan-row">
-        <label className="field">
-          <span>Plan</span>
+        <div className="field">
+          <label htmlFor="plan-preset">Plan</label>
           <select
+            id="plan-preset"
             value={presetMatch?.id ?? 'custom'}
             onChange={(e) => {
               const pr = PLAN_PRESETS.find((x) => x.id === e.target.value);
@@ -184,28 +337,42 @@ export function RunPanel(p: RunPanelProps) {
             ))}
             <option value="custom">Custom (type below)</option>
           </select>
-        </label>
-        <label className="field grow">
-          <span>Voltages</span>
+        </div>
+        <div className={`field grow ${preview.ok ? '' : 'invalid'}`}>
+          <label htmlFor="plan-text">Voltages, V</label>
           <input
+            id="plan-text"
             value={p.planText}
             onChange={(e) => p.onPlanText(e.target.value)}
             disabled={active}
             data-testid="plan-text"
-            aria-invalid={parsed.kind === 'error'}
+            aria-invalid={!preview.ok}
+            aria-describedby="plan-preview"
           />
-        </label>
+        </div>
         <button
           className="primary"
           onClick={p.onStart}
-          disabled={parsed.kind === 'error'}
+          disabled={!preview.ok || parsed.kind === 'error'}
           data-testid="start-run"
         >
           {active ? 'Restart run' : 'Start run'}
         </button>
         <OpenWavControl onOpenWav={p.onOpenWav} />
       </div>
-      {parsed.kind === 'error' && <p className="message warn">{parsed.message}</p>}
+      <p className="plan-hints">
+        <span
+          id="plan-preview"
+          className={preview.ok ? 'plan-preview' : 'field-error'}
+          data-testid="plan-preview"
+          data-ok={String(preview.ok)}
+        >
+          {preview.text}
+        </span>{' '}
+        <span className="field-hint">
+          · commas between values, ranges like 0-7 or 0-4/0.5; decimal point only
+        </span>
+      </p>
       {p.setup}
       {p.wavStatus && (
         <p
@@ -220,9 +387,18 @@ export function RunPanel(p: RunPanelProps) {
       {s && prompt && (
         <div className={`prompt phase-${s.phase}`} data-testid="run-prompt" data-phase={s.phase}>
           <div className="prompt-main">
-            <div className="prompt-title">{prompt.title}</div>
+            <div className="prompt-title" role="status">
+              {prompt.title}
+            </div>
             <div className="prompt-detail">{prompt.detail}</div>
-            <div className="progress" aria-label="Progress">
+            <div
+              className="progress"
+              role="progressbar"
+              aria-label="Progress of this step"
+              aria-valuemin={0}
+              aria-valuemax={100}
+              aria-valuenow={Math.round((s.phase === 'captured' ? 1 : s.progress) * 100)}
+            >
               <div
                 className={`progress-fill ${s.phase === 'capturing' || s.phase === 'measuring' ? 'capturing' : ''}`}
                 style={{ width: `${Math.round((s.phase === 'captured' ? 1 : s.progress) * 100)}%` }}
@@ -231,16 +407,17 @@ export function RunPanel(p: RunPanelProps) {
             <div className="step-count">
               Step {Math.min(s.current + 1, s.steps.length)} of {s.steps.length} ·{' '}
               {s.steps.filter((x) => x.status === 'captured').length} captured
-              {s.heardHz !== null ? ` · hearing ${formatHz(s.heardHz)} Hz` : ''}
             </div>
           </div>
           <div className="controls">
             <button onClick={() => p.onEvent({ type: 'capture-now' })} disabled={!active}>
               Capture now <Kbd k={RUN_KEYS.captureNow} />
             </button>
-            <button onClick={() => p.onEvent({ type: 'redo', stepIndex: redoTarget })}>
-              Redo step {redoTarget + 1} <Kbd k={RUN_KEYS.redo} />
-            </button>
+            {!s.warning && (
+              <button onClick={() => p.onEvent({ type: 'redo', stepIndex: redo })}>
+                Redo step {redo + 1} <Kbd k={RUN_KEYS.redo} />
+              </button>
+            )}
             <button onClick={() => p.onEvent({ type: 'skip' })} disabled={!active}>
               Skip <Kbd k={RUN_KEYS.skip} />
             </button>
@@ -254,12 +431,18 @@ export function RunPanel(p: RunPanelProps) {
             >
               {s.phase === 'paused' ? 'Resume' : 'Pause'} <Kbd k={RUN_KEYS.pause} />
             </button>
-            <button onClick={p.onClose} className="quiet">
+            {p.onBenchView && (
+              <button onClick={p.onBenchView} data-testid="bench-view-open">
+                Bench view
+              </button>
+            )}
+            <button onClick={p.onClose} className="quiet" data-testid="close-run">
               Close run
             </button>
           </div>
         </div>
       )}
+      {p.firstStep}
       {s?.warning && (
         <div className="warning" role="alert" data-testid="run-warning">
           <strong>
@@ -275,7 +458,7 @@ export function RunPanel(p: RunPanelProps) {
             Accept this pitch <Kbd k={RUN_KEYS.accept} />
           </button>
           <button onClick={() => p.onEvent({ type: 'redo', stepIndex: s.current })}>
-            Redo the step <Kbd k={RUN_KEYS.redo} />
+            Redo step {s.current + 1} <Kbd k={RUN_KEYS.redo} />
           </button>
         </div>
       )}
@@ -283,15 +466,17 @@ export function RunPanel(p: RunPanelProps) {
         <div className="run-grid">
           <div className="table-wrap">
             <table className="error-table" data-testid="error-table">
-              <ErrorTableHead last={null} />
+              <caption className="sr-only">Error table, rows in order of voltage</caption>
+              <ErrorTableHead last={null} lastLabel="Redo" />
               <tbody>
-                {s.steps.map((st) => {
+                {byVoltage(s.steps).map((st) => {
                   const row = rowByStep.get(st.index);
                   const cur = st.index === s.current && active;
                   const meterCell = (
                     <MeterCell
                       key={`m${st.index}-${st.measuredVolts}`}
                       stepIndex={st.index}
+                      setVolts={st.nominalVolts}
                       value={st.measuredVolts}
                       onSet={(v) => p.onEvent({ type: 'set-measured-volts', stepIndex: st.index, volts: v })}
                     />
@@ -303,7 +488,7 @@ export function RunPanel(p: RunPanelProps) {
                         <td>{formatVolts(st.nominalVolts, false)}</td>
                         <td>{meterCell}</td>
                         <td colSpan={5} className="status-cell">
-                          {st.status === 'skipped' ? 'skipped' : cur ? 'measuring…' : 'waiting'}
+                          {pendingText(st, s)}
                         </td>
                         <td />
                       </tr>
@@ -318,6 +503,9 @@ export function RunPanel(p: RunPanelProps) {
                       data-applied-volts={st.appliedVolts == null ? '' : String(st.appliedVolts)}
                       data-hz={String(row.hz)}
                       data-uncertainty-cents={String(st.capture.uncertaintyCents)}
+                      data-interval-error-cents={
+                        row.intervalErrorCents === null ? '' : String(row.intervalErrorCents)
+                      }
                       data-source={st.capture.source}
                       data-captured-at={String(p.run?.capturedAt[st.index] ?? '')}
                       data-step-started-at={String(p.run?.stepStartedAt[st.index] ?? '')}
@@ -336,6 +524,7 @@ export function RunPanel(p: RunPanelProps) {
                       <td>
                         <button
                           className="small"
+                          aria-label={`Redo step ${st.index + 1}`}
                           onClick={() => p.onEvent({ type: 'redo', stepIndex: st.index })}
                         >
                           Redo
@@ -362,10 +551,10 @@ export function RunPanel(p: RunPanelProps) {
               }))}
             />
           </div>
-          {p.analysis && <FitSummary analysis={p.analysis} />}
+          {result && <FitSummary result={result} />}
         </div>
       )}
-      {s && p.analysis && <AdviceList analysis={p.analysis} />}
+      {s && result && <AdviceList result={result} onCheck={p.onCheckAdvice} />}
       {!s && (
         <div className="empty-state">
           <p>
@@ -378,187 +567,5 @@ export function RunPanel(p: RunPanelProps) {
         </div>
       )}
     </div>
-  );
-}
-
-export function FitAndAdvice(props: { analysis: RunAnalysis }) {
-  return (
-    <div className="fit-advice">
-      <FitSummary analysis={props.analysis} />
-      <AdviceList analysis={props.analysis} />
-    </div>
-  );
-}
-
-/**
- * The calibration model's extra figures (issue 9): expanded uncertainties of the scale and the 0 V pitch from
- * their GUM budgets, the model's terms, the labelled straight line, suspect steps and the tolerance verdict.
- */
-function ModelBudgetRows(props: { analysis: RunAnalysis }) {
-  const rf = props.analysis.result.fit;
-  if (!rf?.model) return null;
-  const m = rf.model;
-  const top = (b: NonNullable<typeof rf.scaleBudget>) =>
-    [...b.terms].sort((a, c) => c.standardCents - a.standardCents)[0]?.source ?? '—';
-  const suspects = props.analysis.result.steps.filter((s) => s.flags.includes('suspect-voltage'));
-  return (
-    <>
-      {rf.scaleBudget && (
-        <>
-          <dt>Scale U (k = {rf.scaleBudget.coverageFactor.toFixed(2)})</dt>
-          <dd className="mono" data-testid="scale-expanded">
-            ±{formatUncertainty(rf.scaleBudget.expandedCents)} ¢/oct, mostly {top(rf.scaleBudget)}
-          </dd>
-        </>
-      )}
-      {rf.pitchAt0VBudget && (
-        <>
-          <dt>0 V pitch U</dt>
-          <dd className="mono">
-            ±{formatUncertainty(rf.pitchAt0VBudget.expandedCents)} ¢, mostly {top(rf.pitchAt0VBudget)}
-          </dd>
-        </>
-      )}
-      <dt>Model</dt>
-      <dd>
-        line
-        {m.hfTerm !== 'none' &&
-          ` + HF (equivalent reset time ${((m.equivalentResetSeconds ?? 0) * 1e6).toPrecision(2)} µs)`}
-        {m.lowEndTerm && ' + low-end floor'}, by {m.criterion}
-      </dd>
-      {rf.straightLine && (
-        <>
-          <dt>Straight line, every step</dt>
-          <dd className="mono">{formatCents(rf.straightLine.scaleErrorCentsPerOctave)} ¢/oct</dd>
-        </>
-      )}
-      {suspects.length > 0 && (
-        <>
-          <dt>Suspect voltage</dt>
-          <dd data-testid="suspect-steps">
-            {suspects
-              .map(
-                (s) =>
-                  `step ${s.index + 1}: plays as ${(s.likelyVolts ?? 0).toFixed(3)} V, given ${(s.volts ?? 0).toFixed(3)} V`,
-              )
-              .join('; ')}
-          </dd>
-        </>
-      )}
-      {rf.tolerance && (
-        <>
-          <dt>Tolerance ±{rf.tolerance.toleranceCents} ¢</dt>
-          <dd data-testid="tolerance-verdict">{rf.tolerance.text}</dd>
-        </>
-      )}
-    </>
-  );
-}
-
-export function FitSummary(props: { analysis: RunAnalysis }) {
-  const { fit, bends, table } = props.analysis;
-  return (
-    <div className="fit" data-testid="fit-summary">
-      <h3>Fit</h3>
-      {fit.kind === 'ok' ? (
-        <dl>
-          <dt>Scale</dt>
-          <dd className="mono">
-            {formatCents(fit.scaleErrorCentsPerOctave)} ± {formatUncertainty(fit.scaleErrorStdErrCents)} ¢/oct
-          </dd>
-          <dt>Octaves per volt</dt>
-          <dd className="mono">{fit.octavesPerVolt.toFixed(6)}</dd>
-          <dt>Pitch at 0 V</dt>
-          <dd className="mono">{formatHz(fit.hzAt0V)} Hz</dd>
-          <dt>Largest residual</dt>
-          <dd className="mono">{fit.maxAbsResidualCents.toFixed(2)} ¢</dd>
-          <ModelBudgetRows analysis={props.analysis} />
-          {table && (
-            <>
-              <dt>Spread</dt>
-              <dd className="mono">{table.spreadCents.toFixed(2)} ¢</dd>
-            </>
-          )}
-          {bends.kind === 'ok' && !props.analysis.result.fit?.model && (
-            <>
-              <dt>Top end</dt>
-              <dd>
-                {bends.highEnd.kind === 'bent'
-                  ? `bends ${bends.highEnd.direction} ${formatCents(bends.highEnd.centsAtEnd, 1)} ¢`
-                  : 'straight'}
-              </dd>
-              <dt>Bottom end</dt>
-              <dd>
-                {bends.lowEnd.kind === 'bent'
-                  ? `bends ${bends.lowEnd.direction} ${formatCents(bends.lowEnd.centsAtEnd, 1)} ¢`
-                  : 'straight'}
-              </dd>
-            </>
-          )}
-        </dl>
-      ) : (
-        <p className="dim">Needs two captured steps.</p>
-      )}
-    </div>
-  );
-}
-
-export function AdviceList(props: { analysis: RunAnalysis }) {
-  const { advice } = props.analysis;
-  return (
-    <div className="advice" data-testid="advice">
-      <h3>What to trim</h3>
-      <ol>
-        {advice.items.map((it, i) => (
-          <li key={i} className={`advice-${it.status}`}>
-            <span className="chip">{it.trimmer === 'none' ? 'note' : it.trimmer}</span> {it.text}
-            {it.resistors && it.resistors.length > 0 && (
-              <ul className="resistors" data-testid="advice-resistors">
-                {it.resistors.map((r) => (
-                  <li key={r.part}>{resistorLine(r)}</li>
-                ))}
-              </ul>
-            )}
-          </li>
-        ))}
-      </ol>
-      <p className="next">
-        <strong>Next:</strong> {advice.next}
-      </p>
-      <p className="caution">{advice.caution}</p>
-    </div>
-  );
-}
-
-const PART_NAMES: Record<ResistorChange['part'], string> = {
-  series: 'Series Rs',
-  shunt: 'Shunt Rsh',
-  input: 'Input Rin',
-  feedback: 'Feedback Rf',
-};
-
-/** One resistor change: exact value, then the nearest E24 and E96 values (IEC 60063) and what each leaves. */
-function resistorLine(r: ResistorChange): string {
-  const pick = (v: ResistorChange['e24']) =>
-    `${v.series} ${formatOhms(v.ohms)} (leaves ${formatCents(v.resultingScaleErrorCentsPerOctave)} ¢/oct)`;
-  return `${PART_NAMES[r.part]} ${formatOhms(r.fromOhms)} → ${formatOhms(r.toOhms)} · ${pick(r.e24)} · ${pick(r.e96)}`;
-}
-
-/** Column heads of the error table, shared by the live run and the recording view. */
-export function ErrorTableHead(props: { last: string | null }) {
-  return (
-    <thead>
-      <tr>
-        <th>#</th>
-        <th>Set</th>
-        <th>Meter</th>
-        <th className="num">Hz</th>
-        <th>Note</th>
-        <th className="num">¢ ideal</th>
-        <th className="num">¢ interval</th>
-        <th className="num">±¢</th>
-        {props.last === null ? <th /> : <th className="num">{props.last}</th>}
-      </tr>
-    </thead>
   );
 }

@@ -6,7 +6,10 @@
 import { useState } from 'react';
 import { clockPpmFromReference, ppmToCents } from '../../../dsp/clock.ts';
 import type { PitchReading } from '../../../dsp/reading.ts';
-import { RESISTOR_NAMES, type SetupForm } from '../lib/setup.ts';
+import type { CaptureSignal } from '../hooks/useCaptureSignal.ts';
+import { numberOrNull } from '../lib/fields.ts';
+import { RESISTOR_NAMES, setupSummary, type SetupForm } from '../lib/setup.ts';
+import { NumberField } from './NumberField.tsx';
 
 export interface SetupPanelProps {
   form: SetupForm;
@@ -16,21 +19,9 @@ export interface SetupPanelProps {
   /** The live reading as read (no clock correction) and whether it has settled. */
   reading: PitchReading | null;
   settled: boolean;
-}
-
-/** One-line summary shown on the closed disclosure. */
-function summary(form: SetupForm): string {
-  const parts: string[] = [];
-  if (form.clockPpm.trim() !== '') parts.push(`clock ${form.clockPpm.trim()} ppm`);
-  if (form.fitFromVolts.trim() !== '' || form.fitToVolts.trim() !== '') {
-    parts.push(`fit ${form.fitFromVolts.trim() || '…'} to ${form.fitToVolts.trim() || '…'} V`);
-  }
-  if (form.topology !== 'none') {
-    parts.push(
-      `${form.topology === 'divider' ? 'divider' : 'summer'} ${form.firstOhms.trim()}, ${form.secondOhms.trim()}`,
-    );
-  }
-  return parts.length > 0 ? parts.join(' · ') : 'no clock correction, every step fitted, no network';
+  /** The optional signal on each capture. */
+  captureSignal?: CaptureSignal;
+  onCaptureSignal?(s: CaptureSignal): void;
 }
 
 export function SetupPanel(p: SetupPanelProps) {
@@ -40,8 +31,8 @@ export function SetupPanel(p: SetupPanelProps) {
   const names = p.form.topology === 'none' ? null : RESISTOR_NAMES[p.form.topology];
 
   const measure = () => {
-    const trueHz = Number(refHz.trim().replace(',', '.'));
-    if (!Number.isFinite(trueHz) || trueHz <= 0) {
+    const trueHz = numberOrNull(refHz, { min: 0.001 });
+    if (trueHz === null) {
       setRefMsg({ kind: 'warn', text: 'Type the reference tone’s true frequency in Hz first.' });
       return;
     }
@@ -71,34 +62,28 @@ export function SetupPanel(p: SetupPanelProps) {
   return (
     <details className="setup" data-testid="setup">
       <summary>
-        Setup <span className="dim small">{summary(p.form)}</span>
+        Setup <span className="dim small">{setupSummary(p.form)}</span>
       </summary>
       <div className="setup-body">
         <fieldset>
           <legend>Interface clock</legend>
           <div className="row">
-            <label className="field">
-              <span>Correction, ppm (+ = clock fast)</span>
-              <input
-                className="num setup-num"
-                inputMode="decimal"
-                placeholder="0"
-                value={p.form.clockPpm}
-                onChange={(e) => set({ clockPpm: e.target.value })}
-                data-testid="setup-clock-ppm"
-              />
-            </label>
-            <label className="field">
-              <span>Reference tone now playing, true Hz</span>
-              <input
-                className="num setup-num"
-                inputMode="decimal"
-                placeholder="1000"
-                value={refHz}
-                onChange={(e) => setRefHz(e.target.value)}
-                data-testid="setup-ref-hz"
-              />
-            </label>
+            <NumberField
+              label="Correction, ppm (+ = clock fast)"
+              value={p.form.clockPpm}
+              onChange={(t) => set({ clockPpm: t })}
+              rule={{ min: -1000, max: 1000, unit: 'ppm' }}
+              placeholder="0"
+              testId="setup-clock-ppm"
+            />
+            <NumberField
+              label="Reference tone now playing, true Hz"
+              value={refHz}
+              onChange={setRefHz}
+              rule={{ min: 0.001, max: 100_000, unit: 'Hz' }}
+              placeholder="1000"
+              testId="setup-ref-hz"
+            />
             <button onClick={measure} data-testid="setup-measure-clock">
               Measure from the tone
             </button>
@@ -111,28 +96,22 @@ export function SetupPanel(p: SetupPanelProps) {
         <fieldset>
           <legend>Fit range (optional)</legend>
           <div className="row">
-            <label className="field">
-              <span>From, V</span>
-              <input
-                className="num setup-num"
-                inputMode="decimal"
-                placeholder="lowest"
-                value={p.form.fitFromVolts}
-                onChange={(e) => set({ fitFromVolts: e.target.value })}
-                data-testid="setup-fit-from"
-              />
-            </label>
-            <label className="field">
-              <span>To, V</span>
-              <input
-                className="num setup-num"
-                inputMode="decimal"
-                placeholder="highest"
-                value={p.form.fitToVolts}
-                onChange={(e) => set({ fitToVolts: e.target.value })}
-                data-testid="setup-fit-to"
-              />
-            </label>
+            <NumberField
+              label="From, V"
+              value={p.form.fitFromVolts}
+              onChange={(t) => set({ fitFromVolts: t })}
+              rule={{ min: -20, max: 20, unit: 'V' }}
+              placeholder="lowest"
+              testId="setup-fit-from"
+            />
+            <NumberField
+              label="To, V"
+              value={p.form.fitToVolts}
+              onChange={(t) => set({ fitToVolts: t })}
+              rule={{ min: -20, max: 20, unit: 'V' }}
+              placeholder="highest"
+              testId="setup-fit-to"
+            />
           </div>
         </fieldset>
         <fieldset>
@@ -176,9 +155,27 @@ export function SetupPanel(p: SetupPanelProps) {
             )}
           </div>
           <p className="dim small">
-            Ohms as 100k, 1.8k, 4k02 or 470. Change resistors only with the unit unpowered.
+            Ohms as 100k, 1.8k (or 1,8k), 4k02 or 470. Change resistors only with the unit unpowered.
           </p>
         </fieldset>
+        {p.onCaptureSignal && (
+          <fieldset>
+            <legend>At each capture</legend>
+            <label className="field">
+              <span>Signal</span>
+              <select
+                value={p.captureSignal ?? 'off'}
+                onChange={(e) => p.onCaptureSignal?.(e.target.value as CaptureSignal)}
+                data-testid="setup-capture-signal"
+              >
+                <option value="off">Nothing</option>
+                <option value="flash">Flash the screen</option>
+                <option value="sound">A short beep</option>
+                <option value="both">Flash and beep</option>
+              </select>
+            </label>
+          </fieldset>
+        )}
         {p.problems.length > 0 && (
           <ul className="message warn small setup-problems" data-testid="setup-problems">
             {p.problems.map((t) => (

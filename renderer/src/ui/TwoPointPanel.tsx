@@ -1,10 +1,31 @@
 /**
- * Two-point scale trim: the user alternates between two voltages while turning the scale trimmer; the
- * interval error is shown live with the way to turn (dsp/advice.ts twoPointIntervalError).
+ * Scale pair: the user alternates between two voltages while turning the scale trimmer; the interval
+ * error is shown live with the way to turn (dsp/advice.ts twoPointIntervalError). An instruction comes
+ * only from two pitches both settled after the pair was opened, and only when their interval is near the
+ * pair's (the unexpected-pitch guard, engine/core.ts).
  */
 import { useState } from 'react';
 import type { TwoPointConfig, TwoPointView } from '../engine/protocol.ts';
+import { numberOrNull } from '../lib/fields.ts';
 import { formatCents, formatHz } from '../lib/format.ts';
+import { NumberField } from './NumberField.tsx';
+
+const VOLT_RULE = { min: -12, max: 12, unit: 'V', optional: false } as const;
+const TOL_RULE = { min: 0.01, max: 100, unit: '¢', optional: false } as const;
+
+/** The one status line of the pair (no internal codes). */
+export function pairStatusText(v: TwoPointView | null): string {
+  if (!v) return 'Waiting for the input.';
+  if (v.unexpected) {
+    return `Unexpected pitch: the two pitches are ${Math.round(v.unexpected.measuredCents)} ¢ apart, the pair expects ${Math.round(v.unexpected.expectedCents)} ¢. Check both voltages; no instruction until they match.`;
+  }
+  if (v.status === 'no-signal') return 'No pitch heard: check the input and the level.';
+  if (!v.low || !v.high)
+    return v.status === 'settled'
+      ? 'One voltage settled: now switch to the other.'
+      : 'Waiting for the pitch to settle at the first voltage.';
+  return v.status === 'settled' ? 'Both voltages settled.' : 'Settling after a switch…';
+}
 
 export function TwoPointPanel(props: {
   view: TwoPointView | null;
@@ -16,11 +37,16 @@ export function TwoPointPanel(props: {
   const [low, setLow] = useState(String(props.config.voltsLow));
   const [high, setHigh] = useState(String(props.config.voltsHigh));
   const [tol, setTol] = useState(String(props.config.toleranceCents));
-  const lo = Number(low);
-  const hi = Number(high);
-  const t = Number(tol);
-  const valid = Number.isFinite(lo) && Number.isFinite(hi) && hi > lo && Number.isFinite(t) && t >= 0;
-  const r = props.view?.result ?? null;
+  const lo = numberOrNull(low, VOLT_RULE);
+  const hi = numberOrNull(high, VOLT_RULE);
+  const t = numberOrNull(tol, TOL_RULE);
+  const order = lo !== null && hi !== null && hi <= lo ? 'must be above the low voltage' : null;
+  const valid = lo !== null && hi !== null && t !== null && order === null;
+  const changed =
+    valid &&
+    (lo !== props.config.voltsLow || hi !== props.config.voltsHigh || t !== props.config.toleranceCents);
+  const v = props.view;
+  const r = v && !v.unexpected ? v.result : null;
   return (
     <div className="pair-panel">
       <p className="intro">
@@ -31,58 +57,69 @@ export function TwoPointPanel(props: {
           : ''}
       </p>
       <div className="row">
-        <label className="field">
-          <span>Low V</span>
-          <input value={low} onChange={(e) => setLow(e.target.value)} inputMode="decimal" />
-        </label>
-        <label className="field">
-          <span>High V</span>
-          <input value={high} onChange={(e) => setHigh(e.target.value)} inputMode="decimal" />
-        </label>
-        <label className="field">
-          <span>Tolerance ¢</span>
-          <input value={tol} onChange={(e) => setTol(e.target.value)} inputMode="decimal" />
-        </label>
+        <NumberField label="Low, V" value={low} onChange={setLow} rule={VOLT_RULE} testId="pair-low" />
+        <NumberField
+          label="High, V"
+          value={high}
+          onChange={setHigh}
+          rule={VOLT_RULE}
+          problem={order}
+          testId="pair-high"
+        />
+        <NumberField label="Tolerance, ± ¢" value={tol} onChange={setTol} rule={TOL_RULE} />
         <button
           className="primary"
-          disabled={!valid}
-          onClick={() => props.onConfig({ ...props.config, voltsLow: lo, voltsHigh: hi, toleranceCents: t })}
+          disabled={!valid || !changed}
+          onClick={() =>
+            valid && props.onConfig({ ...props.config, voltsLow: lo, voltsHigh: hi, toleranceCents: t })
+          }
         >
           Use these
         </button>
         <button onClick={props.onReset}>Start over</button>
       </div>
+      {changed && (
+        <p className="message warn small">
+          Still using {props.config.voltsLow} and {props.config.voltsHigh} V: press “Use these” to change.
+        </p>
+      )}
       <div
         className={`pair-big ${r ? (r.withinTolerance ? 'good' : 'adjust') : ''}`}
         data-testid="pair-result"
+        data-has-result={String(r !== null)}
+        aria-live="polite"
       >
         <div className="pair-error mono">{r ? `${formatCents(r.errorCents)} ¢` : '— ¢'}</div>
-        <div className="pair-direction">
+        <div className="pair-direction" data-testid="pair-instruction">
           {r
             ? r.direction === 'none'
               ? 'Within tolerance: leave the scale trimmer'
               : r.direction === 'widen'
                 ? '↻ Widen the span (octaves are narrow)'
                 : '↺ Narrow the span (octaves are wide)'
-            : 'Waiting for both voltages to settle'}
+            : 'No instruction yet'}
         </div>
         {r && <div className="dim">{r.text}</div>}
       </div>
       <div className="pair-sides">
         {(['low', 'high'] as const).map((k) => {
-          const side = props.view?.[k] ?? null;
+          const side = v?.[k] ?? null;
           return (
             <div key={k} className={`pair-side ${side?.live ? 'live' : ''}`}>
               <div className="dim">
-                {k === 'low' ? `Low, ${props.config.voltsLow} V` : `High, ${props.config.voltsHigh} V`}
-                {side?.live ? ' · live' : ''}
+                {k === 'low'
+                  ? `Lower pitch (${props.config.voltsLow} V)`
+                  : `Higher pitch (${props.config.voltsHigh} V)`}
+                {side?.live ? ' · now' : ''}
               </div>
               <div className="mono big">{side ? `${formatHz(side.hz)} Hz` : '—'}</div>
             </div>
           );
         })}
       </div>
-      <p className="dim">Status: {props.view?.status ?? 'no signal'}</p>
+      <p className={v?.unexpected ? 'message warn' : 'dim'} role="status" data-testid="pair-status">
+        {pairStatusText(v)}
+      </p>
     </div>
   );
 }

@@ -133,17 +133,20 @@ export function StepChart(props: {
   height?: number;
 }) {
   const f = frame(520, props.height ?? 230);
+  // In voltage order, whatever order they were played in: each interval bar sits between a step and
+  // the next lower voltage (dsp/table.ts takes the interval the same way).
+  const steps = [...props.steps].sort((a, b) => a.volts - b.volts);
   const vs = props.planVolts.length > 0 ? props.planVolts : [0, 1];
   const xLo = Math.min(...vs) - 0.5;
   const xHi = Math.max(...vs) + 0.5;
-  const values = props.steps.flatMap((s) => [
+  const values = steps.flatMap((s) => [
     s.centsFromIdeal,
     ...(s.intervalErrorCents === null ? [] : [s.intervalErrorCents]),
   ]);
   const [y0, y1] = niceRange(values, 2);
   const X = sx(f, xLo, xHi);
   const Y = sy(f, y0, y1);
-  const d = props.steps
+  const d = steps
     .map((s, i) => `${i === 0 ? 'M' : 'L'}${X(s.volts).toFixed(1)},${Y(s.centsFromIdeal).toFixed(1)}`)
     .join('');
   const barW = Math.max(6, Math.min(26, ((f.w - f.left - f.right) / Math.max(2, vs.length + 1)) * 0.35));
@@ -163,9 +166,9 @@ export function StepChart(props: {
         xLabel="V"
         yLabel="¢"
       />
-      {props.steps.map((s, i) => {
+      {steps.map((s, i) => {
         if (s.intervalErrorCents === null || i === 0) return null;
-        const prev = props.steps[i - 1];
+        const prev = steps[i - 1];
         const xm = X((s.volts + prev.volts) / 2);
         const ya = Y(0);
         const yb = Y(s.intervalErrorCents);
@@ -181,7 +184,7 @@ export function StepChart(props: {
         );
       })}
       {d && <path d={d} className="trace ideal" />}
-      {props.steps.map((s, i) => (
+      {steps.map((s, i) => (
         <circle key={`p${i}`} cx={X(s.volts)} cy={Y(s.centsFromIdeal)} r={4.5} className="dot" />
       ))}
       <g className="legend" transform={`translate(${f.w - f.right - 250},2)`}>
@@ -194,7 +197,7 @@ export function StepChart(props: {
           interval error ¢
         </text>
       </g>
-      {props.steps.length === 0 && (
+      {steps.length === 0 && (
         <text x={f.w / 2} y={f.h / 2} textAnchor="middle" className="empty">
           Steps appear here as they are captured
         </text>

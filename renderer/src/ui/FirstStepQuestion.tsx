@@ -1,0 +1,37 @@
+/** The question about the first step of a run (hooks/useFirstStep.ts), or the note that it is known. */
+import type { FirstStep } from '../hooks/useFirstStep.ts';
+import { formatHz, formatVolts } from '../lib/format.ts';
+
+export function FirstStepQuestion(props: { first: FirstStep; onRedo(): void }) {
+  const { first } = props;
+  if (!first.step) return null;
+  if (first.needsAnswer) {
+    const v = formatVolts(first.step.volts);
+    return (
+      <div className="warning first-step" role="alert" data-testid="first-step-question">
+        <strong>
+          Is this {v}? Step 1 read {formatHz(first.step.hz)} Hz.
+        </strong>
+        <span>
+          If the voltage was not {v}, every step would be labelled wrong: confirm, or redo step 1 with the
+          right voltage.
+        </span>
+        <button onClick={first.confirm} data-testid="first-step-yes">
+          Yes, it is <kbd>Y</kbd>
+        </button>
+        <button onClick={props.onRedo}>Redo step 1</button>
+      </div>
+    );
+  }
+  if (first.known) {
+    const c = first.known.cents;
+    return (
+      <p className="message info small" data-testid="first-step-known">
+        Step 1 is {c >= 0 ? '+' : '−'}
+        {Math.abs(c).toFixed(1)} ¢ from the same voltage in “{first.known.label}” of {first.known.unitName}:
+        the voltage looks right.
+      </p>
+    );
+  }
+  return null;
+}

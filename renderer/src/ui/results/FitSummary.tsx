@@ -1,0 +1,118 @@
+/** The fit of a result: scale error with its uncertainty, octaves per volt, pitch at 0 V, residual, bends. */
+import type { CalibrationResult } from '../../../../dsp/result.ts';
+import { formatCents, formatHz, formatUncertainty } from '../../lib/format.ts';
+import type { ResultModel } from './model.ts';
+
+/**
+ * The calibration model's extra figures (issue 9): expanded uncertainties of the scale and the 0 V pitch from
+ * their GUM budgets, the model's terms, the labelled straight line, suspect steps and the tolerance verdict.
+ */
+function ModelBudgetRows(props: { result: CalibrationResult }) {
+  const rf = props.result.fit;
+  if (!rf?.model) return null;
+  const m = rf.model;
+  const top = (b: NonNullable<typeof rf.scaleBudget>) =>
+    [...b.terms].sort((a, c) => c.standardCents - a.standardCents)[0]?.source ?? '—';
+  const suspects = props.result.steps.filter((s) => s.flags.includes('suspect-voltage'));
+  return (
+    <>
+      {rf.scaleBudget && (
+        <>
+          <dt>Scale U (k = {rf.scaleBudget.coverageFactor.toFixed(2)})</dt>
+          <dd className="mono" data-testid="scale-expanded">
+            ±{formatUncertainty(rf.scaleBudget.expandedCents)} ¢/oct, mostly {top(rf.scaleBudget)}
+          </dd>
+        </>
+      )}
+      {rf.pitchAt0VBudget && (
+        <>
+          <dt>0 V pitch U</dt>
+          <dd className="mono">
+            ±{formatUncertainty(rf.pitchAt0VBudget.expandedCents)} ¢, mostly {top(rf.pitchAt0VBudget)}
+          </dd>
+        </>
+      )}
+      <dt>Model</dt>
+      <dd>
+        line
+        {m.hfTerm !== 'none' &&
+          ` + HF (equivalent reset time ${((m.equivalentResetSeconds ?? 0) * 1e6).toPrecision(2)} µs)`}
+        {m.lowEndTerm && ' + low-end floor'}, by {m.criterion}
+      </dd>
+      {rf.straightLine && (
+        <>
+          <dt>Straight line, every step</dt>
+          <dd className="mono">{formatCents(rf.straightLine.scaleErrorCentsPerOctave)} ¢/oct</dd>
+        </>
+      )}
+      {suspects.length > 0 && (
+        <>
+          <dt>Suspect voltage</dt>
+          <dd data-testid="suspect-steps">
+            {suspects
+              .map(
+                (s) =>
+                  `step ${s.index + 1}: plays as ${(s.likelyVolts ?? 0).toFixed(3)} V, given ${(s.volts ?? 0).toFixed(3)} V`,
+              )
+              .join('; ')}
+          </dd>
+        </>
+      )}
+      {rf.tolerance && (
+        <>
+          <dt>Tolerance ±{rf.tolerance.toleranceCents} ¢</dt>
+          <dd data-testid="tolerance-verdict">{rf.tolerance.text}</dd>
+        </>
+      )}
+    </>
+  );
+}
+
+export function FitSummary(props: { result: ResultModel }) {
+  const { fit, spreadCents, source } = props.result;
+  const modelled = Boolean(source?.fit?.model);
+  return (
+    <div className="fit" data-testid="fit-summary">
+      <h3>Fit</h3>
+      {fit ? (
+        <dl>
+          <dt>Scale error</dt>
+          <dd className="mono" data-testid="fit-scale" data-cents={String(fit.scaleErrorCentsPerOctave)}>
+            {formatCents(fit.scaleErrorCentsPerOctave)}
+            {fit.scaleErrorStdErrCents === null
+              ? ''
+              : ` ± ${formatUncertainty(fit.scaleErrorStdErrCents)}`}{' '}
+            ¢/oct
+          </dd>
+          <dt>Octaves per volt</dt>
+          <dd className="mono">{fit.octavesPerVolt.toFixed(6)}</dd>
+          <dt>Pitch at 0 V</dt>
+          <dd className="mono">{formatHz(fit.hzAt0V)} Hz</dd>
+          <dt>Largest residual</dt>
+          <dd className="mono">{fit.maxResidualCents.toFixed(2)} ¢</dd>
+          {source && <ModelBudgetRows result={source} />}
+          {spreadCents !== null && (
+            <>
+              <dt>Spread</dt>
+              <dd className="mono">{spreadCents.toFixed(2)} ¢</dd>
+            </>
+          )}
+          {fit.highEnd !== null && !modelled && (
+            <>
+              <dt>Top end</dt>
+              <dd>{fit.highEnd}</dd>
+            </>
+          )}
+          {fit.lowEnd !== null && !modelled && (
+            <>
+              <dt>Bottom end</dt>
+              <dd>{fit.lowEnd}</dd>
+            </>
+          )}
+        </dl>
+      ) : (
+        <p className="dim">Needs two captured steps.</p>
+      )}
+    </div>
+  );
+}

@@ -1,0 +1,25 @@
+/** The result views shared by the run, the recording, the unit book and the printed report. */
+export { AdviceList } from './AdviceList.tsx';
+export { ErrorTableHead, COLUMN_HELP } from './ErrorTableHead.tsx';
+export { FitSummary } from './FitSummary.tsx';
+export {
+  resistorLine,
+  resultFromAnalysis,
+  resultFromStored,
+  type ResultModel,
+  type ResultRow,
+} from './model.ts';
+export { ResultTable } from './ResultTable.tsx';
+export { CompareChart, StepChart } from '../charts.tsx';
+export {
+  DEFAULT_TOLERANCE_CENTS,
+  SOFTWARE_VERSION,
+  formatTakenAt,
+  reportFileName,
+  reportOfStored,
+  reportToCsv,
+  reportToJson,
+  verdictFor,
+  type RunReport,
+  type Verdict,
+} from './report.ts';

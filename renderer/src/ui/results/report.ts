@@ -1,0 +1,210 @@
+/**
+ * A run with everything said about it: the data behind the unit book's run view, its CSV and JSON exports
+ * and the printed report. A saved run carries its own date, label and unit details; the live run carries
+ * the form's details and the time it was measured.
+ */
+import { version as SOFTWARE_VERSION } from '../../../../package.json';
+import { resultToJsonText } from '../../../../dsp/result.ts';
+import type { Run, UnitRecord } from '../../../../main/api-types.ts';
+import { toCsv, type CsvCell } from '../../lib/csv.ts';
+import { CSV_STEP_COLUMNS } from '../../lib/export.ts';
+import { resultFromStored, type ResultModel } from './model.ts';
+
+export { SOFTWARE_VERSION };
+
+/**
+ * The default tracking tolerance, ± cents: "about ±2 cents over five octaves is a good analog result"
+ * (FIELD-NOTES, published builders' measurements; common practice).
+ */
+export const DEFAULT_TOLERANCE_CENTS = 2;
+
+/** A run as reported. */
+export interface RunReport {
+  readonly result: ResultModel;
+  readonly unitName: string;
+  readonly serial: string | null;
+  readonly label: string | null;
+  /** When the run was measured, ISO 8601; null when not known. */
+  readonly takenAt: string | null;
+  readonly roomTempC: number | null;
+  readonly meterUsed: string | null;
+  readonly warmUpMinutes: number | null;
+  readonly notes: string | null;
+  readonly planVolts: readonly number[];
+  readonly toleranceCents: number;
+  /** Whether the run is stored in the unit book (false: the live, unsaved run). */
+  readonly saved: boolean;
+  readonly softwareVersion: string;
+}
+
+/** The verdict of a run against a tolerance. */
+export interface Verdict {
+  readonly kind: 'pass' | 'fail' | 'none';
+  /** Largest |cents from ideal| over the steps, cents; null without steps. */
+  readonly worstCents: number | null;
+  readonly text: string;
+}
+
+/**
+ * Pass when every step lies within ±tolerance of the ideal 1 V/oct line through the lowest step.
+ *
+ * @param result - The run's result.
+ * @param toleranceCents - ± cents, > 0.
+ * @example verdictFor(result, 2).kind // 'pass' when every |cents from ideal| ≤ 2
+ */
+export function verdictFor(result: ResultModel, toleranceCents: number): Verdict {
+  if (result.rows.length < 2) return { kind: 'none', worstCents: null, text: 'not enough steps' };
+  const worst = Math.max(...result.rows.map((r) => Math.abs(r.centsFromIdeal)));
+  const pass = worst <= toleranceCents;
+  return {
+    kind: pass ? 'pass' : 'fail',
+    worstCents: worst,
+    text: `${pass ? 'Pass' : 'Fail'}: worst step ${worst.toFixed(2)} ¢ from ideal, tolerance ±${toleranceCents} ¢`,
+  };
+}
+
+/**
+ * The report of a stored run, with the record's unit details.
+ *
+ * @example reportOfStored(record, record.runs[0]).takenAt // the run's own takenAt
+ */
+export function reportOfStored(record: UnitRecord, run: Run): RunReport {
+  return {
+    result: resultFromStored(run.result),
+    unitName: record.unitName,
+    serial: record.serial ?? null,
+    label: run.label,
+    takenAt: run.takenAt,
+    roomTempC: record.roomTempC ?? null,
+    meterUsed: record.meterUsed ?? null,
+    warmUpMinutes: record.warmUpMinutes ?? null,
+    notes: record.notes ?? null,
+    planVolts: run.plan.volts,
+    toleranceCents: record.toleranceCents ?? DEFAULT_TOLERANCE_CENTS,
+    saved: true,
+    softwareVersion: SOFTWARE_VERSION,
+  };
+}
+
+/** A date for people: "2026-12-02 16:41 UTC" style, in the local time zone with its offset. */
+export function formatTakenAt(iso: string | null): string {
+  if (!iso) return 'not recorded';
+  const d = new Date(iso);
+  if (!Number.isFinite(d.getTime())) return iso;
+  const p = (n: number) => String(n).padStart(2, '0');
+  const off = -d.getTimezoneOffset();
+  const tz =
+    off === 0
+      ? 'UTC'
+      : `UTC${off > 0 ? '+' : '−'}${p(Math.floor(Math.abs(off) / 60))}:${p(Math.abs(off) % 60)}`;
+  return `${d.getFullYear()}-${p(d.getMonth() + 1)}-${p(d.getDate())} ${p(d.getHours())}:${p(d.getMinutes())} ${tz}`;
+}
+
+/**
+ * The run as CSV: `key,value` lines (unit, serial, label, taken_at, room temperature, meter, warm-up,
+ * notes, tolerance, verdict, software, fit), a blank line, then one row per step in voltage order with
+ * the columns of the live export (`CSV_STEP_COLUMNS`, lib/export.ts).
+ *
+ * @example reportToCsv(report).split('\r\n')[0] // 'unit,OL3-0417'
+ */
+export function reportToCsv(r: RunReport): string {
+  const head: CsvCell[][] = [];
+  const add = (key: string, value: CsvCell | undefined | null) => {
+    if (value !== undefined && value !== null && value !== '') head.push([key, value]);
+  };
+  const v = verdictFor(r.result, r.toleranceCents);
+  add('unit', r.unitName);
+  add('serial', r.serial);
+  add('label', r.label);
+  add('taken_at', r.takenAt);
+  add('room_temp_c', r.roomTempC);
+  add('meter', r.meterUsed);
+  add('warm_up_minutes', r.warmUpMinutes);
+  add('notes', r.notes);
+  add('tolerance_cents', r.toleranceCents);
+  add('verdict', v.kind);
+  add('software', `Spanmeter ${r.softwareVersion}`);
+  if (r.result.fit) {
+    add('octaves_per_volt', r.result.fit.octavesPerVolt);
+    add('scale_error_cents_per_octave', r.result.fit.scaleErrorCentsPerOctave);
+    add('hz_at_0v', r.result.fit.hzAt0V);
+  }
+  const rows: CsvCell[][] = r.result.rows.map((x) => [
+    x.step,
+    x.nominalVolts,
+    x.measuredVolts,
+    x.hz,
+    x.uncertaintyCents,
+    x.noteName,
+    x.noteCents,
+    x.centsFromIdeal,
+    x.intervalErrorCents,
+  ]);
+  return toCsv([...head, [], [...CSV_STEP_COLUMNS], ...rows]);
+}
+
+/**
+ * The run as JSON: `{ format, software, unit: {…}, run: { label, takenAt, plan, steps, fit, advice,
+ * verdict }, result }`, every value the run's own; `result` is the run's one result in the one JSON
+ * shape (`resultToJsonText`, dsp/result.ts).
+ */
+export function reportToJson(r: RunReport): string {
+  const v = verdictFor(r.result, r.toleranceCents);
+  return JSON.stringify(
+    {
+      format: 'spanmeter-run-report',
+      version: 1,
+      software: { name: 'Spanmeter', version: r.softwareVersion },
+      unit: {
+        name: r.unitName,
+        serial: r.serial,
+        roomTempC: r.roomTempC,
+        meterUsed: r.meterUsed,
+        warmUpMinutes: r.warmUpMinutes,
+        notes: r.notes,
+        toleranceCents: r.toleranceCents,
+      },
+      run: {
+        label: r.label,
+        takenAt: r.takenAt,
+        saved: r.saved,
+        plan: { volts: r.planVolts },
+        steps: r.result.rows.map((x) => ({
+          step: x.step,
+          volts: x.nominalVolts,
+          measuredVolts: x.measuredVolts,
+          hz: x.hz,
+          uncertaintyCents: x.uncertaintyCents,
+          note: x.noteName,
+          centsFromNote: x.noteCents,
+          centsFromIdeal: x.centsFromIdeal,
+          intervalErrorCents: x.intervalErrorCents,
+        })),
+        fit: r.result.fit && {
+          octavesPerVolt: r.result.fit.octavesPerVolt,
+          scaleErrorCentsPerOctave: r.result.fit.scaleErrorCentsPerOctave,
+          scaleErrorStdErrCents: r.result.fit.scaleErrorStdErrCents,
+          hzAt0V: r.result.fit.hzAt0V,
+          maxResidualCents: r.result.fit.maxResidualCents,
+        },
+        advice: r.result.advice.map((a) => ({ trimmer: a.trimmer, status: a.status, text: a.text })),
+        verdict: { kind: v.kind, worstCents: v.worstCents },
+      },
+      // The run's one result, in the one JSON shape (dsp/result.ts, as `spanmeter analyze --json`).
+      result: r.result.source ? (JSON.parse(resultToJsonText(r.result.source)) as unknown) : null,
+    },
+    null,
+    2,
+  );
+}
+
+/** A file name for a report: unit, label and the run's date ("ol3-0417-before-2026-12-02"). */
+export function reportFileName(r: RunReport): string {
+  const slug = (s: string) =>
+    s
+      .toLowerCase()
+      .replace(/[^a-z0-9]+/g, '-')
+      .replace(/^-+|-+$/g, '');
+  const parts = [slug(r.unitName || r.serial || ''), slug(r.label ?? ''), (r.takenAt ?? '').slice(0, 10)];
+  return parts.filter((x) => x !== '').join('-') || 'spanmeter-run';
+}
