@@ -69,6 +69,13 @@ export type PayloadMeasure = { kind: 'ok'; bytes: number } | { kind: 'not-json';
 
 class NotJson extends Error {}
 
+const encoder = new TextEncoder();
+
+/** UTF-8 length of a string, bytes (TextEncoder, so the module also type-checks where Node's Buffer is absent). */
+function utf8Bytes(text: string): number {
+  return encoder.encode(text).byteLength;
+}
+
 function describe(value: unknown): string {
   if (value === null) return 'null';
   if (typeof value !== 'object') return typeof value;
@@ -132,7 +139,7 @@ export function measurePayload(value: unknown, allowBinary = false): PayloadMeas
     return { kind: 'not-json', reason: 'the payload cannot be written as JSON' };
   }
   if (text === undefined) return { kind: 'not-json', reason: 'the payload cannot be written as JSON' };
-  return { kind: 'ok', bytes: Buffer.byteLength(text, 'utf8') + binaryBytes };
+  return { kind: 'ok', bytes: utf8Bytes(text) + binaryBytes };
 }
 
 /**
