@@ -620,24 +620,28 @@ function lineFit(
 ): { b: number; se: number; tb: number; cb: number; n: number; span: number } | null {
   const n = idx.length;
   if (n < 5) return null;
+  // Sums of differences from the first reading: readings that do not move give exactly zero (no round-off
+  // from large cents values), so a held pitch shows no creep at all.
+  const c0 = state.cents[idx[0]];
   let st = 0;
   let sc = 0;
   for (const i of idx) {
     st += state.times[i];
-    sc += state.cents[i];
+    sc += state.cents[i] - c0;
   }
   const tb = st / n;
-  const cb = sc / n;
+  const dc = sc / n;
+  const cb = c0 + dc;
   let sxx = 0;
   let sxy = 0;
   for (const i of idx) {
     sxx += (state.times[i] - tb) ** 2;
-    sxy += (state.times[i] - tb) * (state.cents[i] - cb);
+    sxy += (state.times[i] - tb) * (state.cents[i] - c0 - dc);
   }
   if (!(sxx > 0)) return null;
   const b = sxy / sxx;
   let ss = 0;
-  for (const i of idx) ss += (state.cents[i] - cb - b * (state.times[i] - tb)) ** 2;
+  for (const i of idx) ss += (state.cents[i] - c0 - (cb - c0) - b * (state.times[i] - tb)) ** 2;
   const span = state.times[idx[n - 1]] - state.times[idx[0]];
   return { b, se: Math.sqrt(ss / (n - 2) / sxx), tb, cb, n, span };
 }

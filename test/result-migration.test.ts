@@ -3,6 +3,7 @@
 // (see their README) and are never regenerated.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import 'fake-indexeddb/auto';
 import { IDBFactory } from 'fake-indexeddb';
 import { describe, expect, it } from 'vitest';
 import { analyzeRecording } from '../dsp/recording.ts';
@@ -138,7 +139,7 @@ describe('the autosave of schema 1 and the one pipeline', () => {
     );
   });
 
-  it('the recording analysis gives the numbers `analyze --json` printed before, bit for bit', () => {
+  it('the recording analysis agrees with what `analyze --json` printed before, within the stated uncertainties', () => {
     const unit = findDemoUnit('ol3-0417')!;
     const plan = [0, 1, 2, 3, 4];
     const rec = renderOscillator(
@@ -157,13 +158,22 @@ describe('the autosave of schema 1 and the one pipeline', () => {
     const m = migrateResult(old);
     if (m.kind !== 'ok') throw new Error(m.message);
     const { migratedFrom: _m, ...was } = m.result;
-    const num = (r: CalibrationResult) =>
-      r.steps.map((s) => [s.hz, s.uncertaintyCents, s.centsFromIdeal, s.centsFromIdealUncertainty, s.note]);
-    expect(num(a.result)).toEqual(num(was as CalibrationResult));
-    // Issue 9: the headline fit and the advice come from the calibration model; the old straight line is kept.
+    // Issue 9 changed how a step is measured: the last settled second of each plateau (not the middle one),
+    // and the oscillator's repeatability now enters each step's uncertainty. So the numbers are no longer
+    // bit for bit those of schema 1; each step must agree with the old one within the two stated σ combined
+    // (common practice for comparing two measurements, no source), with the same note.
+    const old1 = (was as CalibrationResult).steps;
+    expect(a.result.steps.map((s) => s.note)).toEqual(old1.map((s) => s.note));
+    for (const [i, s] of a.result.steps.entries()) {
+      const dCents = 1200 * Math.log2(s.hz / old1[i].hz);
+      const sigma = Math.hypot(s.uncertaintyCents, old1[i].uncertaintyCents);
+      expect(Math.abs(dCents), `step ${i}: ${dCents} cent against σ ${sigma}`).toBeLessThan(2 * sigma);
+      expect(s.uncertaintyCents).toBeGreaterThanOrEqual(old1[i].uncertaintyCents);
+    }
+    // The headline fit and the advice come from the calibration model; the old straight line is kept.
     expect(
       Math.abs(a.result.fit!.straightLine!.scaleErrorCentsPerOctave - was.fit!.scaleErrorCentsPerOctave),
-    ).toBeLessThan(1e-9);
+    ).toBeLessThan(0.05);
     expect(a.result.fit!.model?.criterion).toBe('AICc');
     expect(a.result.advice.map((x) => x.kind)).toEqual(expect.arrayContaining(['trim', 'next', 'caution']));
   });
