@@ -222,7 +222,9 @@ describe('a saved run reported with its own values', () => {
     expect(head.get('unit')).toBe('OL3-0417');
     expect(head.get('serial')).toBe('OLW-0417');
     expect(head.get('label')).toBe('before');
-    expect(head.get('taken_at')).toBe('2026-11-30T09:15:00.000Z');
+    // A date-like text cell carries the leading apostrophe that keeps a spreadsheet from converting it
+    // (lib/csv.ts needsGuard; OWASP "CSV Injection" and common spreadsheet practice).
+    expect(head.get('taken_at')).toBe("'2026-11-30T09:15:00.000Z");
     expect(head.get('room_temp_c')).toBe('22.5');
     expect(head.get('meter')).toBe('bench DMM, 20 V range');
     expect(head.get('notes')).toBe('Ostlund Lane batch 3');

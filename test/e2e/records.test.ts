@@ -103,7 +103,8 @@ describe.skipIf(!enabled)('records in Chromium', () => {
     const rows = Papa.parse<string[]>(csv.text, { delimiter: ',', newline: '\r\n' }).data;
     const head = new Map(rows.filter((r) => r.length === 2).map((r) => [r[0], r[1]]));
     expect(head.get('label')).toBe('before');
-    expect(head.get('taken_at')).toBe(j.run.takenAt);
+    // The date-like text cell carries the spreadsheet guard (lib/csv.ts needsGuard; OWASP "CSV Injection").
+    expect(head.get('taken_at')).toBe(`'${j.run.takenAt}`);
     expect(head.get('serial')).toBe(UNIT.serial);
     expect(head.get('room_temp_c')).toBe('22.5');
     expect(head.get('meter')).toBe(UNIT.meter);
