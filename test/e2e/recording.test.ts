@@ -97,7 +97,7 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
     expect(advice).toContain(ref.advice!.next);
     await page.screenshot({ path: path.join(ARTIFACTS, 'open-wav-1280x720.png') });
 
-    // Saving it into a unit record stores recordingToRecordResult's steps.
+    // Saving it into a unit record stores the recording's one result (dsp/result.ts).
     await page.click('[data-testid="tab-book"]');
     await page.click('[data-testid="save-run"]');
     await page.waitForSelector('text=Saved as run');
