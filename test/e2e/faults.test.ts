@@ -123,7 +123,7 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     await waitForPhase(page, 'not-paused');
     await waitForNextCapture(page, before.length + 1, 'permission');
     expect(errors).toEqual([]);
-  }, 60_000);
+  }, 180_000);
 
   it('device gone mid-run: says so, keeps the run, and goes on once the input is opened again', async () => {
     // A steady tone at 0 V for the fake capture device (it loops the file).
@@ -181,7 +181,7 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     );
     expect((await readStepRows(page)).slice(0, before.length)).toEqual(before);
     expect(errors).toEqual([]);
-  }, 60_000);
+  }, 180_000);
 
   it('sample rate changed: names both rates, keeps the run and captures again at the new rate', async () => {
     const browser = await chromium.launch({ executablePath: CHROMIUM, args: chromiumArgs() });
@@ -209,5 +209,5 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     await waitForNextCapture(page, before.length + 1, 'rate');
     expect(await runPhase(page)).not.toBe('paused');
     expect(errors).toEqual([]);
-  }, 60_000);
+  }, 180_000);
 });
