@@ -315,7 +315,7 @@ describe('parseRecordText (the pure check the records store uses)', () => {
     console.log(`[fuzz-records] mutated records: ${JSON.stringify(tally)}`);
     expect(tally.ok ?? 0).toBeGreaterThan(100); // some mutations are harmless: the valid path is exercised
     expect(tally.corrupt ?? 0).toBeGreaterThan(1000);
-  });
+  }, 300_000); // thousands of full schema checks: minutes on a loaded machine, seconds on an idle one
 
   it('2000 arbitrary JSON documents and 2000 arbitrary strings', () => {
     const tally: Record<string, number> = {};
