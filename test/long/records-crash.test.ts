@@ -204,7 +204,10 @@ async function lane(index: number, seed: number): Promise<LaneTally> {
       autosaveGen = state.generation;
       const resumed = deserializeRun(JSON.stringify(state.run));
       const expected = states[state.generation % states.length];
-      expect(serializeRun(resumed), where).toBe(stateTexts[state.generation % states.length]);
+      // Compared as data: a loaded capture gains its defaulted fields in another key order, the same run.
+      expect(JSON.parse(serializeRun(resumed)), where).toEqual(
+        JSON.parse(stateTexts[state.generation % states.length]),
+      );
       expect(runCaptures(resumed), where).toEqual(runCaptures(expected));
     } else {
       expect(lastAutosave, `${where}: the autosave vanished`).toBe(0);
