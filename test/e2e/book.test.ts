@@ -133,7 +133,9 @@ describe.skipIf(!enabled)('the unit book in Chromium', () => {
     await a.screenshot({ path: path.join(ARTIFACTS, 'book-1280x900.png'), fullPage: true });
 
     // Delete the record: it goes to the trash, and comes back from there.
-    await a.click(`.record-list li:has-text("${UNIT_NAME}") button:has-text("Delete")`);
+    // The overview asks before it deletes (one click to ask, one to confirm).
+    await a.click(`[aria-label="Delete the record of ${UNIT_NAME}"]`);
+    await a.click('[data-testid="unit-overview"] .confirm button.danger');
     await a.waitForSelector('[data-testid="book-trash"]');
     await a.click(`[data-testid="book-trash"] li:has-text("${UNIT_NAME}") button:has-text("Restore")`);
     await a.waitForSelector(`.record-list >> text=${UNIT_NAME}`);

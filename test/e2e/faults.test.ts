@@ -173,9 +173,13 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     await waitForPitch(page);
     await page.click('[data-testid="pause"]');
     await waitForPhase(page, 'not-paused');
-    // The run listens again: it hears the steady 0 V tone where it expects 1 V.
+    // The run listens again for the next step (the steady 0 V tone is not the 1 V it expects, so it waits or
+    // asks about it; it never captures it).
     await page.waitForFunction(
-      () => document.querySelector('[data-testid="run-prompt"]')?.textContent?.includes('hearing'),
+      () =>
+        ['apply-voltage', 'settling', 'confirm-pitch'].includes(
+          document.querySelector('[data-testid="run-prompt"]')?.getAttribute('data-phase') ?? '',
+        ),
       undefined,
       { timeout: 10_000 },
     );
