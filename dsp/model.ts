@@ -30,6 +30,7 @@
  */
 import { fitTracking, MIN_UNCERTAINTY_CENTS, type TrackingFitOk, type TrackingPoint } from './fit.ts';
 import type { Cents, Hertz, Seconds, Volts } from './units.ts';
+import { goldenSectionMidpoint } from './physics.ts';
 
 const CENTS_PER_OCTAVE = 1200;
 /** Cents per neper (natural-log unit of frequency ratio): 1200/ln 2. */
@@ -313,30 +314,14 @@ function fitCandidate(terms: ModelTerms, d: Data): FittedModel | null {
       }
     }
     if (bestK < 0) return null;
-    let a = (uLo + ((uHi - uLo) * Math.max(0, bestK - 1)) / steps) / fMax;
-    let b = (uLo + ((uHi - uLo) * Math.min(steps, bestK + 1)) / steps) / fMax;
-    const g = (Math.sqrt(5) - 1) / 2;
     const chiAt = (x: number) => solveAt(x)?.chi ?? Infinity;
-    let x1 = b - g * (b - a);
-    let x2 = a + g * (b - a);
-    let f1 = chiAt(x1);
-    let f2 = chiAt(x2);
-    for (let it = 0; it < 60 && b - a > 1e-16; it++) {
-      if (f1 < f2) {
-        b = x2;
-        x2 = x1;
-        f2 = f1;
-        x1 = b - g * (b - a);
-        f1 = chiAt(x1);
-      } else {
-        a = x1;
-        x1 = x2;
-        f1 = f2;
-        x2 = a + g * (b - a);
-        f2 = chiAt(x2);
-      }
-    }
-    t = (a + b) / 2;
+    t = goldenSectionMidpoint(
+      chiAt,
+      (uLo + ((uHi - uLo) * Math.max(0, bestK - 1)) / steps) / fMax,
+      (uLo + ((uHi - uLo) * Math.min(steps, bestK + 1)) / steps) / fMax,
+      60,
+      (a, b) => b - a <= 1e-16,
+    );
   }
   const lin = solveAt(t);
   if (lin === null) return null;

@@ -463,29 +463,13 @@ export function compareHighFrequencyModels(data: HfDeviations, opts: HfCompareOp
       bestK = k;
     }
   }
-  let a = (uLo + ((uHi - uLo) * Math.max(0, bestK - 1)) / steps) / fMax;
-  let b = (uLo + ((uHi - uLo) * Math.min(steps, bestK + 1)) / steps) / fMax;
-  const g = (Math.sqrt(5) - 1) / 2;
-  let x1 = b - g * (b - a);
-  let x2 = a + g * (b - a);
-  let f1 = resetChi(x1);
-  let f2 = resetChi(x2);
-  for (let it = 0; it < 200 && b - a > 1e-15 * Math.max(Math.abs(a), Math.abs(b), 1e-12); it++) {
-    if (f1 < f2) {
-      b = x2;
-      x2 = x1;
-      f2 = f1;
-      x1 = b - g * (b - a);
-      f1 = resetChi(x1);
-    } else {
-      a = x1;
-      x1 = x2;
-      f1 = f2;
-      x2 = a + g * (b - a);
-      f2 = resetChi(x2);
-    }
-  }
-  const tHat = (a + b) / 2;
+  const tHat = goldenSectionMidpoint(
+    resetChi,
+    (uLo + ((uHi - uLo) * Math.max(0, bestK - 1)) / steps) / fMax,
+    (uLo + ((uHi - uLo) * Math.min(steps, bestK + 1)) / steps) / fMax,
+    200,
+    (a, b) => b - a <= 1e-15 * Math.max(Math.abs(a), Math.abs(b), 1e-12),
+  );
   const yReset = y.map((c, i) => c - CENTS_PER_OCTAVE * Math.log2(1 - hz[i] * tHat));
   const lineSolve = weightedLinearSolve(lineCols, yReset, w);
   // Jacobian of the reset model at the optimum, for the covariance: ∂c/∂t = −(1200/ln2)·f/(1 − f·t).
@@ -535,4 +519,46 @@ export function compareHighFrequencyModels(data: HfDeviations, opts: HfCompareOp
     resetTime,
     bulkResistance,
   };
+}
+
+/**
+ * Golden-section search for the minimum of a unimodal function on [a, b], returning the midpoint of the
+ * final bracket. Each step keeps the two interior points at the golden ratio (Kiefer 1953; Press et al.,
+ * "Numerical Recipes", 3rd ed., §10.2).
+ *
+ * @param f - The function to minimise (Infinity where it has no value).
+ * @param a - Lower end of the bracket.
+ * @param b - Upper end of the bracket, > a.
+ * @param maxIterations - Most steps to take.
+ * @param narrowEnough - True once the bracket [a, b] is small enough to stop.
+ * @example goldenSectionMidpoint((x) => (x - 2) ** 2, 0, 5, 200, (a, b) => b - a < 1e-9) // ≈ 2
+ */
+export function goldenSectionMidpoint(
+  f: (x: number) => number,
+  a: number,
+  b: number,
+  maxIterations: number,
+  narrowEnough: (a: number, b: number) => boolean,
+): number {
+  const g = (Math.sqrt(5) - 1) / 2;
+  let x1 = b - g * (b - a);
+  let x2 = a + g * (b - a);
+  let f1 = f(x1);
+  let f2 = f(x2);
+  for (let it = 0; it < maxIterations && !narrowEnough(a, b); it++) {
+    if (f1 < f2) {
+      b = x2;
+      x2 = x1;
+      f2 = f1;
+      x1 = b - g * (b - a);
+      f1 = f(x1);
+    } else {
+      a = x1;
+      x1 = x2;
+      f1 = f2;
+      x2 = a + g * (b - a);
+      f2 = f(x2);
+    }
+  }
+  return (a + b) / 2;
 }
