@@ -78,7 +78,8 @@ function expectOneLineFailure(r: Ran & { ms?: number }, pattern: RegExp): void {
   expect(r.stderr, 'no raw control characters').not.toMatch(/[\x00-\x09\x0b-\x1f\x7f]/);
   expect(r.stderr.trimEnd()).toMatch(pattern);
   expect(r.code).not.toBe(0);
-  if (r.ms !== undefined) expect(r.ms, 'milliseconds').toBeLessThan(1000);
+  // A hostile input that hangs the command never returns, and the test's own timeout fails it; how long a
+  // refusal takes is not asserted (it depends on the machine).
 }
 
 beforeAll(async () => {
