@@ -2,25 +2,29 @@
  * `spanmeter analyze FILE.wav`: measure the pitch of a recorded oscillator.
  *
  * Without `--points` it measures one steady tone over the whole file. With `--points V1,V2,…` it analyses a
- * recorded calibration pass (`dsp/recording.ts`): finds the settled steps in order, maps them to the
+ * recorded calibration pass (`dsp/recording/recording.ts`): finds the settled steps in order, maps them to the
  * voltages, and prints the error table, the tracking fit and the trim advice. `--clock-ppm` corrects every
  * frequency for the interface's clock error, `--fit-from`/`--fit-to` narrow the fit, and `--divider` or
  * `--summer` describe the input network for resistor values in the scale advice. With `--true-hz` it
  * reads a recorded reference tone of known frequency and prints the interface's clock error instead.
  */
 import { basename } from 'node:path';
-import type { InputNetwork } from '../dsp/advice.ts';
-import { clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/clock.ts';
-import { A4_HZ, nearestNote } from '../dsp/notes.ts';
-import { estimatePitch } from '../dsp/pitch.ts';
-import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
-import { calibrate } from '../dsp/pipeline.ts';
-import { resultToJsonText } from '../dsp/result.ts';
-import type { Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
-import { analyzeRecording, describePlateauSpans, type RecordingAnalysisError } from '../dsp/recording.ts';
-import { arraySource, wavChannelSource, type SampleSource } from '../dsp/recording-input.ts';
-import { analyzeSteadyTone, LONG_TONE_SECONDS } from '../dsp/steady-tone.ts';
-import type { WavDecoded, WavLayout } from '../dsp/wav.ts';
+import type { InputNetwork } from '../dsp/advice/index.ts';
+import { clockPpmFromReference, MAX_CLOCK_PPM } from '../dsp/io/index.ts';
+import { A4_HZ, nearestNote } from '../dsp/math/index.ts';
+import { estimatePitch } from '../dsp/pitch/index.ts';
+import { MAX_CONTROL_VOLTS } from '../dsp/calibration/index.ts';
+import { calibrate } from '../dsp/calibration/index.ts';
+import { resultToJsonText } from '../dsp/calibration/index.ts';
+import type { Hertz, Ppm, Seconds, Volts } from '../dsp/math/index.ts';
+import {
+  analyzeRecording,
+  describePlateauSpans,
+  type RecordingAnalysisError,
+} from '../dsp/recording/index.ts';
+import { arraySource, wavChannelSource, type SampleSource } from '../dsp/recording/index.ts';
+import { analyzeSteadyTone, LONG_TONE_SECONDS } from '../dsp/recording/index.ts';
+import type { WavDecoded, WavLayout } from '../dsp/io/index.ts';
 import {
   EXIT_USAGE,
   formatOptionsHelp,

@@ -3,8 +3,8 @@
  * messages for unknown options, missing values and bad values.
  */
 import { parseArgs } from 'node:util';
-import { parseOhms } from '../dsp/eseries.ts';
-import { parsePlan } from '../dsp/plan.ts';
+import { parseOhms } from '../dsp/converter/index.ts';
+import { parsePlan } from '../dsp/calibration/index.ts';
 import { CliError } from './errors.ts';
 
 /**
@@ -195,7 +195,7 @@ export function parseNumberListOption(
 }
 
 /**
- * Parse two resistances separated by a comma, e.g. `--divider 100k,1.8k` (`dsp/eseries.ts` parseOhms:
+ * Parse two resistances separated by a comma, e.g. `--divider 100k,1.8k` (`dsp/converter/eseries.ts` parseOhms:
  * plain ohms, a `k` or `M` suffix, or the `4k02` form).
  *
  * @param name - Option name without dashes. @param text - The value as typed.
@@ -244,7 +244,7 @@ export function formatOptionsHelp(specs: OptionSpecs): string {
 }
 
 /**
- * Parse a list of control voltages in the one plan grammar (`dsp/plan.ts` parsePlan: `0,1,2`, `0-7`,
+ * Parse a list of control voltages in the one plan grammar (`dsp/calibration/plan.ts` parsePlan: `0,1,2`, `0-7`,
  * `0:0.5:5`), as `analyze --points` and `simulate --plan` take it: one voltage or more, and a voltage may
  * come back (a recording may return to a step).
  *

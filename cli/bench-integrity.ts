@@ -4,11 +4,11 @@
  * standard uncertainty beside the error actually made, against the generating truth.
  */
 
-import { estimatePitch } from '../dsp/pitch.ts';
-import type { PitchReading } from '../dsp/reading.ts';
-import { createRun, type RunState } from '../dsp/run.ts';
-import { createOscillatorStream, trueHz, withDropouts } from '../dsp/simulate.ts';
-import { PitchTracker } from '../dsp/stream.ts';
+import { estimatePitch } from '../dsp/pitch/index.ts';
+import type { PitchReading } from '../dsp/pitch/index.ts';
+import { createRun, type RunState } from '../dsp/calibration/index.ts';
+import { createOscillatorStream, trueHz, withDropouts } from '../dsp/sim/index.ts';
+import { PitchTracker } from '../dsp/pitch/index.ts';
 import { feedReading } from '../renderer/src/engine/run-host.ts';
 import { addNoise, centsError, rng, tone, type Shape } from '../test/signals.ts';
 

@@ -13,7 +13,7 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { SAW6, writeLongToneWav } from '../test/long-wav.ts';
 import { encodeWav } from './simulate.ts';
 

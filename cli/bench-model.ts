@@ -8,15 +8,15 @@
  * matching uncertainty components (the engine's contract). The audio path's own accuracy is measured by the
  * engine cases above.
  */
-import { adviseFromModel, type ModelAdvice } from '../dsp/advice.ts';
+import { adviseFromModel, type ModelAdvice } from '../dsp/advice/index.ts';
 import {
   METER_PRESETS,
   stepFitUncertaintyCents,
   type BudgetOptions,
   type BudgetStep,
-} from '../dsp/budget.ts';
-import { fitCalibrationModel } from '../dsp/model.ts';
-import { bulkResistanceAlpha } from '../dsp/simulate.ts';
+} from '../dsp/model/index.ts';
+import { fitCalibrationModel } from '../dsp/model/index.ts';
+import { bulkResistanceAlpha } from '../dsp/sim/index.ts';
 
 const CENTS = 1200;
 

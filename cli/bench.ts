@@ -7,14 +7,14 @@
 
 import { PitchDetector } from 'pitchy';
 import { YIN } from 'pitchfinder';
-import { estimatePitch } from '../dsp/pitch.ts';
-import { PitchTracker } from '../dsp/stream.ts';
+import { estimatePitch } from '../dsp/pitch/index.ts';
+import { PitchTracker } from '../dsp/pitch/index.ts';
 import { addDcStep, addHum, addNoise, centsError, tone, toFloat32, type Shape } from '../test/signals.ts';
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { encodeWav } from './simulate.ts';
 import { CliError } from './errors.ts';
 import { modelBenchCases } from './bench-model.ts';

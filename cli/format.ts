@@ -1,14 +1,14 @@
 /**
  * Text and JSON output of the command-line tools. Pure functions: numbers in, strings out.
  */
-import type { ResistorChange } from '../dsp/advice.ts';
-import { centsToPpm, ppmToCents, type ClockFromReferenceOk } from '../dsp/clock.ts';
-import { formatOhms } from '../dsp/eseries.ts';
-import { nearestNote, type NearestNote } from '../dsp/notes.ts';
-import type { RecordingAnalysisOk } from '../dsp/recording.ts';
-import type { PitchNone, PitchOk } from '../dsp/reading.ts';
-import type { Cents, Decibels, Hertz, Ppm, Seconds, Volts } from '../dsp/units.ts';
-import type { WavDecoded } from '../dsp/wav.ts';
+import type { ResistorChange } from '../dsp/advice/index.ts';
+import { centsToPpm, ppmToCents, type ClockFromReferenceOk } from '../dsp/io/index.ts';
+import { formatOhms } from '../dsp/converter/index.ts';
+import { nearestNote, type NearestNote } from '../dsp/math/index.ts';
+import type { RecordingAnalysisOk } from '../dsp/recording/index.ts';
+import type { PitchNone, PitchOk } from '../dsp/pitch/index.ts';
+import type { Cents, Decibels, Hertz, Ppm, Seconds, Volts } from '../dsp/math/index.ts';
+import type { WavDecoded } from '../dsp/io/index.ts';
 
 /** One measured step: the control voltage it was taken at (null for a single steady tone) and its reading. */
 export interface AnalysisStep {
@@ -44,9 +44,9 @@ export function formatSignedCents(cents: Cents, decimals = 2): string {
   return s.startsWith('-') ? s : `+${s}`;
 }
 
-/** The one uncertainty formatter (two significant digits, JCGM 100:2008 7.2.6), shared with `dsp/budget.ts`. */
-export { formatUncertainty } from '../dsp/budget.ts';
-import { formatUncertainty } from '../dsp/budget.ts';
+/** The one uncertainty formatter (two significant digits, JCGM 100:2008 7.2.6), shared with `dsp/model/budget.ts`. */
+export { formatUncertainty } from '../dsp/model/index.ts';
+import { formatUncertainty } from '../dsp/model/index.ts';
 
 /**
  * A level in dBFS with one decimal; digital silence is `-inf`.
@@ -317,7 +317,7 @@ export function formatPpm(ppm: Ppm): string {
 
 /**
  * The line saying that frequencies carry a clock correction, with its size in cents
- * (`1200·log2(1 + ppm·10⁻⁶)`, `dsp/clock.ts` ppmToCents).
+ * (`1200·log2(1 + ppm·10⁻⁶)`, `dsp/io/clock.ts` ppmToCents).
  *
  * @example describeClockCorrection(100) // 'clock     corrected by +100.000 ppm (+0.1731 cents); intervals are unaffected'
  */
@@ -334,7 +334,7 @@ export interface ClockReference {
   readonly measuredHz: Hertz;
   /** The reference's true frequency, Hz. */
   readonly trueHz: Hertz;
-  /** `clockPpmFromReference(measuredHz, trueHz)` (dsp/clock.ts). */
+  /** `clockPpmFromReference(measuredHz, trueHz)` (dsp/io/clock.ts). */
   readonly clock: ClockFromReferenceOk;
   /** The reading, for its uncertainty and level. */
   readonly reading: PitchOk;

@@ -1,12 +1,12 @@
 /**
  * The command-line options of the uncertainty budget and the tolerance (`spanmeter analyze --points …`):
  * meter specification, measured voltages per step, source accuracy, clock uncertainty, temperature and the
- * tolerance in cents. Parsed into the `dsp/budget.ts` options; every bad value gets a one-line message
+ * tolerance in cents. Parsed into the `dsp/model/budget.ts` options; every bad value gets a one-line message
  * naming the option.
  */
-import { METER_PRESETS, type BudgetOptions, type MeterSpec } from '../dsp/budget.ts';
-import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
-import type { Volts } from '../dsp/units.ts';
+import { METER_PRESETS, type BudgetOptions, type MeterSpec } from '../dsp/model/index.ts';
+import { MAX_CONTROL_VOLTS } from '../dsp/calibration/index.ts';
+import type { Volts } from '../dsp/math/index.ts';
 import { EXIT_USAGE, parseNumberListOption, parseNumberOption } from './args.ts';
 import { CliError } from './errors.ts';
 

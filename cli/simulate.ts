@@ -2,7 +2,7 @@
  * `spanmeter simulate`: writes a test recording of a simulated 1 V/oct oscillator stepped through a list of
  * reference voltages, as a WAV file, with the true settled frequency of every step in an optional JSON file.
  *
- * The oscillator and interface model is `dsp/simulate.ts`. Files are written atomically: to a temporary file
+ * The oscillator and interface model is `dsp/sim/simulate.ts`. Files are written atomically: to a temporary file
  * in the destination folder, then linked (or, with `--force`, renamed) into place, so a reader never sees
  * half a file. An existing file is replaced only with `--force`; a directory, FIFO, device, socket or
  * symbolic link is never a target, with or without it. The targets are checked before anything is rendered.
@@ -23,7 +23,7 @@ import {
   type OscillatorOptions,
   type OscillatorShape,
   type RenderedOscillator,
-} from '../dsp/simulate.ts';
+} from '../dsp/sim/index.ts';
 import {
   EXIT_USAGE,
   formatOptionsHelp,
@@ -35,7 +35,7 @@ import {
 } from './args.ts';
 import { CliError, quotePath } from './errors.ts';
 
-/** Defaults of a recording made by this command (the oscillator's own defaults are in dsp/simulate.ts). */
+/** Defaults of a recording made by this command (the oscillator's own defaults are in dsp/sim/simulate.ts). */
 export const SIMULATE_DEFAULTS = Object.freeze({
   /** Reference voltages: 0 to 7 V in whole volts. */
   plan: '0-7',
@@ -136,7 +136,7 @@ function parseChoice<T extends string>(name: string, text: string, choices: read
 
 /**
  * Integer sample values for a PCM bit depth (full scale 2^(bits−1), clamped to the top code, the same
- * scaling the reader in dsp/wav.ts undoes), or the float samples themselves for 32f. No dither: the
+ * scaling the reader in dsp/io/wav.ts undoes), or the float samples themselves for 32f. No dither: the
  * simulated noise dithers.
  */
 function encodeChannel(samples: Float32Array, bits: WavBits): Int16Array | Int32Array | Float32Array {

@@ -1,11 +1,11 @@
 /**
- * The report of a held tone that moved (`dsp/steady-tone.ts`): start, end, drift rate and their standard
+ * The report of a held tone that moved (`dsp/recording/steady-tone.ts`): start, end, drift rate and their standard
  * uncertainties, and the warm-up status, as text and as one JSON object.
  */
-import { applyClockPpm } from '../dsp/clock.ts';
-import { nearestNote } from '../dsp/notes.ts';
-import type { SteadyToneOk } from '../dsp/steady-tone.ts';
-import type { Hertz, Ppm } from '../dsp/units.ts';
+import { applyClockPpm } from '../dsp/io/index.ts';
+import { nearestNote } from '../dsp/math/index.ts';
+import type { SteadyToneOk } from '../dsp/recording/index.ts';
+import type { Hertz, Ppm } from '../dsp/math/index.ts';
 import { formatHz, formatSignedCents, formatUncertainty } from './format.ts';
 
 /** A time as h:mm:ss or m:ss with tenths: `1:02:03.4`, `2:03.4`. */

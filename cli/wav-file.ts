@@ -4,11 +4,11 @@
  * Only a regular file is read: a FIFO, a device (the zero device would never end), a socket or a directory
  * is refused up front from its `stat`, before anything is opened, and checked again on the opened
  * descriptor (opened non-blocking, so a FIFO swapped in meanwhile cannot hang the open). The file is then
- * read with positioned reads a stretch at a time (`dsp/wav.ts` {@link ByteSource}), never whole, so files
+ * read with positioned reads a stretch at a time (`dsp/io/wav.ts` {@link ByteSource}), never whole, so files
  * over 2 GiB and RF64 files over 4 GB read like any other.
  */
 import { closeSync, constants, fstatSync, openSync, readSync, statSync, type Stats } from 'node:fs';
-import { openWav, type ByteSource, type WavLayout } from '../dsp/wav.ts';
+import { openWav, type ByteSource, type WavLayout } from '../dsp/io/index.ts';
 import { CliError, quotePath } from './errors.ts';
 
 /** An open WAV file: its layout and its bytes; close it when done. */
@@ -74,7 +74,7 @@ export function fdByteSource(fd: number, sizeBytes: number): ByteSource {
  * @param path - The path as typed.
  * @returns The layout and a byte source; call `close()` when done.
  * @throws CliError (exit code 1) for a missing or unreadable file, anything but a regular file, or a file
- *   that is not a readable WAV (the message from `dsp/wav.ts`, after the quoted name).
+ *   that is not a readable WAV (the message from `dsp/io/wav.ts`, after the quoted name).
  * @example const f = openWavFile('take.wav'); try { … f.layout.sampleRateHz … } finally { f.close(); }
  */
 export function openWavFile(path: string): OpenWavFile {

@@ -1,5 +1,5 @@
 /**
- * Types for the renderer: `import type { SpanmeterApi, UnitRecord } from '../main/api-types.ts'`.
+ * Types for the renderer: `import type { SpanmeterApi, UnitRecord } from './api-types.ts'`.
  * Everything here derives from the preload (`preload-api.ts`) and the IPC contract, so the two
  * sides cannot drift apart. Type-only: importing this file adds nothing to a bundle.
  */

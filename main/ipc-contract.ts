@@ -10,8 +10,8 @@
  */
 import { z } from 'zod';
 import { CHANNELS, type Channel } from './channels.ts';
-import { MAX_CONTROL_VOLTS } from '../dsp/plan.ts';
-import { CalibrationResultSchema, isRunResult, migrateResult } from '../dsp/result.ts';
+import { MAX_CONTROL_VOLTS } from '../dsp/calibration/index.ts';
+import { CalibrationResultSchema, isRunResult, migrateResult } from '../dsp/calibration/index.ts';
 import { recordIdProblem } from './record-id.ts';
 
 export { CHANNELS, type Channel };
@@ -36,7 +36,7 @@ export const READABLE_RECORD_SCHEMA_VERSIONS: readonly number[] = [1, RECORD_SCH
 
 /**
  * A record as read from a file or from browser storage, moved to the current schema: a version 1 record
- * gets `schemaVersion: 2` and each run's result goes through `migrateResult` (`dsp/result.ts`). Anything
+ * gets `schemaVersion: 2` and each run's result goes through `migrateResult` (`dsp/calibration/result.ts`). Anything
  * that is not a version 1 record comes back untouched, for the schema to judge.
  *
  * @param value - Parsed JSON.
@@ -128,7 +128,7 @@ export const RunIdSchema = z
   .string()
   .regex(/^[a-z0-9][a-z0-9-]{0,63}$/, 'run id may only contain a-z, 0-9 and "-" (1–64 characters)');
 
-/** A control voltage in volts, within the one limit ±MAX_CONTROL_VOLTS (`dsp/plan.ts`). */
+/** A control voltage in volts, within the one limit ±MAX_CONTROL_VOLTS (`dsp/calibration/plan.ts`). */
 const VoltsSchema = z.number().finite().min(-MAX_CONTROL_VOLTS).max(MAX_CONTROL_VOLTS);
 
 /** One run: a pass over the voltage plan, before or after trimming, with its analysis. */
@@ -139,7 +139,7 @@ export const RunSchema = z.strictObject({
   label: z.string().min(1).max(80),
   /** The voltages the run stepped through, V, in order. */
   plan: z.strictObject({ volts: z.array(VoltsSchema).min(1).max(512) }),
-  /** The run's result, in the one result shape (`dsp/result.ts`). */
+  /** The run's result, in the one result shape (`dsp/calibration/result.ts`). */
   result: CalibrationResultSchema.refine(isRunResult, 'every step of a saved run needs its voltage'),
 });
 
@@ -165,7 +165,7 @@ const recordFields = {
     .optional(),
   /**
    * The unit's tracking tolerance, ± cents: a run passes when every step lies within it of the ideal
-   * 1 V/oct line through its lowest step. Absent: the app's default (2 cents, FIELD-NOTES).
+   * 1 V/oct line through its lowest step. Absent: the app's default (2 cents, docs/facts.md).
    */
   toleranceCents: finite().positive().max(100).optional(),
   runs: z.array(RunSchema).max(1000),

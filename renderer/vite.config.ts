@@ -17,7 +17,7 @@ export default defineConfig({
   base: './',
   resolve: {
     alias: {
-      // dsp/wav.ts imports wavefile's default export, which its CommonJS build (what Node loads) has and
+      // dsp/io/wav.ts imports wavefile's default export, which its CommonJS build (what Node loads) has and
       // its ES module entry does not: bundle the CommonJS build, as Node runs it.
       wavefile: require.resolve('wavefile'),
     },

@@ -5,9 +5,13 @@ import {
   inputNetworkGain,
   scaleCorrectionResistors,
   twoPointIntervalError,
-} from '../dsp/advice.ts';
-import { analyzeBends, fitTracking, type TrackingPoint } from '../dsp/fit.ts';
-import { attenuationForOneVoltPerOctave, resetTimeErrorCents, voltsPerOctaveAtBase } from '../dsp/physics.ts';
+} from '../dsp/advice/index.ts';
+import { analyzeBends, fitTracking, type TrackingPoint } from '../dsp/model/index.ts';
+import {
+  attenuationForOneVoltPerOctave,
+  resetTimeErrorCents,
+  voltsPerOctaveAtBase,
+} from '../dsp/converter/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 /** Steps of a 1 V/oct oscillator: scale error (cents/oct), pitch at 0 V, an optional extra error, noise. */

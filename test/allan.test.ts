@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { allanDeviation, allanSeries, subWindowRepeatability } from '../dsp/allan.ts';
+import { allanDeviation, allanSeries, subWindowRepeatability } from '../dsp/pitch/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 /**

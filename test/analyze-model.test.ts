@@ -5,7 +5,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import wavefile from 'wavefile';
-import { planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { cli } from './cli-run.ts';
 
 let dir = '';

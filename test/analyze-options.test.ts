@@ -5,8 +5,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import wavefile from 'wavefile';
-import { inputNetworkGain, type InputNetwork, type ResistorChange } from '../dsp/advice.ts';
-import { planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { inputNetworkGain, type InputNetwork, type ResistorChange } from '../dsp/advice/index.ts';
+import { planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { cli } from './cli-run.ts';
 
 let dir = '';

@@ -4,8 +4,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import wavefile from 'wavefile';
-import { CalibrationResultSchema } from '../dsp/result.ts';
-import { planSchedule, renderOscillator, type RenderedOscillator } from '../dsp/simulate.ts';
+import { CalibrationResultSchema } from '../dsp/calibration/index.ts';
+import { planSchedule, renderOscillator, type RenderedOscillator } from '../dsp/sim/index.ts';
 import { cli } from './cli-run.ts';
 
 let dir = '';
@@ -66,11 +66,11 @@ describe('spanmeter analyze --points', () => {
       fit: Record<string, number>;
       advice: { text: string; trimmer: string }[];
     };
-    // The one result shape (dsp/result.ts), exact.
+    // The one result shape (dsp/calibration/result.ts), exact.
     expect(CalibrationResultSchema.safeParse(out).success).toBe(true);
     expect(out.steps.map((s) => s.volts)).toEqual(POINTS);
     out.steps.forEach((s, i) => {
-      // recordedHz: what a perfect meter reads in the file (dsp/simulate.ts).
+      // recordedHz: what a perfect meter reads in the file (dsp/sim/simulate.ts).
       const err = cents(s.hz, rec.truth[i].recordedHz);
       expect(Math.abs(err), `step ${i}: ${err.toFixed(4)} cents`).toBeLessThan(0.05);
       expect(s.uncertaintyCents).toBeGreaterThan(0);

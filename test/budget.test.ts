@@ -10,10 +10,10 @@ import {
   stepFitUncertaintyCents,
   voltageUncertainty,
   type BudgetStep,
-} from '../dsp/budget.ts';
-import { fitCalibrationModel, predictionSensitivities, scaleSensitivities } from '../dsp/model.ts';
-import { coverageFactor, studentTCdf, studentTQuantile, welchSatterthwaite } from '../dsp/stats.ts';
-import { judgeTolerance } from '../dsp/tolerance.ts';
+} from '../dsp/model/index.ts';
+import { fitCalibrationModel, predictionSensitivities, scaleSensitivities } from '../dsp/model/index.ts';
+import { coverageFactor, studentTCdf, studentTQuantile, welchSatterthwaite } from '../dsp/math/index.ts';
+import { judgeTolerance } from '../dsp/model/index.ts';
 
 const { jStat } = jstat;
 
@@ -82,7 +82,7 @@ describe('Welch–Satterthwaite (GUM G.4.1, equation G.2b)', () => {
 
 describe('meter specification', () => {
   it('reproduces the worked example: ±(0.05 % + 3 counts) on 1.0000 V at 0.1 mV is ±0.8 mV, u = 0.46 mV = 0.55 cent', () => {
-    // FIELD-NOTES worked example (derived); rectangular u = a/√3, JCGM 100:2008 4.3.7.
+    // docs/facts.md worked example (derived); rectangular u = a/√3, JCGM 100:2008 4.3.7.
     const m = METER_PRESETS['4.5-digit'];
     expect(meterResolutionVolts(m, 1)).toBe(0.0001);
     expect(meterHalfWidth(m, 1).halfWidthVolts).toBeCloseTo(0.0008, 12);
@@ -97,7 +97,7 @@ describe('meter specification', () => {
     expect(formatUncertainty(ref.standardUncertainty)).toBe('0.55');
     expect(ref.distribution).toBe('rectangular');
   });
-  it('reads 1 V to ±7 mV on a 3½-digit meter at ±(0.5 % + 2) (FIELD-NOTES)', () => {
+  it('reads 1 V to ±7 mV on a 3½-digit meter at ±(0.5 % + 2) (docs/facts.md)', () => {
     expect(meterHalfWidth(METER_PRESETS['3.5-digit'], 1).halfWidthVolts).toBeCloseTo(0.007, 12);
   });
   it('auto-ranges the resolution', () => {

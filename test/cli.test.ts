@@ -1,5 +1,5 @@
-import { calibrate } from '../dsp/pipeline.ts';
-import { CalibrationResultSchema, resultToJsonText } from '../dsp/result.ts';
+import { calibrate } from '../dsp/calibration/index.ts';
+import { CalibrationResultSchema, resultToJsonText } from '../dsp/calibration/index.ts';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { chmodSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -346,7 +346,7 @@ describe('output formatting', () => {
     expect(formatUncertainty(u)).toBe(s);
   });
 
-  it('JSON: the one result shape (dsp/result.ts); non-finite levels become null', () => {
+  it('JSON: the one result shape (dsp/calibration/result.ts); non-finite levels become null', () => {
     const { result } = calibrate([
       {
         index: 0,

@@ -1,5 +1,11 @@
 import { describe, it, expect } from 'vitest';
-import { MAX_CLOCK_PPM, applyClockPpm, centsToPpm, clockPpmFromReference, ppmToCents } from '../dsp/clock.ts';
+import {
+  MAX_CLOCK_PPM,
+  applyClockPpm,
+  centsToPpm,
+  clockPpmFromReference,
+  ppmToCents,
+} from '../dsp/io/index.ts';
 
 describe('clock error in cents', () => {
   it('1 ppm is 0.001 731 cent and 100 ppm 0.173 cent', () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { estimatePitch } from '../dsp/pitch.ts';
-import { createOscillatorStream, trueHz, withDropouts } from '../dsp/simulate.ts';
-import { PitchTracker } from '../dsp/stream.ts';
+import { estimatePitch } from '../dsp/pitch/index.ts';
+import { createOscillatorStream, trueHz, withDropouts } from '../dsp/sim/index.ts';
+import { PitchTracker } from '../dsp/pitch/index.ts';
 import { addNoise, centsError, tone, toFloat32 } from './signals.ts';
 
 const FS = 48000;

@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import { linearRegression } from 'simple-statistics';
-import { analyzeDrift, driftRateSeries, type DriftReading } from '../dsp/drift.ts';
+import { analyzeDrift, driftRateSeries, type DriftReading } from '../dsp/calibration/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 /** Readings every `dt` s for `seconds`, with pitch offset `cents(t)` on 220 Hz plus noise. */

@@ -30,9 +30,9 @@ import {
   type CalibrationReading,
   type DriveCalibration,
 } from '../dsp/drive/index.ts';
-import { midiToHz } from '../dsp/notes.ts';
-import { createRun, runCaptures, runReducer } from '../dsp/run.ts';
-import type { TrimAdvice } from '../dsp/advice.ts';
+import { midiToHz } from '../dsp/math/index.ts';
+import { createRun, runCaptures, runReducer } from '../dsp/calibration/index.ts';
+import type { TrimAdvice } from '../dsp/advice/index.ts';
 
 // Demo scenario (invented): the Ostlund Lane workshop's bench interface output, 9.87 V at full scale.
 const METER_0_1MV = { percentOfReading: 0.05, counts: 3, resolutionVolts: 0.0001 };
@@ -45,13 +45,13 @@ function okCal(readings: CalibrationReading[], meter = METER_0_1MV): DriveCalibr
 
 describe('meter uncertainty', () => {
   it('matches the worked example: ±(0.05 % + 3) on 1.0000 V with 0.1 mV counts is ±0.8 mV, u = 0.46 mV', () => {
-    // FIELD-NOTES "Uncertainty in practice"; u = a/√3 (GUM 4.3.7) plus a half-count (GUM F.2.2.1).
+    // docs/facts.md "Uncertainty"; u = a/√3 (GUM 4.3.7) plus a half-count (GUM F.2.2.1).
     const u = meterUncertainty(1, METER_0_1MV);
     expect(u.boundVolts).toBeCloseTo(0.0008, 12);
     expect(u.standardVolts * 1000).toBeCloseTo(0.46, 2);
   });
   it('3½-digit ±(0.5 % + 2) reads 1 V to about ±7 mV', () => {
-    // FIELD-NOTES "How technicians calibrate": ±7 mV at 1 V (1 mV counts).
+    // docs/facts.md "How technicians calibrate": ±7 mV at 1 V (1 mV counts).
     expect(
       meterUncertainty(1, { percentOfReading: 0.5, counts: 2, resolutionVolts: 0.001 }).boundVolts,
     ).toBeCloseTo(0.007, 12);
@@ -142,7 +142,7 @@ describe('drive calibration fit', () => {
     if (r.kind === 'ac-coupled') expect(r.reason).toBe('no-dc');
   });
   it('warns of an AC-coupled output: a held level that decays', () => {
-    // FIELD-NOTES "Driving the oscillator": an AC-coupled DC level decays within a fraction of a second to seconds.
+    // docs/facts.md "The sound card": an AC-coupled DC level decays within a fraction of a second to seconds.
     const r = fitDriveCalibration(readings, METER_0_1MV, {
       expectedGain: 10,
       holdCheck: { firstVolts: 6.9165, laterVolts: 5.1, seconds: 10 },
@@ -173,14 +173,14 @@ describe('drive calibration fit', () => {
 
 describe('MIDI mapping and bytes (MIDI 1.0 Detailed Specification)', () => {
   it('numbers notes with middle C = 60 (C4 = 261.6256 Hz)', () => {
-    // MIDI 1.0; @tonaljs/tonal's Midi.toMidi as the outside reference; FIELD-NOTES C4 = 261.6256 Hz.
+    // MIDI 1.0; @tonaljs/tonal's Midi.toMidi as the outside reference; docs/facts.md C4 = 261.6256 Hz.
     expect(Midi.toMidi('C4')).toBe(60);
     expect(midiToHz(60)).toBeCloseTo(261.6256, 4);
     expect(nominalVoltsToNote(0, 60)).toBe(60);
     expect(nominalVoltsToNote(1, 60)).toBe(Midi.toMidi('C5'));
   });
   it('moves 83.333 mV per semitone at 1 V/oct', () => {
-    // FIELD-NOTES "Driving the oscillator" (derived: 1 V / 12).
+    // docs/facts.md "The sound card" (derived: 1 V / 12).
     expect(VOLTS_PER_SEMITONE * 1000).toBeCloseTo(83.333, 3);
     expect(noteToNominalVolts(61, 60)).toBeCloseTo(0.083333, 6);
     expect(noteToNominalVolts(96, 36)).toBe(5);

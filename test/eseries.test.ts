@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { E24_VALUES, E96_VALUES, formatOhms, nearestPreferred } from '../dsp/eseries.ts';
+import { E24_VALUES, E96_VALUES, formatOhms, nearestPreferred } from '../dsp/converter/index.ts';
 
 describe('E-series tables (IEC 60063)', () => {
   it('E24 is the 24 two-digit values of the standard', () => {

@@ -7,8 +7,8 @@ import {
   predictedHz,
   predictionUncertaintyCents,
   type TrackingPoint,
-} from '../dsp/fit.ts';
-import { resetTimeErrorCents } from '../dsp/physics.ts';
+} from '../dsp/model/index.ts';
+import { resetTimeErrorCents } from '../dsp/converter/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 /** Steps of a 1 V/oct oscillator with a scale error (cents/oct), plus extra cents per step and noise. */

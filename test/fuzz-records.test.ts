@@ -26,7 +26,7 @@ import {
   presetPlan,
   type PlanErrorReason,
   type PlanParse,
-} from '../dsp/plan.ts';
+} from '../dsp/calibration/index.ts';
 import {
   RunStateError,
   createRun,
@@ -35,7 +35,7 @@ import {
   serializeRun,
   validateRunState,
   type RunState,
-} from '../dsp/run.ts';
+} from '../dsp/calibration/index.ts';
 import { sampleDraft, sampleRecord, sampleRun } from './main-fixtures.ts';
 
 /**

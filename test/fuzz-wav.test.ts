@@ -12,7 +12,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
-import { decodeWav, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, type WavResult } from '../dsp/wav.ts';
+import { decodeWav, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, type WavResult } from '../dsp/io/index.ts';
 
 /** Allowed growth of heap + array buffers across one call, beyond 16 bytes per byte of file. */
 const MEMORY_SLACK_BYTES = 32 * 1024 * 1024;
@@ -519,7 +519,7 @@ describe('decodeWav under generated RIFF structures', () => {
     for (const code of ['truncated', 'malformed', 'unsupported-format', 'not-wav']) {
       expect(tally.codes[code] ?? 0, code).toBeGreaterThan(10);
     }
-    // "should not happen" (dsp/wav.ts): the structural checks catch every fault before the sample decoder.
+    // "should not happen" (dsp/io/wav.ts): the structural checks catch every fault before the sample decoder.
     expect(tally.codes['decode-failed'] ?? 0).toBe(0);
   });
 

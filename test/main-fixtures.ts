@@ -1,6 +1,6 @@
 // Shared fixtures for the main-process tests. The unit, its serial and notes are an invented demo
 // scenario; the frequencies are derived, not invented (see sampleRun).
-import { calibrate } from '../dsp/pipeline.ts';
+import { calibrate } from '../dsp/calibration/index.ts';
 import { RECORD_SCHEMA_VERSION, type UnitRecord, type UnitRecordDraft } from '../main/ipc-contract.ts';
 
 /** C2 in 12-TET with A4 = 440 Hz: 440·2^((36 − 69)/12) = 65.4064 Hz (ISO 16:1975 tuning, MIDI note 36). */
@@ -14,7 +14,7 @@ export function sampleRun(id = '3f2a9c1e-0b7d-4e5a-9c61-2d8e4f7a1b90', label = '
     takenAt: '2031-03-14T09:30:00.000Z',
     label,
     plan: { volts },
-    // The one result shape (dsp/result.ts), made by the one pipeline.
+    // The one result shape (dsp/calibration/result.ts), made by the one pipeline.
     result: calibrate(
       volts.map((v, i) => ({
         index: i,

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { adviseFromModel, resistorOutcomes } from '../dsp/advice.ts';
-import type { BudgetStep } from '../dsp/budget.ts';
+import { adviseFromModel, resistorOutcomes } from '../dsp/advice/index.ts';
+import type { BudgetStep } from '../dsp/model/index.ts';
 import {
   checkPlausibility,
   fitCalibrationModel,
@@ -9,9 +9,9 @@ import {
   modelHz,
   modelVolts,
   type CalibrationModelOk,
-} from '../dsp/model.ts';
-import { resetTimeErrorCents } from '../dsp/physics.ts';
-import { bulkResistanceAlpha, trueHz } from '../dsp/simulate.ts';
+} from '../dsp/model/index.ts';
+import { resetTimeErrorCents } from '../dsp/converter/index.ts';
+import { bulkResistanceAlpha, trueHz } from '../dsp/sim/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 // Demo scenario (invented): units from the Ostlund Lane workshop batch, measured 0…7 V from about C1.
@@ -57,7 +57,7 @@ describe('fitCalibrationModel', () => {
   ])(
     'keeps HF droop (reset %f s, bulk %f Ω) out of the headline scale: within 0.1 cent per octave',
     (reset, ohms) => {
-      // Issue 9 target; reset-time error −1200·log2(1 + f·t) and bulk resistance from dsp/physics.ts (FIELD-NOTES).
+      // Issue 9 target; reset-time error −1200·log2(1 + f·t) and bulk resistance from dsp/converter/physics.ts (docs/facts.md).
       const truth = 0.7;
       const o = {
         scaleOctPerVolt: 1 + truth / 1200,
@@ -79,7 +79,7 @@ describe('fitCalibrationModel', () => {
     const m = ok(fitCalibrationModel(steps({ resetSeconds: 2e-6 }, 0.005)));
     expect(m.equivalentResetSeconds! * 1e6).toBeCloseTo(2, 1);
     expect(m.mixtureResolved).toBe(false);
-    // The model's HF term at 4 kHz against the physics of a 2 µs reset (derived, dsp/physics.ts).
+    // The model's HF term at 4 kHz against the physics of a 2 µs reset (derived, dsp/converter/physics.ts).
     expect(hfCents(m, 4000)).toBeCloseTo(resetTimeErrorCents(4000, 2e-6) + 0, 0);
   });
 
@@ -199,7 +199,7 @@ describe('adviseFromModel', () => {
       toleranceCents: 0.5,
       offsetTarget: { volts: 0, hz: C1 },
     });
-    // Nominal volts at 0.1 % (FIELD-NOTES, common practice): 7 mV at 7 V is ±8.4 cents, so nothing at ±0.5 cent can be proven.
+    // Nominal volts at 0.1 % (docs/facts.md, common practice): 7 mV at 7 V is ±8.4 cents, so nothing at ±0.5 cent can be proven.
     expect(a.tolerance.verdict).toBe('cannot-tell');
     expect(a.tolerance.text).toContain('meter');
     expect(a.allWithinTolerance).toBe(false);

@@ -10,7 +10,7 @@ import {
   midiToName,
   nearestNote,
   ratioToCents,
-} from '../dsp/notes.ts';
+} from '../dsp/math/index.ts';
 
 /** Relative difference |a − b| / |b|. */
 const rel = (a: number, b: number): number => Math.abs(a - b) / Math.abs(b);

@@ -1,7 +1,7 @@
 // One simulated calibration pass through every path that produces a result: the live run (reducer and the
 // worker's calibrator), the app's WAV analysis, `spanmeter analyze --json`, the app's JSON export and a saved
 // unit record (browser and desktop stores). Every number of the steps, the fit and the advice must be the
-// same, bit for bit: they all come from the one pipeline (dsp/pipeline.ts). Only the step's `capture` (how
+// same, bit for bit: they all come from the one pipeline (dsp/calibration/pipeline.ts). Only the step's `capture` (how
 // it was measured: a window of the file, or the live host average) differs by nature.
 //
 // Scenario (invented): demo unit OL3-0417 of the Ostlund Lane workshop batch, scale trimmer off, recorded
@@ -13,11 +13,11 @@ import { afterAll, describe, expect, it, vi } from 'vitest';
 import wavefile from 'wavefile';
 import 'fake-indexeddb/auto';
 import { IDBFactory } from 'fake-indexeddb';
-import type { InputNetwork } from '../dsp/advice.ts';
-import type { PitchOk } from '../dsp/reading.ts';
-import { resultToJsonText, type CalibrationResult } from '../dsp/result.ts';
-import { createRun, type RunState } from '../dsp/run.ts';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import type { InputNetwork } from '../dsp/advice/index.ts';
+import type { PitchOk } from '../dsp/pitch/index.ts';
+import { resultToJsonText, type CalibrationResult } from '../dsp/calibration/index.ts';
+import { createRun, type RunState } from '../dsp/calibration/index.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { run as runCli } from '../cli/main.ts';
 import { createRecordsStore } from '../main/records-store.ts';
 import { feedReading, RunCalibrator } from '../renderer/src/engine/run-host.ts';
@@ -92,7 +92,7 @@ describe('one plan, every path, one result', () => {
       kind: 'ok',
       hz: rawHz,
       uncertaintyCents: step.uncertaintyCents,
-      // The parts of the uncertainty, as the recording measured them (dsp/settled.ts).
+      // The parts of the uncertainty, as the recording measured them (dsp/pitch/settled.ts).
       ...(step.components ? { components: step.components } : {}),
       clarity: 0.99,
       level,

@@ -14,7 +14,7 @@ import {
   thermalVoltageVolts,
   uncompensatedDriftCentsPerKelvinPerOctave,
   voltsPerOctaveAtBase,
-} from '../dsp/physics.ts';
+} from '../dsp/converter/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 describe('SI constants', () => {

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { YIN } from 'pitchfinder';
-import { estimatePitch, PitchEstimator } from '../dsp/pitch.ts';
-import { pickInterleavedChannel } from '../dsp/condition.ts';
-import { selectMedian, smallSampleFactor } from '../dsp/refine.ts';
+import { estimatePitch, PitchEstimator } from '../dsp/pitch/index.ts';
+import { pickInterleavedChannel } from '../dsp/pitch/index.ts';
+import { selectMedian, smallSampleFactor } from '../dsp/pitch/index.ts';
 import { addDcStep, addHum, addNoise, centsError, tone, toFloat32, type Shape } from './signals.ts';
 
 function measure(x: Float64Array, fs: number) {

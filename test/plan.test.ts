@@ -11,7 +11,7 @@ import {
   semitonePlan,
   validatePlanVolts,
   type PresetPlanId,
-} from '../dsp/plan.ts';
+} from '../dsp/calibration/index.ts';
 
 const okVolts = (text: string) => {
   const r = parsePlan(text);

@@ -8,8 +8,8 @@ import {
   pushReading,
   resolvePlateauOptions,
   type Plateau,
-} from '../dsp/plateau.ts';
-import type { PitchReading } from '../dsp/reading.ts';
+} from '../dsp/calibration/index.ts';
+import type { PitchReading } from '../dsp/pitch/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 // ---------------------------------------------------------------------------------------------------

@@ -1,19 +1,19 @@
 import { describe, expect, it } from 'vitest';
-import { CalibrationResultSchema, isRunResult } from '../dsp/result.ts';
+import { CalibrationResultSchema, isRunResult } from '../dsp/calibration/index.ts';
 import { RunSchema } from '../main/ipc-contract.ts';
 import {
   analyzeRecording,
   describePlateauSpans,
   type RecordingAnalysis,
   type RecordingAnalysisOk,
-} from '../dsp/recording.ts';
+} from '../dsp/recording/index.ts';
 import {
   planSchedule,
   renderOscillator,
   type OscillatorOptions,
   type RenderedOscillator,
   type ScheduleSegment,
-} from '../dsp/simulate.ts';
+} from '../dsp/sim/index.ts';
 import { gaussianNoise, toFloat32 } from './signals.ts';
 
 /** Cents between two frequencies: 1200·log2(f1/f2) (A. J. Ellis, 1885). */
@@ -48,7 +48,7 @@ interface AccuracyCase {
   readonly tolCents: number;
 }
 
-// Simulated stepped recordings (dsp/simulate.ts): 35–50 dB SNR, mains hum, AC coupling (the simulator's
+// Simulated stepped recordings (dsp/sim/simulate.ts): 35–50 dB SNR, mains hum, AC coupling (the simulator's
 // default 5 Hz corner), glides and small overshoots between 2-second holds. No reset time and no bulk
 // resistance, so the log-frequency line is straight and its slope is the model's scale exactly.
 const CASES: readonly AccuracyCase[] = [

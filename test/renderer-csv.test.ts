@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
 import { csvField, csvTextField, toCsv } from '../renderer/src/lib/csv.ts';
-import { calibrate } from '../dsp/pipeline.ts';
+import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { CSV_STEP_COLUMNS, runToCsv } from '../renderer/src/lib/export.ts';
 

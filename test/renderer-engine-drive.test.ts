@@ -2,7 +2,7 @@
  * The engine with the drive patched into the simulator's control input, in Node: the simulator follows
  * only the drive (not the run's nominal voltages), and a hands-off run, set step by step through the
  * calibrated simulated output, captures every step within 0.05 cent of the simulator's truth at the
- * voltage the simulated jack really carries (dsp/simulate.ts trueHz; cents after A. J. Ellis, 1885).
+ * voltage the simulated jack really carries (dsp/sim/simulate.ts trueHz; cents after A. J. Ellis, 1885).
  */
 import { describe, expect, it } from 'vitest';
 import {
@@ -13,7 +13,7 @@ import {
   simMeterReading,
   type CalibrationReading,
 } from '../dsp/drive/index.ts';
-import { trueHz } from '../dsp/simulate.ts';
+import { trueHz } from '../dsp/sim/index.ts';
 import { EngineCore } from '../renderer/src/engine/core.ts';
 import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
 import { Drive } from '../renderer/src/drive/drive.ts';

@@ -2,16 +2,16 @@
  * The engine the worker hosts, driven directly in Node: a guided run over the simulated oscillator, a
  * WAV recording through decodeWav, the host side of the run (pending captures, moving a run onto a new
  * clock), the page's folding of engine messages, and the readout's digits. The reference for pitch is
- * the simulator's own truth (dsp/simulate.ts trueHz / StepTruth), in cents after A. J. Ellis (1885).
+ * the simulator's own truth (dsp/sim/simulate.ts trueHz / StepTruth), in cents after A. J. Ellis (1885).
  */
 import { describe, expect, it } from 'vitest';
 import wavefile from 'wavefile';
-import { createRun, runReducer, validateRunState, type RunState } from '../dsp/run.ts';
-import { findDemoUnit, planSchedule, renderOscillator, trueHz } from '../dsp/simulate.ts';
+import { createRun, runReducer, validateRunState, type RunState } from '../dsp/calibration/index.ts';
+import { findDemoUnit, planSchedule, renderOscillator, trueHz } from '../dsp/sim/index.ts';
 import { EngineCore } from '../renderer/src/engine/core.ts';
 import { foldEngineMessage, HISTORY_SECONDS, INITIAL_VIEW } from '../renderer/src/engine/client.ts';
 import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
-import { analyzeRecording } from '../dsp/recording.ts';
+import { analyzeRecording } from '../dsp/recording/index.ts';
 import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
 import { answerPendingCapture, feedReading } from '../renderer/src/engine/run-host.ts';
 import { formatHz, hzDecimalsForHundredthCent } from '../renderer/src/lib/format.ts';
@@ -108,7 +108,7 @@ describe('EngineCore with the simulated oscillator', () => {
     for (let i = 0; i < 400 && lastRun()?.state.phase !== 'finished'; i++) core.tickSim(0.05);
     const run = lastRun()!;
     expect(run.state.phase).toBe('finished');
-    // The steps captured at 96 kHz agree with the simulator's truth too (dsp/simulate.ts trueHz).
+    // The steps captured at 96 kHz agree with the simulator's truth too (dsp/sim/simulate.ts trueHz).
     for (const st of run.state.steps)
       expect(Math.abs(cents(st.capture!.hz, trueHz(st.nominalVolts, options)))).toBeLessThan(0.1);
   });
@@ -178,7 +178,7 @@ function wav32f(samples: Float32Array, sampleRateHz: number): Uint8Array {
 }
 
 describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
-  // The reference is dsp/recording.ts analyzeRecording itself, the analysis `spanmeter analyze` runs:
+  // The reference is dsp/recording/recording.ts analyzeRecording itself, the analysis `spanmeter analyze` runs:
   // the app must give the same Hz, bit for bit, for the same file and options.
   it.each([
     { unit: 'ol3-0412', rate: 48_000, volts: [0, 1, 2, 3] },
@@ -198,7 +198,7 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
     expect(out.analysis.steps.map((s) => s.hz)).toEqual(ref.steps.map((s) => s.hz));
     expect(out.analysis.fit?.scaleErrorCentsPerOctave).toBe(ref.fit?.scaleErrorCentsPerOctave);
     expect(out.file).toMatchObject({ sampleRateHz: rate, channelCount: 1, channelNumber: 1 });
-    // And the simulator's truth (dsp/simulate.ts StepTruth) within 0.1 cent (Ellis, 1885).
+    // And the simulator's truth (dsp/sim/simulate.ts StepTruth) within 0.1 cent (Ellis, 1885).
     out.analysis.steps.forEach((s, i) =>
       expect(Math.abs(cents(s.hz, rec.truth[i].recordedHz))).toBeLessThan(0.1),
     );

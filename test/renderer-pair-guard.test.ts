@@ -1,6 +1,6 @@
 /**
  * Scale pair and drift hold give instructions only from readings taken after they were opened: the
- * engine driven directly in Node with the simulated oscillator (dsp/simulate.ts). The unit ol3-0417 has
+ * engine driven directly in Node with the simulated oscillator (dsp/sim/simulate.ts). The unit ol3-0417 has
  * octaves 4.2 cents wide, so its 1 V to 3 V pair reads about +8.4 cents (cents after A. J. Ellis, 1885);
  * anything near 6 octaves (the run's last 7 V against 1 V) would be a stale or wrong voltage.
  */

@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
-import { migrateResult, type CalibrationResult } from '../dsp/result.ts';
+import { migrateResult, type CalibrationResult } from '../dsp/calibration/index.ts';
 import type { Run, UnitRecord } from '../main/api-types.ts';
 import { RECORD_SCHEMA_VERSION } from '../main/ipc-contract.ts';
 import { meterQuestion, numberOrNull, parseNumberField } from '../renderer/src/lib/fields.ts';
@@ -23,7 +23,7 @@ import {
   verdictFor,
 } from '../renderer/src/ui/results/report.ts';
 import { resultFromStored } from '../renderer/src/ui/results/model.ts';
-import { createRun } from '../dsp/run.ts';
+import { createRun } from '../dsp/calibration/index.ts';
 
 describe('parseNumberField: one rule for every number typed', () => {
   it.each([
@@ -72,7 +72,7 @@ describe('parseNumberField: one rule for every number typed', () => {
 });
 
 describe('meterQuestion', () => {
-  // Reference voltages need about 0.1 % (FIELD-NOTES); a reading 3 % or 50 mV off is questioned
+  // Reference voltages need about 0.1 % (docs/facts.md); a reading 3 % or 50 mV off is questioned
   // (common practice, no source).
   it('questions a typo on the 6 V step', () => {
     expect(meterQuestion(1.002, 6)).toBe('Meter reads 1.002 V on the 6 V step: a typo?');
@@ -159,7 +159,7 @@ describe('run keys and resume source', () => {
 });
 
 /** Two runs of an invented Ostlund Lane workshop unit (demo data). */
-/** A stored result written in schema 1 shape, read through the one migration (dsp/result.ts). */
+/** A stored result written in schema 1 shape, read through the one migration (dsp/calibration/result.ts). */
 function v2(value: unknown): CalibrationResult {
   const m = migrateResult(value);
   if (m.kind !== 'ok') throw new Error(m.message);
@@ -255,7 +255,7 @@ describe('a saved run reported with its own values', () => {
     expect(reportFileName(reportOfStored(rec, after))).toBe('ol3-0417-after-2026-11-30');
   });
 
-  it('the verdict uses the unit’s tolerance (default ±2 ¢, FIELD-NOTES)', () => {
+  it('the verdict uses the unit’s tolerance (default ±2 ¢, docs/facts.md)', () => {
     const { rec, before } = record();
     expect(verdictFor(resultFromStored(before.result), 2).kind).toBe('fail');
     expect(verdictFor(resultFromStored(before.result), 10).kind).toBe('pass');

@@ -1,7 +1,7 @@
 // The Span run's Setup: resistor values as typed, the analysis options it builds, and what survives
 // in localStorage.
 import { describe, expect, it } from 'vitest';
-import { parseOhms } from '../dsp/eseries.ts';
+import { parseOhms } from '../dsp/converter/index.ts';
 import {
   DEFAULT_SETUP,
   loadSetup,
@@ -11,7 +11,7 @@ import {
   SETUP_STORAGE_KEY,
   type SetupStorage,
 } from '../renderer/src/lib/setup.ts';
-import { calibrate } from '../dsp/pipeline.ts';
+import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 
 describe('parseOhms', () => {

@@ -5,7 +5,7 @@
 import 'fake-indexeddb/auto';
 import { IDBFactory } from 'fake-indexeddb';
 import { describe, expect, it } from 'vitest';
-import { calibrate } from '../dsp/pipeline.ts';
+import { calibrate } from '../dsp/calibration/index.ts';
 import { slugify } from '../main/record-id.ts';
 import { RECORD_SCHEMA_VERSION, UnitRecordSchema } from '../main/ipc-contract.ts';
 import { recordIdProblem } from '../main/record-id.ts';
@@ -42,7 +42,7 @@ const run = {
   takenAt: '2026-03-01T09:59:00.000Z',
   label: 'before',
   plan: { volts: [0, 1] },
-  // The one result shape, from the one pipeline (dsp/pipeline.ts).
+  // The one result shape, from the one pipeline (dsp/calibration/pipeline.ts).
   result: calibrate([
     { index: 0, volts: 0, measuredVolts: null, rawHz: 32.66, uncertaintyCents: 0.001 },
     { index: 1, volts: 1, measuredVolts: null, rawHz: 65.4, uncertaintyCents: 0.001 },

@@ -6,11 +6,11 @@ import { join } from 'node:path';
 import 'fake-indexeddb/auto';
 import { IDBFactory } from 'fake-indexeddb';
 import { describe, expect, it } from 'vitest';
-import { analyzeRecording } from '../dsp/recording.ts';
-import { calibrate, runSteps } from '../dsp/pipeline.ts';
-import { CalibrationResultSchema, migrateResult, type CalibrationResult } from '../dsp/result.ts';
-import { validateRunState } from '../dsp/run.ts';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { analyzeRecording } from '../dsp/recording/index.ts';
+import { calibrate, runSteps } from '../dsp/calibration/index.ts';
+import { CalibrationResultSchema, migrateResult, type CalibrationResult } from '../dsp/calibration/index.ts';
+import { validateRunState } from '../dsp/calibration/index.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { RECORD_SCHEMA_VERSION } from '../main/ipc-contract.ts';
 import { parseRecordText } from '../main/records-store.ts';
 import { browserStore, STORAGE_KEYS } from '../renderer/src/storage/store.ts';
@@ -126,7 +126,7 @@ describe('the autosave of schema 1 and the one pipeline', () => {
     expect(now.steps.map((s) => [s.hz, s.centsFromIdeal, s.intervalErrorCents, s.measuredVolts])).toEqual(
       m.result.steps.map((s) => [s.hz, s.centsFromIdeal, s.intervalErrorCents, s.measuredVolts]),
     );
-    // Issue 9: the fit and the advice now come from the calibration model (dsp/model.ts); the straight line
+    // Issue 9: the fit and the advice now come from the calibration model (dsp/model/model.ts); the straight line
     // the old code saved stays available, labelled, in fit.straightLine, with the same weights as before.
     const old = saved.fit as { scaleErrorCentsPerOctave: number; hzAt0V: number };
     expect(

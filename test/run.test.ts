@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { mean, sampleStandardDeviation } from 'simple-statistics';
-import { presetPlan } from '../dsp/plan.ts';
-import type { PitchReading } from '../dsp/reading.ts';
+import { presetPlan } from '../dsp/calibration/index.ts';
+import type { PitchReading } from '../dsp/pitch/index.ts';
 import {
   DEFAULT_RUN_OPTIONS,
   RunStateError,
@@ -19,7 +19,7 @@ import {
   type RunState,
   type StepCapture,
   WINDOW_MARGIN_CENTS,
-} from '../dsp/run.ts';
+} from '../dsp/calibration/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 // ---------------------------------------------------------------------------------------------------
@@ -653,7 +653,7 @@ describe('manual capture', () => {
 });
 
 describe('the acceptance window narrows after three steps', () => {
-  // Issue 9: once three steps are captured, a 30 mV slip (36 cents at 1 V/oct, FIELD-NOTES: 1 mV is 1.2 cents)
+  // Issue 9: once three steps are captured, a 30 mV slip (36 cents at 1 V/oct, docs/facts.md: 1 mV is 1.2 cents)
   // must be caught before capture, where the old 150-cent window let up to about 125 mV through.
   for (const mv of [30, 50, 120]) {
     it(`catches a ${mv} mV slip at the fifth step, then takes the corrected voltage`, () => {
@@ -681,7 +681,7 @@ describe('the acceptance window narrows after three steps', () => {
   }
   it('takes clean steps with thermal tails and noisy readings without a warning', () => {
     const volts = [0, 1, 2, 3, 4, 5];
-    // Held 6 s: the run now waits for the creep to die out before it captures (dsp/run.ts settle on the slope).
+    // Held 6 s: the run now waits for the creep to die out before it captures (dsp/calibration/run.ts settle on the slope).
     const sess = session(holds(volts, 6, { creepCents: 2, tauSeconds: 0.5 }), { seed: 5, sigma: 0.2 });
     const { s } = driveCollect(createRun(volts), sess);
     expect(s.phase).toBe('finished');
@@ -690,7 +690,7 @@ describe('the acceptance window narrows after three steps', () => {
 });
 
 describe('settling on the slope', () => {
-  // A thermal tail of 1.5 cents per step with τ = 1.5 s (FIELD-NOTES.md: the pitch creeps after a step as
+  // A thermal tail of 1.5 cents per step with τ = 1.5 s (docs/facts.md: the pitch creeps after a step as
   // the junction settles); the user holds each voltage 12 s, long enough for the creep to die out.
   const volts = [0, 1, 2];
   const sess = session(holds(volts, 12, { creepCents: 1.5, tauSeconds: 1.5 }), { seed: 7, sigma: 0.005 });
@@ -738,7 +738,7 @@ describe('settling on the slope', () => {
 
 describe('semitone plan', () => {
   it('captures all 13 points 100 cents apart, with a tolerance of at most half a semitone', () => {
-    // Semitone = 1/12 V = 83.333 mV at 1 V/oct (FIELD-NOTES.md).
+    // Semitone = 1/12 V = 83.333 mV at 1 V/oct (docs/facts.md).
     const plan = presetPlan('semitones-0-1');
     const { s, captures } = driveCollect(createRun(plan), session(holds([...plan.volts], 2.5)));
     expect(s.phase).toBe('finished');

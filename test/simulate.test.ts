@@ -25,7 +25,7 @@ import {
   type OscillatorOptions,
   type OscillatorShape,
   type ScheduleSegment,
-} from '../dsp/simulate.ts';
+} from '../dsp/sim/index.ts';
 
 // ---------------------------------------------------------------------------------------------------------
 // Measurement helpers (independent of the model: plain signal arithmetic)
@@ -773,7 +773,7 @@ describe('spanmeter simulate', () => {
     ['0.5-2.5', [0.5, 1.5, 2.5]],
     ['0:0.5:2', [0, 0.5, 1, 1.5, 2]],
     ['0,1,0', [0, 1, 0]],
-  ])('parses the plan %s (the one grammar, dsp/plan.ts)', (text, volts) => {
+  ])('parses the plan %s (the one grammar, dsp/calibration/plan.ts)', (text, volts) => {
     expect(parsePlanOption('plan', text)).toEqual(volts);
   });
 });

@@ -15,11 +15,11 @@
 // - One simulated minute between heap samples, each after a forced collection.
 // - Every 10 s of audio the run is written as its autosave would be (serializeRun) and carried on from what
 //   was read back (deserializeRun), so a long run's saved state is checked to stay bounded and resumable.
-import { trueHz, createOscillatorStream, findDemoUnit } from '../dsp/simulate.ts';
-import { PitchTracker } from '../dsp/stream.ts';
-import { createRun, deserializeRun, serializeRun, type RunState } from '../dsp/run.ts';
-import { semitonePlan } from '../dsp/plan.ts';
-import type { PitchReading } from '../dsp/reading.ts';
+import { trueHz, createOscillatorStream, findDemoUnit } from '../dsp/sim/index.ts';
+import { PitchTracker } from '../dsp/pitch/index.ts';
+import { createRun, deserializeRun, serializeRun, type RunState } from '../dsp/calibration/index.ts';
+import { semitonePlan } from '../dsp/calibration/index.ts';
+import type { PitchReading } from '../dsp/pitch/index.ts';
 import { feedReading } from '../renderer/src/engine/run-host.ts';
 
 const AUDIO_SECONDS = Number(process.argv[2] ?? 7200);

@@ -1,11 +1,11 @@
-// One held tone reported through its drift (dsp/steady-tone.ts over dsp/drift.ts driftTrend): a tone that
+// One held tone reported through its drift (dsp/recording/steady-tone.ts over dsp/calibration/drift.ts driftTrend): a tone that
 // moves is reported with start, end and rate, each with an uncertainty that covers the truth; a steady one
 // is called steady; a DC level is named. Signals are generated here: a sine whose frequency follows a known
 // line, its phase integrated exactly, with seeded white noise (test/signals.ts).
 import { describe, expect, it } from 'vitest';
-import { driftTrend } from '../dsp/drift.ts';
-import { arraySource } from '../dsp/recording-input.ts';
-import { analyzeSteadyTone, LONG_TONE_SECONDS } from '../dsp/steady-tone.ts';
+import { driftTrend } from '../dsp/calibration/index.ts';
+import { arraySource } from '../dsp/recording/index.ts';
+import { analyzeSteadyTone, LONG_TONE_SECONDS } from '../dsp/recording/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 /** A sine from f0 Hz rising `cents` over `seconds` (linear in cents), plus noise at `snrDb`. */

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { PitchTracker } from '../dsp/stream.ts';
-import type { PitchReading } from '../dsp/reading.ts';
+import { PitchTracker } from '../dsp/pitch/index.ts';
+import type { PitchReading } from '../dsp/pitch/index.ts';
 import { addNoise, centsError, tone, toFloat32 } from './signals.ts';
 
 function feed(t: PitchTracker, x: Float32Array, block: number): PitchReading[] {

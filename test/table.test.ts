@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { buildErrorTable, type TableStep } from '../dsp/table.ts';
-import { fitTracking } from '../dsp/fit.ts';
+import { buildErrorTable, type TableStep } from '../dsp/calibration/index.ts';
+import { fitTracking } from '../dsp/model/index.ts';
 
 const ok = (steps: readonly TableStep[], a4Hz?: number) => {
   const t = buildErrorTable(steps, a4Hz === undefined ? {} : { a4Hz });

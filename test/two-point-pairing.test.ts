@@ -1,7 +1,7 @@
 // The two-point check's pairing of plateaus to sides, and the warm-up hold's one-second bins (moved out of
 // the engine into dsp/). Cents are 1200·log2(f1/f2) (Ellis, 1885).
 import { describe, expect, it } from 'vitest';
-import { DriftBinner } from '../dsp/drift-bins.ts';
+import { DriftBinner } from '../dsp/calibration/index.ts';
 import {
   checkPairing,
   EMPTY_PAIRING,
@@ -9,7 +9,7 @@ import {
   pairingResult,
   pairPlateau,
   SAME_SIDE_CENTS,
-} from '../dsp/two-point.ts';
+} from '../dsp/calibration/index.ts';
 
 describe('pairPlateau', () => {
   it('fills low then high, keeps the lower pitch low, and lets the trimmer move a side', () => {
@@ -65,7 +65,7 @@ describe('DriftBinner', () => {
 describe('checkPairing (unexpected-pitch guard)', () => {
   const settings = { voltsLow: 1, voltsHigh: 3, toleranceCents: 1 };
   it('gives the interval error when the pair is within the guard of 1200 cents per volt (1 V/oct)', () => {
-    // 2 V at 1 V/oct is two octaves (FIELD-NOTES); 5 cents narrow is well inside the guard.
+    // 2 V at 1 V/oct is two octaves (docs/facts.md); 5 cents narrow is well inside the guard.
     const high = 130 * Math.pow(2, (2400 - 5) / 1200);
     const c = checkPairing(
       { low: { hz: 130, startSeconds: 0 }, high: { hz: high, startSeconds: 3 } },

@@ -1,11 +1,11 @@
 // "Open WAV…" in the app reads the File in slices in the worker (renderer/src/engine/wav-analysis.ts
 // sliceByteSource, FileReaderSync in the worker): the same answer as the whole file in memory, bit for bit,
-// with no read larger than a block. The reference is dsp/recording.ts analyzeRecording on the samples, the
+// with no read larger than a block. The reference is dsp/recording/recording.ts analyzeRecording on the samples, the
 // analysis `spanmeter analyze` runs.
 import { describe, expect, it } from 'vitest';
 import wavefile from 'wavefile';
-import { analyzeRecording } from '../dsp/recording.ts';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/simulate.ts';
+import { analyzeRecording } from '../dsp/recording/index.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { EngineCore } from '../renderer/src/engine/core.ts';
 import type { FromEngine } from '../renderer/src/engine/protocol.ts';
 import { analyzeWavBytes, analyzeWavSource, sliceByteSource } from '../renderer/src/engine/wav-analysis.ts';

@@ -1,4 +1,4 @@
-// Reading WAV files a stretch at a time (dsp/wav.ts openWav/readWavFrames): the same samples as the
+// Reading WAV files a stretch at a time (dsp/io/wav.ts openWav/readWavFrames): the same samples as the
 // whole-file decoder and as the `wavefile` package (an outside, general-purpose WAV library), RF64/BW64 64-bit
 // sizes (EBU Tech 3306; ITU-R BS.2088), files over 4 GB through a synthetic source, a missing pad byte
 // (RIFF specification, IBM & Microsoft 1991: odd chunks are padded; some writers omit it), and chunk
@@ -12,7 +12,7 @@ import {
   readWavFrames,
   type ByteSource,
   type WavLayout,
-} from '../dsp/wav.ts';
+} from '../dsp/io/index.ts';
 
 const enc = (s: string): Uint8Array => Uint8Array.from(s, (ch) => ch.charCodeAt(0));
 function u32(v: number): Uint8Array {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import wavefile from 'wavefile';
-import { decodeWav, pickChannel, type WavDecoded, type WavResult } from '../dsp/wav.ts';
+import { decodeWav, pickChannel, type WavDecoded, type WavResult } from '../dsp/io/index.ts';
 
 // ---------------------------------------------------------------------------------------------------------
 // Helpers: files written by the `wavefile` package (an outside, general-purpose WAV writer), and a tiny

@@ -12,7 +12,7 @@
  * it does not average down and is added to every applied voltage in full (GUM 5.1.2, root sum of
  * squares with the fit's own Type A term).
  */
-import type { Volts } from '../units.ts';
+import type { Volts } from '../math/index.ts';
 import { checkMeterSpec, meterUncertainty, type MeterSpec } from './meter.ts';
 
 /** One calibration reading: the level put out and what the meter showed. */
@@ -104,7 +104,7 @@ function fmtMv(v: number): string {
  *   from the line: `not-linear` (a wrong reading, a clipping output, a converter out of range).
  * - A gain under a tenth of `expectedGain`, or readings all within the meter's bound of zero: `ac-coupled`,
  *   `no-dc`. A hold check whose later reading fell toward zero by more than its bound: `ac-coupled`,
- *   `decaying` (the coupling capacitor discharging; FIELD-NOTES, "Driving the oscillator").
+ *   `decaying` (the coupling capacitor discharging; docs/facts.md, "The sound card").
  *
  * @param readings - Three or more readings.
  * @param meter - The meter's specification.

@@ -1,11 +1,10 @@
 /**
  * A multimeter's accuracy specification and the standard uncertainty of one of its readings.
  *
- * Sources: the usual specification form ±(% of reading + counts) (FIELD-NOTES, "Uncertainty in
- * practice"); a bound ±a with no better knowledge is a rectangular distribution, u = a/√3 (JCGM
+ * Sources: the usual specification form ±(% of reading + counts) (docs/facts.md, "Uncertainty"); a bound ±a with no better knowledge is a rectangular distribution, u = a/√3 (JCGM
  * 100:2008, the GUM, 4.3.7); the last digit's resolution adds a rectangular half-count (GUM F.2.2.1).
  */
-import type { Volts } from '../units.ts';
+import type { Volts } from '../math/index.ts';
 
 /** A DC-volts accuracy specification, ±(percentOfReading % + counts × resolution). */
 export interface MeterSpec {
@@ -17,7 +16,7 @@ export interface MeterSpec {
   readonly resolutionVolts: Volts;
 }
 
-/** A 4½-digit bench meter on its 20 V range: ±(0.05 % + 3 counts), 1 mV counts (FIELD-NOTES). */
+/** A 4½-digit bench meter on its 20 V range: ±(0.05 % + 3 counts), 1 mV counts (docs/facts.md). */
 export const BENCH_METER_4_5_DIGIT: MeterSpec = Object.freeze({
   percentOfReading: 0.05,
   counts: 3,
@@ -57,7 +56,7 @@ export function checkMeterSpec(spec: MeterSpec): void {
  * @param spec - The meter's specification.
  * @returns The bound and the standard uncertainty, V.
  * @example meterUncertainty(1, { percentOfReading: 0.05, counts: 3, resolutionVolts: 0.0001 }).standardVolts
- *   // 0.000463 (FIELD-NOTES worked example: ±0.8 mV, u = 0.46 mV)
+ *   // 0.000463 (docs/facts.md worked example: ±0.8 mV, u = 0.46 mV)
  */
 export function meterUncertainty(readingVolts: Volts, spec: MeterSpec): MeterUncertainty {
   if (typeof readingVolts !== 'number' || !Number.isFinite(readingVolts))

@@ -3,9 +3,9 @@
  *
  * Sources: MIDI 1.0 Detailed Specification (note numbers 0–127, middle C = 60; Note On 0x9n and Note
  * Off 0x8n with n = channel − 1; Pitch Bend 0xEn with a 14-bit value sent LSB first, centre 8192).
- * At 1 V/oct one semitone is 1/12 V = 83.333 mV (FIELD-NOTES, "Driving the oscillator", derived).
+ * At 1 V/oct one semitone is 1/12 V = 83.333 mV (docs/facts.md, "The sound card", derived).
  */
-import type { Volts } from '../units.ts';
+import type { Volts } from '../math/index.ts';
 
 /** MIDI note number of middle C (MIDI 1.0). */
 export const MIDDLE_C_NOTE = 60;

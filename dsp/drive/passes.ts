@@ -1,10 +1,10 @@
 /**
  * The trim loop's pass history: one row per sweep with its scale, HF and offset errors, and the
- * loop's verdict. Two trims that interact converge in a few passes (FIELD-NOTES, "How technicians
+ * loop's verdict. Two trims that interact converge in a few passes (docs/facts.md, "How technicians
  * calibrate", common practice), so the history shows the trend and the loop stops on "done".
  */
-import type { TrimAdvice } from '../advice.ts';
-import type { Cents } from '../units.ts';
+import type { TrimAdvice } from '../advice/index.ts';
+import type { Cents } from '../math/index.ts';
 
 /** One pass of the trim loop. */
 export interface PassRow {
@@ -21,7 +21,7 @@ export interface PassRow {
 }
 
 /**
- * A pass row from one sweep's trim advice (dsp/advice.ts).
+ * A pass row from one sweep's trim advice (dsp/advice/advice.ts).
  *
  * @param pass - Pass number, integer ≥ 1.
  * @param advice - The sweep's advice.

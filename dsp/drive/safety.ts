@@ -4,7 +4,7 @@
  * ramps instead of jumps (common practice, no source: a step into a control input makes the oscillator
  * chirp and, on some modules, a transient; a ramp of tens of milliseconds avoids both).
  */
-import type { Seconds, Volts } from '../units.ts';
+import type { Seconds, Volts } from '../math/index.ts';
 import type { DriveCalibration } from './calibrate.ts';
 
 /** Highest maximum a user may set, V (a 1 V/oct input's usual span is 0–10 V; common practice). */

@@ -2,9 +2,9 @@
  * The simulated bench's drive and meter: a DC output with a modelled gain and offset error patched
  * into the simulated oscillator's control input, and a meter with a stated accuracy that answers the
  * calibration's prompts. Invented figures for the demo, within what real interfaces and meters show
- * (FIELD-NOTES: volts per full scale differ between interfaces; a 4½-digit meter's specification).
+ * (docs/facts.md: volts per full scale differ between interfaces; a 4½-digit meter's specification).
  */
-import type { Volts } from '../units.ts';
+import type { Volts } from '../math/index.ts';
 import { roundToMeter, type MeterSpec } from './meter.ts';
 
 /** The simulated DC output: what it claims, and what it really does. */

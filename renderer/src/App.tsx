@@ -6,10 +6,10 @@
  * only what the user chose.
  */
 import { useCallback, useEffect, useMemo, useState, useSyncExternalStore } from 'react';
-import { A4_HZ } from '../../dsp/notes.ts';
-import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/plan.ts';
-import { isRunResult, type CalibrationResult } from '../../dsp/result.ts';
-import { isRunActive } from '../../dsp/run.ts';
+import { A4_HZ } from '../../dsp/math/index.ts';
+import { PLAN_PRESETS, formatPlan, parsePlan, presetPlan } from '../../dsp/calibration/index.ts';
+import { isRunResult, type CalibrationResult } from '../../dsp/calibration/index.ts';
+import { isRunActive } from '../../dsp/calibration/index.ts';
 import type { UnitRecord } from '../../main/api-types.ts';
 import { EngineClient } from './engine/client.ts';
 import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
@@ -128,7 +128,7 @@ export function App() {
   // ---- Run -----------------------------------------------------------------------------------
   const run = view.run;
   const runState = run?.state ?? null;
-  // The worker calibrates the run (dsp/pipeline.ts) with the Setup sent here; the page only shows it.
+  // The worker calibrates the run (dsp/calibration/pipeline.ts) with the Setup sent here; the page only shows it.
   useEffect(() => {
     client.send({
       type: 'calibration-setup',

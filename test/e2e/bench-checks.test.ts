@@ -7,7 +7,7 @@
  * - Scale pair opened straight after the run (which ended on 5 V; the pair is 1 and 3 V) gives no
  *   instruction until both of its own voltages have settled.
  *
- * The simulated unit is ol3-0417, whose octaves are 4.2 cents wide (dsp/simulate.ts demo units); its
+ * The simulated unit is ol3-0417, whose octaves are 4.2 cents wide (dsp/sim/simulate.ts demo units); its
  * scale pair over two octaves therefore reads about +8.4 cents, far inside the 150-cent guard.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';

@@ -4,13 +4,13 @@
  * app's own simulated oscillator. Each run must capture every step hands-free, and every captured row
  * must match the simulator's truth within 0.1 cent (cents after A. J. Ellis, 1885).
  *
- * The truth comes from dsp/simulate.ts, which the simulator's own tests check against the converter
+ * The truth comes from dsp/sim/simulate.ts, which the simulator's own tests check against the converter
  * physics of docs/facts.md; here it is the reference outside the browser, the UI and the pitch engine.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import path from 'node:path';
-import { findDemoUnit, trueHz } from '../../dsp/simulate.ts';
+import { findDemoUnit, trueHz } from '../../dsp/sim/index.ts';
 import { simOptions, simSettingsForUnit } from '../../renderer/src/lib/sim-settings.ts';
 import {
   ARTIFACTS,

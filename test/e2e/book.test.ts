@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/simulate.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
 import {
   ARTIFACTS,
   CHROMIUM,

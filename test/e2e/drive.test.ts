@@ -5,8 +5,8 @@
  * stub of `navigator.requestMIDIAccess`; and the faults (output device gone, MIDI refused, readings that
  * are not a line).
  *
- * References outside the app: the simulator's truth (dsp/simulate.ts `trueHz`, checked against the
- * converter physics of FIELD-NOTES by its own tests) at the voltage the simulated jack really carries;
+ * References outside the app: the simulator's truth (dsp/sim/simulate.ts `trueHz`, checked against the
+ * converter physics of docs/facts.md by its own tests) at the voltage the simulated jack really carries;
  * MIDI 1.0 (note numbers with middle C = 60, Note On 0x9n / Note Off 0x8n with n = channel − 1) with
  * @tonaljs/tonal's Midi.toMidi as an independent note-number reference; cents after A. J. Ellis (1885).
  */
@@ -16,7 +16,7 @@ import { build } from 'esbuild';
 import path from 'node:path';
 import { Midi } from '@tonaljs/tonal';
 import { meterUncertainty, SIM_DRIVE_MODEL, SIM_METER_SPEC } from '../../dsp/drive/index.ts';
-import { trueHz } from '../../dsp/simulate.ts';
+import { trueHz } from '../../dsp/sim/index.ts';
 import { simOptions, simSettingsForUnit } from '../../renderer/src/lib/sim-settings.ts';
 import {
   ARTIFACTS,

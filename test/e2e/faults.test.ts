@@ -15,7 +15,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser, type Page } from 'playwright-core';
-import { findDemoUnit } from '../../dsp/simulate.ts';
+import { findDemoUnit } from '../../dsp/sim/index.ts';
 import {
   CHROMIUM,
   chromiumArgs,

@@ -13,7 +13,7 @@ import {
   renderOscillator,
   type OscillatorOptions,
   type StepTruth,
-} from '../../dsp/simulate.ts';
+} from '../../dsp/sim/index.ts';
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
 export const ARTIFACTS = path.join(ROOT, 'test-artifacts');
@@ -140,7 +140,7 @@ export interface SteppedRecording {
 }
 
 /**
- * Renders a stepped oscillator (dsp/simulate.ts renderOscillator + planSchedule) at 48 kHz and writes it
+ * Renders a stepped oscillator (dsp/sim/simulate.ts renderOscillator + planSchedule) at 48 kHz and writes it
  * as 32-bit float WAV (Chromium's fake device reads 16/32-bit PCM and float; 24-bit plays as silence).
  *
  * @param volts - Plan voltages.

@@ -1,16 +1,16 @@
 /**
  * "Open WAV…" in a real browser: a generated recording is set on the file input (playwright's
- * setInputFiles), the engine worker analyses it with `analyzeRecording` (dsp/recording.ts, the
+ * setInputFiles), the engine worker analyses it with `analyzeRecording` (dsp/recording/recording.ts, the
  * analysis `spanmeter analyze` runs), and the error table must show the same Hz as that function gives
- * in Node for the same samples, each within 0.1 cent of the simulator's truth (dsp/simulate.ts
+ * in Node for the same samples, each within 0.1 cent of the simulator's truth (dsp/sim/simulate.ts
  * StepTruth; cents after A. J. Ellis, 1885). A recording whose plateaus do not match the plan gives
  * the typed mismatch as a message, and the user's live run stays.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser, type Page } from 'playwright-core';
 import path from 'node:path';
-import { analyzeRecording } from '../../dsp/recording.ts';
-import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/simulate.ts';
+import { analyzeRecording } from '../../dsp/recording/index.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
 import {
   ARTIFACTS,
   CHROMIUM,
@@ -97,7 +97,7 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
     expect(advice).toContain(ref.advice!.next);
     await page.screenshot({ path: path.join(ARTIFACTS, 'open-wav-1280x720.png') });
 
-    // Saving it into a unit record stores the recording's one result (dsp/result.ts).
+    // Saving it into a unit record stores the recording's one result (dsp/calibration/result.ts).
     await page.click('[data-testid="tab-book"]');
     await page.click('[data-testid="save-run"]');
     await page.waitForSelector('text=Saved as run');

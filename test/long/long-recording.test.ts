@@ -4,7 +4,7 @@
 //  1. One steady tone drifting slowly: reported as a moving pitch, its drift and rate matching the truth
 //     within their uncertainties, never as one frequency.
 //  2. A stepped run, 0 to 7 V held 7.5 minutes each at 55·2^V Hz: the correct table, every step within
-//     0.01 cent of its true frequency (cents: A. J. Ellis, 1885; 1 V/oct: FIELD-NOTES).
+//     0.01 cent of its true frequency (cents: A. J. Ellis, 1885; 1 V/oct: docs/facts.md).
 // Peak memory must stay under 300 MB (the aim), whatever the file's size.
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync } from 'node:fs';

@@ -16,7 +16,7 @@ import { build } from 'esbuild';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEMP_PREFIX } from '../../main/atomic-file.ts';
 import { createRecordsStore } from '../../main/records-store.ts';
-import { deserializeRun, runCaptures, serializeRun } from '../../dsp/run.ts';
+import { deserializeRun, runCaptures, serializeRun } from '../../dsp/calibration/index.ts';
 import { CRASH_RECORD_ID, crashGeneration, scriptedRunStates } from '../fixtures/crash-run.ts';
 
 const root = path.resolve(import.meta.dirname, '../..');

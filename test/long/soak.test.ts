@@ -8,7 +8,7 @@
 //   (the target; common practice for a leak check, no source);
 // - no NaN anywhere in any reading or in the run's state;
 // - readings still on target at the end: every settled capture within 0.05 cent of the simulator's own truth
-//   (dsp/simulate.ts trueHz: the project's capture target, no outside source), and the live readings of the
+//   (dsp/sim/simulate.ts trueHz: the project's capture target, no outside source), and the live readings of the
 //   last 10 minutes no worse than those of the first 10.
 import { spawn } from 'node:child_process';
 import { mkdtemp, rm } from 'node:fs/promises';

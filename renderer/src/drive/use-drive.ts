@@ -2,7 +2,7 @@
  * The drive's state for the app: settings and per-device calibrations (kept in localStorage), the
  * open drive, the guided calibration, and the hands-off runs (span run, trim loop, scale pair, hold).
  *
- * The hands-off span run follows the run's own state machine (dsp/run.ts): whenever the run moves to
+ * The hands-off span run follows the run's own state machine (dsp/calibration/run.ts): whenever the run moves to
  * a new step the drive ramps to that step's voltage and the step is told the calibrated voltage it got
  * (`set-applied-volts`); settle detection, pitch checks, pause and redo stay the run's. On any fault
  * the run is paused (its captures kept) and the drive goes back to 0 V.
@@ -23,8 +23,8 @@ import {
   type DriveCalibration,
   type PassRow,
 } from '../../../dsp/drive/index.ts';
-import { parsePlan } from '../../../dsp/plan.ts';
-import type { RunState } from '../../../dsp/run.ts';
+import { parsePlan } from '../../../dsp/calibration/index.ts';
+import type { RunState } from '../../../dsp/calibration/index.ts';
 import type { EngineClient } from '../engine/client.ts';
 import type { RunSnapshot, TwoPointConfig } from '../engine/protocol.ts';
 import { runAnalysisOf } from '../lib/analysis.ts';
@@ -533,7 +533,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       }
       if (state.phase === 'finished') {
         const passNo = h.passes.length + 1;
-        // The worker's calibration of the finished run (dsp/pipeline.ts), as every other view shows it.
+        // The worker's calibration of the finished run (dsp/calibration/pipeline.ts), as every other view shows it.
         const a = runAnalysisOf(run!.calibration);
         const row = passFromAdvice(passNo, a.advice);
         const passes = [...h.passes, row];

@@ -3,7 +3,7 @@
  * immutable view that React reads with `useSyncExternalStore`. Folding is a pure function
  * ({@link foldEngineMessage}), tested without a worker.
  */
-import type { PitchReading } from '../../../dsp/reading.ts';
+import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import type { DriftView, FromEngine, RunSnapshot, ToEngine, TwoPointView } from './protocol.ts';
 import type { WavAnalysisOutcome } from './wav-analysis.ts';
 

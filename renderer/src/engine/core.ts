@@ -1,31 +1,31 @@
 /**
  * The engine: everything that touches audio or runs the signal processing, for the worker to host.
- * It owns the pitch tracker (`dsp/stream.ts`), the simulated oscillator (`dsp/simulate.ts`), the
- * calibration run (`dsp/run.ts`, whose plateau detection is signal processing too), the two-point
+ * It owns the pitch tracker (`dsp/pitch/stream.ts`), the simulated oscillator (`dsp/sim/simulate.ts`), the
+ * calibration run (`dsp/calibration/run.ts`, whose plateau detection is signal processing too), the two-point
  * check and the drift hold. It has no worker globals: the worker passes a `post` function and feeds it
  * audio, so tests drive it directly in Node.
  *
  * Buffers for audio are allocated when a source starts; per block, the engine allocates only the
  * readings and messages it emits.
  */
-import { analyzeDrift, driftRateSeries } from '../../../dsp/drift.ts';
-import { DriftBinner } from '../../../dsp/drift-bins.ts';
-import { createPlateauDetector, type PlateauDetector } from '../../../dsp/plateau.ts';
-import type { PitchReading } from '../../../dsp/reading.ts';
+import { analyzeDrift, driftRateSeries } from '../../../dsp/calibration/index.ts';
+import { DriftBinner } from '../../../dsp/calibration/index.ts';
+import { createPlateauDetector, type PlateauDetector } from '../../../dsp/calibration/index.ts';
+import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import {
   checkPairing,
   EMPTY_PAIRING,
   pairPlateau,
   type TwoPointPairing,
   type TwoPointSideState,
-} from '../../../dsp/two-point.ts';
-import { createRun, isRunActive, runReducer, type RunState } from '../../../dsp/run.ts';
+} from '../../../dsp/calibration/index.ts';
+import { createRun, isRunActive, runReducer, type RunState } from '../../../dsp/calibration/index.ts';
 import {
   createOscillatorStream,
   type OscillatorOptions,
   type OscillatorStream,
-} from '../../../dsp/simulate.ts';
-import { PitchTracker } from '../../../dsp/stream.ts';
+} from '../../../dsp/sim/index.ts';
+import { PitchTracker } from '../../../dsp/pitch/index.ts';
 import { captureDetail, type CaptureDetail } from '../lib/analysis.ts';
 import type {
   DriftView,
@@ -65,8 +65,8 @@ interface Glide {
 export const SIM_GLIDE_SECONDS = 0.15;
 
 const SIM_CHUNK = 1024;
-/** The scale pair's unexpected-pitch guard, cents (dsp/two-point.ts). */
-export { PAIR_GUARD_CENTS } from '../../../dsp/two-point.ts';
+/** The scale pair's unexpected-pitch guard, cents (dsp/calibration/two-point.ts). */
+export { PAIR_GUARD_CENTS } from '../../../dsp/calibration/index.ts';
 
 interface TwoPointState {
   config: TwoPointConfig;

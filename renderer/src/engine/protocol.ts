@@ -1,16 +1,16 @@
 /**
  * Messages between the page and the engine worker. Everything is structured-clone data; the run state
- * is the plain JSON of `dsp/run.ts`.
+ * is the plain JSON of `dsp/calibration/run.ts`.
  *
  * Audio does not travel through these messages: the capture worklet posts its blocks straight to the
  * worker over a MessagePort (`AudioBlockMessage`), and the worker hands each buffer back for reuse.
  */
-import type { TwoPointResult } from '../../../dsp/advice.ts';
-import type { DriftRatePoint, DriftResult } from '../../../dsp/drift.ts';
-import type { CalibrateOptions, Calibration } from '../../../dsp/pipeline.ts';
-import type { PitchReading } from '../../../dsp/reading.ts';
-import type { RunEvent, RunOptionsInput, RunState } from '../../../dsp/run.ts';
-import type { OscillatorOptions } from '../../../dsp/simulate.ts';
+import type { TwoPointResult } from '../../../dsp/advice/index.ts';
+import type { DriftRatePoint, DriftResult } from '../../../dsp/calibration/index.ts';
+import type { CalibrateOptions, Calibration } from '../../../dsp/calibration/index.ts';
+import type { PitchReading } from '../../../dsp/pitch/index.ts';
+import type { RunEvent, RunOptionsInput, RunState } from '../../../dsp/calibration/index.ts';
+import type { OscillatorOptions } from '../../../dsp/sim/index.ts';
 import type { CaptureDetail } from '../lib/analysis.ts';
 import type { WavAnalysisOutcome, WavAnalysisRequest } from './wav-analysis.ts';
 
@@ -70,7 +70,7 @@ export type ToEngine =
   | { readonly type: 'drift-start'; readonly volts: number; readonly windowSeconds: number }
   | { readonly type: 'drift-stop' }
   | {
-      /** Analyse a recording with `analyzeRecording` (dsp/recording.ts); the live run is paused, not replaced. */
+      /** Analyse a recording with `analyzeRecording` (dsp/recording/recording.ts); the live run is paused, not replaced. */
       readonly type: 'wav-analyze';
       /** The file itself, read in slices by the worker (never copied whole); or its bytes. */
       readonly file?: Blob;
@@ -88,7 +88,7 @@ export interface RunSnapshot {
   readonly waitingForInput?: boolean;
   /** Engine detail of each captured step, by step index. */
   readonly details: Readonly<Record<number, CaptureDetail>>;
-  /** The run's calibration (`dsp/pipeline.ts`), made in the worker with the Setup last sent. */
+  /** The run's calibration (`dsp/calibration/pipeline.ts`), made in the worker with the Setup last sent. */
   readonly calibration: Calibration;
   /** Stream time the run moved to each step (the simulator's voltage change), seconds, by step index. */
   readonly stepStartedAt: readonly (number | null)[];
@@ -133,7 +133,7 @@ export type FromEngine =
       readonly type: 'tick';
       readonly reading: PitchReading;
       readonly streamSeconds: number;
-      /** True while the pitch sits on a plateau (dsp/plateau.ts with its defaults). */
+      /** True while the pitch sits on a plateau (dsp/calibration/plateau.ts with its defaults). */
       readonly settled: boolean;
       /** The simulator's control voltage, V, when the simulator is the source. */
       readonly simVolts: number | null;

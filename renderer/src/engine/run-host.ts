@@ -1,7 +1,7 @@
 /**
- * The host side of a calibration run (`dsp/run.ts`), as pure functions: feed a reading, answer the
+ * The host side of a calibration run (`dsp/calibration/run.ts`), as pure functions: feed a reading, answer the
  * run's request for a precise capture measurement, and the run's calibration through the one pipeline
- * (`dsp/pipeline.ts`). Moving a run onto a new stream clock is the reducer's `rebase` event.
+ * (`dsp/calibration/pipeline.ts`). Moving a run onto a new stream clock is the reducer's `rebase` event.
  */
 import {
   calibrate,
@@ -9,9 +9,9 @@ import {
   type CalibrateOptions,
   type Calibration,
   type CaptureQuality,
-} from '../../../dsp/pipeline.ts';
-import type { PitchOk, PitchReading } from '../../../dsp/reading.ts';
-import { runReducer, type HostMeasurement, type RunState } from '../../../dsp/run.ts';
+} from '../../../dsp/calibration/index.ts';
+import type { PitchOk, PitchReading } from '../../../dsp/pitch/index.ts';
+import { runReducer, type HostMeasurement, type RunState } from '../../../dsp/calibration/index.ts';
 
 /** Measures a span of the stream, seconds since its first sample (`PitchTracker.averageOfSpan`). */
 export type SpanMeasurer = (startSeconds: number, endSeconds: number) => PitchReading;
@@ -95,7 +95,7 @@ export function feedReading(state: RunState, reading: PitchReading, measure: Spa
 }
 
 /**
- * The live run's calibration, made in the worker through the one pipeline (`calibrate`, dsp/pipeline.ts)
+ * The live run's calibration, made in the worker through the one pipeline (`calibrate`, dsp/calibration/pipeline.ts)
  * and remade only when a capture, a meter reading or the Setup changes (not on every reading).
  */
 export class RunCalibrator {

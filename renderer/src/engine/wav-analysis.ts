@@ -1,21 +1,21 @@
 /**
- * The worker's side of "Open WAV…": read the file's header (`dsp/wav.ts`), pick the channel and hand it,
- * read a block at a time (`dsp/recording-input.ts`), to `analyzeRecording` (`dsp/recording.ts`), the same
+ * The worker's side of "Open WAV…": read the file's header (`dsp/io/wav.ts`), pick the channel and hand it,
+ * read a block at a time (`dsp/recording/recording-input.ts`), to `analyzeRecording` (`dsp/recording/recording.ts`), the same
  * analysis `spanmeter analyze` runs, so the app and the command line give the same answer for the same
  * file. The file is never copied whole: the worker reads the `File` it was given in slices (through the
  * host's synchronous reader, `FileReaderSync` in the worker), so a recording of any length fits. Pure; no
  * worker globals, so tests call it in Node.
  */
-import type { InputNetwork } from '../../../dsp/advice.ts';
+import type { InputNetwork } from '../../../dsp/advice/index.ts';
 import {
   analyzeRecording,
   type PlateauSpan,
   type RecordingAnalysisOk,
   type RecordingErrorCode,
-} from '../../../dsp/recording.ts';
-import type { Hertz, Ppm, Seconds, Volts } from '../../../dsp/units.ts';
-import { wavChannelSource } from '../../../dsp/recording-input.ts';
-import { bytesSource, openWav, type ByteSource, type WavErrorCode } from '../../../dsp/wav.ts';
+} from '../../../dsp/recording/index.ts';
+import type { Hertz, Ppm, Seconds, Volts } from '../../../dsp/math/index.ts';
+import { wavChannelSource } from '../../../dsp/recording/index.ts';
+import { bytesSource, openWav, type ByteSource, type WavErrorCode } from '../../../dsp/io/index.ts';
 
 /**
  * What the page asks for: the plan's voltages, the settle time, the tuning reference and the channel,
@@ -26,16 +26,16 @@ export interface WavAnalysisRequest {
   readonly points: readonly Volts[];
   /** Channel to analyse, counted from 1. */
   readonly channel: number;
-  /** Time the pitch must stay in the band to count as settled, s, 0…60 (dsp/recording.ts default 0.5). */
+  /** Time the pitch must stay in the band to count as settled, s, 0…60 (dsp/recording/recording.ts default 0.5). */
   readonly settleSeconds?: Seconds;
   /** Tuning reference for note names, Hz, 380…500 (default 440, ISO 16:1975). */
   readonly a4Hz?: Hertz;
-  /** Interface clock error, ppm (positive = fast), within ±1000 (dsp/clock.ts); default 0. */
+  /** Interface clock error, ppm (positive = fast), within ±1000 (dsp/io/clock.ts); default 0. */
   readonly clockPpm?: Ppm;
-  /** Fit range, V (inclusive), within ±12; default every step (dsp/recording.ts). */
+  /** Fit range, V (inclusive), within ±12; default every step (dsp/recording/recording.ts). */
   readonly fitFromVolts?: Volts;
   readonly fitToVolts?: Volts;
-  /** The input network, for resistor values in the scale advice (dsp/advice.ts). */
+  /** The input network, for resistor values in the scale advice (dsp/advice/advice.ts). */
   readonly network?: InputNetwork;
 }
 

@@ -3,7 +3,7 @@
  * technician whose eyes are on the trimmer. Off by default; the choice is kept between sessions.
  */
 import { useCallback, useEffect, useRef, useState } from 'react';
-import type { RunState } from '../../../dsp/run.ts';
+import type { RunState } from '../../../dsp/calibration/index.ts';
 import { pageStorage } from './pageStorage.ts';
 
 export type CaptureSignal = 'off' | 'flash' | 'sound' | 'both';

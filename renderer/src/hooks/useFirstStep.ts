@@ -5,7 +5,7 @@
  * would label every later step wrong. The simulator is driven by the app, so its voltages are known.
  */
 import { useCallback, useMemo, useState } from 'react';
-import type { RunState } from '../../../dsp/run.ts';
+import type { RunState } from '../../../dsp/calibration/index.ts';
 import type { UnitRecord } from '../../../main/api-types.ts';
 
 /** How far the first step may be from the same voltage in the unit's last run and count as known, cents. */

@@ -4,7 +4,12 @@
  * resumed run comes back on its own source (the simulator with its demo unit, or the sound card).
  */
 import { useCallback, useEffect, useMemo, useState } from 'react';
-import { isRunActive, serializeRun, validateRunState, type RunState } from '../../../dsp/run.ts';
+import {
+  isRunActive,
+  serializeRun,
+  validateRunState,
+  type RunState,
+} from '../../../dsp/calibration/index.ts';
 import type { JsonValue } from '../../../main/api-types.ts';
 import type { EngineClient } from '../engine/client.ts';
 import { AutosaveQueue, type AutosaveStatus } from '../storage/autosave.ts';

@@ -3,7 +3,7 @@
  * and the focus is not in a text field.
  */
 import { useEffect, useRef } from 'react';
-import type { RunState } from '../../../dsp/run.ts';
+import type { RunState } from '../../../dsp/calibration/index.ts';
 import type { UserRunEvent } from '../engine/protocol.ts';
 
 /** The keys of the run's commands (shown on the buttons). */

@@ -3,7 +3,7 @@
  * it was, and Undo puts it back (the engine restores it with `run-restore`).
  */
 import { useCallback, useState } from 'react';
-import type { RunState } from '../../../dsp/run.ts';
+import type { RunState } from '../../../dsp/calibration/index.ts';
 import type { EngineClient } from '../engine/client.ts';
 import type { UserRunEvent } from '../engine/protocol.ts';
 import { capturedCount } from './useRunAutosave.ts';

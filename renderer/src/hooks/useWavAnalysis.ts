@@ -3,15 +3,15 @@
  * came of it in one line. The recording view is shown when an analysis arrives and hidden on request.
  */
 import { useCallback, useEffect, useMemo, useState } from 'react';
-import { A4_HZ } from '../../../dsp/notes.ts';
-import { parsePlan } from '../../../dsp/plan.ts';
+import { A4_HZ } from '../../../dsp/math/index.ts';
+import { parsePlan } from '../../../dsp/calibration/index.ts';
 import type { EngineClient } from '../engine/client.ts';
 import type { EngineView } from '../engine/client.ts';
 import type { SetupOptions } from '../lib/setup.ts';
 
 /**
  * Settle time used when a recording is analysed, s: `analyzeRecording`'s default, the same as
- * `spanmeter analyze` without `--settle` (dsp/recording.ts).
+ * `spanmeter analyze` without `--settle` (dsp/recording/recording.ts).
  */
 export const RECORDING_SETTLE_SECONDS = 0.5;
 

@@ -1,16 +1,16 @@
 /**
  * What the run's views draw from: the error table, the tracking fit, the bend analysis and the trim
- * advice of one {@link Calibration} (`dsp/pipeline.ts`), which the engine worker computes for a live run
+ * advice of one {@link Calibration} (`dsp/calibration/pipeline.ts`), which the engine worker computes for a live run
  * and the recording analysis for a WAV file. Nothing here computes: it only reshapes for the views.
  */
-import { TRIM_CAUTION, type TrimAdvice } from '../../../dsp/advice.ts';
-import type { BendAnalysis, TrackingFit } from '../../../dsp/fit.ts';
-import type { Calibration, CaptureQuality } from '../../../dsp/pipeline.ts';
-import type { PitchOk } from '../../../dsp/reading.ts';
-import type { RecordingAnalysisOk } from '../../../dsp/recording.ts';
-import type { CalibrationResult } from '../../../dsp/result.ts';
-import type { CapturedPoint } from '../../../dsp/run.ts';
-import type { ErrorTable } from '../../../dsp/table.ts';
+import { TRIM_CAUTION, type TrimAdvice } from '../../../dsp/advice/index.ts';
+import type { BendAnalysis, TrackingFit } from '../../../dsp/model/index.ts';
+import type { Calibration, CaptureQuality } from '../../../dsp/calibration/index.ts';
+import type { PitchOk } from '../../../dsp/pitch/index.ts';
+import type { RecordingAnalysisOk } from '../../../dsp/recording/index.ts';
+import type { CalibrationResult } from '../../../dsp/calibration/index.ts';
+import type { CapturedPoint } from '../../../dsp/calibration/index.ts';
+import type { ErrorTable } from '../../../dsp/calibration/index.ts';
 
 /** Everything the views show of a pass. */
 export interface RunAnalysis {
@@ -36,7 +36,7 @@ const NO_ADVICE: TrimAdvice = {
 /**
  * A calibration in the shape the run's views take. Nothing is recomputed.
  *
- * @param c - A calibration (`calibrate`, dsp/pipeline.ts).
+ * @param c - A calibration (`calibrate`, dsp/calibration/pipeline.ts).
  * @example runAnalysisOf(calibrate(runSteps(run))).points.length // captured steps
  */
 export function runAnalysisOf(c: Calibration): RunAnalysis {
@@ -60,7 +60,7 @@ export function runAnalysisOf(c: Calibration): RunAnalysis {
 const NO_FIT: TrackingFit = { kind: 'none', reason: 'too-few-points' };
 
 /**
- * A recording's analysis (`analyzeRecording`, dsp/recording.ts) in the views' shape. Nothing is
+ * A recording's analysis (`analyzeRecording`, dsp/recording/recording.ts) in the views' shape. Nothing is
  * recomputed: the table, fit, bends, advice and result are the recording's own.
  *
  * @param a - A completed analysis.

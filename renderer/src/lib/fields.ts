@@ -6,7 +6,7 @@
  * invalid value as invalid with the reason; nothing else is ever used in its place.
  *
  * The plan is the one list field: there the comma separates values, so its numbers take the point only
- * (dsp/plan.ts; the plan field says so).
+ * (dsp/calibration/plan.ts; the plan field says so).
  */
 
 /** What every number field says it takes. */
@@ -92,7 +92,7 @@ export function meterTolerance(setVolts: number): number {
 /**
  * The question to ask before a meter reading is used, or null when it is plausible: a reading more than
  * 3 % (or 50 mV near 0 V) from the set voltage is more likely a typo than a reference that far off
- * (reference voltages need about 0.1 %, FIELD-NOTES; the margin is common practice, no source).
+ * (reference voltages need about 0.1 %, docs/facts.md; the margin is common practice, no source).
  *
  * @param meterVolts - The reading typed, V.
  * @param setVolts - The plan's voltage for the step, V.

@@ -2,7 +2,7 @@
  * Number formatting for the bench display: enough digits to show a hundredth of a cent, never more, and
  * signs written with a true minus so columns line up.
  */
-import type { Cents, Hertz } from '../../../dsp/units.ts';
+import type { Cents, Hertz } from '../../../dsp/math/index.ts';
 
 /** Frequency ratio of 0.01 cent, `2^(0.01/1200) − 1` (cents after A. J. Ellis, 1885). */
 const HUNDREDTH_CENT_RATIO = Math.pow(2, 0.01 / 1200) - 1;

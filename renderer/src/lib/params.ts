@@ -2,8 +2,8 @@
  * Start-up settings from the page's query string, so a run can be set up from a link or a test:
  * `?input=sim&plan=0,1,2,3&unit=ol3-0417&rate=96000`.
  */
-import { parsePlan } from '../../../dsp/plan.ts';
-import { findDemoUnit } from '../../../dsp/simulate.ts';
+import { parsePlan } from '../../../dsp/calibration/index.ts';
+import { findDemoUnit } from '../../../dsp/sim/index.ts';
 
 /** Start-up settings; absent keys fall back to the app's defaults. */
 export interface StartupParams {

@@ -3,11 +3,11 @@
  * by the user, checked, turned into analysis options, and kept in `localStorage` between sessions.
  * Pure functions of plain data (the storage is passed in), so tests run them in Node.
  */
-import type { InputNetwork } from '../../../dsp/advice.ts';
-import { MAX_CLOCK_PPM } from '../../../dsp/clock.ts';
-import { parseOhms } from '../../../dsp/eseries.ts';
-import { MAX_CONTROL_VOLTS } from '../../../dsp/plan.ts';
-import type { CalibrationOptions } from '../../../dsp/recording.ts';
+import type { InputNetwork } from '../../../dsp/advice/index.ts';
+import { MAX_CLOCK_PPM } from '../../../dsp/io/index.ts';
+import { parseOhms } from '../../../dsp/converter/index.ts';
+import { MAX_CONTROL_VOLTS } from '../../../dsp/calibration/index.ts';
+import type { CalibrationOptions } from '../../../dsp/recording/index.ts';
 import { parseNumberField } from './fields.ts';
 
 /** The Setup as the form holds it: the text of every field, so a half-typed value is never lost. */
@@ -49,7 +49,7 @@ export const RESISTOR_NAMES: Readonly<Record<InputNetwork['topology'], readonly 
   'inverting-summer': ['Input Rin', 'Feedback Rf'],
 };
 
-/** Voltages accepted for the fit range, V: the one limit of every control voltage (dsp/plan.ts). */
+/** Voltages accepted for the fit range, V: the one limit of every control voltage (dsp/calibration/plan.ts). */
 const FIT_VOLTS_LIMIT = MAX_CONTROL_VOLTS;
 
 /** A number by the one field rule (lib/fields.ts: decimal point or comma, no exponent), or null. */

@@ -1,12 +1,12 @@
 /**
- * The simulated oscillator's controls: a demo unit from `dsp/simulate.ts` with its errors exposed as
+ * The simulated oscillator's controls: a demo unit from `dsp/sim/simulate.ts` with its errors exposed as
  * knobs (scale error, reset time, warm-up drift) and the recording chain's noise and hum.
  */
-import { demoUnits, findDemoUnit, type OscillatorOptions } from '../../../dsp/simulate.ts';
+import { demoUnits, findDemoUnit, type OscillatorOptions } from '../../../dsp/sim/index.ts';
 
 /** What the simulator panel controls. */
 export interface SimSettings {
-  /** Demo unit id (`dsp/simulate.ts` demoUnits). */
+  /** Demo unit id (`dsp/sim/simulate.ts` demoUnits). */
   readonly unitId: string;
   /** Scale error, cents per octave: `1200·(s − 1)`. */
   readonly scaleErrorCentsPerOctave: number;

@@ -4,10 +4,10 @@
  * against its nearest note. Below, the trend of that figure over the last 30 seconds. Escape closes it.
  */
 import { useEffect, useRef, useState } from 'react';
-import { applyClockPpm } from '../../../dsp/clock.ts';
-import { nearestNote } from '../../../dsp/notes.ts';
+import { applyClockPpm } from '../../../dsp/io/index.ts';
+import { nearestNote } from '../../../dsp/math/index.ts';
 import type { EngineView } from '../engine/client.ts';
-import type { RunState } from '../../../dsp/run.ts';
+import type { RunState } from '../../../dsp/calibration/index.ts';
 import { formatCents, formatHz, formatVolts } from '../lib/format.ts';
 import { promptFor } from './RunPanel.tsx';
 

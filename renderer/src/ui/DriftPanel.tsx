@@ -1,6 +1,6 @@
 /**
  * Warm-up and drift: hold one voltage and watch cents against time, the drift rate and the estimated
- * warm-up (dsp/drift.ts analyzeDrift; warm when the drift stays under 0.1 cent per minute, common practice).
+ * warm-up (dsp/calibration/drift.ts analyzeDrift; warm when the drift stays under 0.1 cent per minute, common practice).
  */
 import { useState } from 'react';
 import type { DriftView } from '../engine/protocol.ts';

@@ -7,7 +7,7 @@
  */
 import { useState } from 'react';
 import { MAX_DRIVE_VOLTS_CEILING, meterUncertainty, MIDDLE_C_NOTE } from '../../../dsp/drive/index.ts';
-import { midiToName } from '../../../dsp/notes.ts';
+import { midiToName } from '../../../dsp/math/index.ts';
 import type { DriveApi } from '../drive/use-drive.ts';
 import type { DriveKind } from '../drive/drive.ts';
 

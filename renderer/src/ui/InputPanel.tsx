@@ -2,8 +2,8 @@
  * Where the user connects things: the source (audio input or the simulated oscillator), device and
  * channel, sample rate, level meter, the connection cautions, and the simulator's knobs.
  */
-import { demoUnits } from '../../../dsp/simulate.ts';
-import type { PitchReading } from '../../../dsp/reading.ts';
+import { demoUnits } from '../../../dsp/sim/index.ts';
+import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import type { InputDevice } from '../audio/input.ts';
 import { formatDbfs } from '../lib/format.ts';
 import { simSettingsForUnit, type SimSettings } from '../lib/sim-settings.ts';

@@ -2,9 +2,9 @@
  * The big readout: frequency to a hundredth of a cent, nearest note and cents (middle C = C4), the
  * reading's uncertainty, and whether the pitch has settled.
  */
-import { applyClockPpm } from '../../../dsp/clock.ts';
-import { nearestNote } from '../../../dsp/notes.ts';
-import type { PitchReading } from '../../../dsp/reading.ts';
+import { applyClockPpm } from '../../../dsp/io/index.ts';
+import { nearestNote } from '../../../dsp/math/index.ts';
+import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import { formatCents, formatHz, formatUncertainty } from '../lib/format.ts';
 
 const REASONS: Record<string, string> = {

@@ -1,10 +1,10 @@
 /**
  * A recorded calibration pass opened with "Open WAV…": the steps `analyzeRecording` found
- * (dsp/recording.ts, the same analysis as `spanmeter analyze`), their error table, chart, fit and
+ * (dsp/recording/recording.ts, the same analysis as `spanmeter analyze`), their error table, chart, fit and
  * advice. The live run, if there is one, is kept aside and comes back with "Back to the run".
  */
 import type { ReactNode } from 'react';
-import type { RecordingAnalysisOk } from '../../../dsp/recording.ts';
+import type { RecordingAnalysisOk } from '../../../dsp/recording/index.ts';
 import type { WavFileInfo } from '../engine/wav-analysis.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';

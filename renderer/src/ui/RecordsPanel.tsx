@@ -5,7 +5,7 @@
  * a unit compared.
  */
 import { useCallback, useEffect, useMemo, useState, type ReactNode } from 'react';
-import type { CalibrationResult } from '../../../dsp/result.ts';
+import type { CalibrationResult } from '../../../dsp/calibration/index.ts';
 import type { RecordSummary, Run, UnitRecord, UnitRecordDraft } from '../../../main/api-types.ts';
 import { RECORD_SCHEMA_VERSION } from '../../../main/ipc-contract.ts';
 import { numberOrNull } from '../lib/fields.ts';
@@ -119,7 +119,7 @@ export interface RecordsPanelProps {
   info: UnitInfo;
   onInfo(i: UnitInfo): void;
   /**
-   * What a save stores: the one result (`dsp/result.ts`) of the live run or of an opened recording, or
+   * What a save stores: the one result (`dsp/calibration/result.ts`) of the live run or of an opened recording, or
    * null when there is nothing to save.
    */
   result: CalibrationResult | null;

@@ -4,8 +4,8 @@
  * per-step chart, the fit summary and the trim advice.
  */
 import { useState, type ReactNode } from 'react';
-import { PLAN_LIMITS, PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/plan.ts';
-import { isRunActive, type RunState, type RunStep } from '../../../dsp/run.ts';
+import { PLAN_LIMITS, PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/calibration/index.ts';
+import { isRunActive, type RunState, type RunStep } from '../../../dsp/calibration/index.ts';
 import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
 import { RUN_KEYS, redoTarget } from '../hooks/useRunKeys.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';

@@ -4,8 +4,8 @@
  * advice. A compact disclosure; what it holds is kept between sessions (lib/setup.ts).
  */
 import { useState } from 'react';
-import { clockPpmFromReference, ppmToCents } from '../../../dsp/clock.ts';
-import type { PitchReading } from '../../../dsp/reading.ts';
+import { clockPpmFromReference, ppmToCents } from '../../../dsp/io/index.ts';
+import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import type { CaptureSignal } from '../hooks/useCaptureSignal.ts';
 import { numberOrNull } from '../lib/fields.ts';
 import { RESISTOR_NAMES, setupSummary, type SetupForm } from '../lib/setup.ts';

@@ -1,6 +1,6 @@
 /**
  * Scale pair: the user alternates between two voltages while turning the scale trimmer; the interval
- * error is shown live with the way to turn (dsp/advice.ts twoPointIntervalError). An instruction comes
+ * error is shown live with the way to turn (dsp/advice/advice.ts twoPointIntervalError). An instruction comes
  * only from two pitches both settled after the pair was opened, and only when their interval is near the
  * pair's (the unexpected-pitch guard, engine/core.ts).
  */

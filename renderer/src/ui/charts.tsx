@@ -2,7 +2,7 @@
  * Charts drawn as SVG, sized by their container's width through the viewBox: the strip chart of the live
  * pitch, the per-step error chart, the comparison of two runs and the drift chart.
  */
-import { nearestNote } from '../../../dsp/notes.ts';
+import { nearestNote } from '../../../dsp/math/index.ts';
 import type { HistoryPoint } from '../engine/client.ts';
 import { HISTORY_SECONDS } from '../engine/client.ts';
 import { niceRange, ticks } from '../lib/scale.ts';
@@ -134,7 +134,7 @@ export function StepChart(props: {
 }) {
   const f = frame(520, props.height ?? 230);
   // In voltage order, whatever order they were played in: each interval bar sits between a step and
-  // the next lower voltage (dsp/table.ts takes the interval the same way).
+  // the next lower voltage (dsp/calibration/table.ts takes the interval the same way).
   const steps = [...props.steps].sort((a, b) => a.volts - b.volts);
   const vs = props.planVolts.length > 0 ? props.planVolts : [0, 1];
   const xLo = Math.min(...vs) - 0.5;

@@ -1,5 +1,5 @@
 /** The fit of a result: scale error with its uncertainty, octaves per volt, pitch at 0 V, residual, bends. */
-import type { CalibrationResult } from '../../../../dsp/result.ts';
+import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
 import { formatCents, formatHz, formatUncertainty } from '../../lib/format.ts';
 import type { ResultModel } from './model.ts';
 

@@ -3,9 +3,9 @@
  * recording or a run stored in the unit book: rows in voltage order, the fit, and the advice. The views in
  * this folder take only this shape, so a saved run shows exactly its own stored values.
  */
-import type { ResistorChange } from '../../../../dsp/advice.ts';
-import { formatOhms } from '../../../../dsp/eseries.ts';
-import type { CalibrationResult } from '../../../../dsp/result.ts';
+import type { ResistorChange } from '../../../../dsp/advice/index.ts';
+import { formatOhms } from '../../../../dsp/converter/index.ts';
+import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
 import type { RunAnalysis } from '../../lib/analysis.ts';
 import { formatCents } from '../../lib/format.ts';
 
@@ -80,7 +80,7 @@ export interface ResultModel {
     readonly scale: { readonly low: number; readonly high: number } | null;
     readonly hf: { readonly low: number; readonly high: number } | null;
   };
-  /** The one result this view was made from (dsp/result.ts): the model's budgets and verdict come from it. */
+  /** The one result this view was made from (dsp/calibration/result.ts): the model's budgets and verdict come from it. */
   readonly source: CalibrationResult | null;
 }
 
@@ -161,7 +161,7 @@ export function resultFromAnalysis(a: RunAnalysis): ResultModel {
 
 /**
  * A run stored in the unit book, exactly as stored (no value is recomputed: note names, cents and the fit
- * are the stored ones of the one result, dsp/result.ts).
+ * are the stored ones of the one result, dsp/calibration/result.ts).
  *
  * @param r - The stored result.
  * @example resultFromStored(result).rows.length // the stored steps with a voltage

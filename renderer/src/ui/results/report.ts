@@ -4,7 +4,7 @@
  * the form's details and the time it was measured.
  */
 import { version as SOFTWARE_VERSION } from '../../../../package.json';
-import { resultToJsonText } from '../../../../dsp/result.ts';
+import { resultToJsonText } from '../../../../dsp/calibration/index.ts';
 import type { Run, UnitRecord } from '../../../../main/api-types.ts';
 import { toCsv, type CsvCell } from '../../lib/csv.ts';
 import { CSV_STEP_COLUMNS } from '../../lib/export.ts';
@@ -14,7 +14,7 @@ export { SOFTWARE_VERSION };
 
 /**
  * The default tracking tolerance, ± cents: "about ±2 cents over five octaves is a good analog result"
- * (FIELD-NOTES, published builders' measurements; common practice).
+ * (docs/facts.md, published builders' measurements; common practice).
  */
 export const DEFAULT_TOLERANCE_CENTS = 2;
 
@@ -146,7 +146,7 @@ export function reportToCsv(r: RunReport): string {
 /**
  * The run as JSON: `{ format, software, unit: {…}, run: { label, takenAt, plan, steps, fit, advice,
  * verdict }, result }`, every value the run's own; `result` is the run's one result in the one JSON
- * shape (`resultToJsonText`, dsp/result.ts).
+ * shape (`resultToJsonText`, dsp/calibration/result.ts).
  */
 export function reportToJson(r: RunReport): string {
   const v = verdictFor(r.result, r.toleranceCents);
@@ -190,7 +190,7 @@ export function reportToJson(r: RunReport): string {
         advice: r.result.advice.map((a) => ({ trimmer: a.trimmer, status: a.status, text: a.text })),
         verdict: { kind: v.kind, worstCents: v.worstCents },
       },
-      // The run's one result, in the one JSON shape (dsp/result.ts, as `spanmeter analyze --json`).
+      // The run's one result, in the one JSON shape (dsp/calibration/result.ts, as `spanmeter analyze --json`).
       result: r.result.source ? (JSON.parse(resultToJsonText(r.result.source)) as unknown) : null,
     },
     null,

@@ -1,0 +1,869 @@
+/**
+ * High-precision refinement of a fundamental frequency by a harmonic phase-slope fit.
+ *
+ * Method. The window is cut into M consecutive, non-overlapping segments, each as close as the sample grid
+ * allows to C whole periods of the coarse fundamental f̂. For every harmonic k the segment's Hann-windowed
+ * Fourier coefficient at k·f̂ is taken (complex demodulation, phase referred to the window start). For a
+ * harmonic at k·(f̂ + δ) the phase of segment m is exactly `a_k + 2π·k·δ·t_m`, where t_m is the segment's
+ * centre, because a symmetric window has a real transform. δ follows from a weighted least-squares line
+ * through the unwrapped phases of all harmonics jointly (one slope, one intercept per harmonic), with weights
+ * |c|², the inverse of each phase's noise variance at high SNR.
+ *
+ * Sources: linear regression on the phase of a sinusoid attains the Cramér–Rao bound at high SNR
+ * (S. Tretter, "Estimating the frequency of a noisy sinusoid by linear regression", IEEE Trans. Inf.
+ * Theory 31(6), 1985; S. Kay, "A fast and accurate single frequency estimator", IEEE Trans. ASSP 37(12), 1989);
+ * for a harmonic signal the per-harmonic information adds with weight k² (the bound of D. Rife and
+ * R. Boorstyn, IEEE Trans. Inf. Theory 20(5), 1974, extended to harmonic sums). Short-time phase of a
+ * windowed DFT as a frequency measurement: J. L. Flanagan and R. M. Golden, "Phase vocoder", Bell System
+ * Technical Journal 45, 1966.
+ *
+ * Why period-synchronous segments: the other harmonics and the negative-frequency image lie a whole number
+ * of cycles per segment away, so their leakage into a coefficient has the same phase in every segment and
+ * falls into the intercept instead of the slope. Mains hum is not synchronous: where a hum line falls close
+ * to a harmonic, the hum's own coefficient is measured and its known leakage subtracted (a 2×2 solve per
+ * segment); a harmonic too close to a hum line to separate is left out.
+ *
+ * The uncertainty is the slope's standard error from the fit's own residuals (weighted least squares with
+ * unknown scale), widened by the ratio of Student's t to the normal quantile for the residual degrees of
+ * freedom so that ±2 standard errors keep their coverage with few segments. Outlying segments (a DC step,
+ * a click) are down-weighted by three re-weighting passes with Tukey's biweight on a MAD scale (four weighted
+ * fits in all; Mosteller & Tukey, "Data Analysis and Regression", 1977; P. J. Huber, "Robust Statistics", 1981).
+ *
+ * The class allocates its buffers once, for the largest window, harmonic count and segment count it is
+ * built for; `refine` then allocates nothing.
+ */
+
+import type { Hertz } from '../math/index.ts';
+
+/** Mains hum lines that are cancelled or avoided: 50 and 60 Hz and their 2nd and 3rd harmonics. */
+export const HUM_LINES_HZ: readonly Hertz[] = [50, 100, 150, 60, 120, 180];
+
+/** Result of one refinement, written into a reusable object. */
+export interface RefineResult {
+  /** True when the fit succeeded. */
+  ok: boolean;
+  /** Refined fundamental, Hz. */
+  hz: number;
+  /** Standard error of `hz`, Hz (already widened for the degrees of freedom). */
+  stdErrHz: number;
+  /** Harmonics that entered the fit. */
+  harmonicsUsed: number;
+  /** Segments per harmonic. */
+  segments: number;
+  /** Power of the fitted harmonics as a fraction of the window's power (0…1, about 1 for a clean tone). */
+  explainedFraction: number;
+  /** Residual degrees of freedom. */
+  dof: number;
+  /** Breaks inside the fitted span (reported through `setBreaks` or found in the data). */
+  breaks: number;
+  /** How many of `breaks` were found in the data. */
+  foundBreaks: number;
+}
+
+/** Most break positions a window can be given. */
+export const MAX_BREAKS = 8;
+/** Most breaks looked for in the data per window. */
+const MAX_FOUND_BREAKS = 3;
+/** How far a break's test statistic must stand above its neighbours' (within two segments). */
+const SHARPNESS = 20;
+/** Power a segment holding a break keeps, at most, relative to its neighbours (for a less sharp break). */
+const DIP = 0.85;
+/** Segments either side of a candidate break that its test looks at (so other breaks do not mask it). */
+const LOCAL_SEGMENTS = 4;
+/** Most unbroken stretches per window. */
+const MAX_STRETCHES = MAX_BREAKS + MAX_FOUND_BREAKS + 1;
+
+/** Creates an empty {@link RefineResult}. */
+export function emptyRefineResult(): RefineResult {
+  return {
+    ok: false,
+    hz: 0,
+    stdErrHz: 0,
+    harmonicsUsed: 0,
+    segments: 0,
+    explainedFraction: 0,
+    dof: 0,
+    breaks: 0,
+    foundBreaks: 0,
+  };
+}
+
+// Two-sided 97.5 % quantiles of Student's t for 1…30 degrees of freedom (any statistics handbook,
+// e.g. Abramowitz & Stegun, Handbook of Mathematical Functions, table 26.10).
+const T975 = [
+  12.706, 4.303, 3.182, 2.776, 2.571, 2.447, 2.365, 2.306, 2.262, 2.228, 2.201, 2.179, 2.16, 2.145, 2.131,
+  2.12, 2.11, 2.101, 2.093, 2.086, 2.08, 2.074, 2.069, 2.064, 2.06, 2.056, 2.052, 2.048, 2.045, 2.042,
+];
+
+/** t(0.975, dof)/1.96: the factor that widens a residual-based standard error for few degrees of freedom. */
+export function smallSampleFactor(dof: number): number {
+  if (dof < 1) return 6.5;
+  if (dof <= 30) return T975[Math.floor(dof) - 1] / 1.959964;
+  // Cornish–Fisher expansion of t about the normal quantile (A&S 26.7.5), first two terms.
+  const z = 1.959964;
+  return (z + (z * z * z + z) / (4 * dof)) / z;
+}
+
+const TWO_PI = 2 * Math.PI;
+
+/** Median of the first `n` entries of `a` by quickselect (Hoare); reorders them, allocates nothing. */
+export function selectMedian(a: Float64Array, n: number): number {
+  if (n <= 0) return 0;
+  const k = n >> 1;
+  let lo = 0;
+  let hi = n - 1;
+  while (lo < hi) {
+    const pivot = a[(lo + hi) >> 1];
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        const t = a[i];
+        a[i] = a[j];
+        a[j] = t;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else break;
+  }
+  return a[k];
+}
+
+/** Σ_{i<L} cos(x·(i − (L−1)/2)) = sin(Lx/2)/sin(x/2), with its limit L where sin(x/2) vanishes. */
+function dirichlet(x: number, L: number): number {
+  const sh = Math.sin(x / 2);
+  if (Math.abs(sh) < 1e-12) return L * Math.cos((L - 1) * Math.PI * Math.round(x / TWO_PI));
+  return Math.sin((L * x) / 2) / sh;
+}
+
+function wrapPi(a: number): number {
+  return a - TWO_PI * Math.round(a / TWO_PI);
+}
+
+/** Harmonic phase-slope refiner with preallocated buffers. */
+export class HarmonicRefiner {
+  readonly maxSamples: number;
+  readonly maxHarmonics: number;
+  readonly maxSegments: number;
+  private readonly win: Float64Array;
+  private readonly xw: Float64Array;
+  // Per harmonic slot × segment: complex coefficient and weights.
+  private readonly re: Float64Array;
+  private readonly im: Float64Array;
+  private readonly phase: Float64Array;
+  private readonly w: Float64Array;
+  private readonly wr: Float64Array;
+  private readonly t: Float64Array;
+  private readonly hk: Int32Array;
+  private readonly active: Uint8Array;
+  // Hum coefficients per hum line × segment.
+  private readonly humRe: Float64Array;
+  private readonly humIm: Float64Array;
+  private readonly humNeeded: Uint8Array;
+  private readonly humFor: Int32Array;
+  private readonly humG: Float64Array;
+  private readonly scratch: Float64Array;
+  private readonly phase0: Float64Array;
+  private readonly seg: Int32Array;
+  private readonly cut: Uint8Array;
+  private readonly breakPos = new Float64Array(MAX_BREAKS);
+  private knownBreaks = 0;
+
+  /**
+   * @param maxSamples - Longest window to refine, samples.
+   * @param maxHarmonics - Most harmonics to fit. Default 64.
+   * @param maxSegments - Most segments per window. Default 48.
+   */
+  constructor(maxSamples: number, maxHarmonics = 64, maxSegments = 48) {
+    if (!Number.isInteger(maxSamples) || maxSamples < 16) {
+      throw new RangeError(`maxSamples must be an integer ≥ 16, got ${maxSamples}`);
+    }
+    this.maxSamples = maxSamples;
+    this.maxHarmonics = maxHarmonics;
+    this.maxSegments = maxSegments;
+    this.win = new Float64Array(maxSamples);
+    this.xw = new Float64Array(maxSamples);
+    const cells = maxHarmonics * maxSegments;
+    this.re = new Float64Array(cells);
+    this.im = new Float64Array(cells);
+    this.phase = new Float64Array(cells);
+    this.w = new Float64Array(cells);
+    this.wr = new Float64Array(cells);
+    this.t = new Float64Array(maxSegments);
+    this.hk = new Int32Array(maxHarmonics);
+    this.active = new Uint8Array(maxHarmonics);
+    this.humRe = new Float64Array(HUM_LINES_HZ.length * maxSegments);
+    this.humIm = new Float64Array(HUM_LINES_HZ.length * maxSegments);
+    this.humNeeded = new Uint8Array(HUM_LINES_HZ.length);
+    this.humFor = new Int32Array(maxHarmonics);
+    this.humG = new Float64Array(maxHarmonics);
+    this.scratch = new Float64Array(cells);
+    this.phase0 = new Float64Array(cells);
+    this.seg = new Int32Array(maxSegments);
+    this.cut = new Uint8Array(maxSegments);
+    this.unwrapped = new Float64Array(maxSegments);
+    this.stat = new Float64Array(maxSegments);
+    this.segPow = new Float64Array(maxSegments);
+    this.edge = new Uint8Array(maxSegments);
+  }
+
+  /**
+   * Refines `f0Hz` on the first `n` samples of `x` (conditioned: no DC, no non-finite values).
+   *
+   * @param x - Conditioned samples.
+   * @param n - Window length, samples, ≤ maxSamples.
+   * @param fs - Sample rate, Hz.
+   * @param f0Hz - Coarse fundamental, Hz; within a few cents of the truth is ideal, within ±1/(4C) of an
+   *   octave works (C cycles per segment).
+   * @param harmonics - Harmonic numbers to fit (ascending), as chosen by the caller from the spectrum.
+   * @param harmonicCount - How many entries of `harmonics` to use.
+   * @param totalPower - Mean square of the window, for `explainedFraction`.
+   * @param out - Receives the result.
+   * @param segmentsTarget - Desired number of segments. Default 16.
+   * @param humMask - Bit h set: hum line HUM_LINES_HZ[h] is present and is cancelled or avoided.
+   */
+  refine(
+    x: Float64Array,
+    n: number,
+    fs: number,
+    f0Hz: number,
+    harmonics: Int32Array,
+    harmonicCount: number,
+    totalPower: number,
+    out: RefineResult,
+    segmentsTarget = 16,
+    humMask = 0b111111,
+  ): RefineResult {
+    out.ok = false;
+    const K = Math.min(harmonicCount, this.maxHarmonics);
+    const periods = (n * f0Hz) / fs;
+    if (K < 1 || periods < 2 || n > this.maxSamples) return out;
+    // At least two periods per segment once the window allows it: then a slowly varying baseline sits at
+    // the Hann window's first zero (two bins) instead of on its main lobe.
+    let C = periods >= 8 ? Math.max(2, Math.floor(periods / segmentsTarget)) : 1;
+    let L = Math.round((C * fs) / f0Hz);
+    let M = Math.floor(n / L);
+    while (M > this.maxSegments) {
+      C++;
+      L = Math.round((C * fs) / f0Hz);
+      M = Math.floor(n / L);
+    }
+    if (M < 3 || L < 4) return out;
+    const offset = Math.floor((n - M * L) / 2);
+    const win = this.win;
+    let wsum = 0;
+    for (let i = 0; i < L; i++) {
+      const s = Math.sin((Math.PI * (i + 0.5)) / L);
+      win[i] = s * s;
+      wsum += s * s;
+    }
+    const invW = 1 / wsum;
+    const segSeconds = L / fs;
+    for (let m = 0; m < M; m++) this.t[m] = (offset + m * L + (L - 1) / 2) / fs;
+
+    // Which hum lines lie close enough to a harmonic to leak into it.
+    this.humNeeded.fill(0);
+    for (let j = 0; j < K; j++) {
+      const k = harmonics[j];
+      this.hk[j] = k;
+      this.active[j] = 1;
+      this.humFor[j] = -1;
+      this.humG[j] = 0;
+      const nu = k * f0Hz;
+      let bestG = 0;
+      let best = -1;
+      for (let h = 0; h < HUM_LINES_HZ.length; h++) {
+        if (!(humMask & (1 << h))) continue;
+        const bins = Math.abs(HUM_LINES_HZ[h] - nu) * segSeconds;
+        if (bins > 6) continue;
+        const g = this.windowLeak(HUM_LINES_HZ[h] - nu, L, fs) * invW;
+        if (Math.abs(g) > Math.abs(bestG)) {
+          bestG = g;
+          best = h;
+        }
+      }
+      if (best >= 0 && Math.abs(bestG) > 2e-3) {
+        this.humG[j] = bestG;
+        if (Math.abs(bestG) >= 0.8) {
+          if (K > 1) this.active[j] = 0; // too close to separate: leave this harmonic out
+        } else {
+          this.humFor[j] = best;
+          this.humG[j] = bestG;
+          this.humNeeded[best] = 1;
+        }
+      }
+    }
+
+    // Never leave every harmonic out: keep the one least troubled by hum, uncorrected if need be.
+    let anyActive = false;
+    for (let j = 0; j < K; j++) if (this.active[j]) anyActive = true;
+    if (!anyActive) {
+      let keep = 0;
+      for (let j = 1; j < K; j++) if (Math.abs(this.humG[j]) < Math.abs(this.humG[keep])) keep = j;
+      this.active[keep] = 1;
+    }
+
+    // Segment coefficients.
+    const ms = this.maxSegments;
+    for (let m = 0; m < M; m++) {
+      const s0 = offset + m * L;
+      const xw = this.xw;
+      for (let i = 0; i < L; i++) xw[i] = x[s0 + i] * win[i];
+      for (let j = 0; j < K; j++) {
+        // Harmonics left out of the fit are still measured: their power counts in `explainedFraction`.
+        this.coefficient(xw, L, s0, this.hk[j] * f0Hz, fs);
+        this.re[j * ms + m] = this.pair[0] * invW;
+        this.im[j * ms + m] = this.pair[1] * invW;
+      }
+      for (let h = 0; h < HUM_LINES_HZ.length; h++) {
+        if (!this.humNeeded[h]) continue;
+        this.coefficient(xw, L, s0, HUM_LINES_HZ[h], fs);
+        this.humRe[h * ms + m] = this.pair[0] * invW;
+        this.humIm[h * ms + m] = this.pair[1] * invW;
+      }
+    }
+
+    // Hum correction, phases and weights.
+    let strongest = -1;
+    let strongestPow = 0;
+    let explained = 0;
+    for (let j = 0; j < K; j++) {
+      if (!this.active[j]) {
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          explained += (2 * (this.re[idx] * this.re[idx] + this.im[idx] * this.im[idx])) / M;
+        }
+        continue;
+      }
+      const h = this.humFor[j];
+      const g = this.humG[j];
+      let pow = 0;
+      for (let m = 0; m < M; m++) {
+        const idx = j * ms + m;
+        let cr = this.re[idx];
+        let ci = this.im[idx];
+        if (h >= 0) {
+          // c' = c − g·r·u with r = exp(j2π(h − ν)t): removes the hum line's leakage (see module comment).
+          const ang = TWO_PI * (HUM_LINES_HZ[h] - this.hk[j] * f0Hz) * this.t[m];
+          const rr = Math.cos(ang);
+          const ri = Math.sin(ang);
+          const ur = this.humRe[h * ms + m];
+          const ui = this.humIm[h * ms + m];
+          cr -= g * (rr * ur - ri * ui);
+          ci -= g * (rr * ui + ri * ur);
+          const scale = 1 / (1 - g * g);
+          cr *= scale;
+          ci *= scale;
+        }
+        const p = cr * cr + ci * ci;
+        this.phase[idx] = Math.atan2(ci, cr);
+        // Noise of the corrected coefficient grows by (1 + g²)/(1 − g²)²: weight accordingly.
+        this.w[idx] = h >= 0 ? (p * (1 - g * g) * (1 - g * g)) / (1 + g * g) : p;
+        this.wr[idx] = 1;
+        pow += p;
+      }
+      // Amplitude of harmonic = 2·|coefficient|; its power A²/2 (rotation across segments does not matter).
+      explained += (2 * pow) / M;
+      if (pow > strongestPow) {
+        strongestPow = pow;
+        strongest = j;
+      }
+    }
+    if (strongest < 0 || strongestPow <= 0) return out;
+
+    const kA = this.hk[strongest];
+    this.placeKnownBreaks(M, L, offset);
+    for (let m = 0; m < M; m++) {
+      let p = 0;
+      for (let j = 0; j < K; j++) if (this.active[j]) p += this.w[j * ms + m];
+      this.segPow[m] = p;
+    }
+    let nStretch = this.assignStretches(M);
+    this.zeroDropped(K, M);
+    // Keep the raw phases: a break found in the data restarts the fit from them.
+    for (let j = 0; j < K; j++) {
+      if (!this.active[j]) continue;
+      for (let m = 0; m < M; m++) this.phase0[j * ms + m] = this.phase[j * ms + m];
+    }
+    let found = 0;
+    let deltaA = 0;
+    let delta = 0;
+    let s2 = 0;
+    let sxx = 0;
+    let dofOut = 0;
+    let activeCount = 0;
+    for (let attempt = 0; ; attempt++) {
+      const mayLook = found < MAX_FOUND_BREAKS && attempt < 2 * MAX_FOUND_BREAKS;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        for (let m = 0; m < M; m++) this.phase[j * ms + m] = this.phase0[j * ms + m];
+      }
+      // Stage A: slope of the strongest harmonic alone, unwrapped sequentially inside each unbroken stretch,
+      // with one intercept per stretch.
+      const slopeA = this.stageA(strongest, M, nStretch);
+      if (!Number.isFinite(slopeA)) return out;
+      deltaA = slopeA / (TWO_PI * kA);
+      if (mayLook) {
+        const b = this.findBreak(strongest, K, M);
+        if (b >= 0) {
+          this.cut[b] = 1;
+          nStretch = this.assignStretches(M);
+          this.zeroDropped(K, M);
+          found++;
+          continue;
+        }
+      }
+
+      // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
+      // one intercept per harmonic and stretch, and Tukey re-weighting.
+      activeCount = 0;
+      let usable = 0;
+      for (let m = 0; m < M; m++) if (this.seg[m] >= 0) usable++;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        activeCount++;
+        const k = this.hk[j];
+        // Circular weighted mean of the residual phase per stretch sets the intercept used for wrapping.
+        for (let r = 0; r < nStretch; r++) {
+          this.stT[r] = 0;
+          this.stY[r] = 0;
+        }
+        for (let m = 0; m < M; m++) {
+          const r = this.seg[m];
+          if (r < 0) continue;
+          const idx = j * ms + m;
+          const e = this.phase[idx] - TWO_PI * k * deltaA * this.t[m];
+          this.stT[r] += this.w[idx] * Math.cos(e);
+          this.stY[r] += this.w[idx] * Math.sin(e);
+        }
+        for (let m = 0; m < M; m++) {
+          const idx = j * ms + m;
+          const r = this.seg[m];
+          if (r < 0) {
+            this.phase[idx] = 0;
+            this.wr[idx] = 0;
+            continue;
+          }
+          const a0 = Math.atan2(this.stY[r], this.stT[r]);
+          this.phase[idx] = wrapPi(this.phase[idx] - TWO_PI * k * deltaA * this.t[m] - a0);
+          this.wr[idx] = 1;
+        }
+      }
+      const nPoints = activeCount * usable;
+      if (nPoints - activeCount * nStretch - 1 < 1) return out;
+
+      delta = 0;
+      s2 = 0;
+      sxx = 0;
+      dofOut = 0;
+      for (let pass = 0; pass < 4; pass++) {
+        let sxy = 0;
+        sxx = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          const k = this.hk[j];
+          this.weightedMeans(j, M, nStretch);
+          for (let m = 0; m < M; m++) {
+            const r = this.seg[m];
+            if (r < 0) continue;
+            const idx = j * ms + m;
+            const ww = this.w[idx] * this.wr[idx];
+            const dt = this.t[m] - this.stT[r];
+            sxy += ww * k * dt * (this.phase[idx] - this.stY[r]);
+            sxx += ww * k * k * dt * dt;
+          }
+        }
+        if (!(sxx > 0)) return out;
+        // Model: phase = a_{k,r} + (2π·k·d)·t  ⇒  d = Σ w k Δt Δy / (2π Σ w k² Δt²).
+        delta = sxy / (TWO_PI * sxx);
+        // Residuals and scale.
+        let ss = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          const k = this.hk[j];
+          this.weightedMeans(j, M, nStretch);
+          for (let m = 0; m < M; m++) {
+            const idx = j * ms + m;
+            const r = this.seg[m];
+            if (r < 0) {
+              this.re[idx] = 0;
+              continue;
+            }
+            const e = this.phase[idx] - this.stY[r] - TWO_PI * k * delta * (this.t[m] - this.stT[r]);
+            // The residual is kept in `re` (the coefficients are no longer needed).
+            this.re[idx] = e;
+            ss += this.w[idx] * this.wr[idx] * e * e;
+          }
+        }
+        // Robust scale from the median absolute standardised residual (1.4826·MAD estimates σ for normal
+        // errors), then Tukey's biweight with c = 4.685·σ: a segment hit by a click or a DC step gets weight
+        // 0 instead of pulling the slope (Huber, "Robust Statistics"; Mosteller & Tukey, 1977).
+        let nu = 0;
+        let nEff = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          for (let m = 0; m < M; m++) {
+            if (this.seg[m] < 0) continue;
+            const idx = j * ms + m;
+            this.scratch[nu++] = Math.abs(this.re[idx]) * Math.sqrt(this.w[idx]);
+            nEff += this.wr[idx];
+          }
+        }
+        const effDof = nEff - activeCount * nStretch - 1;
+        s2 = effDof > 0 ? ss / effDof : 0;
+        dofOut = effDof;
+        if (pass === 3) break;
+        const scale = 1.4826 * selectMedian(this.scratch, nu);
+        if (!(scale > 0)) break;
+        const c = 4.685 * scale;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          for (let m = 0; m < M; m++) {
+            if (this.seg[m] < 0) continue;
+            const idx = j * ms + m;
+            const u = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / c;
+            this.wr[idx] = u < 1 ? (1 - u * u) * (1 - u * u) : 0;
+          }
+        }
+      }
+      if (mayLook) {
+        const b = this.findBreak(-1, K, M);
+        if (b >= 0) {
+          this.cut[b] = 1;
+          nStretch = this.assignStretches(M);
+          this.zeroDropped(K, M);
+          found++;
+          continue;
+        }
+      }
+      break;
+    }
+    let breaks = 0;
+    for (let m = 0; m < M; m++) if (this.cut[m] !== 0 && (m > 0 || this.cut[m] === 1)) breaks++;
+    const hz = f0Hz + deltaA + delta;
+    // var(d) = s² / (4π² Σ w k² Δt²)  (weighted least squares with unknown scale).
+    if (!(dofOut >= 1)) return out;
+    const se = Math.sqrt(s2 / (TWO_PI * TWO_PI * sxx)) * smallSampleFactor(dofOut);
+    out.ok = Number.isFinite(hz) && hz > 0 && Number.isFinite(se);
+    out.hz = hz;
+    out.stdErrHz = se;
+    out.harmonicsUsed = activeCount;
+    out.segments = M;
+    out.explainedFraction = totalPower > 0 ? Math.min(1, explained / totalPower) : 0;
+    out.dof = dofOut;
+    out.breaks = breaks;
+    out.foundBreaks = found;
+    return out;
+  }
+
+  private readonly stT = new Float64Array(MAX_STRETCHES);
+  private readonly stY = new Float64Array(MAX_STRETCHES);
+  private readonly stW = new Float64Array(MAX_STRETCHES);
+  private readonly unwrapped: Float64Array;
+  private readonly stat: Float64Array;
+  private readonly segPow: Float64Array;
+  private readonly edge: Uint8Array;
+
+  /**
+   * Tells the next {@link refine} call where the signal breaks (dropped samples, a restarted stream),
+   * in samples from the start of its window. The segment holding a break is left out and each unbroken
+   * stretch gets its own phase per harmonic, so the break costs a little precision and adds no bias.
+   * Positions outside the window are ignored; at most {@link MAX_BREAKS} are kept. Allocation-free.
+   *
+   * @param positions - Break positions, samples from the window start.
+   * @param count - How many entries of `positions` to use.
+   */
+  setBreaks(positions: ArrayLike<number>, count: number): void {
+    const n = Math.max(0, Math.min(count, MAX_BREAKS, positions.length));
+    for (let i = 0; i < n; i++) this.breakPos[i] = positions[i];
+    this.knownBreaks = n;
+  }
+
+  /** Marks the segments the known breaks fall in (1: left out, 2: a new stretch starts here). */
+  private placeKnownBreaks(M: number, L: number, offset: number): void {
+    this.cut.fill(0, 0, M);
+    for (let q = 0; q < this.knownBreaks; q++) {
+      const rel = this.breakPos[q] - offset;
+      if (!(rel > 0) || rel >= M * L) continue;
+      const m = Math.floor(rel / L);
+      if (rel === m * L) {
+        if (this.cut[m] === 0) this.cut[m] = 2;
+      } else this.cut[m] = 1;
+    }
+  }
+
+  /** Stretch number of each segment from `cut` into `seg` (−1: left out); returns the number of stretches. */
+  private assignStretches(M: number): number {
+    let id = 0;
+    let used = false;
+    for (let m = 0; m < M; m++) {
+      const c = this.cut[m];
+      if (c === 2 && used && id + 1 < MAX_STRETCHES) {
+        id++;
+        used = false;
+      }
+      if (c === 1) {
+        this.seg[m] = -1;
+        if (used && id + 1 < MAX_STRETCHES) {
+          id++;
+          used = false;
+        }
+        continue;
+      }
+      this.seg[m] = id;
+      used = true;
+    }
+    return used ? id + 1 : Math.max(1, id);
+  }
+
+  /** Zero weight for every cell of a left-out segment. */
+  private zeroDropped(K: number, M: number): void {
+    const ms = this.maxSegments;
+    for (let m = 0; m < M; m++) {
+      if (this.seg[m] >= 0) continue;
+      for (let j = 0; j < K; j++) this.w[j * ms + m] = 0;
+    }
+  }
+
+  /**
+   * Stage A: weighted least-squares slope (rad/s) of harmonic slot `j`'s phase, unwrapped sequentially
+   * inside each stretch, one intercept per stretch. Leaves the residuals in `re` (row j). NaN on failure.
+   */
+  private stageA(j: number, M: number, nStretch: number): number {
+    const ms = this.maxSegments;
+    const ua = this.unwrapped;
+    let prevM = -1;
+    let prevId = -1;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const ph = this.phase[j * ms + m];
+      ua[m] = r !== prevId ? ph : ua[prevM] + wrapPi(ph - this.phase[j * ms + prevM]);
+      prevM = m;
+      prevId = r;
+    }
+    for (let r = 0; r < nStretch; r++) {
+      this.stW[r] = 0;
+      this.stT[r] = 0;
+      this.stY[r] = 0;
+    }
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const wt = this.w[j * ms + m];
+      this.stW[r] += wt;
+      this.stT[r] += wt * this.t[m];
+      this.stY[r] += wt * ua[m];
+    }
+    for (let r = 0; r < nStretch; r++) {
+      if (this.stW[r] > 0) {
+        this.stT[r] /= this.stW[r];
+        this.stY[r] /= this.stW[r];
+      }
+    }
+    let sxy = 0;
+    let sxx = 0;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const wt = this.w[j * ms + m];
+      const dt = this.t[m] - this.stT[r];
+      sxy += wt * dt * (ua[m] - this.stY[r]);
+      sxx += wt * dt * dt;
+    }
+    if (!(sxx > 0)) return NaN;
+    const slope = sxy / sxx;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      this.re[j * ms + m] = r < 0 ? 0 : ua[m] - this.stY[r] - slope * (this.t[m] - this.stT[r]);
+    }
+    return slope;
+  }
+
+  /**
+   * Looks for a break the data show but nobody reported: a step in the phase residuals (a time shift,
+   * the same for every harmonic in time units) inside an unbroken stretch. For each candidate segment b,
+   * with segments of the same stretch on both sides among the four nearest (at least three in all), the residuals (`re`, of row `row`, or of
+   * every active harmonic when row = −1) are tested for a step at b against a straight line per harmonic
+   * (segment b itself left out): the reduction in the weighted residual sum of squares over the residual
+   * variance of the stepped model (an F-type statistic; change-point test in the manner of D. V. Hinkley,
+   * "Inference about the change-point in a sequence of random variables", Biometrika 57(1), 1970).
+   * A break is taken when the statistic passes max(60, K + 5.5·√(2K) + 12) for K harmonics (far in the
+   * tail of χ²_K over up to 48 candidates) and is sharp: at least 20 times its value two segments
+   * either side and the lesser of its values one segment either side. A dropout is abrupt and passes; the slow phase wander of frequency noise is broad and does not.
+   *
+   * @returns The segment holding the break, or −1.
+   */
+  private findBreak(row: number, K: number, M: number): number {
+    const ms = this.maxSegments;
+    const stat = this.stat;
+    let rows = 0;
+    for (let j = 0; j < K; j++) if (this.active[j] && (row < 0 || j === row)) rows++;
+    if (rows === 0) return -1;
+    for (let b = 0; b < M; b++) {
+      stat[b] = 0;
+      const r = this.seg[b];
+      if (r < 0) continue;
+      let nl = 0;
+      let nr = 0;
+      const m0 = Math.max(0, b - LOCAL_SEGMENTS);
+      const m1 = Math.min(M - 1, b + LOCAL_SEGMENTS);
+      for (let m = m0; m <= m1; m++) {
+        if (this.seg[m] !== r || m === b) continue;
+        if (m < b) nl++;
+        else nr++;
+      }
+      // Two segments on one side and at least one on the other (a break near the window's edge).
+      if (nl < 1 || nr < 1 || nl + nr < 3) continue;
+      this.edge[b] = nl < 2 || nr < 2 ? 1 : 0;
+      let dRss = 0;
+      let rss = 0;
+      let n = 0;
+      let used = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j] || (row >= 0 && j !== row)) continue;
+        let W = 0;
+        let Wt = 0;
+        let Wtt = 0;
+        let Wu = 0;
+        let Wtu = 0;
+        let Wr = 0;
+        let Wtr = 0;
+        let Wur = 0;
+        let Wrr = 0;
+        let cells = 0;
+        for (let m = m0; m <= m1; m++) {
+          if (this.seg[m] !== r || m === b) continue;
+          const idx = j * ms + m;
+          const wt = this.w[idx];
+          if (!(wt > 0)) continue;
+          const t = this.t[m] - this.t[b];
+          const e = this.re[idx];
+          const u = m > b ? 1 : 0;
+          W += wt;
+          Wt += wt * t;
+          Wtt += wt * t * t;
+          Wu += wt * u;
+          Wtu += wt * t * u;
+          Wr += wt * e;
+          Wtr += wt * t * e;
+          Wur += wt * u * e;
+          Wrr += wt * e * e;
+          cells++;
+        }
+        const det = W * Wtt - Wt * Wt;
+        if (!(det > 0) || cells < 4) continue;
+        const a = (Wtt * Wr - Wt * Wtr) / det;
+        const c = (W * Wtr - Wt * Wr) / det;
+        const alpha = (Wtt * Wu - Wt * Wtu) / det;
+        const beta = (W * Wtu - Wt * Wu) / det;
+        const num = Wur - alpha * Wr - beta * Wtr;
+        const den = Wu - alpha * Wu - beta * Wtu;
+        rss += Math.max(0, Wrr - a * Wr - c * Wtr);
+        if (den > 0) dRss += (num * num) / den;
+        n += cells;
+        used++;
+      }
+      const nu = n - 3 * used;
+      if (used === 0 || nu < 2) continue;
+      const rest = Math.max(rss - dRss, 1e-300);
+      stat[b] = dRss / (rest / nu);
+    }
+    let best = -1;
+    for (let b = 0; b < M; b++) if (stat[b] > 0 && (best < 0 || stat[b] > stat[best])) best = b;
+    if (best < 0) return -1;
+    const threshold = Math.max(60, rows + 5.5 * Math.sqrt(2 * rows) + 12);
+    if (!(stat[best] > threshold)) return -1;
+    // Neighbours two segments away, and the lesser of the two next to it: a break close to a segment
+    // boundary shows in both segments around that boundary, and is no less sharp for it.
+    const at = (q: number) => (q >= 0 && q < M ? stat[q] : 0);
+    // Over all harmonics jointly (row < 0), where frequency wander weighs most, both neighbours count.
+    const near = row < 0 ? Math.max(at(best - 1), at(best + 1)) : Math.min(at(best - 1), at(best + 1));
+    const side = Math.max(at(best - 2), at(best + 2), near);
+    const lo = best > 0 ? this.segPow[best - 1] : Infinity;
+    const hi = best + 1 < M ? this.segPow[best + 1] : Infinity;
+    const ref = Math.min(lo, hi);
+    const dipped = Number.isFinite(ref) && this.segPow[best] <= DIP * ref;
+    // Next to the window's edge the neighbours say little: the segment must also have lost power.
+    if (this.edge[best]) return stat[best] >= SHARPNESS * side && dipped ? best : -1;
+    if (stat[best] >= SHARPNESS * side) return best;
+    // Less sharp (frequency wander nearby): take it only when the segment also lost power, as a segment
+    // with a phase jump inside does (its two parts add out of phase) and a wandering tone does not.
+    return stat[best] >= 3 * side && dipped ? best : -1;
+  }
+
+  /** Weighted means of segment time and phase of harmonic slot `j`, per stretch, into stT/stY. */
+  private weightedMeans(j: number, M: number, nStretch: number): void {
+    const ms = this.maxSegments;
+    for (let r = 0; r < nStretch; r++) {
+      this.stW[r] = 0;
+      this.stT[r] = 0;
+      this.stY[r] = 0;
+    }
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      const idx = j * ms + m;
+      const ww = this.w[idx] * this.wr[idx];
+      this.stW[r] += ww;
+      this.stT[r] += ww * this.t[m];
+      this.stY[r] += ww * this.phase[idx];
+    }
+    for (let r = 0; r < nStretch; r++) {
+      if (this.stW[r] > 0) {
+        this.stT[r] /= this.stW[r];
+        this.stY[r] /= this.stW[r];
+      }
+    }
+  }
+
+  /**
+   * The Hann window's transform at offset `dHz`, about the window centre (unnormalised, real). Closed form:
+   * with c = (L−1)/2 the window is w[i] = ½ + ½·cos(2π(i−c)/L), so
+   * W(θ) = ½·D(θ) + ¼·D(θ + 2π/L) + ¼·D(θ − 2π/L), where D(x) = Σ cos(x(i−c)) = sin(Lx/2)/sin(x/2)
+   * is the Dirichlet kernel (F. J. Harris, "On the use of windows for harmonic analysis with the discrete
+   * Fourier transform", Proc. IEEE 66(1), 1978).
+   */
+  private windowLeak(dHz: number, L: number, fs: number): number {
+    const th = (TWO_PI * dHz) / fs;
+    const step = TWO_PI / L;
+    return 0.5 * dirichlet(th, L) + 0.25 * dirichlet(th + step, L) + 0.25 * dirichlet(th - step, L);
+  }
+
+  private readonly pair = new Float64Array(2);
+
+  /**
+   * Σ xw[i]·exp(−j2πν(s0+i)/fs) for i < L, phase referred to sample 0 of the window, by the Goertzel
+   * recurrence s[n] = x[n] + 2cos(ω)·s[n−1] − s[n−2] (G. Goertzel, "An algorithm for the evaluation of finite
+   * trigonometric series", Amer. Math. Monthly 65(1), 1958): one multiply and two adds per sample. Then
+   * Σ x[n]e^(−jωn) = e^(−jω(L−1))·(s[L−1] − e^(−jω)·s[L−2]).
+   */
+  private coefficient(xw: Float64Array, L: number, s0: number, nuHz: number, fs: number): void {
+    const w = (TWO_PI * nuHz) / fs;
+    const coeff = 2 * Math.cos(w);
+    let s1 = 0;
+    let s2 = 0;
+    for (let i = 0; i < L; i++) {
+      const s = xw[i] + coeff * s1 - s2;
+      s2 = s1;
+      s1 = s;
+    }
+    // y = s1 − e^(−jω)·s2
+    const yr = s1 - Math.cos(w) * s2;
+    const yi = Math.sin(w) * s2;
+    // Total phase factor e^(−jω(L−1 + s0)), with the cycle count reduced first for accuracy.
+    const cyc = (nuHz * (L - 1 + s0)) / fs;
+    const a0 = -TWO_PI * (cyc - Math.floor(cyc));
+    const pr = Math.cos(a0);
+    const pi = Math.sin(a0);
+    const accR = yr * pr - yi * pi;
+    const accI = yr * pi + yi * pr;
+    this.pair[0] = accR;
+    this.pair[1] = accI;
+  }
+}
