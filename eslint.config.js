@@ -80,15 +80,13 @@ export default tseslint.config(
   {
     // main/ and cli/ may use dsp/ but not the page; the page may use dsp/ and main/'s contract, not cli/.
     files: ['main/**/*.ts', 'cli/**/*.ts'],
-    // Known exception until the benchmark moves out of the shipped command line into a development tool:
-    // cli/bench.ts still imports its test signals from test/.
-    ignores: ['cli/bench*.ts'],
     rules: {
       'no-restricted-imports': [
         'error',
         {
           patterns: [
             { group: ['**/renderer/**'], message: 'main/ and cli/ may not import the renderer.' },
+            { group: ['**/tools/**'], message: 'development tools (tools/) are not part of what ships.' },
             { group: ['**/test/**'], message: 'production code may not import test/.' },
             {
               group: ['**/dsp/*/*', '!**/dsp/*/index.ts'],

@@ -30,10 +30,6 @@ export const COMMANDS: Readonly<Record<string, Command>> = {
     load: () => import('./simulate.ts'),
   },
   book: { summary: 'back up, restore or list the unit book', load: () => import('./book.ts') },
-  bench: {
-    summary: 'time the pitch engine and check its accuracy on test signals',
-    load: () => import('./bench.ts'),
-  },
 };
 
 /** The overview printed by `spanmeter --help`. */

@@ -14,7 +14,7 @@ import { cli, type Ran } from './cli-run.ts';
 
 // In-process runs of `bench` hit this stand-in, which fails the way a bug would; spawned runs (the real
 // command line, through the bundle) are not affected by vi.mock.
-vi.mock('../cli/bench.ts', () => ({
+vi.mock('../tools/bench/bench.ts', () => ({
   main: async () => {
     throw new Error('simulated bug\nwith a second line');
   },
@@ -253,7 +253,7 @@ describe('spanmeter (dispatcher)', () => {
     const r = cli('--help');
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/^usage: spanmeter <command> \[args\]/);
-    for (const c of ['analyze', 'simulate', 'bench']) expect(r.stdout).toMatch(new RegExp(`^  ${c} `, 'm'));
+    for (const c of ['analyze', 'simulate', 'book']) expect(r.stdout).toMatch(new RegExp(`^  ${c} `, 'm'));
   });
 
   it('no command prints the usage on stderr with exit code 2', () => {
@@ -267,7 +267,7 @@ describe('spanmeter (dispatcher)', () => {
     expectFailure(
       cli('frobnicate'),
       2,
-      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, book, bench/,
+      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, book$/,
     );
   });
 
@@ -278,12 +278,12 @@ describe('spanmeter (dispatcher)', () => {
     const before = process.env.SPANMETER_DEBUG;
     try {
       delete process.env.SPANMETER_DEBUG;
-      expect(await run(['bench'], io)).toBe(70);
+      expect(await run(['book'], io)).toBe(70);
       expect(out).toEqual([]);
       expect(err).toEqual(['spanmeter: internal error: simulated bug with a second line\n']);
       err.length = 0;
       process.env.SPANMETER_DEBUG = '1';
-      expect(await run(['bench'], io)).toBe(70);
+      expect(await run(['book'], io)).toBe(70);
       expect(err[0]).toBe('spanmeter: internal error: simulated bug with a second line\n');
       expect(err[1]).toMatch(/^Error: simulated bug\n/);
     } finally {

@@ -1,5 +1,5 @@
 /**
- * `spanmeter bench`: measures the pitch engine's accuracy and speed against its targets, and runs
+ * `npm run bench`: measures the pitch engine's accuracy and speed against its targets, and runs
  * pitchy's McLeod pitch method alone and pitchfinder's YIN on the same signals in the same run.
  *
  * Figures are measured, never assumed; the tables are meant to be pasted into an issue note as they are.
@@ -7,18 +7,18 @@
 
 import { PitchDetector } from 'pitchy';
 import { YIN } from 'pitchfinder';
-import { estimatePitch } from '../dsp/pitch/index.ts';
-import { PitchTracker } from '../dsp/pitch/index.ts';
-import { addDcStep, addHum, addNoise, centsError, tone, toFloat32, type Shape } from '../test/signals.ts';
+import { estimatePitch } from '../../dsp/pitch/index.ts';
+import { PitchTracker } from '../../dsp/pitch/index.ts';
+import { addDcStep, addHum, addNoise, centsError, tone, toFloat32, type Shape } from '../../test/signals.ts';
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
-import { encodeWav } from './simulate.ts';
-import { CliError } from './errors.ts';
-import { modelBenchCases } from './bench-model.ts';
-import { integrityCases } from './bench-integrity.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
+import { encodeWav } from '../../cli/simulate.ts';
+import { CliError } from '../../cli/errors.ts';
+import { modelBenchCases } from './model.ts';
+import { integrityCases } from './integrity.ts';
 
 const SHAPES: Shape[] = ['saw', 'square', 'pulse10', 'triangle', 'sine'];
 const RATES = [44100, 48000, 96000];
@@ -498,7 +498,7 @@ function recordingCase(runs: number): boolean {
   }
 }
 
-/** `spanmeter bench [--quick]`. Exit code 0 when every target is met, 1 otherwise. */
+/** `npm run bench -- [--quick]`. Exit code 0 when every target is met, 1 otherwise. */
 export async function main(args: string[]): Promise<number> {
   let quick = false;
   let only: Set<string> | null = null;
@@ -508,7 +508,7 @@ export async function main(args: string[]): Promise<number> {
     else if (a === '--only' && i + 1 < args.length) only = new Set(args[++i].split(','));
     else if (a === '--help' || a === '-h') {
       console.log(
-        'usage: spanmeter bench [--quick] [--only CASES]\n  --quick  a smaller grid and fewer trials, for a first look\n' +
+        'usage: npm run bench -- [--quick] [--only CASES]\n  --quick  a smaller grid and fewer trials, for a first look\n' +
           '  --only   comma list of: clean, noise, hum, crb, live, uncertainty, throughput, recording, wrong-volts, droop, loop, dropouts, wander, tails, lfo, long, user',
       );
       return 0;
@@ -567,7 +567,7 @@ export async function main(args: string[]): Promise<number> {
   if (want('throughput')) results.push(['throughput', throughputCase(quick ? 5 : 20)]);
   if (want('recording')) results.push(['recording', recordingCase(quick ? 3 : 7)]);
   results.push(...modelBenchCases(want, quick));
-  results.push(...(await import('./bench-long.ts')).benchLong(want, quick));
+  results.push(...(await import('./long.ts')).benchLong(want, quick));
   results.push(...integrityCases(quick, want));
   console.log('\n### Summary\n');
   for (const [name, ok] of results) console.log(`- ${name}: ${ok ? 'meets target' : 'MISSES target'}`);

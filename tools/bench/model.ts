@@ -1,5 +1,5 @@
 /**
- * Bench cases for the calibration model, the budget and the advice (`spanmeter bench --only
+ * Bench cases for the calibration model, the budget and the advice (`npm run bench -- --only
  * wrong-volts,droop,loop`): wrong voltages caught, HF droop kept out of the headline scale, and the advice
  * followed literally on simulated units until every step holds.
  *
@@ -8,15 +8,15 @@
  * matching uncertainty components (the engine's contract). The audio path's own accuracy is measured by the
  * engine cases above.
  */
-import { adviseFromModel, type ModelAdvice } from '../dsp/advice/index.ts';
+import { adviseFromModel, type ModelAdvice } from '../../dsp/advice/index.ts';
 import {
   METER_PRESETS,
   stepFitUncertaintyCents,
   type BudgetOptions,
   type BudgetStep,
-} from '../dsp/model/index.ts';
-import { fitCalibrationModel } from '../dsp/model/index.ts';
-import { bulkResistanceAlpha } from '../dsp/sim/index.ts';
+} from '../../dsp/model/index.ts';
+import { fitCalibrationModel } from '../../dsp/model/index.ts';
+import { bulkResistanceAlpha } from '../../dsp/sim/index.ts';
 
 const CENTS = 1200;
 

@@ -1,16 +1,16 @@
 /**
- * `spanmeter bench`: measurement-integrity cases. Dropouts, oscillator wander (flicker and white
+ * `npm run bench`: measurement-integrity cases. Dropouts, oscillator wander (flicker and white
  * frequency noise), thermal tails after each step, and sub-audio (LFO) tones. Each table prints the stated
  * standard uncertainty beside the error actually made, against the generating truth.
  */
 
-import { estimatePitch } from '../dsp/pitch/index.ts';
-import type { PitchReading } from '../dsp/pitch/index.ts';
-import { createRun, type RunState } from '../dsp/calibration/index.ts';
-import { createOscillatorStream, trueHz, withDropouts } from '../dsp/sim/index.ts';
-import { PitchTracker } from '../dsp/pitch/index.ts';
-import { feedReading } from '../renderer/src/engine/run-host.ts';
-import { addNoise, centsError, rng, tone, type Shape } from '../test/signals.ts';
+import { estimatePitch } from '../../dsp/pitch/index.ts';
+import type { PitchReading } from '../../dsp/pitch/index.ts';
+import { createRun, type RunState } from '../../dsp/calibration/index.ts';
+import { createOscillatorStream, trueHz, withDropouts } from '../../dsp/sim/index.ts';
+import { PitchTracker } from '../../dsp/pitch/index.ts';
+import { feedReading } from '../../renderer/src/engine/run-host.ts';
+import { addNoise, centsError, rng, tone, type Shape } from '../../test/signals.ts';
 
 function table(title: string, header: string[], rows: string[][]): void {
   const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i].length)));

@@ -1,5 +1,5 @@
 /**
- * Bench cases for recordings of any length (imported by `cli/bench.ts`):
+ * Bench cases for recordings of any length (imported by `tools/bench/bench.ts`):
  *
  * - `long`: one hour (ten minutes with `--quick`) of 48 kHz stereo 32-bit float, a held tone drifting
  *   slowly and a stepped run, analysed by the bundled command line as a child process under
@@ -13,9 +13,9 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
-import { SAW6, writeLongToneWav } from '../test/long-wav.ts';
-import { encodeWav } from './simulate.ts';
+import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
+import { SAW6, writeLongToneWav } from '../../test/long-wav.ts';
+import { encodeWav } from '../../cli/simulate.ts';
 
 interface Timed {
   readonly ms: number;
