@@ -93,6 +93,8 @@ export interface CalibrationSession {
   readonly level: number | null;
   /** DC only: the top level's re-reading is due at this time (ms since epoch), once every level is read. */
   readonly holdDueAtMs: number | null;
+  /** True when the calibration paused a run that was capturing (its levels move the oscillator). */
+  readonly pausedRun: boolean;
 }
 
 /** Hands-off state. */
@@ -217,16 +219,17 @@ export function useDrive(deps: DriveDeps): DriveApi {
     (text: string) => {
       const r = runRef.current;
       lastStepRef.current = -1;
-      if (r && ACTIVE.has(r.phase)) client.send({ type: 'run-event', event: { type: 'pause' } });
+      const active = r !== null && ACTIVE.has(r.phase);
+      if (active) client.send({ type: 'run-event', event: { type: 'pause' } });
       driveRef.current?.rest();
+      handsRef.current = { ...handsRef.current, active: false };
       setHandsOff((h) => ({ ...h, active: false }));
       setPairDriving(false);
       setSession(null);
       showVolts();
-      setMessage({
-        kind: 'error',
-        text: `${text}${r && ACTIVE.has(r.phase) ? ' The run is kept with its captured steps, paused.' : ''} The drive is back at 0 V.`,
-      });
+      // A run the fault paused, or one already paused (a calibration pauses it), is kept as it is.
+      const kept = active || r?.phase === 'paused' ? ' The run is kept with its captured steps, paused.' : '';
+      setMessage({ kind: 'error', text: `${text}${kept} The drive is back at 0 V.` });
     },
     [client, showVolts],
   );
@@ -237,6 +240,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
     void listOutputs().then(setDcOutputs);
   }, [settings.kind]);
 
+  // MIDI access is asked for once each time the MIDI drive is chosen (not again when a port is picked).
   useEffect(() => {
     if (settings.kind !== 'midi' || !stored.cautionAccepted) return;
     let cancelled = false;
@@ -244,21 +248,26 @@ export function useDrive(deps: DriveDeps): DriveApi {
       if (cancelled) return;
       if (!r.ok) {
         setMidiAccess(null);
+        setMidiPorts([]);
         fault(r.message);
         return;
       }
       setMidiAccess(r.access);
       const ports = midiOutputs(r.access);
       setMidiPorts(ports);
-      if (ports.length > 0 && !ports.some((p) => p.id === settings.midiPortId))
-        setSettings({ midiPortId: ports[0].id });
       if (ports.length === 0)
         setMessage({ kind: 'warn', text: 'No MIDI output found: connect the converter.' });
     });
     return () => {
       cancelled = true;
     };
-  }, [settings.kind, stored.cautionAccepted, fault, setSettings, settings.midiPortId]);
+  }, [settings.kind, stored.cautionAccepted, fault]);
+
+  // The port kept from last time is gone (or none was chosen): take the first one listed.
+  useEffect(() => {
+    if (settings.kind !== 'midi' || midiPorts.length === 0) return;
+    if (!midiPorts.some((p) => p.id === settings.midiPortId)) setSettings({ midiPortId: midiPorts[0].id });
+  }, [settings.kind, midiPorts, settings.midiPortId, setSettings]);
 
   // ---- The open drive ------------------------------------------------------------------------
   const midiPort = midiPorts.find((p) => p.id === settings.midiPortId) ?? null;
@@ -311,8 +320,13 @@ export function useDrive(deps: DriveDeps): DriveApi {
 
   // Settings read on every use (max, ramp, note map) reach the open drive without reopening it.
   useEffect(() => {
-    driveRef.current?.updateSettings(settings);
-  }, [settings, open]);
+    if (!driveRef.current?.updateSettings(settings)) return;
+    showVolts();
+    setMessage({
+      kind: 'warn',
+      text: `The maximum is now ${settings.maxVolts} V, below the voltage the drive held: it went back to 0 V.`,
+    });
+  }, [settings, open, showVolts]);
 
   useEffect(() => {
     driveRef.current?.setCalibration(calibration);
@@ -384,17 +398,29 @@ export function useDrive(deps: DriveDeps): DriveApi {
     [showVolts],
   );
 
+  /**
+   * The calibration's levels move the oscillator: a run that is capturing is paused first (its
+   * captures kept), so that no step is taken at a calibration level.
+   */
+  const pauseRunForCalibration = useCallback((): boolean => {
+    const r = runRef.current;
+    if (!r || !ACTIVE.has(r.phase)) return false;
+    client.send({ type: 'run-event', event: { type: 'pause' } });
+    return true;
+  }, [client]);
+
   const startCalibration = useCallback(() => {
     const d = driveRef.current;
     if (!d) {
       setMessage({ kind: 'error', text: 'Open the drive first.' });
       return;
     }
+    const pausedRun = pauseRunForCalibration();
     const targets = calibrationTargets(settings.maxVolts, settings.kind);
     const level = sendLevel(nextCalibrationLevel(targets, [], d.nominalGain) ?? 0);
-    setSession({ targetsVolts: targets, readings: [], level, holdDueAtMs: null });
+    setSession({ targetsVolts: targets, readings: [], level, holdDueAtMs: null, pausedRun });
     setMessage(null);
-  }, [settings.maxVolts, settings.kind, sendLevel]);
+  }, [settings.maxVolts, settings.kind, sendLevel, pauseRunForCalibration]);
 
   const cancelCalibration = useCallback(() => {
     setSession(null);
@@ -448,9 +474,17 @@ export function useDrive(deps: DriveDeps): DriveApi {
       if (s.level === null) {
         // The hold re-reading of the top level.
         const top = s.readings[s.readings.length - 1];
-        const seconds = s.holdDueAtMs
-          ? Math.max(HOLD_CHECK_MS, Date.now() - (s.holdDueAtMs - HOLD_CHECK_MS)) / 1000
-          : 10;
+        const now = Date.now();
+        if (s.holdDueAtMs !== null && now < s.holdDueAtMs) {
+          // Read too soon, a decaying (AC-coupled) output would not have fallen yet: not taken.
+          const wait = Math.ceil((s.holdDueAtMs - now) / 1000);
+          setMessage({
+            kind: 'warn',
+            text: `Too soon for the hold check: read the meter again in ${wait} s (the level must be held ${HOLD_CHECK_MS / 1000} s).`,
+          });
+          return;
+        }
+        const seconds = s.holdDueAtMs ? (now - (s.holdDueAtMs - HOLD_CHECK_MS)) / 1000 : HOLD_CHECK_MS / 1000;
         finishCalibration([...s.readings], {
           firstVolts: top.readingVolts,
           laterVolts: volts,
@@ -479,18 +513,32 @@ export function useDrive(deps: DriveDeps): DriveApi {
     if (!d || settings.kind !== 'sim') return;
     const targets = calibrationTargets(settings.maxVolts, 'sim');
     const readings: CalibrationReading[] = [];
+    const pausedRun = pauseRunForCalibration();
     setMessage(null);
     for (;;) {
       const level = nextCalibrationLevel(targets, readings, d.nominalGain);
       if (level === null) break;
       const sent = d.setLevel(level);
       showVolts();
-      setSession({ targetsVolts: targets, readings: [...readings], level: sent, holdDueAtMs: null });
+      setSession({
+        targetsVolts: targets,
+        readings: [...readings],
+        level: sent,
+        holdDueAtMs: null,
+        pausedRun,
+      });
       await new Promise((r) => setTimeout(r, Math.ceil(settings.rampSeconds * 1000) + 50));
       readings.push({ level: sent, readingVolts: simMeterReading(d.simTrueVolts ?? 0) });
     }
     finishCalibration(readings, undefined);
-  }, [settings.kind, settings.maxVolts, settings.rampSeconds, showVolts, finishCalibration]);
+  }, [
+    settings.kind,
+    settings.maxVolts,
+    settings.rampSeconds,
+    showVolts,
+    finishCalibration,
+    pauseRunForCalibration,
+  ]);
 
   // ---- Hands-off span run and trim loop ------------------------------------------------------
   const applyStep = useCallback(

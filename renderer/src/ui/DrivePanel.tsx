@@ -5,7 +5,7 @@
  * the hands-off controls of the Span run (one sweep or a trim loop, with its pass history), the Scale
  * pair and the Hold.
  */
-import { useState } from 'react';
+import { useEffect, useState } from 'react';
 import { MAX_DRIVE_VOLTS_CEILING, meterUncertainty, MIDDLE_C_NOTE } from '../../../dsp/drive/index.ts';
 import { midiToName } from '../../../dsp/notes.ts';
 import type { DriveApi } from '../drive/use-drive.ts';
@@ -70,6 +70,17 @@ function Calibration(props: { api: DriveApi }) {
   const cal = api.calibration;
   const sim = api.settings.kind === 'sim';
   const meter = sim ? null : api.settings.meter;
+  // The hold check's countdown: redrawn each second until the re-reading is due.
+  const [, setTick] = useState(0);
+  const holdDue = s?.level === null ? s.holdDueAtMs : null;
+  useEffect(() => {
+    if (holdDue === null) return;
+    const t = setInterval(() => {
+      setTick((n) => n + 1);
+      if (Date.now() >= holdDue) clearInterval(t);
+    }, 1000);
+    return () => clearInterval(t);
+  }, [holdDue]);
   if (!s)
     return (
       <div className="drive-cal">
@@ -112,7 +123,12 @@ function Calibration(props: { api: DriveApi }) {
   const holdWait =
     hold && s.holdDueAtMs !== null ? Math.max(0, Math.ceil((s.holdDueAtMs - Date.now()) / 1000)) : 0;
   return (
-    <div className="drive-cal" data-testid="drive-cal-session" data-reading-index={k}>
+    <div
+      className="drive-cal"
+      data-testid="drive-cal-session"
+      data-reading-index={k}
+      data-hold-due-at-ms={hold && s.holdDueAtMs !== null ? String(s.holdDueAtMs) : ''}
+    >
       <p>
         {hold
           ? `Hold check: leave the top level on and read the meter again${holdWait > 0 ? ` in about ${holdWait} s` : ' now'}. A level that falls means an AC-coupled output.`
@@ -145,6 +161,12 @@ function Calibration(props: { api: DriveApi }) {
           Cancel
         </button>
       </form>
+      {s.pausedRun && (
+        <p className="hint" data-testid="drive-cal-paused-run">
+          The run is paused while the drive is calibrated (its levels move the oscillator); its captured steps
+          are kept. Resume it when the calibration is done.
+        </p>
+      )}
       {k > 0 && (
         <p className="hint">Read so far: {s.readings.map((r) => `${r.readingVolts} V`).join(', ')}</p>
       )}
