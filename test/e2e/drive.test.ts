@@ -11,7 +11,7 @@
  * @tonaljs/tonal's Midi.toMidi as an independent note-number reference; cents after A. J. Ellis (1885).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
 import { build } from 'esbuild';
 import path from 'node:path';
 import { Midi } from '@tonaljs/tonal';
@@ -123,6 +123,19 @@ async function acceptCaution(page: Page): Promise<void> {
   await page.click('[data-testid="drive-caution-accept"]');
 }
 
+/** Picks an output in a drive picker once the page lists it (an <option> is never 'visible' to playwright). */
+async function chooseOutput(page: Page, testId: string, value: string): Promise<void> {
+  await page.waitForSelector(`[data-testid="${testId}"] option[value="${value}"]`, { state: 'attached' });
+  await page.selectOption(`[data-testid="${testId}"]`, value);
+}
+
+/** Waits for the drive to be open. */
+async function waitOpen(page: Page): Promise<void> {
+  await page.waitForFunction(
+    () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
+  );
+}
+
 async function typeReading(page: Page, volts: number): Promise<void> {
   await page.fill('[data-testid="drive-cal-reading"]', String(volts));
   await page.click('[data-testid="drive-cal-next"]');
@@ -147,13 +160,41 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await server?.stop();
   });
 
-  it('runs 0–7 V hands-off on the simulated bench: 8 steps, no input after Start, each within 0.05 cent of the truth at its calibrated voltage', async () => {
-    const page = await browser.newPage({ viewport: VIEWPORT });
+  /**
+   * The app on the simulated oscillator in a fresh context (the stubs given installed before the page
+   * loads), live; with `runRows` a run started by hand and that many steps captured; with `kind` that
+   * drive chosen and its caution accepted. Page errors are collected.
+   */
+  async function openApp(o: {
+    plan: readonly number[];
+    simDrive?: boolean;
+    initScript?: string;
+    runRows?: number;
+    kind?: 'midi' | 'dc';
+  }): Promise<{ ctx: BrowserContext; page: Page; errors: string[] }> {
+    const ctx = await browser.newContext({ viewport: VIEWPORT });
+    if (o.initScript) await ctx.addInitScript(o.initScript);
+    const page = await ctx.newPage();
     page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
-    await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=${PLAN8.join(',')}`);
+    await page.goto(
+      `${server.url}?input=sim${o.simDrive ? '&drive=sim' : ''}&unit=${UNIT}&plan=${o.plan.join(',')}`,
+    );
     await waitLive(page);
+    if (o.runRows !== undefined) {
+      await page.click('[data-testid="start-run"]');
+      await waitRows(page, o.runRows);
+    }
+    if (o.kind) {
+      await page.selectOption('[data-testid="drive-kind"]', o.kind);
+      await acceptCaution(page);
+    }
+    return { ctx, page, errors };
+  }
+
+  it('runs 0–7 V hands-off on the simulated bench: 8 steps, no input after Start, each within 0.05 cent of the truth at its calibrated voltage', async () => {
+    const { ctx, page, errors } = await openApp({ plan: PLAN8, simDrive: true });
     await simCalibrate(page);
     const t0 = Date.now();
     await page.click('[data-testid="start-hands-off"]');
@@ -230,16 +271,11 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(Math.abs(report[7].uncorrectedCents)).toBeGreaterThan(50);
     expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
     expect(errors).toEqual([]);
-    await page.close();
+    await ctx.close();
   }, 480_000);
 
   it('keeps a pass history through a trim loop of three passes', async () => {
-    const page = await browser.newPage({ viewport: VIEWPORT });
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    const errors: string[] = [];
-    page.on('pageerror', (e) => errors.push(e.message));
-    await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=0,1,2,3,4`);
-    await waitLive(page);
+    const { ctx, page, errors } = await openApp({ plan: [0, 1, 2, 3, 4], simDrive: true });
     await simCalibrate(page);
     await page.check('[data-testid="trim-loop"]');
     await page.fill('[data-testid="trim-loop-passes"]', '3');
@@ -268,7 +304,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(Math.max(...scales) - Math.min(...scales), `scales ${scales.join(', ')}`).toBeLessThan(0.1);
     expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
     expect(errors).toEqual([]);
-    await page.close();
+    await ctx.close();
   }, 600_000);
 
   it('renders the DC output in an OfflineAudioContext: calibrated levels per step, ramps of the set length, never above the maximum', async () => {
@@ -370,22 +406,14 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
   }, 240_000);
 
   it('sends the exact MIDI bytes: note-on 0x90 + channel per step, note-off on change and on stop, nothing after', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(midiStub(false));
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3`);
-    await waitLive(page);
-    await page.selectOption('[data-testid="drive-kind"]', 'midi');
-    await acceptCaution(page);
-    // An <option> is never 'visible' to playwright: wait for it to be in the list.
-    await page.waitForSelector('[data-testid="drive-midi-port"] option[value="stub-out-1"]', {
-      state: 'attached',
+    const { ctx, page, errors } = await openApp({
+      plan: [0, 1, 2, 3],
+      initScript: midiStub(false),
+      kind: 'midi',
     });
+    await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
     await page.fill('[data-testid="drive-midi-channel"]', '3');
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
-    );
+    await waitOpen(page);
     // A converter with 0 V on note 36, a gain of 1.002 and +3 mV offset: its readings at notes 36, 60, 96, 120.
     await page.click('[data-testid="drive-calibrate"]');
     for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
@@ -450,20 +478,17 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     );
     // The converter's calibrated voltage for each note: 1.002·nominal + 3 mV.
     rows.forEach((v, i) => expect(v).toBeCloseTo(1.002 * i + 0.003, 6));
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
   it('faults: MIDI access refused mid-run gives a clear message, keeps the run and leaves the drive at 0 V', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(midiStub(true));
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4`);
-    await waitLive(page);
-    await page.click('[data-testid="start-run"]');
-    await waitRows(page, 2);
-    await page.selectOption('[data-testid="drive-kind"]', 'midi');
-    await acceptCaution(page);
+    const { ctx, page, errors } = await openApp({
+      plan: [0, 1, 2, 3, 4],
+      initScript: midiStub(true),
+      runRows: 2,
+      kind: 'midi',
+    });
     await page.waitForSelector('[data-testid="drive-message"]');
     const text = await page.innerText('[data-testid="drive-message"]');
     console.log('e2e drive fault (MIDI refused):', text);
@@ -472,23 +497,18 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'run-prompt', 'data-phase')).toBe('paused');
     expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
     expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
   it('faults: readings that do not fit a line are refused, the run is kept and the converter goes back to its 0 V note', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(midiStub(false));
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4,5,6,7`);
-    await waitLive(page);
-    await page.click('[data-testid="start-run"]');
-    await waitRows(page, 2);
-    await page.selectOption('[data-testid="drive-kind"]', 'midi');
-    await acceptCaution(page);
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
-    );
+    const { ctx, page, errors } = await openApp({
+      plan: PLAN8,
+      initScript: midiStub(false),
+      runRows: 2,
+      kind: 'midi',
+    });
+    await waitOpen(page);
     await page.click('[data-testid="drive-calibrate"]');
     // The calibration's notes move the oscillator: the run is paused before the first one, its steps kept.
     await page.waitForSelector('[data-testid="drive-cal-paused-run"]');
@@ -509,25 +529,18 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       [0x90, 36, 100],
       [0x80, 36, 0],
     ]);
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
   it('faults: the DC output device disappearing mid-run pauses the run, keeps its steps and stops the drive', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(OUTPUT_STUB);
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4,5`);
-    await waitLive(page);
-    await page.selectOption('[data-testid="drive-kind"]', 'dc');
-    await acceptCaution(page);
-    await page.waitForSelector('[data-testid="drive-dc-device"] option[value="bench-dc-1"]', {
-      state: 'attached',
+    const { ctx, page, errors } = await openApp({
+      plan: [0, 1, 2, 3, 4, 5],
+      initScript: OUTPUT_STUB,
+      kind: 'dc',
     });
-    await page.selectOption('[data-testid="drive-dc-device"]', 'bench-dc-1');
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
-    );
+    await chooseOutput(page, 'drive-dc-device', 'bench-dc-1');
+    await waitOpen(page);
     // An output really giving 9.95 V at full scale and +2 mV: each reading follows the level sent.
     await page.click('[data-testid="drive-calibrate"]');
     let last = 0;
@@ -575,6 +588,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
     expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-fault-device-gone-1280x900.png') });
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
@@ -583,10 +597,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
   it.runIf(BENCH)(
     'bench: the same 8-step run driven by keypresses (typing each voltage), for the timing beside hands-off',
     async () => {
-      const page = await browser.newPage({ viewport: VIEWPORT });
-      page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-      await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=${PLAN8.join(',')}`);
-      await waitLive(page);
+      const { ctx, page } = await openApp({ plan: PLAN8, simDrive: true });
       await simCalibrate(page);
       const t0 = Date.now();
       await page.click('[data-testid="start-run"]');
@@ -600,7 +611,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       }
       benchLine('keypresses', Date.now() - t0, rowMs);
       expect(await rowCount(page)).toBe(PLAN8.length);
-      await page.close();
+      await ctx.close();
     },
     480_000,
   );

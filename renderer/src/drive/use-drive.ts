@@ -7,7 +7,7 @@
  * (`set-applied-volts`); settle detection, pitch checks, pause and redo stay the run's. On any fault
  * the run is paused (its captures kept) and the drive goes back to 0 V.
  */
-import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
+import { useCallback, useEffect, useRef, useState } from 'react';
 import {
   DEFAULT_MAX_DRIVE_VOLTS,
   DEFAULT_RAMP_SECONDS,
@@ -214,24 +214,57 @@ export function useDrive(deps: DriveDeps): DriveApi {
     setOutputLevel(driveRef.current?.level ?? 0);
   }, []);
 
+  /** The drive back to 0 V (along its ramp), and the panel told. */
+  const restDrive = useCallback(() => {
+    driveRef.current?.rest();
+    showVolts();
+  }, [showVolts]);
+
+  /**
+   * Pauses a run that is capturing (its captures kept); true when there was one. A calibration does
+   * this first, since its levels move the oscillator; so does a fault and the drive's Stop.
+   */
+  const pauseActiveRun = useCallback((): boolean => {
+    const r = runRef.current;
+    if (!r || !ACTIVE.has(r.phase)) return false;
+    client.send({ type: 'run-event', event: { type: 'pause' } });
+    return true;
+  }, [client]);
+
+  /** Sets the hands-off state now (the ref the run's messages read) and for the next render. */
+  const setHands = useCallback((next: HandsOffState) => {
+    handsRef.current = next;
+    setHandsOff(next);
+  }, []);
+
+  /**
+   * The one way a hands-off run ends (done, stopped, aborted or on a fault): no step is set any more
+   * and the drive goes back to 0 V. `patch` adds the last pass and the verdict.
+   */
+  const endHandsOff = useCallback(
+    (patch: Partial<HandsOffState> = {}) => {
+      lastStepRef.current = -1;
+      setHands({ ...handsRef.current, ...patch, active: false });
+      restDrive();
+    },
+    [setHands, restDrive],
+  );
+
   /** Any fault: the run paused and kept, the drive back to 0 V, hands-off stopped. */
   const fault = useCallback(
     (text: string) => {
-      const r = runRef.current;
-      lastStepRef.current = -1;
-      const active = r !== null && ACTIVE.has(r.phase);
-      if (active) client.send({ type: 'run-event', event: { type: 'pause' } });
-      driveRef.current?.rest();
-      handsRef.current = { ...handsRef.current, active: false };
-      setHandsOff((h) => ({ ...h, active: false }));
+      const active = pauseActiveRun();
+      endHandsOff();
       setPairDriving(false);
       setSession(null);
-      showVolts();
       // A run the fault paused, or one already paused (a calibration pauses it), is kept as it is.
-      const kept = active || r?.phase === 'paused' ? ' The run is kept with its captured steps, paused.' : '';
+      const kept =
+        active || runRef.current?.phase === 'paused'
+          ? ' The run is kept with its captured steps, paused.'
+          : '';
       setMessage({ kind: 'error', text: `${text}${kept} The drive is back at 0 V.` });
     },
-    [client, showVolts],
+    [pauseActiveRun, endHandsOff],
   );
 
   // ---- Devices -------------------------------------------------------------------------------
@@ -398,35 +431,23 @@ export function useDrive(deps: DriveDeps): DriveApi {
     [showVolts],
   );
 
-  /**
-   * The calibration's levels move the oscillator: a run that is capturing is paused first (its
-   * captures kept), so that no step is taken at a calibration level.
-   */
-  const pauseRunForCalibration = useCallback((): boolean => {
-    const r = runRef.current;
-    if (!r || !ACTIVE.has(r.phase)) return false;
-    client.send({ type: 'run-event', event: { type: 'pause' } });
-    return true;
-  }, [client]);
-
   const startCalibration = useCallback(() => {
     const d = driveRef.current;
     if (!d) {
       setMessage({ kind: 'error', text: 'Open the drive first.' });
       return;
     }
-    const pausedRun = pauseRunForCalibration();
+    const pausedRun = pauseActiveRun();
     const targets = calibrationTargets(settings.maxVolts, settings.kind);
     const level = sendLevel(nextCalibrationLevel(targets, [], d.nominalGain) ?? 0);
     setSession({ targetsVolts: targets, readings: [], level, holdDueAtMs: null, pausedRun });
     setMessage(null);
-  }, [settings.maxVolts, settings.kind, sendLevel, pauseRunForCalibration]);
+  }, [settings.maxVolts, settings.kind, sendLevel, pauseActiveRun]);
 
   const cancelCalibration = useCallback(() => {
     setSession(null);
-    driveRef.current?.rest();
-    showVolts();
-  }, [showVolts]);
+    restDrive();
+  }, [restDrive]);
 
   const finishCalibration = useCallback(
     (
@@ -435,8 +456,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
     ) => {
       const d = driveRef.current;
       setSession(null);
-      d?.rest();
-      showVolts();
+      restDrive();
       if (!d) return;
       const meter = settings.kind === 'sim' ? SIM_METER_SPEC : settings.meter;
       const r = fitDriveCalibration(readings, meter, { expectedGain: d.nominalGain, holdCheck: hold });
@@ -513,7 +533,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
     if (!d || settings.kind !== 'sim') return;
     const targets = calibrationTargets(settings.maxVolts, 'sim');
     const readings: CalibrationReading[] = [];
-    const pausedRun = pauseRunForCalibration();
+    const pausedRun = pauseActiveRun();
     setMessage(null);
     for (;;) {
       const level = nextCalibrationLevel(targets, readings, d.nominalGain);
@@ -531,14 +551,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       readings.push({ level: sent, readingVolts: simMeterReading(d.simTrueVolts ?? 0) });
     }
     finishCalibration(readings, undefined);
-  }, [
-    settings.kind,
-    settings.maxVolts,
-    settings.rampSeconds,
-    showVolts,
-    finishCalibration,
-    pauseRunForCalibration,
-  ]);
+  }, [settings.kind, settings.maxVolts, settings.rampSeconds, showVolts, finishCalibration, pauseActiveRun]);
 
   // ---- Hands-off span run and trim loop ------------------------------------------------------
   const applyStep = useCallback(
@@ -574,9 +587,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       const h = handsRef.current;
       if (!h.active) return;
       if (!state || state.phase === 'aborted') {
-        driveRef.current?.rest();
-        showVolts();
-        setHandsOff((x) => ({ ...x, active: false }));
+        endHandsOff();
         return;
       }
       if (state.phase === 'finished') {
@@ -586,9 +597,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
         const row = passFromAdvice(passNo, a.advice);
         const passes = [...h.passes, row];
         if (h.loopPasses === null) {
-          driveRef.current?.rest();
-          showVolts();
-          setHandsOff({ ...h, active: false, passes, verdict: 'Sweep done: the table is complete.' });
+          endHandsOff({ passes, verdict: 'Sweep done: the table is complete.' });
           return;
         }
         const v = trimLoopVerdict(passes, h.loopPasses);
@@ -598,14 +607,11 @@ export function useDrive(deps: DriveDeps): DriveApi {
             : v === 'out-of-passes'
               ? `Pass ${passNo} of ${h.loopPasses}: the loop is over; trim and start it again if the errors still move.`
               : `Pass ${passNo} done: trim now; pass ${passNo + 1} starts in a moment.`;
-        const next = { ...h, passes, verdict, active: v === 'again' };
-        handsRef.current = next;
-        setHandsOff(next);
         if (v !== 'again') {
-          driveRef.current?.rest();
-          showVolts();
+          endHandsOff({ passes, verdict });
           return;
         }
+        setHands({ ...h, passes, verdict });
         lastStepRef.current = -1;
         setTimeout(() => {
           if (!handsRef.current.active) return;
@@ -615,7 +621,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       }
       if (ACTIVE.has(state.phase) && state.current !== lastStepRef.current) applyStep(state);
     },
-    [applyStep, showVolts],
+    [applyStep, endHandsOff, setHands],
   );
 
   useEffect(
@@ -658,30 +664,21 @@ export function useDrive(deps: DriveDeps): DriveApi {
       const r = runRef.current;
       if (r && r.phase === 'paused') {
         // Go on with the run that a pause or a fault stopped: its captures stay, this step is set again.
-        const next: HandsOffState = { ...handsRef.current, active: true };
-        handsRef.current = next;
-        setHandsOff(next);
+        setHands({ ...handsRef.current, active: true });
         client.send({ type: 'run-event', event: { type: 'resume' } });
         return;
       }
       setApplied({});
-      const next: HandsOffState = { active: true, loopPasses, passes: [], verdict: null };
-      handsRef.current = next;
-      setHandsOff(next);
+      setHands({ active: true, loopPasses, passes: [], verdict: null });
       depsRef.current.startRun();
     },
-    [settings.maxVolts, client],
+    [settings.maxVolts, client, setHands],
   );
 
   const stopHandsOff = useCallback(() => {
-    const r = runRef.current;
-    handsRef.current = { ...handsRef.current, active: false };
-    setHandsOff((h) => ({ ...h, active: false }));
-    if (r && ACTIVE.has(r.phase)) client.send({ type: 'run-event', event: { type: 'pause' } });
-    lastStepRef.current = -1;
-    driveRef.current?.rest();
-    showVolts();
-  }, [client, showVolts]);
+    pauseActiveRun();
+    endHandsOff();
+  }, [pauseActiveRun, endHandsOff]);
 
   // ---- Scale pair: the drive alternates the two voltages ------------------------------------
   useEffect(() => {
@@ -745,57 +742,31 @@ export function useDrive(deps: DriveDeps): DriveApi {
 
   const acceptCaution = useCallback(() => setStored((s) => ({ ...s, cautionAccepted: true })), []);
 
-  return useMemo(
-    () => ({
-      settings,
-      setSettings,
-      cautionAccepted: stored.cautionAccepted,
-      acceptCaution,
-      simAvailable,
-      dcOutputs,
-      midiPorts: midiPorts.map((p) => ({ id: p.id, name: p.name ?? p.id })),
-      open,
-      outputVolts,
-      outputLevel,
-      calibration,
-      message,
-      session,
-      startCalibration,
-      enterReading,
-      cancelCalibration,
-      simMeterAnswer,
-      applied,
-      handsOff,
-      startHandsOff,
-      stopHandsOff,
-      pairDriving,
-      setPairDriving,
-      setLevelVolts,
-    }),
-    [
-      settings,
-      setSettings,
-      stored.cautionAccepted,
-      acceptCaution,
-      simAvailable,
-      dcOutputs,
-      midiPorts,
-      open,
-      outputVolts,
-      outputLevel,
-      calibration,
-      message,
-      session,
-      startCalibration,
-      enterReading,
-      cancelCalibration,
-      simMeterAnswer,
-      applied,
-      handsOff,
-      startHandsOff,
-      stopHandsOff,
-      pairDriving,
-      setLevelVolts,
-    ],
-  );
+  // A new object each render, like the panels that read it (none of them is memoised).
+  return {
+    settings,
+    setSettings,
+    cautionAccepted: stored.cautionAccepted,
+    acceptCaution,
+    simAvailable,
+    dcOutputs,
+    midiPorts: midiPorts.map((p) => ({ id: p.id, name: p.name ?? p.id })),
+    open,
+    outputVolts,
+    outputLevel,
+    calibration,
+    message,
+    session,
+    startCalibration,
+    enterReading,
+    cancelCalibration,
+    simMeterAnswer,
+    applied,
+    handsOff,
+    startHandsOff,
+    stopHandsOff,
+    pairDriving,
+    setPairDriving,
+    setLevelVolts,
+  };
 }

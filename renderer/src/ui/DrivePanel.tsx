@@ -10,6 +10,7 @@ import { MAX_DRIVE_VOLTS_CEILING, meterUncertainty, MIDDLE_C_NOTE } from '../../
 import { midiToName } from '../../../dsp/notes.ts';
 import type { DriveApi } from '../drive/use-drive.ts';
 import { parseNumberField, type NumberRule } from '../lib/fields.ts';
+import { DevicePicker } from './DevicePicker.tsx';
 import { NumberField } from './NumberField.tsx';
 import type { DriveKind } from '../drive/drive.ts';
 
@@ -276,23 +277,14 @@ export function DrivePanel(props: { api: DriveApi }) {
       {needsCaution && <DriveCaution onAccept={api.acceptCaution} />}
       {s.kind === 'dc' && !needsCaution && (
         <div className="row">
-          <label className="field grow">
-            <span>Output device</span>
-            <select
-              value={s.dcDeviceId}
-              onChange={(e) => api.setSettings({ dcDeviceId: e.target.value })}
-              data-testid="drive-dc-device"
-            >
-              <option value="default">System default output</option>
-              {api.dcOutputs
-                .filter((d) => d.deviceId !== 'default' && d.deviceId !== '')
-                .map((d) => (
-                  <option key={d.deviceId} value={d.deviceId}>
-                    {d.label}
-                  </option>
-                ))}
-            </select>
-          </label>
+          <DevicePicker
+            label="Output device"
+            value={s.dcDeviceId}
+            onChange={(id) => api.setSettings({ dcDeviceId: id })}
+            devices={api.dcOutputs.map((d) => ({ id: d.deviceId, label: d.label }))}
+            first={{ id: 'default', label: 'System default output' }}
+            testId="drive-dc-device"
+          />
           <SettingField
             label="Channel"
             value={s.dcChannel + 1}
@@ -312,21 +304,14 @@ export function DrivePanel(props: { api: DriveApi }) {
       {s.kind === 'midi' && !needsCaution && (
         <>
           <div className="row">
-            <label className="field grow">
-              <span>MIDI output</span>
-              <select
-                value={s.midiPortId}
-                onChange={(e) => api.setSettings({ midiPortId: e.target.value })}
-                data-testid="drive-midi-port"
-              >
-                {api.midiPorts.length === 0 && <option value="">No MIDI output found</option>}
-                {api.midiPorts.map((p) => (
-                  <option key={p.id} value={p.id}>
-                    {p.name}
-                  </option>
-                ))}
-              </select>
-            </label>
+            <DevicePicker
+              label="MIDI output"
+              value={s.midiPortId}
+              onChange={(id) => api.setSettings({ midiPortId: id })}
+              devices={api.midiPorts.map((p) => ({ id: p.id, label: p.name }))}
+              first={api.midiPorts.length === 0 ? { id: '', label: 'No MIDI output found' } : null}
+              testId="drive-midi-port"
+            />
             <SettingField
               label="Channel"
               value={s.midiChannel}
