@@ -73,8 +73,7 @@ async function waitLive(page: Page): Promise<void> {
   );
 }
 
-async function simCalibrate(page: Page): Promise<void> {
-  await page.click('[data-testid="drive-sim-calibrate"]');
+async function waitCalibrated(page: Page): Promise<void> {
   await page.waitForFunction(
     () =>
       document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') === 'yes',
@@ -83,14 +82,21 @@ async function simCalibrate(page: Page): Promise<void> {
   );
 }
 
+async function simCalibrate(page: Page): Promise<void> {
+  await page.click('[data-testid="drive-sim-calibrate"]');
+  await waitCalibrated(page);
+}
+
 /** Replaces `navigator.requestMIDIAccess` with a stub whose one output records every message sent. */
 function midiStub(deny: boolean): string {
   return `
-    window.__midiSent = [];
+    // Kept in sessionStorage as well, so that what a closing page sent can be read after a reload.
+    const keep = () => { try { sessionStorage.setItem('__midiSent', JSON.stringify(window.__midiSent)); } catch {} };
+    window.__midiSent = (() => { try { return JSON.parse(sessionStorage.getItem('__midiSent') || '[]'); } catch { return []; } })();
     window.__midiOptions = [];
     const port = {
       id: 'stub-out-1', name: 'Bench MIDI-CV (stub)', state: 'connected', connection: 'open', type: 'output',
-      send(data) { window.__midiSent.push(Array.from(data)); },
+      send(data) { window.__midiSent.push(Array.from(data)); keep(); },
     };
     const access = { inputs: new Map(), outputs: new Map([[port.id, port]]), sysexEnabled: false, onstatechange: null };
     Object.defineProperty(Navigator.prototype, 'requestMIDIAccess', {
@@ -229,13 +235,18 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
         applied: Number(e.getAttribute('data-applied-volts')),
         u: Number(e.getAttribute('data-applied-uncertainty-volts')),
         trueVolts: Number(e.getAttribute('data-true-volts')),
+        level: Number(e.getAttribute('data-level')),
       })),
     );
     const options = simOptions(simSettingsForUnit(UNIT));
     const report = rows.map((r) => {
       const l = log.find((x) => x.step === r.step);
       if (!l) throw new Error(`step ${r.step} has no applied voltage in the drive's log`);
-      const truth = trueHz(l.trueVolts, options);
+      // The jack's voltage worked out here from the simulated output's model (level sent × its true
+      // volts at full scale + its true offset), not taken from the app's own figure.
+      const jackVolts = SIM_DRIVE_MODEL.trueVoltsPerFullScale * l.level + SIM_DRIVE_MODEL.trueOffsetVolts;
+      expect(Math.abs(jackVolts - l.trueVolts), `step ${r.step}: jack ${jackVolts} V`).toBeLessThan(1e-9);
+      const truth = trueHz(jackVolts, options);
       return {
         volts: r.volts,
         applied: Number(r.applied),
@@ -417,11 +428,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     // A converter with 0 V on note 36, a gain of 1.002 and +3 mV offset: its readings at notes 36, 60, 96, 120.
     await page.click('[data-testid="drive-calibrate"]');
     for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
-    await page.waitForFunction(
-      () =>
-        document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') ===
-        'yes',
-    );
+    await waitCalibrated(page);
     const afterCal = (await midiSent(page)).length;
     await page.click('[data-testid="start-hands-off"]');
     await waitRows(page, 4);
@@ -478,6 +485,34 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     );
     // The converter's calibrated voltage for each note: 1.002·nominal + 3 mV.
     rows.forEach((v, i) => expect(v).toBeCloseTo(1.002 * i + 0.003, 6));
+    expect(errors).toEqual([]);
+    await ctx.close();
+  }, 400_000);
+
+  it('closing the window mid-run sends the converter back to its 0 V note and releases it', async () => {
+    const { ctx, page, errors } = await openApp({ plan: PLAN8, initScript: midiStub(false), kind: 'midi' });
+    await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
+    await waitOpen(page);
+    await page.click('[data-testid="drive-calibrate"]');
+    for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
+    await waitCalibrated(page);
+    await page.click('[data-testid="start-hands-off"]');
+    await waitRows(page, 2);
+    // The page goes away (pagehide, as when the window closes), then the stub's record is read back.
+    await page.reload();
+    const sent: number[][] = await page.evaluate(() =>
+      JSON.parse(sessionStorage.getItem('__midiSent') ?? '[]'),
+    );
+    console.log('e2e drive MIDI bytes, window closed mid-run:', JSON.stringify(sent.slice(-5)));
+    const lastOn = sent.slice(0, -3).findLast((m) => m[0] === 0x90);
+    if (!lastOn) throw new Error(`no note-on before the close: ${JSON.stringify(sent)}`);
+    // MIDI 1.0, channel 1: the step's note off (0x80), the 0 V note (36) on (0x90) and off; nothing after.
+    expect(lastOn[1]).toBeGreaterThan(36);
+    expect(sent.slice(-3)).toEqual([
+      [0x80, lastOn[1], 0],
+      [0x90, 36, 100],
+      [0x80, 36, 0],
+    ]);
     expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
@@ -563,11 +598,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       return due !== null && due !== undefined && due !== '' && Date.now() >= Number(due);
     });
     await typeReading(page, last);
-    await page.waitForFunction(
-      () =>
-        document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') ===
-        'yes',
-    );
+    await waitCalibrated(page);
     expect(await page.evaluate(() => (window as unknown as { __sinkIds: string[] }).__sinkIds)).toContain(
       'bench-dc-1',
     );

@@ -560,6 +560,7 @@ export function HandsOffPanel(props: { api: DriveApi; tab: string }) {
                 data-applied-volts={String(a.volts)}
                 data-applied-uncertainty-volts={String(a.uncertaintyVolts)}
                 data-true-volts={a.trueVolts === null ? '' : String(a.trueVolts)}
+                data-level={String(a.level)}
                 data-note={a.note === null ? '' : String(a.note)}
               >
                 Step {a.step + 1}: {fmtV(a.volts)} ± {(a.uncertaintyVolts * 1000).toFixed(2)} mV
