@@ -147,6 +147,18 @@ async function typeReading(page: Page, volts: number): Promise<void> {
   await page.click('[data-testid="drive-cal-next"]');
 }
 
+/**
+ * The drive going back to 0 V on MIDI channel 1 with 0 V on note 36 (MIDI 1.0: Note Off 0x80, Note On
+ * 0x90): the held note released, the 0 V note played and released, so the last message is a note-off.
+ */
+function backToRest(heldNote: number): number[][] {
+  return [
+    [0x80, heldNote, 0],
+    [0x90, 36, 100],
+    [0x80, 36, 0],
+  ];
+}
+
 async function midiSent(page: Page): Promise<number[][]> {
   return page.evaluate(() => (window as unknown as { __midiSent: number[][] }).__midiSent);
 }
@@ -508,11 +520,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     if (!lastOn) throw new Error(`no note-on before the close: ${JSON.stringify(sent)}`);
     // MIDI 1.0, channel 1: the step's note off (0x80), the 0 V note (36) on (0x90) and off; nothing after.
     expect(lastOn[1]).toBeGreaterThan(36);
-    expect(sent.slice(-3)).toEqual([
-      [0x80, lastOn[1], 0],
-      [0x90, 36, 100],
-      [0x80, 36, 0],
-    ]);
+    expect(sent.slice(-3)).toEqual(backToRest(lastOn[1]));
     expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
@@ -559,11 +567,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
     expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
     const sent = await midiSent(page);
-    expect(sent.slice(-3)).toEqual([
-      [0x80, 120, 0],
-      [0x90, 36, 100],
-      [0x80, 36, 0],
-    ]);
+    expect(sent.slice(-3)).toEqual(backToRest(120));
     expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
