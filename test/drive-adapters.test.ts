@@ -2,7 +2,7 @@
  * The drive behind its one interface (renderer/src/drive/drive.ts), on a recording MIDI port and the
  * simulated bench, in Node: the user's maximum holds for a converter's rounded notes and bends, a
  * maximum lowered below the held level sends the drive to 0 V, and only the simulated drive moves the
- * simulator.
+ * simulator; and a voltage typed while the run moves on from a captured step goes to the next step.
  *
  * References: MIDI 1.0 Detailed Specification (Note On 0x9n, Note Off 0x8n, n = channel − 1; pitch bend
  * 0xEn, 14 bits, centre 8192) and @tonaljs/tonal's Midi.toMidi for note numbers (middle C = C4 = 60).
@@ -12,6 +12,8 @@ import { Midi } from '@tonaljs/tonal';
 import { BENCH_METER_4_5_DIGIT, fitDriveCalibration, type DriveCalibration } from '../dsp/drive/index.ts';
 import { Drive, type DriveSettings } from '../renderer/src/drive/drive.ts';
 import type { MidiPortLike } from '../renderer/src/drive/midi-output.ts';
+import { stepForSetVolts } from '../renderer/src/drive/use-drive.ts';
+import { createRun, type RunState } from '../dsp/run.ts';
 
 // Demo scenario (invented): the Ostlund Lane workshop's MIDI-to-CV converter on channel 3, 0 V on C2.
 const SETTINGS: DriveSettings = {
@@ -129,5 +131,28 @@ describe('only the simulated drive moves the simulator', () => {
     expect(r.drive.level).toBe(0);
     // The simulated output's own offset (+7.5 mV, dsp/drive/sim.ts) is what the jack carries at rest.
     expect(sim).toEqual([0.0075]);
+  });
+});
+
+describe('a voltage typed while the run moves on belongs to the step to come', () => {
+  // The run's phases (dsp/run.ts): `captured` means the step is done and the run moves on by itself.
+  const run = createRun({ id: 'custom', label: 'Custom', volts: [0, 1, 2] });
+  const at = (phase: RunState['phase'], current: number, captured: number[]): RunState => ({
+    ...run,
+    phase,
+    current,
+    steps: run.steps.map((st, i) => ({ ...st, status: captured.includes(i) ? 'captured' : 'pending' })),
+  });
+
+  it.each([
+    ['apply-voltage', 1, [0], 1],
+    ['settling', 1, [0], 1],
+    ['captured', 0, [0], 1],
+    ['captured', 1, [0, 1], 2],
+    ['captured', 2, [0, 1, 2], null],
+    ['paused', 1, [0], null],
+    ['finished', 2, [0, 1, 2], null],
+  ] as const)('%s on step %i (captured %j): step %s', (phase, current, captured, want) => {
+    expect(stepForSetVolts(at(phase, current, [...captured]))).toBe(want);
   });
 });

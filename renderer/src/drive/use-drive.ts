@@ -2,10 +2,11 @@
  * The drive's state for the app: settings and per-device calibrations (kept in localStorage), the
  * open drive, the guided calibration, and the hands-off runs (span run, trim loop, scale pair, hold).
  *
- * The hands-off span run follows the run's own state machine (dsp/run.ts): whenever the run moves to
- * a new step the drive ramps to that step's voltage and the step is told the calibrated voltage it got
- * (`set-applied-volts`); settle detection, pitch checks, pause and redo stay the run's. On any fault
- * the run is paused (its captures kept) and the drive goes back to 0 V.
+ * The hands-off span run follows the run's own state machine (dsp/run.ts): as soon as a step is
+ * captured (or the run moves to a step by redo or back) the drive ramps to the step to come and that
+ * step is told the calibrated voltage it got (`set-applied-volts`); settle detection, pitch checks,
+ * pause and redo stay the run's. On any fault the run is paused (its captures kept) and the drive
+ * goes back to 0 V.
  */
 import { useCallback, useEffect, useRef, useState } from 'react';
 import {
@@ -153,6 +154,18 @@ const ACTIVE = new Set(['apply-voltage', 'settling', 'confirm-pitch', 'capturing
 const LOOP_GAP_MS = 1500;
 /** DC hold check: the top level is read again after this long, ms. */
 const HOLD_CHECK_MS = 10_000;
+
+/**
+ * The step a voltage set by hand belongs to: the current one while it waits, settles or is captured;
+ * once it is captured and the run is moving on by itself, the next pending one (a voltage typed then
+ * is for the step to come, never for the step just taken). Null when no run is capturing.
+ */
+export function stepForSetVolts(state: RunState): number | null {
+  if (!ACTIVE.has(state.phase)) return null;
+  if (state.phase !== 'captured') return state.current;
+  const next = state.steps.findIndex((st, i) => i > state.current && st.status === 'pending');
+  return next >= 0 ? next : null;
+}
 
 function calibrationTargets(maxVolts: number, kind: DriveKind): number[] {
   const top = Math.max(1, Math.min(7, Math.floor(0.9 * maxVolts)));
@@ -554,11 +567,27 @@ export function useDrive(deps: DriveDeps): DriveApi {
   }, [settings.kind, settings.maxVolts, settings.rampSeconds, showVolts, finishCalibration, pauseActiveRun]);
 
   // ---- Hands-off span run and trim loop ------------------------------------------------------
+  /** Tells the run which calibrated voltage a step got (it takes it in place of the nominal one). */
+  const tellRun = useCallback(
+    (stepIndex: number, a: Applied) => {
+      client.send({
+        type: 'run-event',
+        event: {
+          type: 'set-applied-volts',
+          stepIndex,
+          volts: a.volts,
+          uncertaintyVolts: a.uncertaintyVolts,
+        },
+      });
+      setApplied((x) => ({ ...x, [stepIndex]: a }));
+    },
+    [client],
+  );
+
   const applyStep = useCallback(
-    (state: RunState) => {
+    (state: RunState, i: number) => {
       const d = driveRef.current;
       if (!d) return;
-      const i = state.current;
       const r = d.apply(state.steps[i].nominalVolts);
       showVolts();
       if (!r.ok) {
@@ -566,18 +595,9 @@ export function useDrive(deps: DriveDeps): DriveApi {
         return;
       }
       lastStepRef.current = i;
-      client.send({
-        type: 'run-event',
-        event: {
-          type: 'set-applied-volts',
-          stepIndex: i,
-          volts: r.applied.volts,
-          uncertaintyVolts: r.applied.uncertaintyVolts,
-        },
-      });
-      setApplied((a) => ({ ...a, [i]: r.applied }));
+      tellRun(i, r.applied);
     },
-    [client, fault, showVolts],
+    [fault, showVolts, tellRun],
   );
 
   const onRun = useCallback(
@@ -619,7 +639,10 @@ export function useDrive(deps: DriveDeps): DriveApi {
         }, LOOP_GAP_MS);
         return;
       }
-      if (ACTIVE.has(state.phase) && state.current !== lastStepRef.current) applyStep(state);
+      // Each step is set as soon as the one before it is captured (while the run holds its capture),
+      // as a technician would turn the reference on; a step redone or gone back to is set again.
+      const step = stepForSetVolts(state);
+      if (step !== null && step !== lastStepRef.current) applyStep(state, step);
     },
     [applyStep, endHandsOff, setHands],
   );
@@ -725,19 +748,10 @@ export function useDrive(deps: DriveDeps): DriveApi {
       if (!r.ok) setMessage({ kind: 'error', text: r.message });
       else setMessage(null);
       const st = runRef.current;
-      if (r.ok && st && ACTIVE.has(st.phase))
-        client.send({
-          type: 'run-event',
-          event: {
-            type: 'set-applied-volts',
-            stepIndex: st.current,
-            volts: r.applied.volts,
-            uncertaintyVolts: r.applied.uncertaintyVolts,
-          },
-        });
-      if (r.ok && st) setApplied((a) => ({ ...a, [st.current]: r.applied }));
+      const step = st ? stepForSetVolts(st) : null;
+      if (r.ok && step !== null) tellRun(step, r.applied);
     },
-    [client, showVolts],
+    [showVolts, tellRun],
   );
 
   const acceptCaution = useCallback(() => setStored((s) => ({ ...s, cautionAccepted: true })), []);
