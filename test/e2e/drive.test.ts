@@ -11,7 +11,7 @@
  * @tonaljs/tonal's Midi.toMidi as an independent note-number reference; cents after A. J. Ellis (1885).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
 import { build } from 'esbuild';
 import path from 'node:path';
 import { Midi } from '@tonaljs/tonal';
@@ -36,6 +36,17 @@ const PLAN8 = [0, 1, 2, 3, 4, 5, 6, 7];
 const TOLERANCE_CENTS = 0.05;
 
 const enabled = chromiumAvailable();
+
+/** Set by `npm run bench:drive`: also run the keypress-driven run, for the timing beside hands-off. */
+const BENCH = process.env.SPANMETER_DRIVE_BENCH === '1';
+
+/** Prints one line of the benchmark: Start to the finished 8-step table, and to each row. */
+function benchLine(how: string, totalMs: number, rowMs: readonly number[]): void {
+  const rows = rowMs.map((ms) => (ms / 1000).toFixed(1)).join(' ');
+  console.log(
+    `e2e drive bench: ${how}, 0–7 V, Start to 8-step table: ${(totalMs / 1000).toFixed(1)} s (rows at ${rows} s)`,
+  );
+}
 
 /** Actions wait long on a loaded machine: nothing here is timed, only counted. */
 const ACTION_TIMEOUT_MS = 120_000;
@@ -62,8 +73,7 @@ async function waitLive(page: Page): Promise<void> {
   );
 }
 
-async function simCalibrate(page: Page): Promise<void> {
-  await page.click('[data-testid="drive-sim-calibrate"]');
+async function waitCalibrated(page: Page): Promise<void> {
   await page.waitForFunction(
     () =>
       document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') === 'yes',
@@ -72,14 +82,21 @@ async function simCalibrate(page: Page): Promise<void> {
   );
 }
 
+async function simCalibrate(page: Page): Promise<void> {
+  await page.click('[data-testid="drive-sim-calibrate"]');
+  await waitCalibrated(page);
+}
+
 /** Replaces `navigator.requestMIDIAccess` with a stub whose one output records every message sent. */
 function midiStub(deny: boolean): string {
   return `
-    window.__midiSent = [];
+    // Kept in sessionStorage as well, so that what a closing page sent can be read after a reload.
+    const keep = () => { try { sessionStorage.setItem('__midiSent', JSON.stringify(window.__midiSent)); } catch {} };
+    window.__midiSent = (() => { try { return JSON.parse(sessionStorage.getItem('__midiSent') || '[]'); } catch { return []; } })();
     window.__midiOptions = [];
     const port = {
       id: 'stub-out-1', name: 'Bench MIDI-CV (stub)', state: 'connected', connection: 'open', type: 'output',
-      send(data) { window.__midiSent.push(Array.from(data)); },
+      send(data) { window.__midiSent.push(Array.from(data)); keep(); },
     };
     const access = { inputs: new Map(), outputs: new Map([[port.id, port]]), sysexEnabled: false, onstatechange: null };
     Object.defineProperty(Navigator.prototype, 'requestMIDIAccess', {
@@ -112,19 +129,41 @@ async function acceptCaution(page: Page): Promise<void> {
   await page.click('[data-testid="drive-caution-accept"]');
 }
 
+/** Picks an output in a drive picker once the page lists it (an <option> is never 'visible' to playwright). */
+async function chooseOutput(page: Page, testId: string, value: string): Promise<void> {
+  await page.waitForSelector(`[data-testid="${testId}"] option[value="${value}"]`, { state: 'attached' });
+  await page.selectOption(`[data-testid="${testId}"]`, value);
+}
+
+/** Waits for the drive to be open. */
+async function waitOpen(page: Page): Promise<void> {
+  await page.waitForFunction(
+    () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
+  );
+}
+
 async function typeReading(page: Page, volts: number): Promise<void> {
   await page.fill('[data-testid="drive-cal-reading"]', String(volts));
   await page.click('[data-testid="drive-cal-next"]');
+}
+
+/**
+ * The drive going back to 0 V on MIDI channel 1 with 0 V on note 36 (MIDI 1.0: Note Off 0x80, Note On
+ * 0x90): the held note released, the 0 V note played and released, so the last message is a note-off.
+ */
+function backToRest(heldNote: number): number[][] {
+  return [
+    [0x80, heldNote, 0],
+    [0x90, 36, 100],
+    [0x80, 36, 0],
+  ];
 }
 
 async function midiSent(page: Page): Promise<number[][]> {
   return page.evaluate(() => (window as unknown as { __midiSent: number[][] }).__midiSent);
 }
 
-// Only the offline rendering of the DC output is in the CI lanes so far. The hands-off run, the trim loop,
-// the MIDI bytes, the three faults and the keypress timing are written but have not yet been seen to pass
-// in Chromium here (they timed out on a machine loaded by parallel work, and the MIDI test waits for a
-// device option that does not appear); they are skipped, not deleted, until they are made to pass.
+// Every wait counts events (rows, attributes, messages) with generous timeouts; nothing asserts on time.
 describe.skipIf(!enabled)('drive in Chromium', () => {
   let server: WebServer;
   let browser: Browser;
@@ -139,19 +178,54 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await server?.stop();
   });
 
-  it.skip('runs 0–7 V hands-off on the simulated bench: 8 steps, no input after Start, each within 0.05 cent of the truth at its calibrated voltage', async () => {
-    const page = await browser.newPage({ viewport: VIEWPORT });
+  /**
+   * The app on the simulated oscillator in a fresh context (the stubs given installed before the page
+   * loads), live; with `runRows` a run started by hand and that many steps captured; with `kind` that
+   * drive chosen and its caution accepted. Page errors are collected.
+   */
+  async function openApp(o: {
+    plan: readonly number[];
+    simDrive?: boolean;
+    initScript?: string;
+    runRows?: number;
+    kind?: 'midi' | 'dc';
+  }): Promise<{ ctx: BrowserContext; page: Page; errors: string[] }> {
+    const ctx = await browser.newContext({ viewport: VIEWPORT });
+    if (o.initScript) await ctx.addInitScript(o.initScript);
+    const page = await ctx.newPage();
     page.setDefaultTimeout(ACTION_TIMEOUT_MS);
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
-    await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=${PLAN8.join(',')}`);
+    await page.goto(
+      `${server.url}?input=sim${o.simDrive ? '&drive=sim' : ''}&unit=${UNIT}&plan=${o.plan.join(',')}`,
+    );
     await waitLive(page);
+    if (o.runRows !== undefined) {
+      await page.click('[data-testid="start-run"]');
+      await waitRows(page, o.runRows);
+    }
+    if (o.kind) {
+      await page.selectOption('[data-testid="drive-kind"]', o.kind);
+      await acceptCaution(page);
+    }
+    return { ctx, page, errors };
+  }
+
+  it('runs 0–7 V hands-off on the simulated bench: 8 steps, no input after Start, each within 0.05 cent of the truth at its calibrated voltage', async () => {
+    const { ctx, page, errors } = await openApp({ plan: PLAN8, simDrive: true });
     await simCalibrate(page);
     const t0 = Date.now();
     await page.click('[data-testid="start-hands-off"]');
-    // No input from here on: only waiting.
-    await waitRows(page, PLAN8.length);
+    // No input from here on: only waiting (and looking: a screenshot mid-run).
+    const rowMs: number[] = [];
+    for (let k = 1; k <= PLAN8.length; k++) {
+      await waitRows(page, k);
+      rowMs.push(Date.now() - t0);
+      if (k === 4)
+        await page.screenshot({ path: path.join(ARTIFACTS, 'drive-hands-off-mid-run-1280x900.png') });
+    }
     const handsOffMs = Date.now() - t0;
+    benchLine('hands-off', handsOffMs, rowMs);
     await page.waitForFunction(
       () => document.querySelector('[data-testid="run-prompt"]')?.getAttribute('data-phase') === 'finished',
       undefined,
@@ -173,13 +247,18 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
         applied: Number(e.getAttribute('data-applied-volts')),
         u: Number(e.getAttribute('data-applied-uncertainty-volts')),
         trueVolts: Number(e.getAttribute('data-true-volts')),
+        level: Number(e.getAttribute('data-level')),
       })),
     );
     const options = simOptions(simSettingsForUnit(UNIT));
     const report = rows.map((r) => {
       const l = log.find((x) => x.step === r.step);
       if (!l) throw new Error(`step ${r.step} has no applied voltage in the drive's log`);
-      const truth = trueHz(l.trueVolts, options);
+      // The jack's voltage worked out here from the simulated output's model (level sent × its true
+      // volts at full scale + its true offset), not taken from the app's own figure.
+      const jackVolts = SIM_DRIVE_MODEL.trueVoltsPerFullScale * l.level + SIM_DRIVE_MODEL.trueOffsetVolts;
+      expect(Math.abs(jackVolts - l.trueVolts), `step ${r.step}: jack ${jackVolts} V`).toBeLessThan(1e-9);
+      const truth = trueHz(jackVolts, options);
       return {
         volts: r.volts,
         applied: Number(r.applied),
@@ -197,7 +276,6 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       };
     });
     console.log('e2e drive hands-off:', JSON.stringify(report));
-    console.log(`e2e drive: hands-off 0–7 V, Start to 8-step table: ${(handsOffMs / 1000).toFixed(1)} s`);
     expect(rows.map((r) => r.volts)).toEqual(PLAN8);
     for (const r of report) {
       expect(Math.abs(r.offCents), `${r.volts} V: ${r.hz} Hz vs ${r.truthHz} Hz`).toBeLessThan(
@@ -216,16 +294,11 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(Math.abs(report[7].uncorrectedCents)).toBeGreaterThan(50);
     expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
     expect(errors).toEqual([]);
-    await page.close();
+    await ctx.close();
   }, 480_000);
 
-  it.skip('keeps a pass history through a trim loop of three passes', async () => {
-    const page = await browser.newPage({ viewport: VIEWPORT });
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    const errors: string[] = [];
-    page.on('pageerror', (e) => errors.push(e.message));
-    await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=0,1,2,3,4`);
-    await waitLive(page);
+  it('keeps a pass history through a trim loop of three passes', async () => {
+    const { ctx, page, errors } = await openApp({ plan: [0, 1, 2, 3, 4], simDrive: true });
     await simCalibrate(page);
     await page.check('[data-testid="trim-loop"]');
     await page.fill('[data-testid="trim-loop-passes"]', '3');
@@ -248,9 +321,13 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(passes.map((p) => p.pass)).toEqual([1, 2, 3]);
     // The demo unit's scale error is 4.2 ¢/oct (sim-settings), untouched between passes here.
     for (const p of passes) expect(Math.abs(p.scale - 4.2), `pass ${p.pass}: ${p.scale}`).toBeLessThan(1);
+    // With no trim between passes, the passes repeat one another (common practice, no source: a sweep's
+    // scale figure is repeatable to a small fraction of a cent per octave on a steady oscillator).
+    const scales = passes.map((p) => p.scale);
+    expect(Math.max(...scales) - Math.min(...scales), `scales ${scales.join(', ')}`).toBeLessThan(0.1);
     expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
     expect(errors).toEqual([]);
-    await page.close();
+    await ctx.close();
   }, 600_000);
 
   it('renders the DC output in an OfflineAudioContext: calibrated levels per step, ramps of the set length, never above the maximum', async () => {
@@ -351,28 +428,19 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await page.close();
   }, 240_000);
 
-  it.skip('sends the exact MIDI bytes: note-on 0x90 + channel per step, note-off on change and on stop, nothing after', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(midiStub(false));
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3`);
-    await waitLive(page);
-    await page.selectOption('[data-testid="drive-kind"]', 'midi');
-    await acceptCaution(page);
-    await page.waitForSelector('[data-testid="drive-midi-port"] option[value="stub-out-1"]');
+  it('sends the exact MIDI bytes: note-on 0x90 + channel per step, note-off on change and on stop, nothing after', async () => {
+    const { ctx, page, errors } = await openApp({
+      plan: [0, 1, 2, 3],
+      initScript: midiStub(false),
+      kind: 'midi',
+    });
+    await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
     await page.fill('[data-testid="drive-midi-channel"]', '3');
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
-    );
+    await waitOpen(page);
     // A converter with 0 V on note 36, a gain of 1.002 and +3 mV offset: its readings at notes 36, 60, 96, 120.
     await page.click('[data-testid="drive-calibrate"]');
     for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
-    await page.waitForFunction(
-      () =>
-        document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') ===
-        'yes',
-    );
+    await waitCalibrated(page);
     const afterCal = (await midiSent(page)).length;
     await page.click('[data-testid="start-hands-off"]');
     await waitRows(page, 4);
@@ -429,20 +497,41 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     );
     // The converter's calibrated voltage for each note: 1.002·nominal + 3 mV.
     rows.forEach((v, i) => expect(v).toBeCloseTo(1.002 * i + 0.003, 6));
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
-  it.skip('faults: MIDI access refused mid-run gives a clear message, keeps the run and leaves the drive at 0 V', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(midiStub(true));
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4`);
-    await waitLive(page);
-    await page.click('[data-testid="start-run"]');
+  it('closing the window mid-run sends the converter back to its 0 V note and releases it', async () => {
+    const { ctx, page, errors } = await openApp({ plan: PLAN8, initScript: midiStub(false), kind: 'midi' });
+    await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
+    await waitOpen(page);
+    await page.click('[data-testid="drive-calibrate"]');
+    for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
+    await waitCalibrated(page);
+    await page.click('[data-testid="start-hands-off"]');
     await waitRows(page, 2);
-    await page.selectOption('[data-testid="drive-kind"]', 'midi');
-    await acceptCaution(page);
+    // The page goes away (pagehide, as when the window closes), then the stub's record is read back.
+    await page.reload();
+    const sent: number[][] = await page.evaluate(() =>
+      JSON.parse(sessionStorage.getItem('__midiSent') ?? '[]'),
+    );
+    console.log('e2e drive MIDI bytes, window closed mid-run:', JSON.stringify(sent.slice(-5)));
+    const lastOn = sent.slice(0, -3).findLast((m) => m[0] === 0x90);
+    if (!lastOn) throw new Error(`no note-on before the close: ${JSON.stringify(sent)}`);
+    // MIDI 1.0, channel 1: the step's note off (0x80), the 0 V note (36) on (0x90) and off; nothing after.
+    expect(lastOn[1]).toBeGreaterThan(36);
+    expect(sent.slice(-3)).toEqual(backToRest(lastOn[1]));
+    expect(errors).toEqual([]);
+    await ctx.close();
+  }, 400_000);
+
+  it('faults: MIDI access refused mid-run gives a clear message, keeps the run and leaves the drive at 0 V', async () => {
+    const { ctx, page, errors } = await openApp({
+      plan: [0, 1, 2, 3, 4],
+      initScript: midiStub(true),
+      runRows: 2,
+      kind: 'midi',
+    });
     await page.waitForSelector('[data-testid="drive-message"]');
     const text = await page.innerText('[data-testid="drive-message"]');
     console.log('e2e drive fault (MIDI refused):', text);
@@ -451,24 +540,21 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'run-prompt', 'data-phase')).toBe('paused');
     expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
     expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
-  it.skip('faults: readings that do not fit a line are refused, the run is kept and the converter goes back to its 0 V note', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(midiStub(false));
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4`);
-    await waitLive(page);
-    await page.click('[data-testid="start-run"]');
-    await waitRows(page, 2);
-    await page.selectOption('[data-testid="drive-kind"]', 'midi');
-    await acceptCaution(page);
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
-    );
+  it('faults: readings that do not fit a line are refused, the run is kept and the converter goes back to its 0 V note', async () => {
+    const { ctx, page, errors } = await openApp({
+      plan: PLAN8,
+      initScript: midiStub(false),
+      runRows: 2,
+      kind: 'midi',
+    });
+    await waitOpen(page);
     await page.click('[data-testid="drive-calibrate"]');
+    // The calibration's notes move the oscillator: the run is paused before the first one, its steps kept.
+    await page.waitForSelector('[data-testid="drive-cal-paused-run"]');
     for (const r of [0.003, 2.007, 5.013, 6.2]) await typeReading(page, r);
     await page.waitForSelector('[data-testid="drive-message"]');
     const text = await page.innerText('[data-testid="drive-message"]');
@@ -481,28 +567,19 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
     expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
     const sent = await midiSent(page);
-    expect(sent.slice(-3)).toEqual([
-      [0x80, 120, 0],
-      [0x90, 36, 100],
-      [0x80, 36, 0],
-    ]);
+    expect(sent.slice(-3)).toEqual(backToRest(120));
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
-  it.skip('faults: the DC output device disappearing mid-run pauses the run, keeps its steps and stops the drive', async () => {
-    const ctx = await browser.newContext({ viewport: VIEWPORT });
-    await ctx.addInitScript(OUTPUT_STUB);
-    const page = await ctx.newPage();
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=0,1,2,3,4,5`);
-    await waitLive(page);
-    await page.selectOption('[data-testid="drive-kind"]', 'dc');
-    await acceptCaution(page);
-    await page.waitForSelector('[data-testid="drive-dc-device"] option[value="bench-dc-1"]');
-    await page.selectOption('[data-testid="drive-dc-device"]', 'bench-dc-1');
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="drive-status"]')?.getAttribute('data-open') === 'yes',
-    );
+  it('faults: the DC output device disappearing mid-run pauses the run, keeps its steps and stops the drive', async () => {
+    const { ctx, page, errors } = await openApp({
+      plan: [0, 1, 2, 3, 4, 5],
+      initScript: OUTPUT_STUB,
+      kind: 'dc',
+    });
+    await chooseOutput(page, 'drive-dc-device', 'bench-dc-1');
+    await waitOpen(page);
     // An output really giving 9.95 V at full scale and +2 mV: each reading follows the level sent.
     await page.click('[data-testid="drive-calibrate"]');
     let last = 0;
@@ -517,12 +594,15 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       last = Math.round((9.95 * level + 0.002) * 1000) / 1000;
       await typeReading(page, last);
     }
-    await typeReading(page, last); // the hold check: the level stayed
-    await page.waitForFunction(
-      () =>
-        document.querySelector('[data-testid="drive-calibration"]')?.getAttribute('data-calibrated') ===
-        'yes',
-    );
+    // The hold check: once the level has been held its ten seconds, the meter reads the same (it stayed).
+    await page.waitForFunction(() => {
+      const due = document
+        .querySelector('[data-testid="drive-cal-session"]')
+        ?.getAttribute('data-hold-due-at-ms');
+      return due !== null && due !== undefined && due !== '' && Date.now() >= Number(due);
+    });
+    await typeReading(page, last);
+    await waitCalibrated(page);
     expect(await page.evaluate(() => (window as unknown as { __sinkIds: string[] }).__sinkIds)).toContain(
       'bench-dc-1',
     );
@@ -543,28 +623,31 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
     expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-fault-device-gone-1280x900.png') });
+    expect(errors).toEqual([]);
     await ctx.close();
   }, 400_000);
 
-  it.skip('bench: the same 8-step run driven by keypresses (typing each voltage), for the timing beside hands-off', async () => {
-    const page = await browser.newPage({ viewport: VIEWPORT });
-    page.setDefaultTimeout(ACTION_TIMEOUT_MS);
-    await page.goto(`${server.url}?input=sim&drive=sim&unit=${UNIT}&plan=${PLAN8.join(',')}`);
-    await waitLive(page);
-    await simCalibrate(page);
-    const t0 = Date.now();
-    await page.click('[data-testid="start-run"]');
-    for (let i = 0; i < PLAN8.length; i++) {
-      await waitRows(page, i);
-      await page.fill('[data-testid="drive-set-volts"]', String(PLAN8[i]));
-      await page.press('[data-testid="drive-set-volts"]', 'Enter');
-      await page.waitForFunction((k) => document.querySelectorAll('[data-testid="step-row"]').length > k, i, {
-        timeout: 60_000,
-      });
-    }
-    const ms = Date.now() - t0;
-    console.log(`e2e drive: keypress-driven 0–7 V, Start to 8-step table: ${(ms / 1000).toFixed(1)} s`);
-    expect(await rowCount(page)).toBe(PLAN8.length);
-    await page.close();
-  }, 480_000);
+  // A measurement, not a check of the issue: run by `npm run bench:drive` (vitest.bench-drive.config.ts),
+  // not by `npm test`, where it would add a minute and a half of browser time.
+  it.runIf(BENCH)(
+    'bench: the same 8-step run driven by keypresses (typing each voltage), for the timing beside hands-off',
+    async () => {
+      const { ctx, page } = await openApp({ plan: PLAN8, simDrive: true });
+      await simCalibrate(page);
+      const t0 = Date.now();
+      await page.click('[data-testid="start-run"]');
+      const rowMs: number[] = [];
+      for (let i = 0; i < PLAN8.length; i++) {
+        await waitRows(page, i);
+        await page.fill('[data-testid="drive-set-volts"]', String(PLAN8[i]));
+        await page.press('[data-testid="drive-set-volts"]', 'Enter');
+        await waitRows(page, i + 1);
+        rowMs.push(Date.now() - t0);
+      }
+      benchLine('keypresses', Date.now() - t0, rowMs);
+      expect(await rowCount(page)).toBe(PLAN8.length);
+      await ctx.close();
+    },
+    480_000,
+  );
 });

@@ -13,8 +13,10 @@ import {
   planMidiStep,
   simDriveTrueVolts,
   SIM_DRIVE_MODEL,
+  VOLTS_PER_SEMITONE,
   type DriveCalibration,
   type MeterSpec,
+  type MidiStep,
 } from '../../../dsp/drive/index.ts';
 import { DcOutput, openDcOutput } from './dc-output.ts';
 import { MidiDrive, type MidiPortLike } from './midi-output.ts';
@@ -93,8 +95,10 @@ export class Drive {
   /**
    * Takes new values of the settings read on every use (maximum, ramp, meter, note map, bend); the
    * device, channel and kind stay those the drive was opened with.
+   *
+   * @returns True when the level held was beyond the new maximum and the drive went back to 0 V.
    */
-  updateSettings(s: DriveSettings): void {
+  updateSettings(s: DriveSettings): boolean {
     this.current = {
       ...s,
       kind: this.current.kind,
@@ -105,6 +109,13 @@ export class Drive {
       zeroVoltsNote: this.current.zeroVoltsNote,
     };
     this.updateBounds();
+    // A maximum lowered below the level held: nothing may stay above it, so the drive goes to 0 V.
+    const b = this.bounds();
+    if (this.level > b.high || this.level < b.low) {
+      this.rest();
+      return true;
+    }
+    return false;
   }
 
   /**
@@ -115,7 +126,9 @@ export class Drive {
     settings: DriveSettings,
     deps: { simSend?: SimSend; midiPort?: MidiPortLike | null },
   ): Promise<{ ok: true; drive: Drive } | { ok: false; message: string }> {
-    const d = new Drive(settings, deps.simSend ?? null);
+    // Only the simulated drive talks to the simulator: a DC or MIDI drive on the simulated input must
+    // not move the simulator's control voltage (the run moves it, step by step).
+    const d = new Drive(settings, settings.kind === 'sim' ? (deps.simSend ?? null) : null);
     if (settings.kind === 'dc') {
       const r = await openDcOutput(settings.dcDeviceId, settings.dcChannel);
       if (!r.ok) return r;
@@ -159,6 +172,21 @@ export class Drive {
         : s.nominalVoltsPerFullScale;
   }
 
+  /**
+   * The converter's step for a level, never beyond the bounds: a note rounded to the nearest semitone
+   * (or a bend rounded to its 14-bit step) can land above the level asked for, and then the next one
+   * down is taken, so the maximum holds for MIDI too.
+   */
+  private midiStep(level: number, bend: number | null): MidiStep | null {
+    const b = this.bounds();
+    // One semitone down without bend; one bend step is far below 0.1 mV, so 0.1 mV down with bend.
+    const back = bend === null ? VOLTS_PER_SEMITONE : 1e-4;
+    let step = planMidiStep(level, this.settings.zeroVoltsNote, bend);
+    if (step && step.level > b.high) step = planMidiStep(level - back, this.settings.zeroVoltsNote, bend);
+    else if (step && step.level < b.low) step = planMidiStep(level + back, this.settings.zeroVoltsNote, bend);
+    return step && step.level <= b.high && step.level >= b.low ? step : null;
+  }
+
   /** Level bounds from the maximum: by the calibration, or by the nominal gain before it. */
   private bounds(): { low: number; high: number } {
     const fs = this.settings.kind === 'midi' ? Infinity : 1;
@@ -183,7 +211,7 @@ export class Drive {
     const s = this.settings;
     if (this.dc) this.dc.setLevel(l, s.rampSeconds);
     else if (this.midi) {
-      const step = planMidiStep(l, s.zeroVoltsNote, null);
+      const step = this.midiStep(l, null);
       if (!step) return this.level;
       this.midi.setStep(step);
       this.level = step.level;
@@ -210,15 +238,19 @@ export class Drive {
     let level = clampLevel(levelForVolts(cal, volts), this.bounds());
     let note: number | null = null;
     if (this.midi) {
-      const step = planMidiStep(level, s.zeroVoltsNote, s.bendRangeSemitones);
-      if (!step) return { ok: false, message: `${volts} V is beyond the converter's notes (0–127).` };
+      const step = this.midiStep(level, s.bendRangeSemitones);
+      if (!step)
+        return {
+          ok: false,
+          message: `${volts} V cannot be reached within the converter's notes (0–127) and the maximum of ${s.maxVolts} V.`,
+        };
       this.midi.setStep(step);
       level = step.level;
       note = step.note;
     } else if (this.dc) {
-      // Web Audio parameters are 32-bit floats: the level applied is the rounded one.
-      level = Math.fround(level);
-      this.dc.setLevel(level, s.rampSeconds);
+      // Web Audio parameters are 32-bit floats: the level applied is the one scheduled (rounded, and
+      // rounded inwards at a bound).
+      level = this.dc.setLevel(Math.fround(level), s.rampSeconds).to;
     } else if (this.simSend) {
       this.simLevel = level;
       this.simSend(simDriveTrueVolts(level), s.rampSeconds);

@@ -2,12 +2,13 @@
  * The drive's state for the app: settings and per-device calibrations (kept in localStorage), the
  * open drive, the guided calibration, and the hands-off runs (span run, trim loop, scale pair, hold).
  *
- * The hands-off span run follows the run's own state machine (dsp/calibration/run.ts): whenever the run moves to
- * a new step the drive ramps to that step's voltage and the step is told the calibrated voltage it got
- * (`set-applied-volts`); settle detection, pitch checks, pause and redo stay the run's. On any fault
- * the run is paused (its captures kept) and the drive goes back to 0 V.
+ * The hands-off span run follows the run's own state machine (dsp/calibration/run.ts): as soon as a step is
+ * captured (or the run moves to a step by redo or back) the drive ramps to the step to come and that
+ * step is told the calibrated voltage it got (`set-applied-volts`); settle detection, pitch checks,
+ * pause and redo stay the run's. On any fault the run is paused (its captures kept) and the drive
+ * goes back to 0 V.
  */
-import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
+import { useCallback, useEffect, useRef, useState } from 'react';
 import {
   DEFAULT_MAX_DRIVE_VOLTS,
   DEFAULT_RAMP_SECONDS,
@@ -93,6 +94,8 @@ export interface CalibrationSession {
   readonly level: number | null;
   /** DC only: the top level's re-reading is due at this time (ms since epoch), once every level is read. */
   readonly holdDueAtMs: number | null;
+  /** True when the calibration paused a run that was capturing (its levels move the oscillator). */
+  readonly pausedRun: boolean;
 }
 
 /** Hands-off state. */
@@ -151,6 +154,18 @@ const ACTIVE = new Set(['apply-voltage', 'settling', 'confirm-pitch', 'capturing
 const LOOP_GAP_MS = 1500;
 /** DC hold check: the top level is read again after this long, ms. */
 const HOLD_CHECK_MS = 10_000;
+
+/**
+ * The step a voltage set by hand belongs to: the current one while it waits, settles or is captured;
+ * once it is captured and the run is moving on by itself, the next pending one (a voltage typed then
+ * is for the step to come, never for the step just taken). Null when no run is capturing.
+ */
+export function stepForSetVolts(state: RunState): number | null {
+  if (!ACTIVE.has(state.phase)) return null;
+  if (state.phase !== 'captured') return state.current;
+  const next = state.steps.findIndex((st, i) => i > state.current && st.status === 'pending');
+  return next >= 0 ? next : null;
+}
 
 function calibrationTargets(maxVolts: number, kind: DriveKind): number[] {
   const top = Math.max(1, Math.min(7, Math.floor(0.9 * maxVolts)));
@@ -212,23 +227,57 @@ export function useDrive(deps: DriveDeps): DriveApi {
     setOutputLevel(driveRef.current?.level ?? 0);
   }, []);
 
+  /** The drive back to 0 V (along its ramp), and the panel told. */
+  const restDrive = useCallback(() => {
+    driveRef.current?.rest();
+    showVolts();
+  }, [showVolts]);
+
+  /**
+   * Pauses a run that is capturing (its captures kept); true when there was one. A calibration does
+   * this first, since its levels move the oscillator; so does a fault and the drive's Stop.
+   */
+  const pauseActiveRun = useCallback((): boolean => {
+    const r = runRef.current;
+    if (!r || !ACTIVE.has(r.phase)) return false;
+    client.send({ type: 'run-event', event: { type: 'pause' } });
+    return true;
+  }, [client]);
+
+  /** Sets the hands-off state now (the ref the run's messages read) and for the next render. */
+  const setHands = useCallback((next: HandsOffState) => {
+    handsRef.current = next;
+    setHandsOff(next);
+  }, []);
+
+  /**
+   * The one way a hands-off run ends (done, stopped, aborted or on a fault): no step is set any more
+   * and the drive goes back to 0 V. `patch` adds the last pass and the verdict.
+   */
+  const endHandsOff = useCallback(
+    (patch: Partial<HandsOffState> = {}) => {
+      lastStepRef.current = -1;
+      setHands({ ...handsRef.current, ...patch, active: false });
+      restDrive();
+    },
+    [setHands, restDrive],
+  );
+
   /** Any fault: the run paused and kept, the drive back to 0 V, hands-off stopped. */
   const fault = useCallback(
     (text: string) => {
-      const r = runRef.current;
-      lastStepRef.current = -1;
-      if (r && ACTIVE.has(r.phase)) client.send({ type: 'run-event', event: { type: 'pause' } });
-      driveRef.current?.rest();
-      setHandsOff((h) => ({ ...h, active: false }));
+      const active = pauseActiveRun();
+      endHandsOff();
       setPairDriving(false);
       setSession(null);
-      showVolts();
-      setMessage({
-        kind: 'error',
-        text: `${text}${r && ACTIVE.has(r.phase) ? ' The run is kept with its captured steps, paused.' : ''} The drive is back at 0 V.`,
-      });
+      // A run the fault paused, or one already paused (a calibration pauses it), is kept as it is.
+      const kept =
+        active || runRef.current?.phase === 'paused'
+          ? ' The run is kept with its captured steps, paused.'
+          : '';
+      setMessage({ kind: 'error', text: `${text}${kept} The drive is back at 0 V.` });
     },
-    [client, showVolts],
+    [pauseActiveRun, endHandsOff],
   );
 
   // ---- Devices -------------------------------------------------------------------------------
@@ -237,6 +286,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
     void listOutputs().then(setDcOutputs);
   }, [settings.kind]);
 
+  // MIDI access is asked for once each time the MIDI drive is chosen (not again when a port is picked).
   useEffect(() => {
     if (settings.kind !== 'midi' || !stored.cautionAccepted) return;
     let cancelled = false;
@@ -244,21 +294,26 @@ export function useDrive(deps: DriveDeps): DriveApi {
       if (cancelled) return;
       if (!r.ok) {
         setMidiAccess(null);
+        setMidiPorts([]);
         fault(r.message);
         return;
       }
       setMidiAccess(r.access);
       const ports = midiOutputs(r.access);
       setMidiPorts(ports);
-      if (ports.length > 0 && !ports.some((p) => p.id === settings.midiPortId))
-        setSettings({ midiPortId: ports[0].id });
       if (ports.length === 0)
         setMessage({ kind: 'warn', text: 'No MIDI output found: connect the converter.' });
     });
     return () => {
       cancelled = true;
     };
-  }, [settings.kind, stored.cautionAccepted, fault, setSettings, settings.midiPortId]);
+  }, [settings.kind, stored.cautionAccepted, fault]);
+
+  // The port kept from last time is gone (or none was chosen): take the first one listed.
+  useEffect(() => {
+    if (settings.kind !== 'midi' || midiPorts.length === 0) return;
+    if (!midiPorts.some((p) => p.id === settings.midiPortId)) setSettings({ midiPortId: midiPorts[0].id });
+  }, [settings.kind, midiPorts, settings.midiPortId, setSettings]);
 
   // ---- The open drive ------------------------------------------------------------------------
   const midiPort = midiPorts.find((p) => p.id === settings.midiPortId) ?? null;
@@ -311,8 +366,13 @@ export function useDrive(deps: DriveDeps): DriveApi {
 
   // Settings read on every use (max, ramp, note map) reach the open drive without reopening it.
   useEffect(() => {
-    driveRef.current?.updateSettings(settings);
-  }, [settings, open]);
+    if (!driveRef.current?.updateSettings(settings)) return;
+    showVolts();
+    setMessage({
+      kind: 'warn',
+      text: `The maximum is now ${settings.maxVolts} V, below the voltage the drive held: it went back to 0 V.`,
+    });
+  }, [settings, open, showVolts]);
 
   useEffect(() => {
     driveRef.current?.setCalibration(calibration);
@@ -390,17 +450,17 @@ export function useDrive(deps: DriveDeps): DriveApi {
       setMessage({ kind: 'error', text: 'Open the drive first.' });
       return;
     }
+    const pausedRun = pauseActiveRun();
     const targets = calibrationTargets(settings.maxVolts, settings.kind);
     const level = sendLevel(nextCalibrationLevel(targets, [], d.nominalGain) ?? 0);
-    setSession({ targetsVolts: targets, readings: [], level, holdDueAtMs: null });
+    setSession({ targetsVolts: targets, readings: [], level, holdDueAtMs: null, pausedRun });
     setMessage(null);
-  }, [settings.maxVolts, settings.kind, sendLevel]);
+  }, [settings.maxVolts, settings.kind, sendLevel, pauseActiveRun]);
 
   const cancelCalibration = useCallback(() => {
     setSession(null);
-    driveRef.current?.rest();
-    showVolts();
-  }, [showVolts]);
+    restDrive();
+  }, [restDrive]);
 
   const finishCalibration = useCallback(
     (
@@ -409,8 +469,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
     ) => {
       const d = driveRef.current;
       setSession(null);
-      d?.rest();
-      showVolts();
+      restDrive();
       if (!d) return;
       const meter = settings.kind === 'sim' ? SIM_METER_SPEC : settings.meter;
       const r = fitDriveCalibration(readings, meter, { expectedGain: d.nominalGain, holdCheck: hold });
@@ -448,9 +507,17 @@ export function useDrive(deps: DriveDeps): DriveApi {
       if (s.level === null) {
         // The hold re-reading of the top level.
         const top = s.readings[s.readings.length - 1];
-        const seconds = s.holdDueAtMs
-          ? Math.max(HOLD_CHECK_MS, Date.now() - (s.holdDueAtMs - HOLD_CHECK_MS)) / 1000
-          : 10;
+        const now = Date.now();
+        if (s.holdDueAtMs !== null && now < s.holdDueAtMs) {
+          // Read too soon, a decaying (AC-coupled) output would not have fallen yet: not taken.
+          const wait = Math.ceil((s.holdDueAtMs - now) / 1000);
+          setMessage({
+            kind: 'warn',
+            text: `Too soon for the hold check: read the meter again in ${wait} s (the level must be held ${HOLD_CHECK_MS / 1000} s).`,
+          });
+          return;
+        }
+        const seconds = s.holdDueAtMs ? (now - (s.holdDueAtMs - HOLD_CHECK_MS)) / 1000 : HOLD_CHECK_MS / 1000;
         finishCalibration([...s.readings], {
           firstVolts: top.readingVolts,
           laterVolts: volts,
@@ -479,25 +546,48 @@ export function useDrive(deps: DriveDeps): DriveApi {
     if (!d || settings.kind !== 'sim') return;
     const targets = calibrationTargets(settings.maxVolts, 'sim');
     const readings: CalibrationReading[] = [];
+    const pausedRun = pauseActiveRun();
     setMessage(null);
     for (;;) {
       const level = nextCalibrationLevel(targets, readings, d.nominalGain);
       if (level === null) break;
       const sent = d.setLevel(level);
       showVolts();
-      setSession({ targetsVolts: targets, readings: [...readings], level: sent, holdDueAtMs: null });
+      setSession({
+        targetsVolts: targets,
+        readings: [...readings],
+        level: sent,
+        holdDueAtMs: null,
+        pausedRun,
+      });
       await new Promise((r) => setTimeout(r, Math.ceil(settings.rampSeconds * 1000) + 50));
       readings.push({ level: sent, readingVolts: simMeterReading(d.simTrueVolts ?? 0) });
     }
     finishCalibration(readings, undefined);
-  }, [settings.kind, settings.maxVolts, settings.rampSeconds, showVolts, finishCalibration]);
+  }, [settings.kind, settings.maxVolts, settings.rampSeconds, showVolts, finishCalibration, pauseActiveRun]);
 
   // ---- Hands-off span run and trim loop ------------------------------------------------------
+  /** Tells the run which calibrated voltage a step got (it takes it in place of the nominal one). */
+  const tellRun = useCallback(
+    (stepIndex: number, a: Applied) => {
+      client.send({
+        type: 'run-event',
+        event: {
+          type: 'set-applied-volts',
+          stepIndex,
+          volts: a.volts,
+          uncertaintyVolts: a.uncertaintyVolts,
+        },
+      });
+      setApplied((x) => ({ ...x, [stepIndex]: a }));
+    },
+    [client],
+  );
+
   const applyStep = useCallback(
-    (state: RunState) => {
+    (state: RunState, i: number) => {
       const d = driveRef.current;
       if (!d) return;
-      const i = state.current;
       const r = d.apply(state.steps[i].nominalVolts);
       showVolts();
       if (!r.ok) {
@@ -505,18 +595,9 @@ export function useDrive(deps: DriveDeps): DriveApi {
         return;
       }
       lastStepRef.current = i;
-      client.send({
-        type: 'run-event',
-        event: {
-          type: 'set-applied-volts',
-          stepIndex: i,
-          volts: r.applied.volts,
-          uncertaintyVolts: r.applied.uncertaintyVolts,
-        },
-      });
-      setApplied((a) => ({ ...a, [i]: r.applied }));
+      tellRun(i, r.applied);
     },
-    [client, fault, showVolts],
+    [fault, showVolts, tellRun],
   );
 
   const onRun = useCallback(
@@ -526,9 +607,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
       const h = handsRef.current;
       if (!h.active) return;
       if (!state || state.phase === 'aborted') {
-        driveRef.current?.rest();
-        showVolts();
-        setHandsOff((x) => ({ ...x, active: false }));
+        endHandsOff();
         return;
       }
       if (state.phase === 'finished') {
@@ -538,9 +617,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
         const row = passFromAdvice(passNo, a.advice);
         const passes = [...h.passes, row];
         if (h.loopPasses === null) {
-          driveRef.current?.rest();
-          showVolts();
-          setHandsOff({ ...h, active: false, passes, verdict: 'Sweep done: the table is complete.' });
+          endHandsOff({ passes, verdict: 'Sweep done: the table is complete.' });
           return;
         }
         const v = trimLoopVerdict(passes, h.loopPasses);
@@ -550,14 +627,11 @@ export function useDrive(deps: DriveDeps): DriveApi {
             : v === 'out-of-passes'
               ? `Pass ${passNo} of ${h.loopPasses}: the loop is over; trim and start it again if the errors still move.`
               : `Pass ${passNo} done: trim now; pass ${passNo + 1} starts in a moment.`;
-        const next = { ...h, passes, verdict, active: v === 'again' };
-        handsRef.current = next;
-        setHandsOff(next);
         if (v !== 'again') {
-          driveRef.current?.rest();
-          showVolts();
+          endHandsOff({ passes, verdict });
           return;
         }
+        setHands({ ...h, passes, verdict });
         lastStepRef.current = -1;
         setTimeout(() => {
           if (!handsRef.current.active) return;
@@ -565,9 +639,12 @@ export function useDrive(deps: DriveDeps): DriveApi {
         }, LOOP_GAP_MS);
         return;
       }
-      if (ACTIVE.has(state.phase) && state.current !== lastStepRef.current) applyStep(state);
+      // Each step is set as soon as the one before it is captured (while the run holds its capture),
+      // as a technician would turn the reference on; a step redone or gone back to is set again.
+      const step = stepForSetVolts(state);
+      if (step !== null && step !== lastStepRef.current) applyStep(state, step);
     },
-    [applyStep, showVolts],
+    [applyStep, endHandsOff, setHands],
   );
 
   useEffect(
@@ -610,30 +687,21 @@ export function useDrive(deps: DriveDeps): DriveApi {
       const r = runRef.current;
       if (r && r.phase === 'paused') {
         // Go on with the run that a pause or a fault stopped: its captures stay, this step is set again.
-        const next: HandsOffState = { ...handsRef.current, active: true };
-        handsRef.current = next;
-        setHandsOff(next);
+        setHands({ ...handsRef.current, active: true });
         client.send({ type: 'run-event', event: { type: 'resume' } });
         return;
       }
       setApplied({});
-      const next: HandsOffState = { active: true, loopPasses, passes: [], verdict: null };
-      handsRef.current = next;
-      setHandsOff(next);
+      setHands({ active: true, loopPasses, passes: [], verdict: null });
       depsRef.current.startRun();
     },
-    [settings.maxVolts, client],
+    [settings.maxVolts, client, setHands],
   );
 
   const stopHandsOff = useCallback(() => {
-    const r = runRef.current;
-    handsRef.current = { ...handsRef.current, active: false };
-    setHandsOff((h) => ({ ...h, active: false }));
-    if (r && ACTIVE.has(r.phase)) client.send({ type: 'run-event', event: { type: 'pause' } });
-    lastStepRef.current = -1;
-    driveRef.current?.rest();
-    showVolts();
-  }, [client, showVolts]);
+    pauseActiveRun();
+    endHandsOff();
+  }, [pauseActiveRun, endHandsOff]);
 
   // ---- Scale pair: the drive alternates the two voltages ------------------------------------
   useEffect(() => {
@@ -680,74 +748,39 @@ export function useDrive(deps: DriveDeps): DriveApi {
       if (!r.ok) setMessage({ kind: 'error', text: r.message });
       else setMessage(null);
       const st = runRef.current;
-      if (r.ok && st && ACTIVE.has(st.phase))
-        client.send({
-          type: 'run-event',
-          event: {
-            type: 'set-applied-volts',
-            stepIndex: st.current,
-            volts: r.applied.volts,
-            uncertaintyVolts: r.applied.uncertaintyVolts,
-          },
-        });
-      if (r.ok && st) setApplied((a) => ({ ...a, [st.current]: r.applied }));
+      const step = st ? stepForSetVolts(st) : null;
+      if (r.ok && step !== null) tellRun(step, r.applied);
     },
-    [client, showVolts],
+    [showVolts, tellRun],
   );
 
   const acceptCaution = useCallback(() => setStored((s) => ({ ...s, cautionAccepted: true })), []);
 
-  return useMemo(
-    () => ({
-      settings,
-      setSettings,
-      cautionAccepted: stored.cautionAccepted,
-      acceptCaution,
-      simAvailable,
-      dcOutputs,
-      midiPorts: midiPorts.map((p) => ({ id: p.id, name: p.name ?? p.id })),
-      open,
-      outputVolts,
-      outputLevel,
-      calibration,
-      message,
-      session,
-      startCalibration,
-      enterReading,
-      cancelCalibration,
-      simMeterAnswer,
-      applied,
-      handsOff,
-      startHandsOff,
-      stopHandsOff,
-      pairDriving,
-      setPairDriving,
-      setLevelVolts,
-    }),
-    [
-      settings,
-      setSettings,
-      stored.cautionAccepted,
-      acceptCaution,
-      simAvailable,
-      dcOutputs,
-      midiPorts,
-      open,
-      outputVolts,
-      outputLevel,
-      calibration,
-      message,
-      session,
-      startCalibration,
-      enterReading,
-      cancelCalibration,
-      simMeterAnswer,
-      applied,
-      handsOff,
-      startHandsOff,
-      stopHandsOff,
-      pairDriving,
-      setLevelVolts,
-    ],
-  );
+  // A new object each render, like the panels that read it (none of them is memoised).
+  return {
+    settings,
+    setSettings,
+    cautionAccepted: stored.cautionAccepted,
+    acceptCaution,
+    simAvailable,
+    dcOutputs,
+    midiPorts: midiPorts.map((p) => ({ id: p.id, name: p.name ?? p.id })),
+    open,
+    outputVolts,
+    outputLevel,
+    calibration,
+    message,
+    session,
+    startCalibration,
+    enterReading,
+    cancelCalibration,
+    simMeterAnswer,
+    applied,
+    handsOff,
+    startHandsOff,
+    stopHandsOff,
+    pairDriving,
+    setPairDriving,
+    setLevelVolts,
+  };
 }

@@ -5,10 +5,13 @@
  * the hands-off controls of the Span run (one sweep or a trim loop, with its pass history), the Scale
  * pair and the Hold.
  */
-import { useState } from 'react';
+import { useEffect, useState } from 'react';
 import { MAX_DRIVE_VOLTS_CEILING, meterUncertainty, MIDDLE_C_NOTE } from '../../../dsp/drive/index.ts';
 import { midiToName } from '../../../dsp/math/index.ts';
 import type { DriveApi } from '../drive/use-drive.ts';
+import { parseNumberField, type NumberRule } from '../lib/fields.ts';
+import { DevicePicker } from './DevicePicker.tsx';
+import { NumberField } from './NumberField.tsx';
 import type { DriveKind } from '../drive/drive.ts';
 
 function fmtV(v: number, digits = 4): string {
@@ -17,6 +20,40 @@ function fmtV(v: number, digits = 4): string {
 
 function fmtC(c: number | null, digits = 2): string {
   return c === null || !Number.isFinite(c) ? '—' : `${c >= 0 ? '+' : ''}${c.toFixed(digits)}`;
+}
+
+/**
+ * A drive setting typed as a number, by the one field rule (lib/fields.ts): the text stays as typed,
+ * an unusable value is marked with the reason and not used, a usable one is passed on at once.
+ */
+function SettingField(p: {
+  label: string;
+  value: number;
+  rule: NumberRule;
+  onValue(v: number): void;
+  testId?: string;
+  disabled?: boolean;
+}) {
+  const [text, setText] = useState<string | null>(null);
+  const rule: NumberRule = { optional: false, ...p.rule };
+  return (
+    <NumberField
+      label={p.label}
+      value={text ?? String(p.value)}
+      rule={rule}
+      compact
+      disabled={p.disabled}
+      testId={p.testId}
+      onChange={(t) => {
+        setText(t);
+        const r = parseNumberField(t, rule);
+        if (r.kind === 'ok') p.onValue(r.value);
+      }}
+      onCommit={() => {
+        if (text !== null && parseNumberField(text, rule).kind === 'ok') setText(null);
+      }}
+    />
+  );
 }
 
 /** The caution shown before a real output is first used. */
@@ -63,6 +100,9 @@ export function DriveCaution(props: { onAccept(): void }) {
   );
 }
 
+/** A meter reading: any number in volts (one above the maximum stops the calibration, in the hook). */
+const READING_RULE: NumberRule = { unit: 'V' };
+
 function Calibration(props: { api: DriveApi }) {
   const { api } = props;
   const [text, setText] = useState('');
@@ -70,6 +110,17 @@ function Calibration(props: { api: DriveApi }) {
   const cal = api.calibration;
   const sim = api.settings.kind === 'sim';
   const meter = sim ? null : api.settings.meter;
+  // The hold check's countdown: redrawn each second until the re-reading is due.
+  const [, setTick] = useState(0);
+  const holdDue = s?.level === null ? s.holdDueAtMs : null;
+  useEffect(() => {
+    if (holdDue === null) return;
+    const t = setInterval(() => {
+      setTick((n) => n + 1);
+      if (Date.now() >= holdDue) clearInterval(t);
+    }, 1000);
+    return () => clearInterval(t);
+  }, [holdDue]);
   if (!s)
     return (
       <div className="drive-cal">
@@ -112,7 +163,12 @@ function Calibration(props: { api: DriveApi }) {
   const holdWait =
     hold && s.holdDueAtMs !== null ? Math.max(0, Math.ceil((s.holdDueAtMs - Date.now()) / 1000)) : 0;
   return (
-    <div className="drive-cal" data-testid="drive-cal-session" data-reading-index={k}>
+    <div
+      className="drive-cal"
+      data-testid="drive-cal-session"
+      data-reading-index={k}
+      data-hold-due-at-ms={hold && s.holdDueAtMs !== null ? String(s.holdDueAtMs) : ''}
+    >
       <p>
         {hold
           ? `Hold check: leave the top level on and read the meter again${holdWait > 0 ? ` in about ${holdWait} s` : ' now'}. A level that falls means an AC-coupled output.`
@@ -122,22 +178,19 @@ function Calibration(props: { api: DriveApi }) {
         className="row"
         onSubmit={(e) => {
           e.preventDefault();
-          const v = Number(text.trim().replace(',', '.'));
-          if (text.trim() === '' || !Number.isFinite(v)) return;
-          api.enterReading(v);
+          const r = parseNumberField(text, READING_RULE);
+          if (r.kind !== 'ok') return;
+          api.enterReading(r.value);
           setText('');
         }}
       >
-        <label className="field">
-          <span>Meter reading, V</span>
-          <input
-            value={text}
-            onChange={(e) => setText(e.target.value)}
-            inputMode="decimal"
-            data-testid="drive-cal-reading"
-            autoFocus
-          />
-        </label>
+        <NumberField
+          label="Meter reading, V"
+          value={text}
+          onChange={setText}
+          rule={READING_RULE}
+          testId="drive-cal-reading"
+        />
         <button type="submit" data-testid="drive-cal-next">
           Enter
         </button>
@@ -145,6 +198,12 @@ function Calibration(props: { api: DriveApi }) {
           Cancel
         </button>
       </form>
+      {s.pausedRun && (
+        <p className="hint" data-testid="drive-cal-paused-run">
+          The run is paused while the drive is calibrated (its levels move the oscillator); its captured steps
+          are kept. Resume it when the calibration is done.
+        </p>
+      )}
       {k > 0 && (
         <p className="hint">Read so far: {s.readings.map((r) => `${r.readingVolts} V`).join(', ')}</p>
       )}
@@ -157,25 +216,25 @@ function SetVolts(props: { api: DriveApi }) {
   const [text, setText] = useState('');
   const { api } = props;
   if (!api.open || !api.calibration) return null;
+  const rule: NumberRule = { min: 0, max: api.settings.maxVolts, unit: 'V' };
   return (
     <form
       className="row"
       onSubmit={(e) => {
         e.preventDefault();
-        const v = Number(text.trim().replace(',', '.'));
-        if (text.trim() !== '' && Number.isFinite(v)) api.setLevelVolts(v);
+        const r = parseNumberField(text, rule);
+        if (r.kind === 'ok') api.setLevelVolts(r.value);
       }}
     >
-      <label className="field">
-        <span>Set the output to, V</span>
-        <input
-          value={text}
-          onChange={(e) => setText(e.target.value)}
-          inputMode="decimal"
-          disabled={api.handsOff.active}
-          data-testid="drive-set-volts"
-        />
-      </label>
+      <NumberField
+        label="Set the output to, V"
+        value={text}
+        onChange={setText}
+        rule={rule}
+        compact
+        disabled={api.handsOff.active}
+        testId="drive-set-volts"
+      />
       <button type="submit" disabled={api.handsOff.active} data-testid="drive-set">
         Set
       </button>
@@ -218,102 +277,60 @@ export function DrivePanel(props: { api: DriveApi }) {
       {needsCaution && <DriveCaution onAccept={api.acceptCaution} />}
       {s.kind === 'dc' && !needsCaution && (
         <div className="row">
-          <label className="field grow">
-            <span>Output device</span>
-            <select
-              value={s.dcDeviceId}
-              onChange={(e) => api.setSettings({ dcDeviceId: e.target.value })}
-              data-testid="drive-dc-device"
-            >
-              <option value="default">System default output</option>
-              {api.dcOutputs
-                .filter((d) => d.deviceId !== 'default' && d.deviceId !== '')
-                .map((d) => (
-                  <option key={d.deviceId} value={d.deviceId}>
-                    {d.label}
-                  </option>
-                ))}
-            </select>
-          </label>
-          <label className="field">
-            <span>Channel</span>
-            <input
-              type="number"
-              min={1}
-              max={32}
-              value={s.dcChannel + 1}
-              onChange={(e) =>
-                api.setSettings({ dcChannel: Math.max(0, Math.round(Number(e.target.value)) - 1 || 0) })
-              }
-              data-testid="drive-dc-channel"
-            />
-          </label>
-          <label className="field">
-            <span>V at full scale (manual)</span>
-            <input
-              type="number"
-              min={1}
-              max={30}
-              step={0.1}
-              value={s.nominalVoltsPerFullScale}
-              onChange={(e) => {
-                const v = Number(e.target.value);
-                if (v > 0 && v <= 30) api.setSettings({ nominalVoltsPerFullScale: v });
-              }}
-              data-testid="drive-dc-fullscale"
-            />
-          </label>
+          <DevicePicker
+            label="Output device"
+            value={s.dcDeviceId}
+            onChange={(id) => api.setSettings({ dcDeviceId: id })}
+            devices={api.dcOutputs.map((d) => ({ id: d.deviceId, label: d.label }))}
+            first={{ id: 'default', label: 'System default output' }}
+            testId="drive-dc-device"
+          />
+          <SettingField
+            label="Channel"
+            value={s.dcChannel + 1}
+            rule={{ min: 1, max: 32, integer: true }}
+            onValue={(v) => api.setSettings({ dcChannel: v - 1 })}
+            testId="drive-dc-channel"
+          />
+          <SettingField
+            label="V at full scale (manual)"
+            value={s.nominalVoltsPerFullScale}
+            rule={{ min: 1, max: 30, unit: 'V' }}
+            onValue={(v) => api.setSettings({ nominalVoltsPerFullScale: v })}
+            testId="drive-dc-fullscale"
+          />
         </div>
       )}
       {s.kind === 'midi' && !needsCaution && (
         <>
           <div className="row">
-            <label className="field grow">
-              <span>MIDI output</span>
-              <select
-                value={s.midiPortId}
-                onChange={(e) => api.setSettings({ midiPortId: e.target.value })}
-                data-testid="drive-midi-port"
-              >
-                {api.midiPorts.length === 0 && <option value="">No MIDI output found</option>}
-                {api.midiPorts.map((p) => (
-                  <option key={p.id} value={p.id}>
-                    {p.name}
-                  </option>
-                ))}
-              </select>
-            </label>
-            <label className="field">
-              <span>Channel</span>
-              <input
-                type="number"
-                min={1}
-                max={16}
-                value={s.midiChannel}
-                onChange={(e) => {
-                  const c = Math.round(Number(e.target.value));
-                  if (c >= 1 && c <= 16) api.setSettings({ midiChannel: c });
-                }}
-                data-testid="drive-midi-channel"
-              />
-            </label>
-            <label className="field">
-              <span>Note at 0 V</span>
-              <input
-                type="number"
-                min={0}
-                max={127}
+            <DevicePicker
+              label="MIDI output"
+              value={s.midiPortId}
+              onChange={(id) => api.setSettings({ midiPortId: id })}
+              devices={api.midiPorts.map((p) => ({ id: p.id, label: p.name }))}
+              first={api.midiPorts.length === 0 ? { id: '', label: 'No MIDI output found' } : null}
+              testId="drive-midi-port"
+            />
+            <SettingField
+              label="Channel"
+              value={s.midiChannel}
+              rule={{ min: 1, max: 16, integer: true }}
+              onValue={(v) => api.setSettings({ midiChannel: v })}
+              testId="drive-midi-channel"
+            />
+            <div className="field">
+              <SettingField
+                label="Note at 0 V"
                 value={s.zeroVoltsNote}
-                onChange={(e) => {
-                  const n = Math.round(Number(e.target.value));
-                  if (n >= 0 && n <= 127) api.setSettings({ zeroVoltsNote: n });
-                }}
-                data-testid="drive-midi-zero-note"
+                rule={{ min: 0, max: 127, integer: true }}
+                onValue={(v) => api.setSettings({ zeroVoltsNote: v })}
+                testId="drive-midi-zero-note"
               />
               <small>
                 {midiToName(s.zeroVoltsNote)} (middle C = {MIDDLE_C_NOTE} = C4); see the converter’s manual
               </small>
-            </label>
+            </div>
           </div>
           <div className="row">
             <label className="check">
@@ -326,20 +343,12 @@ export function DrivePanel(props: { api: DriveApi }) {
               My converter follows pitch bend
             </label>
             {s.bendRangeSemitones !== null && (
-              <label className="field">
-                <span>Bend range, ± semitones</span>
-                <input
-                  type="number"
-                  min={0.1}
-                  max={48}
-                  step={0.1}
-                  value={s.bendRangeSemitones}
-                  onChange={(e) => {
-                    const v = Number(e.target.value);
-                    if (v >= 0.1 && v <= 48) api.setSettings({ bendRangeSemitones: v });
-                  }}
-                />
-              </label>
+              <SettingField
+                label="Bend range, ± semitones"
+                value={s.bendRangeSemitones}
+                rule={{ min: 0.1, max: 48 }}
+                onValue={(v) => api.setSettings({ bendRangeSemitones: v })}
+              />
             )}
           </div>
         </>
@@ -347,79 +356,42 @@ export function DrivePanel(props: { api: DriveApi }) {
       {s.kind !== 'off' && !needsCaution && (
         <>
           <div className="row">
-            <label className="field">
-              <span>Maximum, V</span>
-              <input
-                type="number"
-                min={0.5}
-                max={MAX_DRIVE_VOLTS_CEILING}
-                step={0.5}
-                value={s.maxVolts}
-                onChange={(e) => {
-                  const v = Number(e.target.value);
-                  if (v > 0 && v <= MAX_DRIVE_VOLTS_CEILING) api.setSettings({ maxVolts: v });
-                }}
-                disabled={api.handsOff.active}
-                data-testid="drive-max-volts"
-              />
-            </label>
-            <label className="field">
-              <span>Ramp, ms</span>
-              <input
-                type="number"
-                min={5}
-                max={2000}
-                step={5}
-                value={Math.round(s.rampSeconds * 1000)}
-                onChange={(e) => {
-                  const v = Number(e.target.value);
-                  if (v >= 5 && v <= 2000) api.setSettings({ rampSeconds: v / 1000 });
-                }}
-                data-testid="drive-ramp-ms"
-              />
-            </label>
+            <SettingField
+              label="Maximum, V"
+              value={s.maxVolts}
+              rule={{ min: 0.5, max: MAX_DRIVE_VOLTS_CEILING, unit: 'V' }}
+              onValue={(v) => api.setSettings({ maxVolts: v })}
+              disabled={api.handsOff.active}
+              testId="drive-max-volts"
+            />
+            <SettingField
+              label="Ramp, ms"
+              value={Math.round(s.rampSeconds * 1000)}
+              rule={{ min: 5, max: 2000, unit: 'ms' }}
+              onValue={(v) => api.setSettings({ rampSeconds: v / 1000 })}
+              testId="drive-ramp-ms"
+            />
             {s.kind !== 'sim' && (
-              <label className="field">
-                <span>Meter ± % + counts, count mV</span>
-                <span className="inline">
-                  <input
-                    type="number"
-                    min={0}
-                    max={10}
-                    step={0.01}
-                    value={s.meter.percentOfReading}
-                    onChange={(e) => {
-                      const v = Number(e.target.value);
-                      if (v >= 0 && v <= 10) api.setSettings({ meter: { ...s.meter, percentOfReading: v } });
-                    }}
-                    aria-label="Meter accuracy, percent of reading"
-                  />
-                  <input
-                    type="number"
-                    min={0}
-                    max={1000}
-                    value={s.meter.counts}
-                    onChange={(e) => {
-                      const v = Number(e.target.value);
-                      if (v >= 0 && v <= 1000) api.setSettings({ meter: { ...s.meter, counts: v } });
-                    }}
-                    aria-label="Meter accuracy, counts"
-                  />
-                  <input
-                    type="number"
-                    min={0.001}
-                    max={1000}
-                    step={0.01}
-                    value={s.meter.resolutionVolts * 1000}
-                    onChange={(e) => {
-                      const v = Number(e.target.value);
-                      if (v > 0 && v <= 1000)
-                        api.setSettings({ meter: { ...s.meter, resolutionVolts: v / 1000 } });
-                    }}
-                    aria-label="Meter count, millivolts"
-                  />
-                </span>
-              </label>
+              <>
+                <SettingField
+                  label="Meter ± % of reading"
+                  value={s.meter.percentOfReading}
+                  rule={{ min: 0, max: 10, unit: '%' }}
+                  onValue={(v) => api.setSettings({ meter: { ...s.meter, percentOfReading: v } })}
+                />
+                <SettingField
+                  label="+ counts"
+                  value={s.meter.counts}
+                  rule={{ min: 0, max: 1000, integer: true }}
+                  onValue={(v) => api.setSettings({ meter: { ...s.meter, counts: v } })}
+                />
+                <SettingField
+                  label="Count, mV"
+                  value={s.meter.resolutionVolts * 1000}
+                  rule={{ min: 0.001, max: 1000, unit: 'mV' }}
+                  onValue={(v) => api.setSettings({ meter: { ...s.meter, resolutionVolts: v / 1000 } })}
+                />
+              </>
             )}
           </div>
           <p
@@ -520,21 +492,14 @@ export function HandsOffPanel(props: { api: DriveApi; tab: string }) {
           Trim loop
         </label>
         {loop && (
-          <label className="field">
-            <span>Passes</span>
-            <input
-              type="number"
-              min={1}
-              max={50}
-              value={passes}
-              onChange={(e) => {
-                const n = Math.round(Number(e.target.value));
-                if (n >= 1 && n <= 50) setPasses(n);
-              }}
-              disabled={h.active}
-              data-testid="trim-loop-passes"
-            />
-          </label>
+          <SettingField
+            label="Passes"
+            value={passes}
+            rule={{ min: 1, max: 50, integer: true }}
+            onValue={setPasses}
+            disabled={h.active}
+            testId="trim-loop-passes"
+          />
         )}
         <span className="hint" data-testid="hands-off-state" data-active={h.active ? 'yes' : 'no'}>
           {h.active
@@ -595,6 +560,7 @@ export function HandsOffPanel(props: { api: DriveApi; tab: string }) {
                 data-applied-volts={String(a.volts)}
                 data-applied-uncertainty-volts={String(a.uncertaintyVolts)}
                 data-true-volts={a.trueVolts === null ? '' : String(a.trueVolts)}
+                data-level={String(a.level)}
                 data-note={a.note === null ? '' : String(a.note)}
               >
                 Step {a.step + 1}: {fmtV(a.volts)} ± {(a.uncertaintyVolts * 1000).toFixed(2)} mV
