@@ -507,6 +507,7 @@ export function RunPanel(p: RunPanelProps) {
                         row.intervalErrorCents === null ? '' : String(row.intervalErrorCents)
                       }
                       data-source={st.capture.source}
+                      data-flags={st.capture.flags.join(' ')}
                       data-captured-at={String(p.run?.capturedAt[st.index] ?? '')}
                       data-step-started-at={String(p.run?.stepStartedAt[st.index] ?? '')}
                       className={cur ? 'current' : ''}
