@@ -904,10 +904,32 @@ function leftBandAt(s: RunState, plateau: Plateau, fromSeconds: number, toSecond
 }
 
 /**
+ * Where the readings with a pitch first stopped coming at their usual rate in (fromSeconds, toSeconds],
+ * or null: the time one usual interval after the last regular reading. Readings with no pitch are not
+ * held by the detector, so a run of them (the tracker losing the pitch as it jumps, a recording looping
+ * back to its start) shows as a gap; the usual interval is the shortest spacing of the held readings.
+ */
+function readingsStoppedAt(s: RunState, fromSeconds: number, toSeconds: number): number | null {
+  const ts = s.detector.times;
+  let step = Infinity;
+  for (let i = 1; i < ts.length; i++) {
+    const d = ts[i] - ts[i - 1];
+    if (d > 1e-9 && d < step) step = d;
+  }
+  if (!Number.isFinite(step)) return null;
+  for (let i = 1; i < ts.length; i++) {
+    if (ts[i] <= fromSeconds + 1e-9 || ts[i] > toSeconds + 1e-9) continue;
+    if (ts[i] - ts[i - 1] > 1.5 * step) return ts[i - 1] + step;
+  }
+  return null;
+}
+
+/**
  * The voltage moved on while a completed window was waiting for the creep to die out (the user, a
  * sequencer or a recording does not wait for the screen): the last full window before the move is taken
- * rather than thrown away. It ends `MOVE_MARGIN_SECONDS` before the first sign of the move (see
- * {@link leftBandAt}; else the plateau's last in-band reading), so no sample of the glide enters it. Its
+ * rather than thrown away. It ends `MOVE_MARGIN_SECONDS` before the first sign of the move since the window
+ * first completed (a reading out of the band, {@link leftBandAt}, or readings with no pitch,
+ * {@link readingsStoppedAt}; else the plateau's last in-band reading), so no sample of the glide enters it. Its
  * residual creep counts into its uncertainty as on the settle timeout, and it is flagged `still-settling`
  * unless the slope up to its end already met the limit. Returns false (the window is dropped as before)
  * for a manual capture, or when no full window fits between its first completion and the move.
@@ -918,7 +940,10 @@ function leftBandAt(s: RunState, plateau: Plateau, fromSeconds: number, toSecond
 function closeBeforeMove(s: RunState, cap: CaptureWindow, plateau: Plateau, t: number): boolean {
   if (cap.how === 'manual' || cap.firstCloseSeconds === null) return false;
   const firstClose = cap.firstCloseSeconds;
-  const moveAt = leftBandAt(s, plateau, firstClose, plateau.endSeconds) ?? plateau.endSeconds;
+  const moveAt = Math.min(
+    leftBandAt(s, plateau, firstClose, plateau.endSeconds) ?? plateau.endSeconds,
+    readingsStoppedAt(s, firstClose, plateau.endSeconds) ?? plateau.endSeconds,
+  );
   const end = moveAt - MOVE_MARGIN_SECONDS;
   if (end < firstClose - 1e-9) return false;
   slideWindow(s, cap, end);

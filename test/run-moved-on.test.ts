@@ -72,7 +72,7 @@ describe('a source that moves on before the creep has died out', () => {
       expect(Math.abs(off), `${st.nominalVolts} V off by ${off} cents`).toBeLessThan(0.1);
       // The window lies inside the step's hold, before the glide to the next voltage.
       expect(c.startSeconds).toBeGreaterThan(truth.startSeconds);
-      if (i + 1 < volts.length) expect(c.endSeconds).toBeLessThan(rec.truth[i + 1].startSeconds - 0.15);
+      expect(c.endSeconds).toBeLessThan(rec.truth[i + 1].startSeconds - 0.15);
       // What is left of the tail is inside the stated uncertainty (k = 2).
       expect(Math.abs(off)).toBeLessThan(2 * c.uncertaintyCents + 0.005);
     }
