@@ -77,8 +77,7 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
             {fit ? `${formatCents(fit.scaleErrorCentsPerOctave)} ¢/oct` : '—'}
             {fit && scaleU !== null && (
               <small>
-                {' '}
-                ± {formatUncertainty(scaleU.value)} ({scaleU.what})
+                ± {formatUncertainty(scaleU.value)} ¢/oct ({scaleU.what})
               </small>
             )}
           </div>
@@ -95,7 +94,6 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
             {fit ? `${formatHz(fit.hzAt0V)} Hz` : '—'}
             {fit && pb && (
               <small>
-                {' '}
                 ± {formatUncertainty(pb.expandedCents)} ¢ (U, k = {pb.coverageFactor.toFixed(2)})
               </small>
             )}
