@@ -130,6 +130,8 @@ describe.skipIf(!enabled)('bench checks in Chromium', () => {
       expect(await reasonOf(volts)).toContain(why);
       expect(await page.isDisabled(start)).toBe(true);
     }
+    await page.fill(volts, '1e9');
+    await page.screenshot({ path: path.join(SHOTS, 'drift-invalid-1280x800.png') });
     await page.fill(volts, '2,5');
     expect(await page.getAttribute(volts, 'aria-invalid')).toBe('false');
     await page.fill(win, '5');

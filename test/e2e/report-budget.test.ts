@@ -56,6 +56,15 @@ describe.skipIf(!enabled)('the uncertainty budget in the report, in Chromium', (
     await page.click('[data-testid="run-item"]:nth-child(1) [data-testid="view-run"]');
     await page.waitForSelector('[data-testid="saved-run"]');
 
+    // The saved run's budget on screen, behind its heading.
+    await page.click('[data-testid="saved-budget"] summary');
+    const shown = await page.$$eval('[data-testid="saved-budget"] [data-testid="budget-row"]', (els) =>
+      els.map((e) => e.getAttribute('data-key')),
+    );
+    expect(shown).toEqual(['scale', 'pitch-at-0v', 'step-1', 'step-2', 'step-3', 'step-4', 'step-5']);
+    await page.$eval('[data-testid="saved-budget"]', (el) => el.scrollIntoView());
+    await page.screenshot({ path: path.join(SHOTS, 'book-budget-1280x800.png') });
+
     const csv = await downloadText(page, 'export-csv');
     const rows = Papa.parse<string[]>(csv.slice(1), { delimiter: ',', newline: '\r\n' }).data;
     const head = new Map(rows.filter((r) => r.length === 2).map((r) => [r[0], r[1]]));
