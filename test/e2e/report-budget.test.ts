@@ -62,7 +62,11 @@ describe.skipIf(!enabled)('the uncertainty budget in the report, in Chromium', (
       els.map((e) => e.getAttribute('data-key')),
     );
     expect(shown).toEqual(['scale', 'pitch-at-0v', 'step-1', 'step-2', 'step-3', 'step-4', 'step-5']);
-    await page.$eval('[data-testid="saved-budget"]', (el) => el.scrollIntoView());
+    // Scroll the work panel (not the window) to the budget, as the wheel would.
+    await page.$eval('[data-testid="saved-budget"]', (el) => {
+      const panel = el.closest('.right');
+      if (panel) panel.scrollTop += el.getBoundingClientRect().top - panel.getBoundingClientRect().top - 40;
+    });
     await page.screenshot({ path: path.join(SHOTS, 'book-budget-1280x800.png') });
 
     const csv = await downloadText(page, 'export-csv');
