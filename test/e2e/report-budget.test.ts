@@ -13,8 +13,34 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { CSV_STEP_COLUMNS } from '../../renderer/src/lib/export.ts';
-import { chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
-import { SHOTS, finishRun, launch, openApp, programAvailable } from './screens-helpers.ts';
+import { ROOT, chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
+import { SHOTS, finishRun, launch, programAvailable } from './screens-helpers.ts';
+
+/** axe-core, the general-purpose accessibility checker from npm (WCAG 2.x rules). */
+const AXE = readFileSync(path.join(ROOT, 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
+
+/** Serious and critical axe violations on the page, one line each. */
+async function axeProblems(page: Page): Promise<string[]> {
+  await page.evaluate(AXE);
+  return page.evaluate(async () => {
+    type V = {
+      id: string;
+      impact: string | null;
+      nodes: { target: unknown[]; failureSummary?: string }[];
+    };
+    const axe = (window as unknown as { axe: { run(d: Document, o: object): Promise<{ violations: V[] }> } })
+      .axe;
+    const r = await axe.run(document, { resultTypes: ['violations'] });
+    return r.violations
+      .filter((v) => v.impact === 'serious' || v.impact === 'critical')
+      .map(
+        (v) =>
+          `${document.documentElement.dataset.theme ?? ''} theme, ${v.impact} ${v.id}: ${v.nodes
+            .map((n) => `${n.target.join(' ')} (${(n.failureSummary ?? '').replace(/\s+/g, ' ')})`)
+            .join('; ')}`,
+      );
+  });
+}
 
 const enabled = chromiumAvailable();
 
@@ -42,7 +68,16 @@ describe.skipIf(!enabled)('the uncertainty budget in the report, in Chromium', (
 
   it('prints and exports a saved run with its budget per step, scale and 0 V pitch', async () => {
     // The invented Ostlund Lane unit OL3-0417 (a scale 4.2 cents per octave wide), on the simulator.
-    const page = await openApp(browser, server.url, { width: 1280, height: 800 }, '?input=sim&unit=ol3-0417');
+    // A context that lets axe's script past the page's Content-Security-Policy (as the a11y suite does).
+    const ctx = await browser.newContext({ bypassCSP: true, viewport: { width: 1280, height: 800 } });
+    const page = await ctx.newPage();
+    page.setDefaultTimeout(60_000);
+    // window.print() opens no dialog in a test: the report is printed with page.pdf() instead.
+    await page.addInitScript(() => {
+      window.print = () => undefined;
+    });
+    await page.goto(`${server.url}?input=sim&unit=ol3-0417`);
+    await page.waitForSelector('[data-testid="tab-run"]');
     await finishRun(page, '0,1,2,3,4');
     await page.click('[data-testid="tab-book"]');
     await page.fill('[data-testid="unit-name"]', 'OL3-0417');
@@ -68,6 +103,11 @@ describe.skipIf(!enabled)('the uncertainty budget in the report, in Chromium', (
       if (panel) panel.scrollTop += el.getBoundingClientRect().top - panel.getBoundingClientRect().top - 40;
     });
     await page.screenshot({ path: path.join(SHOTS, 'book-budget-1280x800.png') });
+    // No serious or critical accessibility problem with the budget open, in either theme.
+    expect(await axeProblems(page)).toEqual([]);
+    await page.click('[data-testid="theme-toggle"]');
+    expect(await axeProblems(page)).toEqual([]);
+    await page.screenshot({ path: path.join(SHOTS, 'book-budget-light-1280x800.png') });
 
     const csv = await downloadText(page, 'export-csv');
     const rows = Papa.parse<string[]>(csv.slice(1), { delimiter: ',', newline: '\r\n' }).data;
@@ -132,6 +172,6 @@ describe.skipIf(!enabled)('the uncertainty budget in the report, in Chromium', (
         }
       }
     }
-    await page.close();
+    await ctx.close();
   }, 240_000);
 });
