@@ -7,7 +7,6 @@
  */
 import type { CalibrationResult } from '../../../../dsp/result.ts';
 import { BUDGET_TERM_SOURCES } from '../../lib/export.ts';
-import { formatUncertainty } from '../../lib/format.ts';
 
 /** The contributions dsp/budget.ts names, in the order a budget lists them (BudgetSource). */
 export const BUDGET_SOURCES = BUDGET_TERM_SOURCES;
@@ -131,15 +130,6 @@ export function termOf(b: BudgetView, source: string): number | null {
   const t = b.terms.filter((x) => x.source === source);
   if (t.length === 0) return null;
   return Math.sqrt(t.reduce((a, x) => a + x.standard * x.standard, 0));
-}
-
-/** The largest contributions in words, two significant digits ("reference voltage 0.55, clock 0.034"). */
-export function mainContributions(b: BudgetView, n = 2): string {
-  return [...b.terms]
-    .sort((x, y) => y.standard - x.standard)
-    .slice(0, n)
-    .map((t) => `${t.label} ${formatUncertainty(t.standard)}`)
-    .join(', ');
 }
 
 /** A coverage factor with two decimals (k = 2.00, 2.13). */
