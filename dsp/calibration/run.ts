@@ -35,6 +35,7 @@ import {
   pushReading,
   resolvePlateauOptions,
   trailingSlope,
+  type Plateau,
   type PlateauDetectorState,
   type PlateauOptions,
 } from './plateau.ts';
@@ -85,6 +86,8 @@ export const DEFAULT_RUN_OPTIONS: Omit<RunOptions, 'plateau'> = Object.freeze({
 
 /** A move of the pitch this far from a capture window's mean, cents, means the user moved on. */
 const CAPTURE_JUMP_CENTS = 20;
+/** A window taken when the voltage moved on ends this long before the first sign of the move, seconds (three readings at 20 per second). */
+const MOVE_MARGIN_SECONDS = 0.15;
 /** Trailing span over which the creep's slope is measured, seconds (at least the capture window). */
 const CREEP_WINDOW_SECONDS = 2;
 
@@ -879,6 +882,80 @@ function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
   return false;
 }
 
+/**
+ * The first held reading in (fromSeconds, toSeconds] that left the plateau's band (the band of
+ * dsp/calibration/plateau.ts: max(minHalfWidth, k·mean σ) + maxHalfWidth about the plateau's mean), or null. Such a
+ * reading is the first sign that the voltage is moving on: the live tracker may read the first moments of
+ * a glide an octave low, so later readings can fall back into the band while the audio has already left.
+ */
+function leftBandAt(s: RunState, plateau: Plateau, fromSeconds: number, toSeconds: number): number | null {
+  const d = s.detector;
+  if (d.anchorHz === null) return null;
+  const po = s.options.plateau;
+  const band =
+    Math.max(po.minHalfWidthCents, po.sigmaMultiple * plateau.meanUncertaintyCents) + po.maxHalfWidthCents;
+  const meanCents = 1200 * Math.log2(plateau.meanHz / d.anchorHz);
+  for (let i = 0; i < d.times.length; i++) {
+    const ti = d.times[i];
+    if (ti <= fromSeconds + 1e-9 || ti > toSeconds + 1e-9) continue;
+    if (Math.abs(d.cents[i] - meanCents) > band) return ti;
+  }
+  return null;
+}
+
+/**
+ * Where the readings with a pitch first stopped coming at their usual rate in (fromSeconds, toSeconds],
+ * or null: the time one usual interval after the last regular reading. Readings with no pitch are not
+ * held by the detector, so a run of them (the tracker losing the pitch as it jumps, a recording looping
+ * back to its start) shows as a gap; the usual interval is the shortest spacing of the held readings.
+ */
+function readingsStoppedAt(s: RunState, fromSeconds: number, toSeconds: number): number | null {
+  const ts = s.detector.times;
+  let step = Infinity;
+  for (let i = 1; i < ts.length; i++) {
+    const d = ts[i] - ts[i - 1];
+    if (d > 1e-9 && d < step) step = d;
+  }
+  if (!Number.isFinite(step)) return null;
+  for (let i = 1; i < ts.length; i++) {
+    if (ts[i] <= fromSeconds + 1e-9 || ts[i] > toSeconds + 1e-9) continue;
+    if (ts[i] - ts[i - 1] > 1.5 * step) return ts[i - 1] + step;
+  }
+  return null;
+}
+
+/**
+ * The voltage moved on while a completed window was waiting for the creep to die out (the user, a
+ * sequencer or a recording does not wait for the screen): the last full window before the move is taken
+ * rather than thrown away. It ends `MOVE_MARGIN_SECONDS` before the first sign of the move since the window
+ * first completed (a reading out of the band, {@link leftBandAt}, or readings with no pitch,
+ * {@link readingsStoppedAt}; else the plateau's last in-band reading), so no sample of the glide enters it. Its
+ * residual creep counts into its uncertainty as on the settle timeout, and it is flagged `still-settling`
+ * unless the slope up to its end already met the limit. Returns false (the window is dropped as before)
+ * for a manual capture, or when no full window fits between its first completion and the move.
+ *
+ * @param plateau - The plateau that ended with the move.
+ * @param t - The reading that showed the move, seconds.
+ */
+function closeBeforeMove(s: RunState, cap: CaptureWindow, plateau: Plateau, t: number): boolean {
+  if (cap.how === 'manual' || cap.firstCloseSeconds === null) return false;
+  const firstClose = cap.firstCloseSeconds;
+  const moveAt = Math.min(
+    leftBandAt(s, plateau, firstClose, plateau.endSeconds) ?? plateau.endSeconds,
+    readingsStoppedAt(s, firstClose, plateau.endSeconds) ?? plateau.endSeconds,
+  );
+  const end = moveAt - MOVE_MARGIN_SECONDS;
+  if (end < firstClose - 1e-9) return false;
+  slideWindow(s, cap, end);
+  if (cap.count === 0) return false;
+  if (!settledEnough(s, cap, end)) cap.timedOut = true;
+  cap.closedAtSeconds = t;
+  s.pendingCapture = { stepIndex: cap.stepIndex, startSeconds: cap.startSeconds, endSeconds: cap.endSeconds };
+  s.phase = 'measuring';
+  s.progress = 1;
+  return true;
+}
+
 /** Moves a completed window on to the latest `captureSeconds` and rebuilds its live statistics. */
 function slideWindow(s: RunState, cap: CaptureWindow, t: number): void {
   cap.startSeconds = t - s.options.captureSeconds;
@@ -1016,6 +1093,7 @@ function onReading(s: RunState, reading: unknown): RunState {
       Math.abs(centsBetween(reading.hz, cap.anchorHz) - cap.meanCents) > CAPTURE_JUMP_CENTS;
     const lost = u.gap || (cap.plateauStartSeconds !== null && u.ended !== null && jumped);
     if (lost) {
+      if (!u.gap && u.ended && closeBeforeMove(s, cap, u.ended, t)) return s;
       dropCapture(s, u.gap ? 'signal-lost' : 'pitch-moved');
       toListening(s);
       return s;
@@ -1023,7 +1101,15 @@ function onReading(s: RunState, reading: unknown): RunState {
     if (reading.kind === 'ok' && t >= cap.startSeconds && t <= cap.endSeconds + 1e-9) {
       accumulate(cap, reading.hz, reading.uncertaintyCents);
     }
-    if (t >= cap.endSeconds - 1e-9 && cap.how !== 'manual' && !settledEnough(s, cap, t)) {
+    // A reading with no pitch, or one that left the band inside or after the window, may be the start of a
+    // move the tracker has not yet shown clearly: the window waits (sliding) until the plateau either
+    // holds or ends (then closeBeforeMove takes the window before the move).
+    const open = cap.how === 'manual' ? null : openPlateau(s.detector);
+    const moving =
+      t >= cap.endSeconds - 1e-9 &&
+      cap.how !== 'manual' &&
+      (reading.kind !== 'ok' || (open !== null && leftBandAt(s, open, cap.startSeconds, t) !== null));
+    if (moving || (t >= cap.endSeconds - 1e-9 && cap.how !== 'manual' && !settledEnough(s, cap, t))) {
       // Still creeping: the window slides on with the readings until the creep dies out or time is up.
       slideWindow(s, cap, t);
       s.progress = 1;

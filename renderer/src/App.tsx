@@ -194,7 +194,13 @@ export function App() {
   });
 
   // ---- First step: confirmed against what is known ---------------------------------------------
-  const first = useFirstStep(runState, audio.source === 'device', openRecord);
+  const first = useFirstStep(
+    runState,
+    audio.source === 'device' && !drive.handsOff.active,
+    openRecord,
+    sendEvent,
+    sendWithUndo,
+  );
 
   useRunKeys(runState, tab === 'run' && !bench, sendWithUndo, (key) => {
     if (first.needsAnswer && key.toLowerCase() === 'y') {
@@ -366,12 +372,8 @@ export function App() {
                 }
                 onOpenWav={onOpenWav}
                 wavStatus={wav.status && { ...wav.status, text: wav.status.text + runKeptNote }}
-                firstStep={
-                  <FirstStepQuestion
-                    first={first}
-                    onRedo={() => sendWithUndo({ type: 'redo', stepIndex: 0 })}
-                  />
-                }
+                firstStep={<FirstStepQuestion first={first} />}
+                firstStepHeld={first.holding}
                 onCheckAdvice={checkAdvice}
                 onBenchView={() => setBench(true)}
                 setup={

@@ -6,6 +6,8 @@
  *   fit never shows a scale error above 100 cents per octave from one typo;
  * - Scale pair opened straight after the run (which ended on 5 V; the pair is 1 and 3 V) gives no
  *   instruction until both of its own voltages have settled.
+ * - Hold & drift's fields go through the one number field: a value it cannot use is marked with the
+ *   reason and Start hold stays disabled; "2,5" is 2.5 V.
  *
  * The simulated unit is ol3-0417, whose octaves are 4.2 cents wide (dsp/sim/simulate.ts demo units); its
  * scale pair over two octaves therefore reads about +8.4 cents, far inside the 150-cent guard.
@@ -105,4 +107,47 @@ describe.skipIf(!enabled)('bench checks in Chromium', () => {
     }
     await page.screenshot({ path: path.join(SHOTS, 'pair-after-run-1280x800.png') });
   }, 90_000);
+
+  it('Hold & drift: a value the fields cannot use is marked with the reason and never used', async () => {
+    await page.click('[data-testid="tab-drift"]');
+    const volts = '[data-testid="drift-volts"]';
+    const win = '[data-testid="drift-window"]';
+    const start = '[data-testid="drift-start"]';
+    const reasonOf = (sel: string) =>
+      page.$eval(sel, (el) => {
+        const ids = (el.getAttribute('aria-describedby') ?? '').split(' ');
+        return ids.map((id) => document.getElementById(id)?.textContent ?? '').join(' | ');
+      });
+    for (const [text, why] of [
+      ['1e9', 'no exponent'],
+      ['abc', 'digits only'],
+      ['-', 'not a number'],
+      ['', 'needs a value'],
+      ['40', 'between −12 and 12 V'],
+    ] as const) {
+      await page.fill(volts, text);
+      expect(await page.getAttribute(volts, 'aria-invalid')).toBe('true');
+      expect(await reasonOf(volts)).toContain(why);
+      expect(await page.isDisabled(start)).toBe(true);
+    }
+    await page.fill(volts, '1e9');
+    await page.screenshot({ path: path.join(SHOTS, 'drift-invalid-1280x800.png') });
+    await page.fill(volts, '2,5');
+    expect(await page.getAttribute(volts, 'aria-invalid')).toBe('false');
+    await page.fill(win, '5');
+    expect(await reasonOf(win)).toContain('between 10 and 3600 s');
+    expect(await page.isDisabled(start)).toBe(true);
+    await page.fill(win, '30');
+    expect(await page.isDisabled(start)).toBe(false);
+    await page.screenshot({ path: path.join(SHOTS, 'drift-fields-1280x800.png') });
+    await page.click(start);
+    // The hold is at the value shown, 2.5 V: the simulator's control voltage goes there.
+    await page.waitForFunction(
+      () => document.querySelector('[data-testid="drift-stop"]') !== null,
+      undefined,
+      { timeout: 20_000 },
+    );
+    expect(await page.isDisabled(volts)).toBe(true);
+    await page.click('[data-testid="drift-stop"]');
+  }, 60_000);
 });

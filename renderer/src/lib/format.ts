@@ -2,6 +2,7 @@
  * Number formatting for the bench display: enough digits to show a hundredth of a cent, never more, and
  * signs written with a true minus so columns line up.
  */
+import { formatUncertainty as formatTwoDigits } from '../../../dsp/model/index.ts';
 import type { Cents, Hertz } from '../../../dsp/math/index.ts';
 
 /** Frequency ratio of 0.01 cent, `2^(0.01/1200) − 1` (cents after A. J. Ellis, 1885). */
@@ -50,16 +51,16 @@ export function formatCents(c: Cents | null | undefined, decimals = 2): string {
 }
 
 /**
- * An uncertainty in cents: two significant digits, at least two decimals.
+ * An uncertainty: two significant digits (JCGM 100:2008 §7.2.6), through the one formatter every view and
+ * the command line use (dsp/model/budget.ts); '—' when there is none.
  *
  * @example formatUncertainty(0.0123) // '0.012'
- * @example formatUncertainty(1.5) // '1.50'
+ * @example formatUncertainty(1.5) // '1.5'
+ * @example formatUncertainty(null) // '—'
  */
 export function formatUncertainty(c: Cents | null | undefined): string {
   if (c === null || c === undefined || !Number.isFinite(c)) return '—';
-  if (c === 0) return '0.00';
-  const decimals = Math.max(2, Math.min(6, 1 - Math.floor(Math.log10(Math.abs(c)))));
-  return c.toFixed(decimals);
+  return formatTwoDigits(c);
 }
 
 /**

@@ -4,9 +4,19 @@
  */
 import { useState } from 'react';
 import type { DriftView } from '../engine/protocol.ts';
+import { numberOrNull, type NumberRule } from '../lib/fields.ts';
 import { formatCents, formatClock } from '../lib/format.ts';
 import { DriftChart } from './charts.tsx';
 import { DriftLogBar, type DriftKeeper } from './DriftLogBar.tsx';
+import { NumberField } from './NumberField.tsx';
+
+/** The held voltage: the span of the scale pair's fields (TwoPointPanel), V. */
+export const DRIFT_VOLT_RULE: NumberRule = { min: -12, max: 12, unit: 'V', optional: false };
+/**
+ * The window the drift rate is fitted over, s: at least 10 s (fewer readings give no useful slope), at
+ * most an hour (common practice, no source: a warm-up is judged over minutes).
+ */
+export const DRIFT_WINDOW_RULE: NumberRule = { min: 10, max: 3600, unit: 's', optional: false };
 
 export function DriftPanel(props: {
   view: DriftView | null;
@@ -18,6 +28,9 @@ export function DriftPanel(props: {
 }) {
   const [volts, setVolts] = useState('2');
   const [win, setWin] = useState('60');
+  // Only the values the fields show as valid are ever used (lib/fields.ts).
+  const heldVolts = numberOrNull(volts, DRIFT_VOLT_RULE);
+  const windowSeconds = numberOrNull(win, DRIFT_WINDOW_RULE);
   const v = props.view;
   const res = v?.result;
   const lastRate = v && v.rates.length > 0 ? v.rates[v.rates.length - 1].centsPerMinute : null;
@@ -28,26 +41,34 @@ export function DriftPanel(props: {
         about 0.1 ¢ per minute (usually after 15–30 minutes).
       </p>
       <div className="row">
-        <label className="field">
-          <span>Hold at V</span>
-          <input
-            value={volts}
-            onChange={(e) => setVolts(e.target.value)}
-            inputMode="decimal"
-            disabled={!!v}
-          />
-        </label>
-        <label className="field">
-          <span>Rate window, s</span>
-          <input value={win} onChange={(e) => setWin(e.target.value)} inputMode="decimal" disabled={!!v} />
-        </label>
+        <NumberField
+          label="Hold at, V"
+          value={volts}
+          onChange={setVolts}
+          rule={DRIFT_VOLT_RULE}
+          disabled={!!v}
+          testId="drift-volts"
+        />
+        <NumberField
+          label="Rate window, s"
+          value={win}
+          onChange={setWin}
+          rule={DRIFT_WINDOW_RULE}
+          disabled={!!v}
+          testId="drift-window"
+        />
         {v ? (
-          <button onClick={props.onStop}>Stop</button>
+          <button onClick={props.onStop} data-testid="drift-stop">
+            Stop
+          </button>
         ) : (
           <button
             className="primary"
-            disabled={!Number.isFinite(Number(volts)) || !(Number(win) >= 10)}
-            onClick={() => props.onStart(Number(volts), Number(win))}
+            disabled={heldVolts === null || windowSeconds === null}
+            onClick={() => {
+              if (heldVolts !== null && windowSeconds !== null) props.onStart(heldVolts, windowSeconds);
+            }}
+            data-testid="drift-start"
           >
             Start hold
           </button>

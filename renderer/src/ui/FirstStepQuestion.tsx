@@ -2,7 +2,7 @@
 import type { FirstStep } from '../hooks/useFirstStep.ts';
 import { formatHz, formatVolts } from '../lib/format.ts';
 
-export function FirstStepQuestion(props: { first: FirstStep; onRedo(): void }) {
+export function FirstStepQuestion(props: { first: FirstStep }) {
   const { first } = props;
   if (!first.step) return null;
   if (first.needsAnswer) {
@@ -13,13 +13,15 @@ export function FirstStepQuestion(props: { first: FirstStep; onRedo(): void }) {
           Is this {v}? Step 1 read {formatHz(first.step.hz)} Hz.
         </strong>
         <span>
-          If the voltage was not {v}, every step would be labelled wrong: confirm, or redo step 1 with the
-          right voltage.
+          If the voltage was not {v}, every step would be labelled wrong: the run waits for your answer.
+          Confirm, or set {v} and measure step 1 again.
         </span>
         <button onClick={first.confirm} data-testid="first-step-yes">
           Yes, it is <kbd>Y</kbd>
         </button>
-        <button onClick={props.onRedo}>Redo step 1</button>
+        <button onClick={first.redo} data-testid="first-step-redo">
+          No: measure step 1 again
+        </button>
       </div>
     );
   }

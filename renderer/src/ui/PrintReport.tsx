@@ -6,6 +6,7 @@
 import { memo } from 'react';
 import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
 import { StepChart } from './charts.tsx';
+import { BudgetTable } from './results/BudgetTable.tsx';
 import { formatTakenAt, verdictFor, type RunReport } from './results/index.ts';
 
 function Meta(props: { k: string; v: string | null | undefined }) {
@@ -29,6 +30,14 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
   }
   const verdict = verdictFor(r.result, r.toleranceCents);
   const fit = r.result.fit;
+  // The scale error's expanded uncertainty from its budget; an older record has only the fit's standard error.
+  const sb = r.result.source?.fit?.scaleBudget ?? null;
+  const scaleU = sb
+    ? { value: sb.expandedCents, what: `U, k = ${sb.coverageFactor.toFixed(2)}` }
+    : fit && fit.scaleErrorStdErrCents !== null
+      ? { value: fit.scaleErrorStdErrCents, what: '1σ' }
+      : null;
+  const pb = r.result.source?.fit?.pitchAt0VBudget ?? null;
   return (
     <section className="print-report" aria-hidden="true" data-testid="print-report">
       <header className="print-head">
@@ -66,8 +75,10 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
           <div className="print-label">Scale error</div>
           <div className="print-figure">
             {fit ? `${formatCents(fit.scaleErrorCentsPerOctave)} ¢/oct` : '—'}
-            {fit && fit.scaleErrorStdErrCents !== null && (
-              <small> ± {formatUncertainty(fit.scaleErrorStdErrCents)}</small>
+            {fit && scaleU !== null && (
+              <small>
+                ± {formatUncertainty(scaleU.value)} ¢/oct ({scaleU.what})
+              </small>
             )}
           </div>
         </div>
@@ -79,7 +90,14 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
         </div>
         <div>
           <div className="print-label">Pitch at 0 V</div>
-          <div className="print-figure">{fit ? `${formatHz(fit.hzAt0V)} Hz` : '—'}</div>
+          <div className="print-figure">
+            {fit ? `${formatHz(fit.hzAt0V)} Hz` : '—'}
+            {fit && pb && (
+              <small>
+                ± {formatUncertainty(pb.expandedCents)} ¢ (U, k = {pb.coverageFactor.toFixed(2)})
+              </small>
+            )}
+          </div>
         </div>
       </div>
       <p className="print-verdict-text">{verdict.text}.</p>
@@ -100,7 +118,7 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
                 <th>Note</th>
                 <th>From ideal, ¢</th>
                 <th>Interval error, ¢</th>
-                <th>±, ¢ (1σ)</th>
+                <th>u, ¢ (1σ)</th>
               </tr>
             </thead>
             <tbody>
@@ -131,6 +149,15 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
               }))}
             />
           </div>
+          <div className="print-budget" data-testid="print-budget">
+            <h2>Uncertainty budget</h2>
+            <p className="print-budget-note">
+              Standard uncertainty of each contribution and combined (u<sub>c</sub>), in cents (cents per
+              octave for the scale error); U = k·u<sub>c</sub> with k for a coverage of about 95 %. A
+              step&apos;s budget is that of its pitch at its voltage.
+            </p>
+            <BudgetTable result={r.result.source} className="print-budget-table" />
+          </div>
           {r.result.advice.length > 0 && (
             <div className="print-advice">
               <h2>Trim advice</h2>
@@ -150,8 +177,9 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
           Frequencies measured by Spanmeter {r.softwareVersion}. Notes use A4 = 440 Hz (ISO 16) and middle C =
           C4. Cents are 1200·log2 of a frequency ratio. “From ideal” is the error against an exact 1 V/octave
           line through the lowest step; “interval error” is the error of each interval from the next lower
-          voltage (positive: the interval is wide). Uncertainties are one standard uncertainty (GUM, JCGM
-          100:2008).
+          voltage (positive: the interval is wide). In the step table, u is one standard uncertainty; U in the
+          budget is the expanded uncertainty (GUM, JCGM 100:2008). Uncertainties are given to two significant
+          digits.
         </p>
         <p className="print-sign">Checked by: ______________________ Date: ____________</p>
       </footer>

@@ -13,6 +13,7 @@ import { formatCents } from '../lib/format.ts';
 import type { RecordStore } from '../storage/store.ts';
 import { CompareChart, StepChart } from './charts.tsx';
 import { NumberField } from './NumberField.tsx';
+import { BudgetTable } from './results/BudgetTable.tsx';
 import {
   AdviceList,
   DEFAULT_TOLERANCE_CENTS,
@@ -607,6 +608,16 @@ export function RecordsPanel(p: RecordsPanelProps) {
             <FitSummary result={viewReport.result} />
           </div>
           <AdviceList result={viewReport.result} />
+          <details className="budget-details" data-testid="saved-budget">
+            <summary>Uncertainty budget</summary>
+            <p className="dim small">
+              Standard uncertainties in cents (cents per octave for the scale error); U = k·u<sub>c</sub> for
+              a coverage of about 95 % (GUM, JCGM 100:2008).
+            </p>
+            <div className="table-wrap">
+              <BudgetTable result={viewReport.result.source} />
+            </div>
+          </details>
         </section>
       )}
     </div>

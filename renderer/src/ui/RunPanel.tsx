@@ -33,7 +33,7 @@ function formatCreep(centsPerSecond: number | null): string {
 export function promptFor(
   s: RunState,
   simulated: boolean,
-  why: { pausedReason?: string | null; waitingForInput?: boolean } = {},
+  why: { pausedReason?: string | null; waitingForInput?: boolean; firstStepHeld?: boolean } = {},
 ): { title: string; detail: string } {
   const st = s.steps[s.current];
   const v = formatVolts(st?.nominalVolts ?? 0);
@@ -81,6 +81,12 @@ export function promptFor(
     case 'confirm-pitch':
       return { title: `Unexpected pitch at ${v}`, detail: 'Answer the question below to go on.' };
     case 'paused':
+      if (why.firstStepHeld) {
+        return {
+          title: 'Waiting for your answer',
+          detail: `Is step 1 really ${formatVolts(s.steps[0]?.nominalVolts ?? 0)}? Answer the question below; no later step is taken until then.`,
+        };
+      }
       return {
         title: 'Paused',
         detail: `${why.pausedReason ? `${why.pausedReason} ` : ''}Step ${s.current + 1} of ${s.steps.length} (${v}) is next.${why.pausedReason ? '' : ' Resume to go on.'}`,
@@ -170,6 +176,8 @@ export interface RunPanelProps {
   setup?: ReactNode;
   /** The first-step question, when open. */
   firstStep?: ReactNode;
+  /** True while the run is paused for the first step's question (hooks/useFirstStep.ts). */
+  firstStepHeld?: boolean;
   /** Opens the scale pair from a piece of advice. */
   onCheckAdvice?(trimmer: 'scale' | 'hf'): void;
   /** Opens the full-screen bench view. */
@@ -305,7 +313,13 @@ export function RunPanel(p: RunPanelProps) {
     if (pt) rowByStep.set(pt.stepIndex, r);
   });
   const result = p.analysis ? resultFromAnalysis(p.analysis) : null;
-  const prompt = s ? promptFor(s, p.simulated, p.run ?? {}) : null;
+  const prompt = s
+    ? promptFor(s, p.simulated, {
+        pausedReason: p.run?.pausedReason ?? null,
+        waitingForInput: p.run?.waitingForInput ?? false,
+        firstStepHeld: p.firstStepHeld ?? false,
+      })
+    : null;
   const redo = s ? redoTarget(s) : 0;
   return (
     <div className="run-panel">
@@ -507,6 +521,7 @@ export function RunPanel(p: RunPanelProps) {
                         row.intervalErrorCents === null ? '' : String(row.intervalErrorCents)
                       }
                       data-source={st.capture.source}
+                      data-flags={st.capture.flags.join(' ')}
                       data-captured-at={String(p.run?.capturedAt[st.index] ?? '')}
                       data-step-started-at={String(p.run?.stepStartedAt[st.index] ?? '')}
                       className={cur ? 'current' : ''}

@@ -1,6 +1,7 @@
 /** The fit of a result: scale error with its uncertainty, octaves per volt, pitch at 0 V, residual, bends. */
 import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
 import { formatCents, formatHz, formatUncertainty } from '../../lib/format.ts';
+import { budgetSourceLabel } from './budget.ts';
 import type { ResultModel } from './model.ts';
 
 /**
@@ -12,7 +13,7 @@ function ModelBudgetRows(props: { result: CalibrationResult }) {
   if (!rf?.model) return null;
   const m = rf.model;
   const top = (b: NonNullable<typeof rf.scaleBudget>) =>
-    [...b.terms].sort((a, c) => c.standardCents - a.standardCents)[0]?.source ?? '—';
+    budgetSourceLabel([...b.terms].sort((a, c) => c.standardCents - a.standardCents)[0]?.source ?? '—');
   const suspects = props.result.steps.filter((s) => s.flags.includes('suspect-voltage'));
   return (
     <>

@@ -1,5 +1,6 @@
 /** The result views shared by the run, the recording, the unit book and the printed report. */
 export { AdviceList } from './AdviceList.tsx';
+export { BudgetTable } from './BudgetTable.tsx';
 export { ErrorTableHead, COLUMN_HELP } from './ErrorTableHead.tsx';
 export { FitSummary } from './FitSummary.tsx';
 export {

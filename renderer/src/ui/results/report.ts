@@ -7,7 +7,8 @@ import { version as SOFTWARE_VERSION } from '../../../../package.json';
 import { resultToJsonText } from '../../../../dsp/calibration/index.ts';
 import type { Run, UnitRecord } from '../../../../main/api-types.ts';
 import { toCsv, type CsvCell } from '../../lib/csv.ts';
-import { CSV_STEP_COLUMNS } from '../../lib/export.ts';
+import { CSV_STEP_COLUMNS, fitBudgetLines, stepBudgetCells } from '../../lib/export.ts';
+import { budgetsOf } from './budget.ts';
 import { resultFromStored, type ResultModel } from './model.ts';
 
 export { SOFTWARE_VERSION };
@@ -102,8 +103,9 @@ export function formatTakenAt(iso: string | null): string {
 
 /**
  * The run as CSV: `key,value` lines (unit, serial, label, taken_at, room temperature, meter, warm-up,
- * notes, tolerance, verdict, software, fit), a blank line, then one row per step in voltage order with
- * the columns of the live export (`CSV_STEP_COLUMNS`, lib/export.ts).
+ * notes, tolerance, verdict, software, fit, the budgets of the scale error and the 0 V pitch), a blank
+ * line, then one row per step in voltage order with the columns of the live export (`CSV_STEP_COLUMNS`,
+ * lib/export.ts, the step's budget included).
  *
  * @example reportToCsv(report).split('\r\n')[0] // 'unit,OL3-0417'
  */
@@ -129,6 +131,9 @@ export function reportToCsv(r: RunReport): string {
     add('scale_error_cents_per_octave', r.result.fit.scaleErrorCentsPerOctave);
     add('hz_at_0v', r.result.fit.hzAt0V);
   }
+  const fb = r.result.source?.fit;
+  head.push(...fitBudgetLines('scale_error', 'cents_per_octave', fb?.scaleBudget));
+  head.push(...fitBudgetLines('pitch_at_0v', 'cents', fb?.pitchAt0VBudget));
   const rows: CsvCell[][] = r.result.rows.map((x) => [
     x.step,
     x.nominalVolts,
@@ -139,13 +144,14 @@ export function reportToCsv(r: RunReport): string {
     x.noteCents,
     x.centsFromIdeal,
     x.intervalErrorCents,
+    ...stepBudgetCells(r.result.source, x.step - 1),
   ]);
   return toCsv([...head, [], [...CSV_STEP_COLUMNS], ...rows]);
 }
 
 /**
  * The run as JSON: `{ format, software, unit: {…}, run: { label, takenAt, plan, steps, fit, advice,
- * verdict }, result }`, every value the run's own; `result` is the run's one result in the one JSON
+ * verdict, budget }, result }`, every value the run's own; `result` is the run's one result in the one JSON
  * shape (`resultToJsonText`, dsp/calibration/result.ts).
  */
 export function reportToJson(r: RunReport): string {
@@ -189,6 +195,21 @@ export function reportToJson(r: RunReport): string {
         },
         advice: r.result.advice.map((a) => ({ trimmer: a.trimmer, status: a.status, text: a.text })),
         verdict: { kind: v.kind, worstCents: v.worstCents },
+        // The uncertainty budgets (dsp/model/budget.ts): scale, 0 V pitch and each step, with named contributions.
+        budget: budgetsOf(r.result.source).map((b) => ({
+          quantity: b.quantity,
+          unit: b.unit === '¢/oct' ? 'cents per octave' : 'cents',
+          step: b.step?.number ?? null,
+          combinedStandardUncertainty: b.combined,
+          coverageFactor: b.coverageFactor,
+          expandedUncertainty: b.expanded,
+          contributions: b.terms.map((t) => ({
+            source: t.source,
+            name: t.label,
+            type: t.type,
+            standardUncertainty: t.standard,
+          })),
+        })),
       },
       // The run's one result, in the one JSON shape (dsp/calibration/result.ts, as `spanmeter analyze --json`).
       result: r.result.source ? (JSON.parse(resultToJsonText(r.result.source)) as unknown) : null,
