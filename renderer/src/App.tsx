@@ -26,6 +26,7 @@ import { useTheme } from './hooks/useTheme.ts';
 import { useWavAnalysis } from './hooks/useWavAnalysis.ts';
 import { recordingAsRunAnalysis, runAnalysisOf } from './lib/analysis.ts';
 import { parseStartupParams } from './lib/params.ts';
+import { numberOrNull } from './lib/fields.ts';
 import { loadSetup, saveSetup, setupOptions, type SetupForm } from './lib/setup.ts';
 import { simSettingsForUnit } from './lib/sim-settings.ts';
 import { pickStore } from './storage/store.ts';
@@ -38,9 +39,9 @@ import { FirstStepQuestion } from './ui/FirstStepQuestion.tsx';
 import { InputPanel } from './ui/InputPanel.tsx';
 import { LiveReadout } from './ui/LiveReadout.tsx';
 import { PrintReport } from './ui/PrintReport.tsx';
-import { EMPTY_UNIT_INFO, RecordsPanel, type UnitInfo } from './ui/RecordsPanel.tsx';
+import { EMPTY_UNIT_INFO, RecordsPanel, UNIT_RULES, type UnitInfo } from './ui/RecordsPanel.tsx';
 import { RecordingPanel } from './ui/RecordingPanel.tsx';
-import { resultFromAnalysis } from './ui/results/index.ts';
+import { DEFAULT_TOLERANCE_CENTS, resultFromAnalysis } from './ui/results/index.ts';
 import { OpenWavControl, RunPanel } from './ui/RunPanel.tsx';
 import { SetupPanel } from './ui/SetupPanel.tsx';
 import { useDrive } from './drive/use-drive.ts';
@@ -99,7 +100,14 @@ export function App() {
   const [runTakenAt, setRunTakenAt] = useState<string | null>(null);
   /** The Span run's Setup (clock correction, fit range and input network), kept between sessions. */
   const [setupForm, setSetupForm] = useState<SetupForm>(() => loadSetup(pageStorage()));
-  const setup = useMemo(() => setupOptions(setupForm), [setupForm]);
+  // One tolerance on every screen: the unit's (or the book's default), for the live run, an opened
+  // recording, the book and the report alike.
+  const unitToleranceCents =
+    numberOrNull(info.toleranceCents, UNIT_RULES.toleranceCents) ?? DEFAULT_TOLERANCE_CENTS;
+  const setup = useMemo(
+    () => ({ ...setupOptions(setupForm), toleranceCents: unitToleranceCents }),
+    [setupForm, unitToleranceCents],
+  );
   useEffect(() => saveSetup(pageStorage(), setupForm), [setupForm]);
 
   // ---- Modes ---------------------------------------------------------------------------------
@@ -138,6 +146,7 @@ export function App() {
         ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
         ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
         ...(setup.network === undefined ? {} : { network: setup.network }),
+        toleranceCents: setup.toleranceCents,
       },
     });
   }, [client, setup]);

@@ -37,6 +37,8 @@ export interface WavAnalysisRequest {
   readonly fitToVolts?: Volts;
   /** The input network, for resistor values in the scale advice (dsp/advice/advice.ts). */
   readonly network?: InputNetwork;
+  /** The unit's tolerance over the range in use, cents, > 0 (dsp/model/tolerance.ts); default 1. */
+  readonly toleranceCents?: number;
 }
 
 /** The file as decoded, for the status line. */
@@ -160,6 +162,7 @@ export function analyzeWavSource(
         ...(request.fitFromVolts === undefined ? {} : { fitFromVolts: request.fitFromVolts }),
         ...(request.fitToVolts === undefined ? {} : { fitToVolts: request.fitToVolts }),
         ...(request.network === undefined ? {} : { network: request.network }),
+        ...(request.toleranceCents === undefined ? {} : { toleranceCents: request.toleranceCents }),
       },
       onProgress,
     );

@@ -41,6 +41,11 @@ export interface SetupOptions extends CalibrationOptions {
   readonly clockPpm: number;
   /** One line per field that could not be used (that field is left out of the options). */
   readonly problems: readonly string[];
+  /**
+   * The unit's tolerance, cents (the unit form's, or the book's default): the live run, an opened recording,
+   * the book and the report judge against this one figure. Not part of the Setup form; the app adds it.
+   */
+  readonly toleranceCents?: number;
 }
 
 /** Names of the two resistors of each network, for labels and messages. */
