@@ -4,7 +4,7 @@ import {
   adviseTrim,
   inputNetworkGain,
   scaleCorrectionResistors,
-  twoPointIntervalError,
+  scalePairIntervalError,
 } from '../dsp/advice/index.ts';
 import { analyzeBends, fitTracking, type TrackingPoint } from '../dsp/model/index.ts';
 import {
@@ -38,10 +38,10 @@ function steps(
   });
 }
 
-describe('twoPointIntervalError', () => {
+describe('scalePairIntervalError', () => {
   it('measures the interval against 1200 cents per volt', () => {
     // Ellis 1885: interval = 1200·log2(f2/f1); docs/facts.md: set the scale from an interval.
-    const r = twoPointIntervalError(130, 519.04, 1, 3);
+    const r = scalePairIntervalError(130, 519.04, 1, 3);
     const interval = 1200 * Math.log2(519.04 / 130);
     expect(r.intervalCents).toBeCloseTo(interval, 12);
     expect(r.expectedCents).toBe(2400);
@@ -55,26 +55,26 @@ describe('twoPointIntervalError', () => {
   });
 
   it('says narrow when the interval is wide, and leaves a good one alone', () => {
-    expect(twoPointIntervalError(100, 401, 0, 2).direction).toBe('narrow');
-    const good = twoPointIntervalError(100, 400, 0, 2);
+    expect(scalePairIntervalError(100, 401, 0, 2).direction).toBe('narrow');
+    const good = scalePairIntervalError(100, 400, 0, 2);
     expect(good).toMatchObject({ direction: 'none', withinTolerance: true, errorCents: 0 });
     expect(good.text).toContain('leave the scale trimmer');
   });
 
   it('uses the tolerance over the interval', () => {
     const hz = 100 * 2 ** (2 + 0.8 / 1200); // 0.8 cents wide over two octaves
-    expect(twoPointIntervalError(100, hz, 0, 2).withinTolerance).toBe(true);
-    expect(twoPointIntervalError(100, hz, 0, 2, 0.5).direction).toBe('narrow');
+    expect(scalePairIntervalError(100, hz, 0, 2).withinTolerance).toBe(true);
+    expect(scalePairIntervalError(100, hz, 0, 2, 0.5).direction).toBe('narrow');
   });
 
   it('rejects invalid input', () => {
-    expect(() => twoPointIntervalError(0, 200, 0, 1)).toThrow(
+    expect(() => scalePairIntervalError(0, 200, 0, 1)).toThrow(
       'hzLow must be a finite number greater than 0, got 0',
     );
-    expect(() => twoPointIntervalError(100, 200, 1, 1)).toThrow(
+    expect(() => scalePairIntervalError(100, 200, 1, 1)).toThrow(
       'voltsHigh must be a finite number greater than voltsLow (1), got 1',
     );
-    expect(() => twoPointIntervalError(100, 200, 0, 1, -1)).toThrow(
+    expect(() => scalePairIntervalError(100, 200, 0, 1, -1)).toThrow(
       'toleranceCents must be a finite number at least 0, got -1',
     );
   });

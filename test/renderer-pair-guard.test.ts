@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { EngineCore, PAIR_GUARD_CENTS } from '../renderer/src/engine/core.ts';
-import type { FromEngine, TwoPointView } from '../renderer/src/engine/protocol.ts';
+import type { FromEngine, ScalePairView } from '../renderer/src/engine/protocol.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
 
 function engine() {
@@ -22,17 +22,17 @@ describe('the scale pair after a run on another voltage', () => {
     const options = simOptions(simSettingsForUnit('ol3-0417'));
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 7 });
     core.handle({
-      type: 'two-point-config',
+      type: 'scale-pair-config',
       config: { voltsLow: 1, voltsHigh: 3, toleranceCents: 1, alternateSeconds: 3 },
     });
     // Sit on 7 V long enough to settle there, as at the end of a run.
     for (let i = 0; i < 40; i++) core.tickSim(0.05);
     const from = messages.length;
-    core.handle({ type: 'mode', mode: 'two-point' });
+    core.handle({ type: 'mode', mode: 'scale-pair' });
     for (let i = 0; i < 300; i++) core.tickSim(0.05);
     const views = messages
       .slice(from)
-      .flatMap((m) => (m.type === 'tick' && m.twoPoint ? [m.twoPoint] : [])) as TwoPointView[];
+      .flatMap((m) => (m.type === 'tick' && m.scalePair ? [m.scalePair] : [])) as ScalePairView[];
     const withResult = views.filter((v) => v.result !== null);
     expect(withResult.length).toBeGreaterThan(0);
     for (const v of withResult) {

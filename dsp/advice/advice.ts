@@ -261,8 +261,8 @@ export function scaleCorrectionResistors(network: InputNetwork, octavesPerVolt: 
     });
 }
 
-/** Result of {@link twoPointIntervalError}. */
-export interface TwoPointResult {
+/** Result of {@link scalePairIntervalError}. */
+export interface ScalePairResult {
   /** Measured interval, `1200·log2(hzHigh/hzLow)`, cents. */
   readonly intervalCents: Cents;
   /** Interval 1 V/oct asks for, `1200·(voltsHigh − voltsLow)`, cents. */
@@ -303,7 +303,7 @@ function fmtPct(p: number): string {
 }
 
 /**
- * The two-point scale check: the interval between two control voltages against what 1 V/oct asks
+ * The scale pair check: the interval between two control voltages against what 1 V/oct asks
  * for. Setting the scale from an interval, never from absolute pitch, is common practice (docs/facts.md).
  *
  * @param hzLow - Pitch at `voltsLow`, Hz, > 0.
@@ -313,16 +313,16 @@ function fmtPct(p: number): string {
  * @param toleranceCents - Allowed |error| over the interval, cents, ≥ 0. Default 1.
  * @throws RangeError for invalid frequencies, voltages or tolerance.
  * @example
- * twoPointIntervalError(130, 519.04, 1, 3)
+ * scalePairIntervalError(130, 519.04, 1, 3)
  * // { intervalCents: 2396.80…, errorCents: −3.199…, errorCentsPerOctave: −1.599…, direction: 'widen', … }
  */
-export function twoPointIntervalError(
+export function scalePairIntervalError(
   hzLow: Hertz,
   hzHigh: Hertz,
   voltsLow: Volts,
   voltsHigh: Volts,
   toleranceCents: Cents = 1,
-): TwoPointResult {
+): ScalePairResult {
   requirePositive('hzLow', hzLow);
   requirePositive('hzHigh', hzHigh);
   if (!Number.isFinite(voltsLow)) throw new RangeError(`voltsLow must be a finite number, got ${voltsLow}`);

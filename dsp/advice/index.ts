@@ -1,5 +1,5 @@
 /**
  * Trim advice: which trimmer to turn, which way and how far, in words and numbers, the resistor changes
- * that would do it, and the two-point (scale pair) interval check.
+ * that would do it, and the scale pair interval check.
  */
 export * from './advice.ts';

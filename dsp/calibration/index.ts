@@ -1,6 +1,6 @@
 /**
  * A calibration pass from plan to result: plans and their grammar (`plan`), plateau detection (`plateau`),
- * the run state machine and its schema (`run`), the error table (`table`), the scale-pair pairing (`two-point`),
+ * the run state machine and its schema (`run`), the error table (`table`), the scale-pair pairing (`scale-pair`),
  * drift and its one-second bins (`drift`, `drift-bins`), and the one path from captured steps to a result
  * (`pipeline`, `assessment`) with the one versioned result shape every path saves and prints (`result`).
  */
@@ -13,4 +13,4 @@ export * from './plateau.ts';
 export * from './result.ts';
 export * from './run.ts';
 export * from './table.ts';
-export * from './two-point.ts';
+export * from './scale-pair.ts';

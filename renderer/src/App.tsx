@@ -12,7 +12,7 @@ import { isRunResult, type CalibrationResult } from '../../dsp/calibration/index
 import { isRunActive } from '../../dsp/calibration/index.ts';
 import type { UnitRecord } from '../../main/api-types.ts';
 import { EngineClient } from './engine/client.ts';
-import type { EngineMode, TwoPointConfig, UserRunEvent } from './engine/protocol.ts';
+import type { EngineMode, ScalePairConfig, UserRunEvent } from './engine/protocol.ts';
 import { useAudioInput } from './hooks/useAudioInput.ts';
 import { useCaptureSignal, type CaptureSignal } from './hooks/useCaptureSignal.ts';
 import { useFirstStep } from './hooks/useFirstStep.ts';
@@ -47,10 +47,10 @@ import { SetupPanel } from './ui/SetupPanel.tsx';
 import { useDrive } from './drive/use-drive.ts';
 import { DrivePanel, HandsOffPanel } from './ui/DrivePanel.tsx';
 import { TopBar, type Tab } from './ui/TopBar.tsx';
-import { TwoPointPanel } from './ui/TwoPointPanel.tsx';
+import { ScalePairPanel } from './ui/ScalePairPanel.tsx';
 
 function modeFor(tab: Tab): EngineMode {
-  return tab === 'pair' ? 'two-point' : tab === 'drift' ? 'drift' : 'run';
+  return tab === 'scale-pair' ? 'scale-pair' : tab === 'drift' ? 'drift' : 'run';
 }
 
 /** Said wherever a fault stops the input while a run is in progress. */
@@ -88,7 +88,7 @@ export function App() {
   const [tab, setTab] = useState<Tab>('run');
   const [info, setInfo] = useState<UnitInfo>(EMPTY_UNIT_INFO);
   const driftKeeper = useDriftKeeper(store, view.drift, info.unitName);
-  const [pairConfig, setPairConfig] = useState<TwoPointConfig>({
+  const [pairConfig, setPairConfig] = useState<ScalePairConfig>({
     voltsLow: 1,
     voltsHigh: 3,
     toleranceCents: 1,
@@ -116,7 +116,7 @@ export function App() {
   }, [tab, client]);
 
   useEffect(() => {
-    client.send({ type: 'two-point-config', config: pairConfig });
+    client.send({ type: 'scale-pair-config', config: pairConfig });
   }, [pairConfig, client]);
 
   // ---- Autosave and resume -------------------------------------------------------------------
@@ -261,7 +261,7 @@ export function App() {
       const pair = a?.pairs[trimmer];
       if (!pair) return;
       setPairConfig((c) => ({ ...c, voltsLow: pair.low, voltsHigh: pair.high }));
-      setTab('pair');
+      setTab('scale-pair');
     },
     [shownAnalysis],
   );
@@ -398,13 +398,13 @@ export function App() {
                 }
               />
             )}
-            {tab === 'pair' && (
-              <TwoPointPanel
+            {tab === 'scale-pair' && (
+              <ScalePairPanel
                 key={`${pairConfig.voltsLow}-${pairConfig.voltsHigh}-${pairConfig.toleranceCents}`}
-                view={view.twoPoint}
+                view={view.scalePair}
                 config={pairConfig}
                 onConfig={setPairConfig}
-                onReset={() => client.send({ type: 'two-point-reset' })}
+                onReset={() => client.send({ type: 'scale-pair-reset' })}
                 simulated={audio.source === 'sim'}
               />
             )}
@@ -452,7 +452,7 @@ export function App() {
       {bench && (
         <BenchView
           view={view}
-          mode={tab === 'pair' ? 'pair' : 'live'}
+          mode={tab === 'scale-pair' ? 'scale-pair' : 'live'}
           pairTolerance={pairConfig.toleranceCents}
           clockPpm={setup.clockPpm}
           run={runState}

@@ -78,7 +78,7 @@ describe.skipIf(!enabled)('bench checks in Chromium', () => {
 
   it('Scale pair after the run gives no instruction until its own pair has settled', async () => {
     // Log every change of the pair's result box from the moment the tab opens.
-    await page.click('[data-testid="tab-pair"]');
+    await page.click('[data-testid="tab-scale-pair"]');
     await page.evaluate(() => {
       const w = window as unknown as { __pairLog: { has: string; text: string }[] };
       w.__pairLog = [];

@@ -67,7 +67,7 @@ describe.skipIf(!enabled)('Content-Security-Policy in Chromium', () => {
     await page.click('[data-testid="start-run"]');
     await waitForStepRows(page, 2, 30_000);
     // The other tabs too (charts, forms, local storage).
-    for (const tab of ['pair', 'drift', 'book', 'run']) await page.click(`[data-testid="tab-${tab}"]`);
+    for (const tab of ['scale-pair', 'drift', 'book', 'run']) await page.click(`[data-testid="tab-${tab}"]`);
     await page.waitForTimeout(300);
     expect(await csp.violations()).toEqual([]);
     expect(csp.console).toEqual([]);

@@ -70,7 +70,7 @@ export { existsSync };
 /** The screens every layout and accessibility check visits, and how to reach each. */
 export const SCREENS = [
   { id: 'run', open: '[data-testid="tab-run"]' },
-  { id: 'pair', open: '[data-testid="tab-pair"]' },
+  { id: 'scale-pair', open: '[data-testid="tab-scale-pair"]' },
   { id: 'drift', open: '[data-testid="tab-drift"]' },
   { id: 'book', open: '[data-testid="tab-book"]' },
 ] as const;

@@ -27,7 +27,7 @@ import {
 import { parsePlan } from '../../../dsp/calibration/index.ts';
 import type { RunState } from '../../../dsp/calibration/index.ts';
 import type { EngineClient } from '../engine/client.ts';
-import type { RunSnapshot, TwoPointConfig } from '../engine/protocol.ts';
+import type { RunSnapshot, ScalePairConfig } from '../engine/protocol.ts';
 import { runAnalysisOf } from '../lib/analysis.ts';
 import { listOutputs, type OutputDevice } from './dc-output.ts';
 import { Drive, driveKey, type Applied, type DriveKind, type DriveSettings } from './drive.ts';
@@ -144,7 +144,7 @@ export interface DriveDeps {
   readonly startWithSim: boolean;
   readonly tab: string;
   readonly planText: string;
-  readonly pairConfig: TwoPointConfig;
+  readonly pairConfig: ScalePairConfig;
   readonly driftVolts: number | null;
   readonly startRun: () => void;
 }
@@ -705,7 +705,7 @@ export function useDrive(deps: DriveDeps): DriveApi {
 
   // ---- Scale pair: the drive alternates the two voltages ------------------------------------
   useEffect(() => {
-    if (!pairDriving || deps.tab !== 'pair' || !open) return;
+    if (!pairDriving || deps.tab !== 'scale-pair' || !open) return;
     const d = driveRef.current;
     if (!d) return;
     const c = deps.pairConfig;

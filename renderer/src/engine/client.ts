@@ -4,7 +4,7 @@
  * ({@link foldEngineMessage}), tested without a worker.
  */
 import type { PitchReading } from '../../../dsp/pitch/index.ts';
-import type { DriftView, FromEngine, RunSnapshot, ToEngine, TwoPointView } from './protocol.ts';
+import type { DriftView, FromEngine, RunSnapshot, ToEngine, ScalePairView } from './protocol.ts';
 import type { WavAnalysisOutcome } from './wav-analysis.ts';
 
 /** One point of the strip chart's history. */
@@ -33,7 +33,7 @@ export interface EngineView {
   /** Readings with a pitch over the last {@link HISTORY_SECONDS}, oldest first. */
   readonly history: readonly HistoryPoint[];
   readonly run: RunSnapshot | null;
-  readonly twoPoint: TwoPointView | null;
+  readonly scalePair: ScalePairView | null;
   readonly drift: DriftView | null;
   readonly source: {
     readonly kind: 'none' | 'live' | 'sim';
@@ -66,7 +66,7 @@ export const INITIAL_VIEW: EngineView = {
   simVolts: null,
   history: [],
   run: null,
-  twoPoint: null,
+  scalePair: null,
   drift: null,
   source: { kind: 'none', sampleRateHz: null },
   rateChange: null,
@@ -101,7 +101,7 @@ export function foldEngineMessage(v: EngineView, m: FromEngine): EngineView {
         simVolts: m.simVolts,
         history,
         run: m.run !== undefined ? m.run : v.run,
-        twoPoint: m.twoPoint ?? v.twoPoint,
+        scalePair: m.scalePair ?? v.scalePair,
       };
     }
     case 'run':

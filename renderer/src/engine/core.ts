@@ -1,7 +1,7 @@
 /**
  * The engine: everything that touches audio or runs the signal processing, for the worker to host.
  * It owns the pitch tracker (`dsp/pitch/stream.ts`), the simulated oscillator (`dsp/sim/simulate.ts`), the
- * calibration run (`dsp/calibration/run.ts`, whose plateau detection is signal processing too), the two-point
+ * calibration run (`dsp/calibration/run.ts`, whose plateau detection is signal processing too), the scale pair
  * check and the drift hold. It has no worker globals: the worker passes a `post` function and feeds it
  * audio, so tests drive it directly in Node.
  *
@@ -16,8 +16,8 @@ import {
   checkPairing,
   EMPTY_PAIRING,
   pairPlateau,
-  type TwoPointPairing,
-  type TwoPointSideState,
+  type ScalePairPairing,
+  type ScalePairSideState,
 } from '../../../dsp/calibration/index.ts';
 import { createRun, isRunActive, runReducer, type RunState } from '../../../dsp/calibration/index.ts';
 import {
@@ -33,8 +33,8 @@ import type {
   FromEngine,
   RunSnapshot,
   ToEngine,
-  TwoPointConfig,
-  TwoPointView,
+  ScalePairConfig,
+  ScalePairView,
 } from './protocol.ts';
 import { feedReading, RunCalibrator } from './run-host.ts';
 import {
@@ -65,13 +65,13 @@ interface Glide {
 export const SIM_GLIDE_SECONDS = 0.15;
 
 const SIM_CHUNK = 1024;
-/** The scale pair's unexpected-pitch guard, cents (dsp/calibration/two-point.ts). */
+/** The scale pair's unexpected-pitch guard, cents (dsp/calibration/scale-pair.ts). */
 export { PAIR_GUARD_CENTS } from '../../../dsp/calibration/index.ts';
 
-interface TwoPointState {
-  config: TwoPointConfig;
+interface ScalePairState {
+  config: ScalePairConfig;
   detector: PlateauDetector;
-  pairing: TwoPointPairing;
+  pairing: ScalePairPairing;
   liveStart: number | null;
   /** When the pair was opened or set up, stream seconds: readings before it are not used. */
   enteredAt: number;
@@ -121,7 +121,7 @@ export class EngineCore {
   private readonly liveDetector: PlateauDetector = createPlateauDetector();
   // Modes.
   private mode: EngineMode = 'run';
-  private twoPoint: TwoPointState | null = null;
+  private scalePair: ScalePairState | null = null;
   private drift: DriftState | null = null;
   // Statistics.
   private busyMs = 0;
@@ -231,8 +231,8 @@ export class EngineCore {
         this.calibrator.setup = msg.setup;
         if (this.run) this.postRun();
         return;
-      case 'two-point-config':
-        this.twoPoint = {
+      case 'scale-pair-config':
+        this.scalePair = {
           config: msg.config,
           detector: createPlateauDetector(),
           pairing: EMPTY_PAIRING,
@@ -241,13 +241,13 @@ export class EngineCore {
           switchedAt: this.streamSeconds,
           onHigh: false,
         };
-        if (this.mode === 'two-point') this.autoGlide(msg.config.voltsLow);
+        if (this.mode === 'scale-pair') this.autoGlide(msg.config.voltsLow);
         return;
-      case 'two-point-reset':
-        if (this.twoPoint) {
-          this.twoPoint.detector.reset();
-          this.twoPoint.pairing = EMPTY_PAIRING;
-          this.twoPoint.enteredAt = this.streamSeconds;
+      case 'scale-pair-reset':
+        if (this.scalePair) {
+          this.scalePair.detector.reset();
+          this.scalePair.pairing = EMPTY_PAIRING;
+          this.scalePair.enteredAt = this.streamSeconds;
         }
         return;
       case 'drift-start':
@@ -306,7 +306,7 @@ export class EngineCore {
       if (was !== this.run.phase || this.run.lastSeconds === null) this.postRun();
       this.stepStartedAt = this.stepStartedAt.map(() => null);
     }
-    if (this.twoPoint) this.twoPoint.detector.reset();
+    if (this.scalePair) this.scalePair.detector.reset();
     this.liveDetector.reset();
     this.host.post({
       type: 'source',
@@ -342,20 +342,20 @@ export class EngineCore {
     if (this.mode === 'run' && this.run) {
       if (isRunActive(this.run) && this.run.phase !== 'paused') {
         this.run = runReducer(this.run, { type: 'pause' });
-        this.pausedReason = `Paused while the ${mode === 'drift' ? 'drift check' : 'two-point check'} runs. Resume to go on.`;
+        this.pausedReason = `Paused while the ${mode === 'drift' ? 'drift check' : 'scale pair check'} runs. Resume to go on.`;
         this.postRun();
       }
     }
     this.mode = mode;
-    if (mode === 'two-point' && this.twoPoint) {
+    if (mode === 'scale-pair' && this.scalePair) {
       // A fresh start: nothing heard before the pair was opened (the run's last step, say) counts.
-      this.twoPoint.detector.reset();
-      this.twoPoint.pairing = EMPTY_PAIRING;
-      this.twoPoint.liveStart = null;
-      this.twoPoint.enteredAt = this.streamSeconds;
-      this.twoPoint.switchedAt = this.streamSeconds;
-      this.twoPoint.onHigh = false;
-      this.autoGlide(this.twoPoint.config.voltsLow);
+      this.scalePair.detector.reset();
+      this.scalePair.pairing = EMPTY_PAIRING;
+      this.scalePair.liveStart = null;
+      this.scalePair.enteredAt = this.streamSeconds;
+      this.scalePair.switchedAt = this.streamSeconds;
+      this.scalePair.onHigh = false;
+      this.autoGlide(this.scalePair.config.voltsLow);
     }
     if (mode === 'drift' && this.drift) this.autoGlide(this.drift.volts);
     if (mode === 'run') this.afterRunChange();
@@ -372,7 +372,7 @@ export class EngineCore {
     }
   }
 
-  /** The simulator following the app by itself (run steps, two-point, drift), unless the drive is patched. */
+  /** The simulator following the app by itself (run steps, scale pair, drift), unless the drive is patched. */
   private autoGlide(volts: number): void {
     if (!this.patched) this.glideTo(volts, SIM_GLIDE_SECONDS);
   }
@@ -424,8 +424,8 @@ export class EngineCore {
     const sim = this.sim;
     if (!sim) return;
     const fs = this.sampleRateHz;
-    if (this.mode === 'two-point' && this.twoPoint && !this.patched) {
-      const tp = this.twoPoint;
+    if (this.mode === 'scale-pair' && this.scalePair && !this.patched) {
+      const tp = this.scalePair;
       const now = this.simSamples / fs;
       if (now - tp.switchedAt >= tp.config.alternateSeconds) {
         tp.switchedAt = now;
@@ -489,8 +489,8 @@ export class EngineCore {
       runChanged = !(quiet(before.phase) && before.phase === this.run.phase);
     }
     this.liveDetector.push(r);
-    let twoPoint: TwoPointView | undefined;
-    if (this.mode === 'two-point' && this.twoPoint) twoPoint = this.updateTwoPoint(r);
+    let scalePair: ScalePairView | undefined;
+    if (this.mode === 'scale-pair' && this.scalePair) scalePair = this.updateScalePair(r);
     if (this.mode === 'drift' && this.drift) this.updateDrift(r);
     const msg: FromEngine = {
       type: 'tick',
@@ -499,7 +499,7 @@ export class EngineCore {
       settled: this.liveDetector.current() !== null,
       simVolts: this.sim ? this.cvAt(tracker.elapsedSeconds) : null,
       ...(runChanged || this.runDirty ? { run: this.snapshot() } : {}),
-      ...(twoPoint ? { twoPoint } : {}),
+      ...(scalePair ? { scalePair } : {}),
     };
     this.runDirty = false;
     this.host.post(msg);
@@ -523,14 +523,14 @@ export class EngineCore {
     this.host.post({ type: 'run', run: this.snapshot() });
   }
 
-  private updateTwoPoint(r: PitchReading): TwoPointView {
-    const tp = this.twoPoint as TwoPointState;
+  private updateScalePair(r: PitchReading): ScalePairView {
+    const tp = this.scalePair as ScalePairState;
     if (r.timeSeconds < tp.enteredAt) {
       return { low: null, high: null, result: null, status: 'settling', unexpected: null };
     }
     const u = tp.detector.push(r);
     const open = tp.detector.current();
-    let status: TwoPointView['status'] = u.status.kind === 'no-signal' ? 'no-signal' : 'settling';
+    let status: ScalePairView['status'] = u.status.kind === 'no-signal' ? 'no-signal' : 'settling';
     tp.liveStart = null;
     if (open && open.startSeconds >= tp.enteredAt) {
       status = 'settled';
@@ -538,7 +538,7 @@ export class EngineCore {
       tp.pairing = pairPlateau(tp.pairing, { hz: open.meanHz, startSeconds: open.startSeconds });
     }
     const { result, unexpected } = checkPairing(tp.pairing, tp.config);
-    const side = (s: TwoPointSideState | null) =>
+    const side = (s: ScalePairSideState | null) =>
       s ? { hz: s.hz, live: tp.liveStart !== null && s.startSeconds === tp.liveStart } : null;
     return { low: side(tp.pairing.low), high: side(tp.pairing.high), result, status, unexpected };
   }

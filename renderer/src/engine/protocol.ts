@@ -5,7 +5,7 @@
  * Audio does not travel through these messages: the capture worklet posts its blocks straight to the
  * worker over a MessagePort (`AudioBlockMessage`), and the worker hands each buffer back for reuse.
  */
-import type { TwoPointResult } from '../../../dsp/advice/index.ts';
+import type { ScalePairResult } from '../../../dsp/advice/index.ts';
 import type { DriftRatePoint, DriftResult } from '../../../dsp/calibration/index.ts';
 import type { CalibrateOptions, Calibration } from '../../../dsp/calibration/index.ts';
 import type { PitchReading } from '../../../dsp/pitch/index.ts';
@@ -15,7 +15,7 @@ import type { CaptureDetail } from '../lib/analysis.ts';
 import type { WavAnalysisOutcome, WavAnalysisRequest } from './wav-analysis.ts';
 
 /** What the engine is doing with the readings besides showing them. */
-export type EngineMode = 'run' | 'two-point' | 'drift';
+export type EngineMode = 'run' | 'scale-pair' | 'drift';
 
 /** Run events the page may send (readings and capture results come from inside the engine). */
 export type UserRunEvent = Exclude<
@@ -30,8 +30,8 @@ export interface PlanSpec {
   readonly volts: readonly number[];
 }
 
-/** Settings of the two-point scale check. */
-export interface TwoPointConfig {
+/** Settings of the scale pair check. */
+export interface ScalePairConfig {
   /** Lower and higher control voltage, V. */
   readonly voltsLow: number;
   readonly voltsHigh: number;
@@ -55,7 +55,7 @@ export type ToEngine =
   | { readonly type: 'sim-volts'; readonly volts: number; readonly glideSeconds: number }
   /**
    * The drive is patched into the simulator's control input (renderer/src/drive): the simulator then
-   * follows only `sim-volts`, not the run's steps, the two-point alternation or the drift hold.
+   * follows only `sim-volts`, not the run's steps, the scale pair alternation or the drift hold.
    */
   | { readonly type: 'sim-patch'; readonly patched: boolean }
   | { readonly type: 'mode'; readonly mode: EngineMode }
@@ -65,8 +65,8 @@ export type ToEngine =
   | { readonly type: 'run-close' }
   /** The Setup's tuning reference, clock correction, fit range and network, for the run's calibration. */
   | { readonly type: 'calibration-setup'; readonly setup: CalibrateOptions }
-  | { readonly type: 'two-point-config'; readonly config: TwoPointConfig }
-  | { readonly type: 'two-point-reset' }
+  | { readonly type: 'scale-pair-config'; readonly config: ScalePairConfig }
+  | { readonly type: 'scale-pair-reset' }
   | { readonly type: 'drift-start'; readonly volts: number; readonly windowSeconds: number }
   | { readonly type: 'drift-stop' }
   | {
@@ -96,18 +96,18 @@ export interface RunSnapshot {
   readonly capturedAt: readonly (number | null)[];
 }
 
-/** One side of the two-point check. */
-export interface TwoPointSide {
+/** One side of the scale pair check. */
+export interface ScalePairSide {
   readonly hz: number;
   /** True while this side's plateau is the one being heard (its pitch updates live). */
   readonly live: boolean;
 }
 
-/** The two-point check as it stands. */
-export interface TwoPointView {
-  readonly low: TwoPointSide | null;
-  readonly high: TwoPointSide | null;
-  readonly result: TwoPointResult | null;
+/** The scale pair check as it stands. */
+export interface ScalePairView {
+  readonly low: ScalePairSide | null;
+  readonly high: ScalePairSide | null;
+  readonly result: ScalePairResult | null;
   /** 'settling' while a new pitch settles, 'settled' on a plateau, 'no-signal'. */
   readonly status: 'settling' | 'settled' | 'no-signal';
   /**
@@ -138,7 +138,7 @@ export type FromEngine =
       /** The simulator's control voltage, V, when the simulator is the source. */
       readonly simVolts: number | null;
       readonly run?: RunSnapshot | null;
-      readonly twoPoint?: TwoPointView;
+      readonly scalePair?: ScalePairView;
     }
   | { readonly type: 'run'; readonly run: RunSnapshot | null }
   | { readonly type: 'drift'; readonly drift: DriftView | null }

@@ -23,9 +23,14 @@ interface Figure {
   ok: boolean;
 }
 
-function figureOf(view: EngineView, mode: 'pair' | 'live', pairTolerance: number, clockPpm: number): Figure {
-  if (mode === 'pair') {
-    const tp = view.twoPoint;
+function figureOf(
+  view: EngineView,
+  mode: 'scale-pair' | 'live',
+  pairTolerance: number,
+  clockPpm: number,
+): Figure {
+  if (mode === 'scale-pair') {
+    const tp = view.scalePair;
     const r = tp && !tp.unexpected ? tp.result : null;
     return {
       cents: r ? r.errorCents : null,
@@ -71,7 +76,7 @@ function figureOf(view: EngineView, mode: 'pair' | 'live', pairTolerance: number
 
 export function BenchView(props: {
   view: EngineView;
-  mode: 'pair' | 'live';
+  mode: 'scale-pair' | 'live';
   pairTolerance: number;
   clockPpm: number;
   run: RunState | null;

@@ -10,7 +10,7 @@ import { DriftChart } from './charts.tsx';
 import { DriftLogBar, type DriftKeeper } from './DriftLogBar.tsx';
 import { NumberField } from './NumberField.tsx';
 
-/** The held voltage: the span of the scale pair's fields (TwoPointPanel), V. */
+/** The held voltage: the span of the scale pair's fields (ScalePairPanel), V. */
 export const DRIFT_VOLT_RULE: NumberRule = { min: -12, max: 12, unit: 'V', optional: false };
 /**
  * The window the drift rate is fitted over, s: at least 10 s (fewer readings give no useful slope), at

@@ -435,7 +435,7 @@ export function HandsOffPanel(props: { api: DriveApi; tab: string }) {
   if (s.kind === 'off') return null;
   const ready = api.open && api.calibration !== null;
   const h = api.handsOff;
-  if (tab === 'pair')
+  if (tab === 'scale-pair')
     return (
       <div className="hands-off row" data-testid="hands-off-pair">
         <label className="check">

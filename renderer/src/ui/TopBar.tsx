@@ -7,11 +7,11 @@ import type { Theme } from '../hooks/useTheme.ts';
 import { formatClock } from '../lib/format.ts';
 import { FrameMeter } from './FrameMeter.tsx';
 
-export type Tab = 'run' | 'pair' | 'drift' | 'book';
+export type Tab = 'run' | 'scale-pair' | 'drift' | 'book';
 
 export const TABS: readonly { id: Tab; label: string }[] = [
   { id: 'run', label: 'Span run' },
-  { id: 'pair', label: 'Scale pair' },
+  { id: 'scale-pair', label: 'Scale pair' },
   { id: 'drift', label: 'Hold & drift' },
   { id: 'book', label: 'Unit book' },
 ];

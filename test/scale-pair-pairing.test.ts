@@ -1,4 +1,4 @@
-// The two-point check's pairing of plateaus to sides, and the warm-up hold's one-second bins (moved out of
+// The scale pair check's pairing of plateaus to sides, and the warm-up hold's one-second bins (moved out of
 // the engine into dsp/). Cents are 1200·log2(f1/f2) (Ellis, 1885).
 import { describe, expect, it } from 'vitest';
 import { DriftBinner } from '../dsp/calibration/index.ts';

@@ -1,9 +1,9 @@
 /**
- * The two-point check's pairing: while the user switches a control voltage between two values, each settled
- * plateau is assigned to the low or the high side, so that the interval error (`twoPointIntervalError`,
+ * The scale pair check's pairing: while the user switches a control voltage between two values, each settled
+ * plateau is assigned to the low or the high side, so that the interval error (`scalePairIntervalError`,
  * `dsp/advice/advice.ts`) can be shown live while the scale trimmer is turned. Pure functions of plain data.
  */
-import { twoPointIntervalError, type TwoPointResult } from '../advice/index.ts';
+import { scalePairIntervalError, type ScalePairResult } from '../advice/index.ts';
 import { CENTS_PER_OCTAVE } from '../math/index.ts';
 import type { Cents, Hertz, Seconds, Volts } from '../math/index.ts';
 
@@ -14,19 +14,19 @@ import type { Cents, Hertz, Seconds, Volts } from '../math/index.ts';
 export const SAME_SIDE_CENTS: Cents = 300;
 
 /** One side of the pair: the pitch of its latest plateau and when that plateau began. */
-export interface TwoPointSideState {
+export interface ScalePairSideState {
   readonly hz: Hertz;
   readonly startSeconds: Seconds;
 }
 
 /** Both sides as they stand (low is the lower pitch once both are known). */
-export interface TwoPointPairing {
-  readonly low: TwoPointSideState | null;
-  readonly high: TwoPointSideState | null;
+export interface ScalePairPairing {
+  readonly low: ScalePairSideState | null;
+  readonly high: ScalePairSideState | null;
 }
 
 /** No side heard yet. */
-export const EMPTY_PAIRING: TwoPointPairing = Object.freeze({ low: null, high: null });
+export const EMPTY_PAIRING: ScalePairPairing = Object.freeze({ low: null, high: null });
 
 /**
  * Assigns a settled plateau to a side: the side within {@link SAME_SIDE_CENTS} of it (the trimmer moved
@@ -37,9 +37,9 @@ export const EMPTY_PAIRING: TwoPointPairing = Object.freeze({ low: null, high: n
  * @param plateau - The plateau heard now: its mean pitch, Hz, and its start, seconds.
  * @example pairPlateau(EMPTY_PAIRING, { hz: 130, startSeconds: 2 }) // { low: { hz: 130, startSeconds: 2 }, high: null }
  */
-export function pairPlateau(pairing: TwoPointPairing, plateau: TwoPointSideState): TwoPointPairing {
+export function pairPlateau(pairing: ScalePairPairing, plateau: ScalePairSideState): ScalePairPairing {
   let { low, high } = pairing;
-  const near = (side: TwoPointSideState | null) =>
+  const near = (side: ScalePairSideState | null) =>
     side !== null && Math.abs(CENTS_PER_OCTAVE * Math.log2(plateau.hz / side.hz)) < SAME_SIDE_CENTS;
   if (near(low)) low = plateau;
   else if (near(high)) high = plateau;
@@ -52,7 +52,7 @@ export function pairPlateau(pairing: TwoPointPairing, plateau: TwoPointSideState
 }
 
 /** The voltages and tolerance of the check. */
-export interface TwoPointSettings {
+export interface ScalePairSettings {
   readonly voltsLow: Volts;
   readonly voltsHigh: Volts;
   readonly toleranceCents: Cents;
@@ -66,10 +66,13 @@ export interface TwoPointSettings {
  * @param settings - Voltages and tolerance.
  * @example pairingResult({ low: { hz: 130, startSeconds: 0 }, high: { hz: 519.04, startSeconds: 3 } }, { voltsLow: 1, voltsHigh: 3, toleranceCents: 1 })?.direction // 'widen'
  */
-export function pairingResult(pairing: TwoPointPairing, settings: TwoPointSettings): TwoPointResult | null {
+export function pairingResult(
+  pairing: ScalePairPairing,
+  settings: ScalePairSettings,
+): ScalePairResult | null {
   if (!pairing.low || !pairing.high) return null;
   try {
-    return twoPointIntervalError(
+    return scalePairIntervalError(
       pairing.low.hz,
       pairing.high.hz,
       settings.voltsLow,
@@ -99,7 +102,7 @@ export interface UnexpectedInterval {
 
 /** The pair's verdict: an interval error, or the guard's reason for giving none. */
 export interface PairingCheck {
-  readonly result: TwoPointResult | null;
+  readonly result: ScalePairResult | null;
   readonly unexpected: UnexpectedInterval | null;
 }
 
@@ -112,7 +115,7 @@ export interface PairingCheck {
  * @param settings - Voltages and tolerance.
  * @example checkPairing({ low: { hz: 130, startSeconds: 0 }, high: { hz: 1040, startSeconds: 3 } }, { voltsLow: 1, voltsHigh: 3, toleranceCents: 1 }).unexpected // { measuredCents: 3600, expectedCents: 2400 }
  */
-export function checkPairing(pairing: TwoPointPairing, settings: TwoPointSettings): PairingCheck {
+export function checkPairing(pairing: ScalePairPairing, settings: ScalePairSettings): PairingCheck {
   if (!pairing.low || !pairing.high) return { result: null, unexpected: null };
   const measuredCents = CENTS_PER_OCTAVE * Math.log2(pairing.high.hz / pairing.low.hz);
   const expectedCents = CENTS_PER_OCTAVE * (settings.voltsHigh - settings.voltsLow);

@@ -1,11 +1,11 @@
 /**
  * Scale pair: the user alternates between two voltages while turning the scale trimmer; the interval
- * error is shown live with the way to turn (dsp/advice/advice.ts twoPointIntervalError). An instruction comes
+ * error is shown live with the way to turn (dsp/advice/advice.ts scalePairIntervalError). An instruction comes
  * only from two pitches both settled after the pair was opened, and only when their interval is near the
  * pair's (the unexpected-pitch guard, engine/core.ts).
  */
 import { useState } from 'react';
-import type { TwoPointConfig, TwoPointView } from '../engine/protocol.ts';
+import type { ScalePairConfig, ScalePairView } from '../engine/protocol.ts';
 import { numberOrNull } from '../lib/fields.ts';
 import { formatCents, formatHz } from '../lib/format.ts';
 import { NumberField } from './NumberField.tsx';
@@ -14,7 +14,7 @@ const VOLT_RULE = { min: -12, max: 12, unit: 'V', optional: false } as const;
 const TOL_RULE = { min: 0.01, max: 100, unit: '¢', optional: false } as const;
 
 /** The one status line of the pair (no internal codes). */
-export function pairStatusText(v: TwoPointView | null): string {
+export function pairStatusText(v: ScalePairView | null): string {
   if (!v) return 'Waiting for the input.';
   if (v.unexpected) {
     return `Unexpected pitch: the two pitches are ${Math.round(v.unexpected.measuredCents)} ¢ apart, the pair expects ${Math.round(v.unexpected.expectedCents)} ¢. Check both voltages; no instruction until they match.`;
@@ -27,10 +27,10 @@ export function pairStatusText(v: TwoPointView | null): string {
   return v.status === 'settled' ? 'Both voltages settled.' : 'Settling after a switch…';
 }
 
-export function TwoPointPanel(props: {
-  view: TwoPointView | null;
-  config: TwoPointConfig;
-  onConfig(c: TwoPointConfig): void;
+export function ScalePairPanel(props: {
+  view: ScalePairView | null;
+  config: ScalePairConfig;
+  onConfig(c: ScalePairConfig): void;
   onReset(): void;
   simulated: boolean;
 }) {
