@@ -12,9 +12,9 @@ import { parseAnalyzeArgs } from '../cli/analyze.ts';
 import { gaussianNoise, tone } from './signals.ts';
 import { cli, type Ran } from './cli-run.ts';
 
-// In-process runs of `bench` hit this stand-in, which fails the way a bug would; spawned runs (the real
-// command line, through the bundle) are not affected by vi.mock.
-vi.mock('../tools/bench/bench.ts', () => ({
+// In-process runs of `book` hit this stand-in, which fails the way a bug would (`book` itself is tested in
+// records-book.test.ts); spawned runs (the real command line, through the bundle) are not affected by vi.mock.
+vi.mock('../cli/book.ts', () => ({
   main: async () => {
     throw new Error('simulated bug\nwith a second line');
   },
@@ -267,7 +267,7 @@ describe('spanmeter (dispatcher)', () => {
     expectFailure(
       cli('frobnicate'),
       2,
-      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, book$/,
+      /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, book \(see spanmeter --help\)$/,
     );
   });
 
