@@ -10,6 +10,7 @@
 import {
   derivedBudget,
   formatUncertainty,
+  lineBudgets,
   stepBudget,
   type BudgetOptions,
   type BudgetStep,
@@ -24,7 +25,6 @@ import {
   lowEndCents,
   modelHz,
   predictionSensitivities,
-  scaleSensitivities,
   type CalibrationModelOk,
   type ModelRefusal,
 } from '../model/index.ts';
@@ -875,24 +875,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   const targetHz = input.offsetTarget?.hz ?? nearestNote(playingRef, a4Hz).noteHz;
   const targetAt = (v: number) => targetHz * Math.pow(2, v - refVolts);
 
-  const scaleBudget = derivedBudget(
-    model,
-    steps,
-    scaleSensitivities(model),
-    'scale error',
-    'cents per octave',
-    model.scaleErrorCentsPerOctave,
-    bopts,
-  );
-  const pitchAt0V = derivedBudget(
-    model,
-    steps,
-    predictionSensitivities(model, 0),
-    'pitch at 0 V',
-    'cents',
-    0,
-    bopts,
-  );
+  const { scale: scaleBudget, pitchAt0V } = lineBudgets(model, steps, bopts);
   const offErr = CENTS_PER_OCTAVE * Math.log2(playingRef / targetHz);
   const offsetBudget = derivedBudget(
     model,
