@@ -10,6 +10,7 @@
 import {
   derivedBudget,
   formatUncertainty,
+  lineBudgets,
   stepBudget,
   type BudgetOptions,
   type BudgetStep,
@@ -24,7 +25,6 @@ import {
   lowEndCents,
   modelHz,
   predictionSensitivities,
-  scaleSensitivities,
   type CalibrationModelOk,
   type ModelRefusal,
 } from '../model/index.ts';
@@ -396,6 +396,113 @@ function partName(part: ResistorChange['part']): string {
   return { series: 'Rs', shunt: 'Rsh', input: 'Rin', feedback: 'Rf' }[part];
 }
 
+/** Checks the inputs both advisers share; returns the tuning reference (Hz) and VT·ln2 at the base (V). */
+function checkAdviceInput(input: {
+  readonly a4Hz?: Hertz;
+  readonly tempC?: Celsius;
+  readonly offsetTarget?: { readonly volts: Volts; readonly hz: Hertz };
+  readonly network?: InputNetwork;
+}): { a4Hz: Hertz; vBase: number } {
+  const a4Hz = input.a4Hz ?? A4_HZ;
+  requirePositive('a4Hz', a4Hz);
+  const vBase = voltsPerOctaveAtBase(input.tempC ?? 25);
+  if (input.offsetTarget !== undefined) {
+    if (!Number.isFinite(input.offsetTarget.volts)) {
+      throw new RangeError(`offsetTarget.volts must be a finite number, got ${input.offsetTarget.volts}`);
+    }
+    requirePositive('offsetTarget.hz', input.offsetTarget.hz);
+  }
+  if (input.network !== undefined) validateNetwork(input.network);
+  return { a4Hz, vBase };
+}
+
+/** The offset target as a person reads it: the note name with its pitch when it is a 12-TET note, else the pitch. */
+function targetLabel(targetHz: Hertz, a4Hz: Hertz): string {
+  const targetNote = nearestNote(targetHz, a4Hz);
+  return Math.abs(targetNote.cents) < 0.05
+    ? `${targetNote.name} (${fmtHz(targetHz)} Hz)`
+    : `${fmtHz(targetHz)} Hz`;
+}
+
+/**
+ * The reading to trim to: the step at `volts` (now `nowHz`) should read the interval `intervalCents` above
+ * the step at `fromVolts` (reading `fromHz`), i.e. `fromHz·2^(intervalCents/1200)`.
+ */
+function trimTarget(
+  fromVolts: Volts,
+  fromHz: Hertz,
+  volts: Volts,
+  nowHz: Hertz,
+  intervalCents: Cents,
+  nowIntervalCents: Cents,
+): TrimTarget {
+  return {
+    volts,
+    hz: fromHz * Math.pow(2, intervalCents / CENTS_PER_OCTAVE),
+    nowHz,
+    fromVolts,
+    fromHz,
+    intervalCents,
+    nowIntervalCents,
+  };
+}
+
+/**
+ * An offset item that asks for a trim (`offErr` > 0, sharp: lower the pitch): `lead`, then the amount in
+ * millivolts at the converter's base (VT·ln2 per octave, `vBase` volts) and at a 1 V/oct input, then `tail`.
+ */
+function offsetAdjustItem(
+  offErr: Cents,
+  vBase: number,
+  extra: Pick<AdviceItem, 'uncertaintyCents' | 'target'>,
+  lead: string,
+  tail: string,
+): AdviceItem {
+  const mvBase = centsToMillivolts(-offErr, vBase);
+  const mvInput = centsToMillivolts(-offErr, 1);
+  return item({
+    trimmer: 'offset',
+    status: 'adjust',
+    direction: offErr > 0 ? 'lower' : 'raise',
+    errorCents: offErr,
+    ...extra,
+    millivoltsAtBase: mvBase,
+    millivoltsAtInput: mvInput,
+    text:
+      lead +
+      `: about ${fmtMv(mvBase)} at the converter's base, or ${fmtMv(mvInput)} at the 1 V/oct input.` +
+      tail,
+  });
+}
+
+/**
+ * A scale item that asks for a trim: which way (`e` < 0, octaves narrow: widen), the error as `errorText`
+ * cents, the gain change, then `rest` (how far to trim, resistor values).
+ */
+function scaleAdjustItem(
+  e: Cents,
+  errorText: string,
+  gainPct: number,
+  resistors: readonly ResistorChange[] | null,
+  extra: Pick<AdviceItem, 'uncertaintyCents' | 'target'>,
+  rest: string,
+): AdviceItem {
+  const widen = e < 0;
+  return item({
+    trimmer: 'scale',
+    status: 'adjust',
+    direction: widen ? 'widen' : 'narrow',
+    errorCents: e,
+    ...extra,
+    gainChangePercent: gainPct,
+    resistors,
+    text:
+      `Turn the scale trimmer to ${widen ? 'widen' : 'narrow'} the span: octaves are ${errorText} cents ` +
+      `${widen ? 'narrow' : 'wide'} (${widen ? 'raise' : 'lower'} the converter's gain by ${fmtPct(gainPct)}). ` +
+      rest,
+  });
+}
+
 /**
  * Trim advice from a tracking fit and its bend analysis: scale, HF and offset items in the order a
  * technician works, each with its direction and amount, plus the next measurement and the usual
@@ -416,16 +523,7 @@ export function adviseTrim(input: TrimAdviceInput): TrimAdvice {
   const tol = input.toleranceCents ?? 1;
   if (!Number.isFinite(tol) || tol < 0)
     throw new RangeError(`toleranceCents must be a finite number at least 0, got ${tol}`);
-  const a4Hz = input.a4Hz ?? A4_HZ;
-  requirePositive('a4Hz', a4Hz);
-  const vBase = voltsPerOctaveAtBase(input.tempC ?? 25);
-  if (input.offsetTarget !== undefined) {
-    if (!Number.isFinite(input.offsetTarget.volts)) {
-      throw new RangeError(`offsetTarget.volts must be a finite number, got ${input.offsetTarget.volts}`);
-    }
-    requirePositive('offsetTarget.hz', input.offsetTarget.hz);
-  }
-  if (input.network !== undefined) validateNetwork(input.network);
+  const { a4Hz, vBase } = checkAdviceInput(input);
 
   const bends = input.bends?.kind === 'ok' ? input.bends : null;
   const fit: TrackingFitOk | null =
@@ -469,7 +567,6 @@ export function adviseTrim(input: TrimAdviceInput): TrimAdvice {
         'by these readings: take longer readings at each step before trimming.',
     });
   } else {
-    const widen = e < 0;
     const resistors = input.network === undefined ? null : scaleCorrectionResistors(input.network, s);
     let resistorText = '';
     const helpful =
@@ -491,20 +588,16 @@ export function adviseTrim(input: TrimAdviceInput): TrimAdvice {
           .join('; or ') +
         '.';
     }
-    scaleItem = item({
-      trimmer: 'scale',
-      status: 'adjust',
-      direction: widen ? 'widen' : 'narrow',
-      errorCents: e,
-      gainChangePercent: gainPct,
+    scaleItem = scaleAdjustItem(
+      e,
+      fmtCents(e),
+      gainPct,
       resistors,
-      text:
-        `Turn the scale trimmer to ${widen ? 'widen' : 'narrow'} the span: octaves are ${fmtCents(e)} cents ` +
-        `${widen ? 'narrow' : 'wide'} (${widen ? 'raise' : 'lower'} the converter's gain by ${fmtPct(gainPct)}). ` +
-        `Trim until the interval from ${fmtV(fit.fromVolts)} to ${fmtV(fit.toVolts)} reads ${(CENTS_PER_OCTAVE * span).toFixed(1)} cents; ` +
+      {},
+      `Trim until the interval from ${fmtV(fit.fromVolts)} to ${fmtV(fit.toVolts)} reads ${(CENTS_PER_OCTAVE * span).toFixed(1)} cents; ` +
         `it reads ${intervalNow.toFixed(1)} now. Leave the HF trimmer alone while you do.` +
         resistorText,
-    });
+    );
   }
   items.push(scaleItem);
 
@@ -570,11 +663,7 @@ export function adviseTrim(input: TrimAdviceInput): TrimAdvice {
   const refVolts = input.offsetTarget?.volts ?? fit.fromVolts;
   const playing = predictedHz(fit, refVolts);
   const targetHz = input.offsetTarget?.hz ?? nearestNote(playing, a4Hz).noteHz;
-  const targetNote = nearestNote(targetHz, a4Hz);
-  const targetName =
-    Math.abs(targetNote.cents) < 0.05
-      ? `${targetNote.name} (${fmtHz(targetHz)} Hz)`
-      : `${fmtHz(targetHz)} Hz`;
+  const targetName = targetLabel(targetHz, a4Hz);
   const offErr = CENTS_PER_OCTAVE * Math.log2(playing / targetHz);
   const sharp = offErr > 0;
   let offsetItem: AdviceItem;
@@ -586,23 +675,17 @@ export function adviseTrim(input: TrimAdviceInput): TrimAdvice {
       text: `The tuning is within tolerance: ${fmtCents(offErr)} cents ${sharp ? 'sharp' : 'flat'} of ${targetName} at ${fmtV(refVolts)}.`,
     });
   } else {
-    const mvBase = centsToMillivolts(-offErr, vBase);
-    const mvInput = centsToMillivolts(-offErr, 1);
-    offsetItem = item({
-      trimmer: 'offset',
-      status: 'adjust',
-      direction: sharp ? 'lower' : 'raise',
-      errorCents: offErr,
-      millivoltsAtBase: mvBase,
-      millivoltsAtInput: mvInput,
-      text:
-        `Set the offset last: at ${fmtV(refVolts)} the oscillator plays ${fmtHz(playing)} Hz, ${fmtCents(offErr)} cents ` +
+    offsetItem = offsetAdjustItem(
+      offErr,
+      vBase,
+      {},
+      `Set the offset last: at ${fmtV(refVolts)} the oscillator plays ${fmtHz(playing)} Hz, ${fmtCents(offErr)} cents ` +
         `${sharp ? 'sharp' : 'flat'} of ${targetName}. Turn the offset (tuning) trimmer to ${sharp ? 'lower' : 'raise'} the pitch ` +
-        `by ${fmtCents(offErr)} cents: about ${fmtMv(mvBase)} at the converter's base, or ${fmtMv(mvInput)} at the 1 V/oct input.` +
-        (scaleItem.status === 'adjust'
-          ? ' Trimming the scale moves this, so re-measure it after the scale is set.'
-          : ''),
-    });
+        `by ${fmtCents(offErr)} cents`,
+      scaleItem.status === 'adjust'
+        ? ' Trimming the scale moves this, so re-measure it after the scale is set.'
+        : '',
+    );
   }
   items.push(offsetItem);
 
@@ -783,15 +866,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   const tol = input.toleranceCents ?? 1;
   if (!Number.isFinite(tol) || tol <= 0)
     throw new RangeError(`toleranceCents must be a finite number greater than 0, got ${tol}`);
-  const a4Hz = input.a4Hz ?? A4_HZ;
-  requirePositive('a4Hz', a4Hz);
-  const vBase = voltsPerOctaveAtBase(input.tempC ?? 25);
-  if (input.offsetTarget !== undefined) {
-    if (!Number.isFinite(input.offsetTarget.volts))
-      throw new RangeError(`offsetTarget.volts must be a finite number, got ${input.offsetTarget.volts}`);
-    requirePositive('offsetTarget.hz', input.offsetTarget.hz);
-  }
-  if (input.network !== undefined) validateNetwork(input.network);
+  const { a4Hz, vBase } = checkAdviceInput(input);
   const { model, steps } = input;
   const used = model.usedIndices;
   const refVolts = input.offsetTarget?.volts ?? model.fromVolts;
@@ -800,24 +875,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   const targetHz = input.offsetTarget?.hz ?? nearestNote(playingRef, a4Hz).noteHz;
   const targetAt = (v: number) => targetHz * Math.pow(2, v - refVolts);
 
-  const scaleBudget = derivedBudget(
-    model,
-    steps,
-    scaleSensitivities(model),
-    'scale error',
-    'cents per octave',
-    model.scaleErrorCentsPerOctave,
-    bopts,
-  );
-  const pitchAt0V = derivedBudget(
-    model,
-    steps,
-    predictionSensitivities(model, 0),
-    'pitch at 0 V',
-    'cents',
-    0,
-    bopts,
-  );
+  const { scale: scaleBudget, pitchAt0V } = lineBudgets(model, steps, bopts);
   const offErr = CENTS_PER_OCTAVE * Math.log2(playingRef / targetHz);
   const offsetBudget = derivedBudget(
     model,
@@ -912,7 +970,6 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
           : 'Take longer readings at each step before trimming.'),
     });
   } else {
-    const widen = e < 0;
     const s = model.octavesPerVolt;
     const gainPct = (1 / s - 1) * 100;
     const resistors =
@@ -939,30 +996,19 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
           '.';
       }
     }
-    scaleItem = item({
-      trimmer: 'scale',
-      status: 'adjust',
-      direction: widen ? 'widen' : 'narrow',
-      errorCents: e,
-      uncertaintyCents: uE,
-      gainChangePercent: gainPct,
+    scaleItem = scaleAdjustItem(
+      e,
+      `${fmtCents(e)} ± ${formatUncertainty(uE)}`,
+      gainPct,
       resistors,
-      target: {
-        volts: vB,
-        hz: fA * Math.pow(2, scaleTargetInterval / CENTS_PER_OCTAVE),
-        nowHz: fB,
-        fromVolts: vA,
-        fromHz: fA,
-        intervalCents: scaleTargetInterval,
-        nowIntervalCents: scaleNowInterval,
+      {
+        uncertaintyCents: uE,
+        target: trimTarget(vA, fA, vB, fB, scaleTargetInterval, scaleNowInterval),
       },
-      text:
-        `Turn the scale trimmer to ${widen ? 'widen' : 'narrow'} the span: octaves are ${fmtCents(e)} ± ${formatUncertainty(uE)} cents ` +
-        `${widen ? 'narrow' : 'wide'} (${widen ? 'raise' : 'lower'} the converter's gain by ${fmtPct(gainPct)}). ` +
-        `Trim until the interval from ${fmtV(vA)} to ${fmtV(vB)} reads ${scaleTargetInterval.toFixed(1)} cents; it reads ${scaleNowInterval.toFixed(1)} now. ` +
+      `Trim until the interval from ${fmtV(vA)} to ${fmtV(vB)} reads ${scaleTargetInterval.toFixed(1)} cents; it reads ${scaleNowInterval.toFixed(1)} now. ` +
         'Leave the HF trimmer alone while you do.' +
         resistorText,
-    });
+    );
   }
   items.push(scaleItem);
 
@@ -1026,15 +1072,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
         direction: flat ? 'more-compensation' : 'less-compensation',
         errorCents: hAtH,
         uncertaintyCents: hfBudget.expanded,
-        target: {
-          volts: vH,
-          hz: fA * Math.pow(2, interval / CENTS_PER_OCTAVE),
-          nowHz: fH,
-          fromVolts: vA,
-          fromHz: fA,
-          intervalCents: interval,
-          nowIntervalCents: nowInterval,
-        },
+        target: trimTarget(vA, fA, vH, fH, interval, nowInterval),
         text:
           `Trim the HF on the ${fmtV(vH)} step (${fmtHz(fH)} Hz): it is ${fmtCents(hAtH)} ± ${formatUncertainty(hfBudget.expanded)} cents ${flat ? 'flat' : 'sharp'} ` +
           `of the model's line (${fmtCents(hAtTop)} at the top step, ${fmtHz(fTop)} Hz). Turn the HF trimmer to ${flat ? 'add' : 'reduce'} compensation ` +
@@ -1050,11 +1088,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   items.push(hfItem);
 
   // 3. Offset, last, to a target pitch.
-  const targetNote = nearestNote(targetHz, a4Hz);
-  const targetName =
-    Math.abs(targetNote.cents) < 0.05
-      ? `${targetNote.name} (${fmtHz(targetHz)} Hz)`
-      : `${fmtHz(targetHz)} Hz`;
+  const targetName = targetLabel(targetHz, a4Hz);
   const uOff = offsetBudget.expanded;
   let offsetItem: AdviceItem;
   const offTarget: TrimTarget = {
@@ -1084,25 +1118,17 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
     });
   } else {
     const sharp = offErr > 0;
-    const mvBase = centsToMillivolts(-offErr, vBase);
-    const mvInput = centsToMillivolts(-offErr, 1);
-    offsetItem = item({
-      trimmer: 'offset',
-      status: 'adjust',
-      direction: sharp ? 'lower' : 'raise',
-      errorCents: offErr,
-      uncertaintyCents: uOff,
-      millivoltsAtBase: mvBase,
-      millivoltsAtInput: mvInput,
-      target: offTarget,
-      text:
-        `Set the offset last: at ${fmtV(refVolts)} the oscillator plays ${fmtHz(playingRef)} Hz, ${fmtCents(offErr)} ± ${formatUncertainty(uOff)} cents ` +
+    offsetItem = offsetAdjustItem(
+      offErr,
+      vBase,
+      { uncertaintyCents: uOff, target: offTarget },
+      `Set the offset last: at ${fmtV(refVolts)} the oscillator plays ${fmtHz(playingRef)} Hz, ${fmtCents(offErr)} ± ${formatUncertainty(uOff)} cents ` +
         `${sharp ? 'sharp' : 'flat'} of ${targetName}. Turn the offset (tuning) trimmer to ${sharp ? 'lower' : 'raise'} the pitch until the ${fmtV(refVolts)} step reads ` +
-        `${fmtHz(targetHz)} Hz: about ${fmtMv(mvBase)} at the converter's base, or ${fmtMv(mvInput)} at the 1 V/oct input.` +
-        (scaleItem.status === 'adjust' || hfItem.status === 'adjust'
-          ? ' Trimming the scale or HF moves this, so set it after them and read the step again.'
-          : ''),
-    });
+        `${fmtHz(targetHz)} Hz`,
+      scaleItem.status === 'adjust' || hfItem.status === 'adjust'
+        ? ' Trimming the scale or HF moves this, so set it after them and read the step again.'
+        : '',
+    );
   }
   items.push(offsetItem);
 

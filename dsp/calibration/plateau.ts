@@ -356,6 +356,28 @@ function statusOf(s: PlateauDetectorState, ev: Evaluation | null): PlateauStatus
 }
 
 /**
+ * True when a reading (or anything shaped like one, such as a saved record's) carries a pitch a plateau can
+ * use: kind `ok`, a finite pitch above 0 Hz and a finite uncertainty of at least 0 cents.
+ *
+ * @param r - The reading.
+ * @example isUsablePitch({ kind: 'ok', hz: 440, uncertaintyCents: 0.02 }) // true
+ */
+export function isUsablePitch<T extends object>(
+  r: T,
+): r is T & { readonly kind: 'ok'; readonly hz: number; readonly uncertaintyCents: number } {
+  const x = r as { readonly kind?: unknown; readonly hz?: unknown; readonly uncertaintyCents?: unknown };
+  return (
+    x.kind === 'ok' &&
+    typeof x.hz === 'number' &&
+    Number.isFinite(x.hz) &&
+    x.hz > 0 &&
+    typeof x.uncertaintyCents === 'number' &&
+    Number.isFinite(x.uncertaintyCents) &&
+    x.uncertaintyCents >= 0
+  );
+}
+
+/**
  * Feeds one reading to the detector, updating `state` in place.
  *
  * Readings must come in time order; one whose `timeSeconds` is not after the previous reading's is
@@ -396,15 +418,8 @@ export function pushReading(
     state.open = null;
     clearHeld(state);
   }
-  const usable =
-    reading.kind === 'ok' &&
-    typeof reading.hz === 'number' &&
-    Number.isFinite(reading.hz) &&
-    reading.hz > 0 &&
-    typeof reading.uncertaintyCents === 'number' &&
-    Number.isFinite(reading.uncertaintyCents) &&
-    reading.uncertaintyCents >= 0;
-  if (!usable) return { settled: null, ended, gap, ignored: null, status: statusOf(state, null) };
+  if (!isUsablePitch(reading))
+    return { settled: null, ended, gap, ignored: null, status: statusOf(state, null) };
 
   if (state.anchorHz === null) state.anchorHz = reading.hz;
   const c = 1200 * Math.log2(reading.hz / state.anchorHz);

@@ -31,6 +31,7 @@ import { z } from 'zod';
 import {
   clonePlateauState,
   createPlateauState,
+  isUsablePitch,
   openPlateau,
   pushReading,
   resolvePlateauOptions,
@@ -684,10 +685,27 @@ function dropCapture(
   s.pendingCapture = null;
 }
 
+/** Pauses or ends the run: any capture in progress is given up. */
+function stopListening(s: RunState, phase: 'paused' | 'aborted'): void {
+  dropCapture(s, phase);
+  s.phase = phase;
+  s.progress = 0;
+  s.warning = null;
+}
+
 function toListening(s: RunState): void {
   s.phase = 'apply-voltage';
   s.progress = 0;
   s.warning = null;
+}
+
+/** After the user moves to another step: a paused run stays paused with its warning cleared, any other listens there. */
+function listenAtCurrent(s: RunState): void {
+  if (s.phase === 'paused') s.warning = null;
+  else {
+    toListening(s);
+    reconsider(s);
+  }
 }
 
 function nextPending(s: RunState, after: number): number | null {
@@ -1053,16 +1071,7 @@ function validReading(r: unknown): r is PitchReading {
   if (typeof r !== 'object' || r === null) return false;
   const x = r as Record<string, unknown>;
   if (typeof x.timeSeconds !== 'number' || !Number.isFinite(x.timeSeconds)) return false;
-  if (x.kind === 'none') return true;
-  return (
-    x.kind === 'ok' &&
-    typeof x.hz === 'number' &&
-    Number.isFinite(x.hz) &&
-    x.hz > 0 &&
-    typeof x.uncertaintyCents === 'number' &&
-    Number.isFinite(x.uncertaintyCents) &&
-    x.uncertaintyCents >= 0
-  );
+  return x.kind === 'none' || isUsablePitch(x);
 }
 
 function onReading(s: RunState, reading: unknown): RunState {
@@ -1269,11 +1278,7 @@ function reduce(s: RunState, e: RunEvent): RunState {
       if (s.lastCapturedStep === e.stepIndex) s.lastCapturedStep = null;
       s.current = e.stepIndex;
       s.capturedAtSeconds = null;
-      if (s.phase === 'paused') s.warning = null;
-      else {
-        toListening(s);
-        reconsider(s);
-      }
+      listenAtCurrent(s);
       return s;
     }
     case 'back': {
@@ -1283,11 +1288,7 @@ function reduce(s: RunState, e: RunEvent): RunState {
       dropCapture(s, 'navigated');
       s.current = target;
       if (s.steps[target].status === 'skipped') s.steps[target].status = 'pending';
-      if (s.phase === 'paused') s.warning = null;
-      else {
-        toListening(s);
-        reconsider(s);
-      }
+      listenAtCurrent(s);
       return s;
     }
     case 'skip': {
@@ -1303,10 +1304,7 @@ function reduce(s: RunState, e: RunEvent): RunState {
     case 'pause': {
       if (over) return ignore(s, type, 'run-over');
       if (s.phase === 'paused') return ignore(s, type, 'paused');
-      dropCapture(s, 'paused');
-      s.phase = 'paused';
-      s.progress = 0;
-      s.warning = null;
+      stopListening(s, 'paused');
       return s;
     }
     case 'resume': {
@@ -1317,10 +1315,7 @@ function reduce(s: RunState, e: RunEvent): RunState {
     }
     case 'abort': {
       if (over) return ignore(s, type, 'run-over');
-      dropCapture(s, 'aborted');
-      s.phase = 'aborted';
-      s.progress = 0;
-      s.warning = null;
+      stopListening(s, 'aborted');
       return s;
     }
     case 'set-measured-volts': {

@@ -10,7 +10,17 @@
  *
  * All functions are pure and allocate only their results.
  */
-import type { Celsius, Cents, Hertz, Kelvin, Ohms, Seconds, Volts } from '../math/index.ts';
+import {
+  weightedLeastSquares,
+  type Celsius,
+  type Cents,
+  type Hertz,
+  type Kelvin,
+  type Ohms,
+  type Seconds,
+  type Volts,
+  type WeightedLeastSquares,
+} from '../math/index.ts';
 
 /** Boltzmann constant, J/K, exact (BIPM SI Brochure, 9th ed., 2019). */
 export const BOLTZMANN_J_PER_K = 1.380649e-23;
@@ -292,78 +302,16 @@ export interface HfComparisonUndecided {
 /** Outcome of {@link compareHighFrequencyModels}. */
 export type HfComparison = HfComparisonDecided | HfComparisonUndecided;
 
-interface LinearSolve {
-  readonly beta: number[];
-  /** (XᵀWX)⁻¹ in the original column units. */
-  readonly cov: number[][];
-  readonly chiSquared: number;
-  readonly residuals: number[];
-}
-
 /**
- * Weighted linear least squares `y ≈ Xβ` by the normal equations, with columns scaled to unit RMS
- * before Gauss–Jordan elimination with partial pivoting. Returns null when the design is singular.
+ * Weighted linear least squares `y ≈ Xβ` (the shared solver, dsp/math/wls.ts), with the singular limit
+ * these fits have always used. Returns null when the design is singular.
  */
 function weightedLinearSolve(
   columns: readonly number[][],
   y: readonly number[],
   w: readonly number[],
-): LinearSolve | null {
-  const p = columns.length;
-  const n = y.length;
-  if (p === 0) {
-    let chi = 0;
-    for (let i = 0; i < n; i++) chi += w[i] * y[i] * y[i];
-    return { beta: [], cov: [], chiSquared: chi, residuals: y.slice() };
-  }
-  const scale = columns.map((c) => {
-    let s = 0;
-    for (const v of c) s += v * v;
-    const r = Math.sqrt(s / n);
-    return r > 0 ? r : 1;
-  });
-  // Augmented matrix [A | b | I] where A = ZᵀWZ with Z the scaled columns.
-  const m: number[][] = [];
-  for (let j = 0; j < p; j++) {
-    const row = new Array<number>(2 * p + 1).fill(0);
-    for (let k = 0; k < p; k++) {
-      let s = 0;
-      for (let i = 0; i < n; i++) s += w[i] * (columns[j][i] / scale[j]) * (columns[k][i] / scale[k]);
-      row[k] = s;
-    }
-    let b = 0;
-    for (let i = 0; i < n; i++) b += w[i] * (columns[j][i] / scale[j]) * y[i];
-    row[p] = b;
-    row[p + 1 + j] = 1;
-    m.push(row);
-  }
-  let maxDiag = 0;
-  for (let j = 0; j < p; j++) maxDiag = Math.max(maxDiag, Math.abs(m[j][j]));
-  for (let c = 0; c < p; c++) {
-    let piv = c;
-    for (let r = c + 1; r < p; r++) if (Math.abs(m[r][c]) > Math.abs(m[piv][c])) piv = r;
-    if (!(Math.abs(m[piv][c]) > 1e-12 * maxDiag)) return null;
-    [m[c], m[piv]] = [m[piv], m[c]];
-    const d = m[c][c];
-    for (let k = 0; k < 2 * p + 1; k++) m[c][k] /= d;
-    for (let r = 0; r < p; r++) {
-      if (r === c) continue;
-      const f = m[r][c];
-      if (f === 0) continue;
-      for (let k = 0; k < 2 * p + 1; k++) m[r][k] -= f * m[c][k];
-    }
-  }
-  const beta = m.map((row, j) => row[p] / scale[j]);
-  const cov = m.map((row, j) => row.slice(p + 1).map((v, k) => v / (scale[j] * scale[k])));
-  const residuals = new Array<number>(n);
-  let chi = 0;
-  for (let i = 0; i < n; i++) {
-    let fit = 0;
-    for (let j = 0; j < p; j++) fit += columns[j][i] * beta[j];
-    residuals[i] = y[i] - fit;
-    chi += w[i] * residuals[i] * residuals[i];
-  }
-  return { beta, cov, chiSquared: chi, residuals };
+): WeightedLeastSquares | null {
+  return weightedLeastSquares(columns, y, w, 1e-12);
 }
 
 /** Cents per natural-log unit of frequency ratio: 1200/ln 2. */

@@ -29,14 +29,14 @@ export const MAX_SAMPLE_RATE_HZ: Hertz = 384000;
 /** How the samples are stored: integer PCM or IEEE 754 floating point. */
 export type WavSampleFormat = 'pcm' | 'float';
 
-/** A successfully decoded WAV file. */
-export interface WavDecoded {
+/** What a readable WAV file's header says about its samples (shared by {@link WavDecoded} and {@link WavLayout}). */
+export interface WavHeaderInfo {
   readonly kind: 'ok';
   /** Frames per second, Hz, in [8000, 384000]. */
   readonly sampleRateHz: Hertz;
   /** Number of channels, ≥ 1. */
   readonly channelCount: number;
-  /** Number of sample frames (samples per channel), ≥ 1. */
+  /** Number of sample frames (samples per channel), ≥ 1; may exceed 2^32 in an RF64 file. */
   readonly frameCount: number;
   /** Bits per stored sample (the container size): 8, 16, 24 or 32 for PCM, 32 or 64 for float. */
   readonly bitDepth: number;
@@ -46,6 +46,10 @@ export interface WavDecoded {
   readonly extensible: boolean;
   /** `frameCount / sampleRateHz`, seconds. */
   readonly durationSeconds: Seconds;
+}
+
+/** A successfully decoded WAV file. */
+export interface WavDecoded extends WavHeaderInfo {
   /**
    * One array per channel, in file order (`channels[0]` is channel 1), normalised so that integer full scale
    * is ±1: a PCM value v of b bits becomes v / 2^(b−1) (8-bit, being unsigned, (v − 128) / 128). Float
@@ -284,22 +288,7 @@ export function bytesSource(bytes: Uint8Array): ByteSource {
  * The layout of a readable WAV file, found by {@link openWav} from its header alone: what the samples
  * are and where they lie. Reading them is {@link readWavFrames}'s job, any stretch at a time.
  */
-export interface WavLayout {
-  readonly kind: 'ok';
-  /** Frames per second, Hz, in [8000, 384000]. */
-  readonly sampleRateHz: Hertz;
-  /** Number of channels, ≥ 1. */
-  readonly channelCount: number;
-  /** Number of sample frames (samples per channel), ≥ 1; may exceed 2^32 in an RF64 file. */
-  readonly frameCount: number;
-  /** Bits per stored sample (the container size): 8, 16, 24 or 32 for PCM, 32 or 64 for float. */
-  readonly bitDepth: number;
-  /** Integer PCM or floating point. */
-  readonly format: WavSampleFormat;
-  /** True when the file used the WAVE_FORMAT_EXTENSIBLE header. */
-  readonly extensible: boolean;
-  /** `frameCount / sampleRateHz`, seconds. */
-  readonly durationSeconds: Seconds;
+export interface WavLayout extends WavHeaderInfo {
   /** `RIFF`, `RIFX` (big-endian), `RF64` (EBU Tech 3306) or `BW64` (ITU-R BS.2088). */
   readonly container: 'RIFF' | 'RIFX' | 'RF64' | 'BW64';
   /** Offset of the first sample byte in the file, bytes. */

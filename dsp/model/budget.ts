@@ -617,6 +617,22 @@ export function modelBudgets(
   steps: readonly BudgetStep[],
   opts: BudgetOptions = {},
 ): ModelBudgets {
+  return { ...lineBudgets(model, steps, opts), steps: steps.map((s) => stepBudget(s, opts)) };
+}
+
+/**
+ * Budgets of the model's line alone: the scale error (cents per octave) and the pitch at 0 V (cents).
+ *
+ * @param model - The fitted model.
+ * @param steps - Every input step, in the order given to the model.
+ * @param opts - Meter, source, clock, temperature.
+ * @example lineBudgets(model, steps, {}).scale.expanded // 0.0082 (cents per octave)
+ */
+export function lineBudgets(
+  model: CalibrationModelOk,
+  steps: readonly BudgetStep[],
+  opts: BudgetOptions = {},
+): Pick<ModelBudgets, 'scale' | 'pitchAt0V'> {
   return {
     scale: derivedBudget(
       model,
@@ -636,7 +652,6 @@ export function modelBudgets(
       0,
       opts,
     ),
-    steps: steps.map((s) => stepBudget(s, opts)),
   };
 }
 

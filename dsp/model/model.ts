@@ -29,7 +29,7 @@
  * The straight line through every step ({@link fitTracking}) stays available beside it, labelled as such.
  */
 import { fitTracking, MIN_UNCERTAINTY_CENTS, type TrackingFitOk, type TrackingPoint } from './fit.ts';
-import type { Cents, Hertz, Seconds, Volts } from '../math/index.ts';
+import { weightedLeastSquares, type Cents, type Hertz, type Seconds, type Volts } from '../math/index.ts';
 import { goldenSectionMidpoint } from '../converter/index.ts';
 
 const CENTS_PER_OCTAVE = 1200;
@@ -201,67 +201,10 @@ interface Solve {
   readonly gain: number[][];
 }
 
-/** Weighted linear least squares by the normal equations with Gauss–Jordan inversion; null when singular. */
+/** Weighted linear least squares (the shared solver, dsp/math/wls.ts); null when singular. */
 function wls(cols: readonly number[][], y: readonly number[], w: readonly number[]): Solve | null {
-  const p = cols.length;
-  const n = y.length;
-  const scale = cols.map((c) => {
-    let s = 0;
-    for (const x of c) s += x * x;
-    const r = Math.sqrt(s / n);
-    return r > 0 ? r : 1;
-  });
-  const m: number[][] = [];
-  for (let j = 0; j < p; j++) {
-    const row = new Array<number>(2 * p).fill(0);
-    for (let k = 0; k < p; k++) {
-      let s = 0;
-      for (let i = 0; i < n; i++) s += (w[i] * cols[j][i] * cols[k][i]) / (scale[j] * scale[k]);
-      row[k] = s;
-    }
-    row[p + j] = 1;
-    m.push(row);
-  }
-  let maxDiag = 0;
-  for (let j = 0; j < p; j++) maxDiag = Math.max(maxDiag, Math.abs(m[j][j]));
-  for (let c = 0; c < p; c++) {
-    let piv = c;
-    for (let r = c + 1; r < p; r++) if (Math.abs(m[r][c]) > Math.abs(m[piv][c])) piv = r;
-    if (!(Math.abs(m[piv][c]) > 1e-13 * maxDiag)) return null;
-    [m[c], m[piv]] = [m[piv], m[c]];
-    const d = m[c][c];
-    for (let k = 0; k < 2 * p; k++) m[c][k] /= d;
-    for (let r = 0; r < p; r++) {
-      if (r === c) continue;
-      const fct = m[r][c];
-      if (fct === 0) continue;
-      for (let k = 0; k < 2 * p; k++) m[r][k] -= fct * m[c][k];
-    }
-  }
-  const cov = m.map((row, j) => row.slice(p).map((x, k) => x / (scale[j] * scale[k])));
-  // gain = cov · Xᵀ W
-  const gain = cov.map((row) => {
-    const g = new Array<number>(n).fill(0);
-    for (let i = 0; i < n; i++) {
-      let s = 0;
-      for (let k = 0; k < p; k++) s += row[k] * cols[k][i];
-      g[i] = s * w[i];
-    }
-    return g;
-  });
-  const beta = gain.map((g) => {
-    let s = 0;
-    for (let i = 0; i < n; i++) s += g[i] * y[i];
-    return s;
-  });
-  let chi = 0;
-  for (let i = 0; i < n; i++) {
-    let fit = 0;
-    for (let j = 0; j < p; j++) fit += cols[j][i] * beta[j];
-    const r = y[i] - fit;
-    chi += w[i] * r * r;
-  }
-  return { beta, cov, chi, gain };
+  const s = weightedLeastSquares(cols, y, w);
+  return s === null ? null : { beta: s.beta, cov: s.cov, chi: s.chiSquared, gain: s.gain };
 }
 
 /** Linear columns of a model at reset time t (bulk column depends on t). */

@@ -411,9 +411,7 @@ export class HarmonicRefiner {
       if (mayLook) {
         const b = this.findBreak(strongest, K, M);
         if (b >= 0) {
-          this.cut[b] = 1;
-          nStretch = this.assignStretches(M);
-          this.zeroDropped(K, M);
+          nStretch = this.cutAt(b, K, M);
           found++;
           continue;
         }
@@ -429,10 +427,8 @@ export class HarmonicRefiner {
         activeCount++;
         const k = this.hk[j];
         // Circular weighted mean of the residual phase per stretch sets the intercept used for wrapping.
-        for (let r = 0; r < nStretch; r++) {
-          this.stT[r] = 0;
-          this.stY[r] = 0;
-        }
+        this.stT.fill(0, 0, nStretch);
+        this.stY.fill(0, 0, nStretch);
         for (let m = 0; m < M; m++) {
           const r = this.seg[m];
           if (r < 0) continue;
@@ -534,9 +530,7 @@ export class HarmonicRefiner {
       if (mayLook) {
         const b = this.findBreak(-1, K, M);
         if (b >= 0) {
-          this.cut[b] = 1;
-          nStretch = this.assignStretches(M);
-          this.zeroDropped(K, M);
+          nStretch = this.cutAt(b, K, M);
           found++;
           continue;
         }
@@ -621,6 +615,14 @@ export class HarmonicRefiner {
     return used ? id + 1 : Math.max(1, id);
   }
 
+  /** Cuts the fit at segment `b` (left out), renumbers the stretches and returns their number. */
+  private cutAt(b: number, K: number, M: number): number {
+    this.cut[b] = 1;
+    const nStretch = this.assignStretches(M);
+    this.zeroDropped(K, M);
+    return nStretch;
+  }
+
   /** Zero weight for every cell of a left-out segment. */
   private zeroDropped(K: number, M: number): void {
     const ms = this.maxSegments;
@@ -647,25 +649,7 @@ export class HarmonicRefiner {
       prevM = m;
       prevId = r;
     }
-    for (let r = 0; r < nStretch; r++) {
-      this.stW[r] = 0;
-      this.stT[r] = 0;
-      this.stY[r] = 0;
-    }
-    for (let m = 0; m < M; m++) {
-      const r = this.seg[m];
-      if (r < 0) continue;
-      const wt = this.w[j * ms + m];
-      this.stW[r] += wt;
-      this.stT[r] += wt * this.t[m];
-      this.stY[r] += wt * ua[m];
-    }
-    for (let r = 0; r < nStretch; r++) {
-      if (this.stW[r] > 0) {
-        this.stT[r] /= this.stW[r];
-        this.stY[r] /= this.stW[r];
-      }
-    }
+    this.stretchMeans(j, M, nStretch, ua, 0, false);
     let sxy = 0;
     let sxx = 0;
     for (let m = 0; m < M; m++) {
@@ -799,20 +783,33 @@ export class HarmonicRefiner {
 
   /** Weighted means of segment time and phase of harmonic slot `j`, per stretch, into stT/stY. */
   private weightedMeans(j: number, M: number, nStretch: number): void {
+    this.stretchMeans(j, M, nStretch, this.phase, j * this.maxSegments, true);
+  }
+
+  /**
+   * Weighted means of segment time and of `y[yBase + m]`, per stretch, into stT/stY (stW holds the weight
+   * sums). The weight of segment m is that of harmonic slot `j`, times its robust weight when `robust`.
+   */
+  private stretchMeans(
+    j: number,
+    M: number,
+    nStretch: number,
+    y: Float64Array,
+    yBase: number,
+    robust: boolean,
+  ): void {
     const ms = this.maxSegments;
-    for (let r = 0; r < nStretch; r++) {
-      this.stW[r] = 0;
-      this.stT[r] = 0;
-      this.stY[r] = 0;
-    }
+    this.stW.fill(0, 0, nStretch);
+    this.stT.fill(0, 0, nStretch);
+    this.stY.fill(0, 0, nStretch);
     for (let m = 0; m < M; m++) {
       const r = this.seg[m];
       if (r < 0) continue;
       const idx = j * ms + m;
-      const ww = this.w[idx] * this.wr[idx];
+      const ww = robust ? this.w[idx] * this.wr[idx] : this.w[idx];
       this.stW[r] += ww;
       this.stT[r] += ww * this.t[m];
-      this.stY[r] += ww * this.phase[idx];
+      this.stY[r] += ww * y[yBase + m];
     }
     for (let r = 0; r < nStretch; r++) {
       if (this.stW[r] > 0) {

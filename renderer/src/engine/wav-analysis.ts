@@ -6,39 +6,45 @@
  * host's synchronous reader, `FileReaderSync` in the worker), so a recording of any length fits. Pure; no
  * worker globals, so tests call it in Node.
  */
-import type { InputNetwork } from '../../../dsp/advice/index.ts';
 import {
   analyzeRecording,
   type PlateauSpan,
   type RecordingAnalysisOk,
   type RecordingErrorCode,
+  type RecordingOptions,
 } from '../../../dsp/recording/index.ts';
-import type { Hertz, Ppm, Seconds, Volts } from '../../../dsp/math/index.ts';
+import type { Hertz, Seconds, Volts } from '../../../dsp/math/index.ts';
 import { wavChannelSource } from '../../../dsp/recording/index.ts';
 import { bytesSource, openWav, type ByteSource, type WavErrorCode } from '../../../dsp/io/index.ts';
 
+/** The analysis options the page may set, each as {@link RecordingOptions} documents it. */
+const REQUEST_OPTIONS = [
+  'settleSeconds',
+  'a4Hz',
+  'clockPpm',
+  'fitFromVolts',
+  'fitToVolts',
+  'network',
+  'toleranceCents',
+] as const;
+
 /**
- * What the page asks for: the plan's voltages, the settle time, the tuning reference and the channel,
- * and the Setup's clock correction, fit range and input network.
+ * What the page asks for: the plan's voltages and the channel, with the settle time, the tuning reference,
+ * the Setup's clock correction, fit range and input network and the unit's tolerance as the recording
+ * analysis takes them (`dsp/recording/recording.ts`, {@link RecordingOptions}).
  */
-export interface WavAnalysisRequest {
+export interface WavAnalysisRequest extends Pick<RecordingOptions, (typeof REQUEST_OPTIONS)[number]> {
   /** Control voltages of the steps in the order they were played, V, each within ±12 V (`MAX_CONTROL_VOLTS`, at least one). */
   readonly points: readonly Volts[];
   /** Channel to analyse, counted from 1. */
   readonly channel: number;
-  /** Time the pitch must stay in the band to count as settled, s, 0…60 (dsp/recording/recording.ts default 0.5). */
-  readonly settleSeconds?: Seconds;
-  /** Tuning reference for note names, Hz, 380…500 (default 440, ISO 16:1975). */
-  readonly a4Hz?: Hertz;
-  /** Interface clock error, ppm (positive = fast), within ±1000 (dsp/io/clock.ts); default 0. */
-  readonly clockPpm?: Ppm;
-  /** Fit range, V (inclusive), within ±12; default every step (dsp/recording/recording.ts). */
-  readonly fitFromVolts?: Volts;
-  readonly fitToVolts?: Volts;
-  /** The input network, for resistor values in the scale advice (dsp/advice/advice.ts). */
-  readonly network?: InputNetwork;
-  /** The unit's tolerance over the range in use, cents, > 0 (dsp/model/tolerance.ts); default 1. */
-  readonly toleranceCents?: number;
+}
+
+/** The request's analysis options, the ones it sets and no others. */
+function recordingOptions(request: WavAnalysisRequest): RecordingOptions {
+  const options: Record<string, unknown> = { points: request.points };
+  for (const key of REQUEST_OPTIONS) if (request[key] !== undefined) options[key] = request[key];
+  return options as RecordingOptions;
 }
 
 /** The file as decoded, for the status line. */
@@ -154,16 +160,7 @@ export function analyzeWavSource(
     const a = analyzeRecording(
       wavChannelSource(src, layout, channel - 1),
       layout.sampleRateHz,
-      {
-        points: request.points,
-        ...(request.settleSeconds === undefined ? {} : { settleSeconds: request.settleSeconds }),
-        ...(request.a4Hz === undefined ? {} : { a4Hz: request.a4Hz }),
-        ...(request.clockPpm === undefined ? {} : { clockPpm: request.clockPpm }),
-        ...(request.fitFromVolts === undefined ? {} : { fitFromVolts: request.fitFromVolts }),
-        ...(request.fitToVolts === undefined ? {} : { fitToVolts: request.fitToVolts }),
-        ...(request.network === undefined ? {} : { network: request.network }),
-        ...(request.toleranceCents === undefined ? {} : { toleranceCents: request.toleranceCents }),
-      },
+      recordingOptions(request),
       onProgress,
     );
     if (a.kind === 'error') {
