@@ -72,6 +72,11 @@ function ModelBudgetRows(props: { result: CalibrationResult }) {
 export function FitSummary(props: { result: ResultModel }) {
   const { fit, spreadCents, source } = props.result;
   const modelled = Boolean(source?.fit?.model);
+  // The ± beside the scale is its combined standard uncertainty from the GUM budget (reference voltage,
+  // estimator, repeatability, …) where there is one; the fit's own standard error alone would claim far
+  // more than the bench can give. Without a budget the fit's figure is shown and labelled as such.
+  const scaleBudget = source?.fit?.scaleBudget ?? null;
+  const scaleU = scaleBudget ? scaleBudget.combinedCents : (fit?.scaleErrorStdErrCents ?? null);
   return (
     <div className="fit" data-testid="fit-summary">
       <h3>Fit</h3>
@@ -80,10 +85,10 @@ export function FitSummary(props: { result: ResultModel }) {
           <dt>Scale error</dt>
           <dd className="mono" data-testid="fit-scale" data-cents={String(fit.scaleErrorCentsPerOctave)}>
             {formatCents(fit.scaleErrorCentsPerOctave)}
-            {fit.scaleErrorStdErrCents === null
-              ? ''
-              : ` ± ${formatUncertainty(fit.scaleErrorStdErrCents)}`}{' '}
-            ¢/oct
+            {scaleU === null ? '' : ` ± ${formatUncertainty(scaleU)}`} ¢/oct
+            {scaleU !== null && (
+              <span className="dim">{scaleBudget ? ' (u, every source)' : ' (u, fit alone)'}</span>
+            )}
           </dd>
           <dt>Octaves per volt</dt>
           <dd className="mono">{fit.octavesPerVolt.toFixed(6)}</dd>
