@@ -30,4 +30,15 @@ try {
   );
   process.exit(70);
 }
+// The process-level cases time the shipped command line: build its bundle too (only the build script decides
+// how), and tell the benchmark where it is.
+try {
+  const { buildCli } = await import('./build-cli.mjs');
+  process.env.SPANMETER_CLI_BUNDLE = await buildCli();
+} catch (err) {
+  process.stderr.write(
+    `bench: could not build the command line: ${err instanceof Error ? err.message : String(err)}\n`,
+  );
+  process.exit(70);
+}
 await import(pathToFileURL(OUT).href);

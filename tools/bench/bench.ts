@@ -11,12 +11,11 @@ import { estimatePitch } from '../../dsp/pitch/index.ts';
 import { PitchTracker } from '../../dsp/pitch/index.ts';
 import { addDcStep, addHum, addNoise, centsError, tone, toFloat32, type Shape } from '../../test/signals.ts';
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
-import { encodeWav } from '../../cli/simulate.ts';
 import { CliError } from '../../cli/errors.ts';
+import { cliBundle, writeSteppedRecording } from './shared.ts';
 import { modelBenchCases } from './model.ts';
 import { integrityCases } from './integrity.ts';
 
@@ -428,16 +427,8 @@ function timeChild(args: string[], cwd: string): { ms: number; status: number | 
 function recordingCase(runs: number): boolean {
   const dir = mkdtempSync(join(tmpdir(), 'spanmeter-bench-'));
   try {
-    const points = [0, 1, 2, 3, 4];
-    const unit = findDemoUnit('ol3-0417');
-    const sim = renderOscillator(
-      { ...unit?.options, snrDb: 45, humHz: 50, humDb: -35, seed: 7 },
-      planSchedule(points, { holdSeconds: 2.9, glideSeconds: 0.15 }),
-    );
-    const file = join(dir, 'steps-15s-stereo.wav');
-    writeFileSync(file, encodeWav(sim.samples, sim.sampleRateHz, '16', 2));
-    const seconds = sim.samples.length / sim.sampleRateHz;
-    const bundle = process.argv[1];
+    const { file, seconds, points } = writeSteppedRecording(dir);
+    const bundle = cliBundle();
     const cwd = process.cwd();
     const bare = [
       '--input-type=module',

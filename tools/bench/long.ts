@@ -10,12 +10,11 @@
  *   analyze -- FILE --points …`, process start and npm included (target ≥ 20× real time).
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
 import { SAW6, writeLongToneWav } from '../../test/long-wav.ts';
-import { encodeWav } from '../../cli/simulate.ts';
+import { cliBundle, writeSteppedRecording } from './shared.ts';
 
 interface Timed {
   readonly ms: number;
@@ -79,7 +78,7 @@ function barePitchyArgs(file: string): string[] {
 function longCase(quick: boolean): boolean {
   const seconds = quick ? 600 : 3600;
   const dir = mkdtempSync(join(tmpdir(), 'spanmeter-bench-long-'));
-  const bundle = process.argv[1];
+  const bundle = cliBundle();
   const cwd = process.cwd();
   const rows: string[][] = [];
   let ok = true;
@@ -141,15 +140,7 @@ function longCase(quick: boolean): boolean {
 function userCase(runs: number): boolean {
   const dir = mkdtempSync(join(tmpdir(), 'spanmeter-bench-user-'));
   try {
-    const points = [0, 1, 2, 3, 4];
-    const unit = findDemoUnit('ol3-0417');
-    const sim = renderOscillator(
-      { ...unit?.options, snrDb: 45, humHz: 50, humDb: -35, seed: 7 },
-      planSchedule(points, { holdSeconds: 2.9, glideSeconds: 0.15 }),
-    );
-    const file = join(dir, 'steps-15s-stereo.wav');
-    writeFileSync(file, encodeWav(sim.samples, sim.sampleRateHz, '16', 2));
-    const seconds = sim.samples.length / sim.sampleRateHz;
+    const { file, seconds, points } = writeSteppedRecording(dir);
     const npm = process.platform === 'win32' ? 'npm.cmd' : 'npm';
     const ms: number[] = [];
     const cpu: number[] = [];
