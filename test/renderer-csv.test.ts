@@ -8,7 +8,8 @@ import Papa from 'papaparse';
 import { csvField, csvTextField, toCsv } from '../renderer/src/lib/csv.ts';
 import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
-import { CSV_STEP_COLUMNS, runToCsv } from '../renderer/src/lib/export.ts';
+import { CSV_STEP_COLUMNS } from '../renderer/src/lib/export.ts';
+import { SOFTWARE_VERSION, reportToCsv, resultFromAnalysis } from '../renderer/src/ui/results/index.ts';
 
 function parse(text: string): unknown[][] {
   // The file starts with the UTF-8 byte-order mark (the Unicode Standard §23.8); the parser gets the rest.
@@ -103,7 +104,7 @@ describe('toCsv read back with papaparse', () => {
     expect(back[4]).toEqual(['multi\r\nline "quoted"', null]);
   });
 
-  it('runToCsv: header lines about the unit, then the step table with numbers intact', () => {
+  it('reportToCsv: header lines about the unit, then the step table with numbers intact', () => {
     const steps = [
       { nominalVolts: 0, hz: 32.66, uncertaintyCents: 0.0012 },
       { nominalVolts: 1, hz: 65.2, uncertaintyCents: 0.0011 },
@@ -120,18 +121,35 @@ describe('toCsv read back with papaparse', () => {
         })),
       ),
     );
-    const text = runToCsv(a, {
+    const text = reportToCsv({
+      result: resultFromAnalysis(a),
       unitName: '=cmd|"/c calc"!A1',
       serial: '@OL3',
-      notes: 'line one\nline two',
+      label: null,
+      takenAt: null,
       roomTempC: 21.5,
+      meterUsed: null,
+      warmUpMinutes: null,
+      notes: 'line one\nline two',
+      planVolts: steps.map((x) => x.nominalVolts),
+      toleranceCents: 2,
+      saved: false,
+      softwareVersion: SOFTWARE_VERSION,
     });
     expect(text.endsWith('\r\n')).toBe(true);
     const back = parse(text);
-    expect(back[0]).toEqual(['unit', `'=cmd|"/c calc"!A1`]);
-    expect(back[1]).toEqual(['serial', "'@OL3"]);
-    expect(back[2]).toEqual(['notes', 'line one\nline two']);
-    expect(back[3]).toEqual(['room_temp_c', 21.5]);
+    const head = new Map(
+      back
+        .slice(
+          0,
+          back.findIndex((r) => r.length <= 1),
+        )
+        .map((r) => [r[0], r]),
+    );
+    expect(head.get('unit')).toEqual(['unit', `'=cmd|"/c calc"!A1`]);
+    expect(head.get('serial')).toEqual(['serial', "'@OL3"]);
+    expect(head.get('notes')).toEqual(['notes', 'line one\nline two']);
+    expect(head.get('room_temp_c')).toEqual(['room_temp_c', 21.5]);
     const header = back.findIndex((r) => r[0] === 'step');
     expect(back[header]).toEqual([...CSV_STEP_COLUMNS]);
     const table = back.slice(header + 1).filter((r) => r.length > 1);

@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import Papa from 'papaparse';
 import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
-import { CSV_STEP_COLUMNS, runToCsv } from '../renderer/src/lib/export.ts';
+import { CSV_STEP_COLUMNS } from '../renderer/src/lib/export.ts';
 import { formatUncertainty } from '../renderer/src/lib/format.ts';
 import { budgetsOf } from '../renderer/src/ui/results/budget.ts';
 import {
@@ -127,8 +127,8 @@ describe('the budget in the exports', () => {
     expect(Number(head.get('pitch_at_0v_expanded_u_cents'))).toBe(twoSig(p0.expanded));
   });
 
-  it('the live CSV export has the same budget columns', () => {
-    const rows = parse(runToCsv(runAnalysisOf(calibrate(STEPS)), { unitName: 'OL3-0417' }));
+  it('the live run, not yet saved, exports the same budget columns', () => {
+    const rows = parse(reportToCsv({ ...report(), saved: false, label: null }));
     const at = rows.findIndex((x) => x[0] === 'step');
     expect(rows[at]).toEqual([...CSV_STEP_COLUMNS]);
     const first = rows[at + 1];
