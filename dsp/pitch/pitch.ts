@@ -238,6 +238,9 @@ export class PitchEstimator {
       const snapped = peakHz / k;
       if (Math.abs(snapped / mpmHz - 1) < 0.05) f = snapped;
     }
+    // A fundamental far below the strongest peak must show some line of its own under that peak: the
+    // coarse stage can lock onto a long, false period in a tone broken by dropouts.
+    if (peakHz > 0 && peakHz / f >= 3.5 && !this.anyLineBelow(f, peakHz)) f = peakHz;
     f = this.octaveCheck(f);
     // The coarse value may be a few tenths of a percent off: the precise value below makes the call.
     if (f < o.minHz * 0.97) return none('below-range', f);
@@ -397,6 +400,15 @@ export class PitchEstimator {
     return false;
   }
 
+  /** Whether any multiple of `f` below `peakHz` (by more than 2 %) shows a line in the spectrum. */
+  private anyLineBelow(f: number, peakHz: number): boolean {
+    for (let m = 1; m * f < 0.98 * peakHz; m++) {
+      const p = this.powerAt(m * f);
+      if (p > 10 * this.sidePower(m * f)) return true;
+    }
+    return false;
+  }
+
   /** Harmonic-sieve octave decision (see module comment). */
   private octaveCheck(f0: number): number {
     let f = f0;
@@ -411,7 +423,11 @@ export class PitchEstimator {
         let between = 0;
         for (let m = 1; m * sub < limit && m <= 48; m++) {
           if (m % d === 0) onF += this.powerAt(m * sub);
-          else if (!this.nearMains(m * sub)) between += this.powerAt(m * sub); // hum is no subharmonic
+          else if (!this.nearMains(m * sub)) {
+            // Hum is no subharmonic, nor is the broad skirt of a tone broken by dropouts: only a line counts.
+            const p = this.powerAt(m * sub);
+            if (p > 10 * this.sidePower(m * sub)) between += p;
+          }
         }
         if (between > 0.1 * onF) {
           f = sub;
@@ -495,9 +511,35 @@ export class PitchEstimator {
       if (k > 1) nearest = Math.min(nearest, Math.abs(hz - (k - 1) * f));
       nearest = Math.min(nearest, Math.abs(hz - (k + 1) * f));
       if (nearest < 3 * binHz) continue;
-      if (this.noiseFloor > 0 && this.powerAt(hz) > 100 * this.noiseFloor) families |= h < 3 ? 1 : 2;
+      // Beside it, on the side away from the nearest harmonic, the spectrum must fall well below it.
+      const kn = Math.max(1, Math.round(hz / f));
+      const p = this.powerAt(hz);
+      if (this.noiseFloor > 0 && p > 100 * this.noiseFloor && p > 10 * this.sidePower(hz, hz - kn * f))
+        families |= h < 3 ? 1 : 2;
     }
     return (families & 1 ? 0b000111 : 0) | (families & 2 ? 0b111000 : 0);
+  }
+
+  /**
+   * The spectrum's largest power four to eight bins above `hz` (`side` > 0), below it (`side` < 0), or the
+   * lesser of the two (`side` = 0). A line is a narrow peak (a Hann window's main lobe spans ±2 bins, ±2.7
+   * when the window is zero-padded to the next power of two), so both sides lie far below it. The skirt
+   * of a tone broken by dropouts is broad (rippled, so several bins are read) and falls only slowly with
+   * distance: even the side away from the tone does not fall tenfold.
+   *
+   * @param hz - Where the line would be, Hz.
+   * @param side - Which side to read: its sign only.
+   */
+  private sidePower(hz: number, side = 0): number {
+    const pos = Math.round((hz * this.fftSize) / this.sampleRateHz);
+    const top = this.fftSize / 2;
+    let lo = 0;
+    let hi = 0;
+    for (let d = 4; d <= 8; d++) {
+      lo = pos - d >= 1 ? Math.max(lo, this.spec[pos - d]) : Infinity;
+      hi = pos + d <= top ? Math.max(hi, this.spec[pos + d]) : Infinity;
+    }
+    return side > 0 ? hi : side < 0 ? lo : Math.min(lo, hi);
   }
 
   /** Picks harmonics whose spectral peak stands clear of the noise floor; returns how many. */

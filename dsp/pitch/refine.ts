@@ -63,15 +63,11 @@ export interface RefineResult {
 /** Most break positions a window can be given. */
 export const MAX_BREAKS = 8;
 /** Most breaks looked for in the data per window. */
-const MAX_FOUND_BREAKS = 3;
-/** How far a break's test statistic must stand above its neighbours' (within two segments). */
-const SHARPNESS = 20;
-/** Power a segment holding a break keeps, at most, relative to its neighbours (for a less sharp break). */
-const DIP = 0.85;
-/** Segments either side of a candidate break that its test looks at (so other breaks do not mask it). */
-const LOCAL_SEGMENTS = 4;
+const MAX_FOUND_BREAKS = 4;
+/** Smallest time shift, seconds, taken for a break: a smaller one moves a 1 s reading by under 1e-4 cent. */
+const MIN_SHIFT_SECONDS = 1e-7;
 /** Most unbroken stretches per window. */
-const MAX_STRETCHES = MAX_BREAKS + MAX_FOUND_BREAKS + 1;
+const MAX_STRETCHES = MAX_BREAKS + 2 * MAX_FOUND_BREAKS + 1;
 
 /** Creates an empty {@link RefineResult}. */
 export function emptyRefineResult(): RefineResult {
@@ -108,8 +104,15 @@ const TWO_PI = 2 * Math.PI;
 
 /** Median of the first `n` entries of `a` by quickselect (Hoare); reorders them, allocates nothing. */
 export function selectMedian(a: Float64Array, n: number): number {
+  return selectQuantile(a, n, n >> 1);
+}
+
+/**
+ * The `k`-th smallest (0-based) of the first `n` entries of `a` by quickselect (Hoare); reorders them,
+ * allocates nothing.
+ */
+export function selectQuantile(a: Float64Array, n: number, k: number): number {
   if (n <= 0) return 0;
-  const k = n >> 1;
   let lo = 0;
   let hi = n - 1;
   while (lo < hi) {
@@ -208,8 +211,7 @@ export class HarmonicRefiner {
     this.cut = new Uint8Array(maxSegments);
     this.unwrapped = new Float64Array(maxSegments);
     this.stat = new Float64Array(maxSegments);
-    this.segPow = new Float64Array(maxSegments);
-    this.edge = new Uint8Array(maxSegments);
+    this.zs = new Float64Array(maxSegments);
   }
 
   /**
@@ -378,27 +380,24 @@ export class HarmonicRefiner {
 
     const kA = this.hk[strongest];
     this.placeKnownBreaks(M, L, offset);
-    for (let m = 0; m < M; m++) {
-      let p = 0;
-      for (let j = 0; j < K; j++) if (this.active[j]) p += this.w[j * ms + m];
-      this.segPow[m] = p;
-    }
-    let nStretch = this.assignStretches(M);
+    this.assignStretches(M);
     this.zeroDropped(K, M);
-    // Keep the raw phases: a break found in the data restarts the fit from them.
+    // Keep the raw phases: the search for breaks reads them.
     for (let j = 0; j < K; j++) {
       if (!this.active[j]) continue;
       for (let m = 0; m < M; m++) this.phase0[j * ms + m] = this.phase[j * ms + m];
     }
-    let found = 0;
+    const found = this.findBreaks(K, M, f0Hz);
+    if (found < 0) return out;
+    const nStretch = this.assignStretches(M);
+    this.zeroDropped(K, M);
     let deltaA = 0;
     let delta = 0;
     let s2 = 0;
     let sxx = 0;
     let dofOut = 0;
     let activeCount = 0;
-    for (let attempt = 0; ; attempt++) {
-      const mayLook = found < MAX_FOUND_BREAKS && attempt < 2 * MAX_FOUND_BREAKS;
+    {
       for (let j = 0; j < K; j++) {
         if (!this.active[j]) continue;
         for (let m = 0; m < M; m++) this.phase[j * ms + m] = this.phase0[j * ms + m];
@@ -408,14 +407,6 @@ export class HarmonicRefiner {
       const slopeA = this.stageA(strongest, M, nStretch);
       if (!Number.isFinite(slopeA)) return out;
       deltaA = slopeA / (TWO_PI * kA);
-      if (mayLook) {
-        const b = this.findBreak(strongest, K, M);
-        if (b >= 0) {
-          nStretch = this.cutAt(b, K, M);
-          found++;
-          continue;
-        }
-      }
 
       // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
       // one intercept per harmonic and stretch, and Tukey re-weighting.
@@ -527,18 +518,8 @@ export class HarmonicRefiner {
           }
         }
       }
-      if (mayLook) {
-        const b = this.findBreak(-1, K, M);
-        if (b >= 0) {
-          nStretch = this.cutAt(b, K, M);
-          found++;
-          continue;
-        }
-      }
-      break;
     }
-    let breaks = 0;
-    for (let m = 0; m < M; m++) if (this.cut[m] !== 0 && (m > 0 || this.cut[m] === 1)) breaks++;
+    const breaks = this.countBreaks(M);
     const hz = f0Hz + deltaA + delta;
     // var(d) = s² / (4π² Σ w k² Δt²)  (weighted least squares with unknown scale).
     if (!(dofOut >= 1)) return out;
@@ -560,8 +541,7 @@ export class HarmonicRefiner {
   private readonly stW = new Float64Array(MAX_STRETCHES);
   private readonly unwrapped: Float64Array;
   private readonly stat: Float64Array;
-  private readonly segPow: Float64Array;
-  private readonly edge: Uint8Array;
+  private readonly zs: Float64Array;
 
   /**
    * Tells the next {@link refine} call where the signal breaks (dropped samples, a restarted stream),
@@ -615,12 +595,21 @@ export class HarmonicRefiner {
     return used ? id + 1 : Math.max(1, id);
   }
 
-  /** Cuts the fit at segment `b` (left out), renumbers the stretches and returns their number. */
-  private cutAt(b: number, K: number, M: number): number {
-    this.cut[b] = 1;
-    const nStretch = this.assignStretches(M);
-    this.zeroDropped(K, M);
-    return nStretch;
+  /**
+   * Breaks marked in `cut`: a left-out segment, or a new stretch starting after the first segment. A mark
+   * right after a left-out segment belongs to the same break (a break on a segment edge whose segment
+   * was found mixed later).
+   */
+  private countBreaks(M: number): number {
+    let n = 0;
+    for (let m = 0; m < M; m++) {
+      const c = this.cut[m];
+      if (c === 0 || (c === 2 && m === 0)) continue;
+      if (m > 0 && this.cut[m - 1] !== 0) continue;
+      if (m + 1 < M && c === 2 && this.cut[m + 1] === 1) continue;
+      n++;
+    }
+    return n;
   }
 
   /** Zero weight for every cell of a left-out segment. */
@@ -670,115 +659,122 @@ export class HarmonicRefiner {
   }
 
   /**
-   * Looks for a break the data show but nobody reported: a step in the phase residuals (a time shift,
-   * the same for every harmonic in time units) inside an unbroken stretch. For each candidate segment b,
-   * with segments of the same stretch on both sides among the four nearest (at least three in all), the residuals (`re`, of row `row`, or of
-   * every active harmonic when row = −1) are tested for a step at b against a straight line per harmonic
-   * (segment b itself left out): the reduction in the weighted residual sum of squares over the residual
-   * variance of the stepped model (an F-type statistic; change-point test in the manner of D. V. Hinkley,
-   * "Inference about the change-point in a sequence of random variables", Biometrika 57(1), 1970).
-   * A break is taken when the statistic passes max(60, K + 5.5·√(2K) + 12) for K harmonics (far in the
-   * tail of χ²_K over up to 48 candidates) and is sharp: at least 20 times its value two segments
-   * either side and the lesser of its values one segment either side. A dropout is abrupt and passes; the slow phase wander of frequency noise is broad and does not.
+   * Looks for breaks the data show but nobody reported, and cuts the fit there (marks in `cut`). A dropout
+   * shifts everything after it in time, so every harmonic's phase jumps between two neighbouring segments,
+   * while noise and frequency wander change the phase advance from one segment to the next only a little,
+   * or slowly. For each pair of neighbouring segments of one stretch and each fitted harmonic, the phase
+   * advance is compared with the median advance of the nearby pairs (its local frequency; the median so
+   * that a second break close by does not move it). The weighted sum of squares of that excess over the
+   * harmonics, in units of its median over all pairs (a robust noise scale, so white phase noise and white
+   * frequency noise set their own level), is a χ²-type statistic for a change point at that pair
+   * (change-point test in the manner of D. V. Hinkley, "Inference about the change-point in a sequence of
+   * random variables", Biometrika 57(1), 1970; robust scale as in Huber, "Robust Statistics", 1981).
+   * The strongest pair past max(60, K + 5.5·√(2K) + 12) for K harmonics (far in the tail of χ²_K over up
+   * to 48 pairs) whose excess is also a time shift of at least {@link MIN_SHIFT_SECONDS} is a break. The
+   * segment holding it is the one whose other pair also stands out (its phase is a mix of both sides): it
+   * is left out. When neither does, the break lies on the segments' common edge and the stretch is split
+   * there. Then the search is repeated on the stretches that remain (binary segmentation, one break at a
+   * time), up to {@link MAX_FOUND_BREAKS}.
    *
-   * @returns The segment holding the break, or −1.
+   * @returns The number of breaks found, or −1 when more breaks stand out than can be separated.
    */
-  private findBreak(row: number, K: number, M: number): number {
+  private findBreaks(K: number, M: number, f0Hz: number): number {
     const ms = this.maxSegments;
-    const stat = this.stat;
+    const z = this.stat;
+    const e = this.scratch;
     let rows = 0;
-    for (let j = 0; j < K; j++) if (this.active[j] && (row < 0 || j === row)) rows++;
-    if (rows === 0) return -1;
-    for (let b = 0; b < M; b++) {
-      stat[b] = 0;
-      const r = this.seg[b];
-      if (r < 0) continue;
-      let nl = 0;
-      let nr = 0;
-      const m0 = Math.max(0, b - LOCAL_SEGMENTS);
-      const m1 = Math.min(M - 1, b + LOCAL_SEGMENTS);
-      for (let m = m0; m <= m1; m++) {
-        if (this.seg[m] !== r || m === b) continue;
-        if (m < b) nl++;
-        else nr++;
-      }
-      // Two segments on one side and at least one on the other (a break near the window's edge).
-      if (nl < 1 || nr < 1 || nl + nr < 3) continue;
-      this.edge[b] = nl < 2 || nr < 2 ? 1 : 0;
-      let dRss = 0;
-      let rss = 0;
-      let n = 0;
-      let used = 0;
+    for (let j = 0; j < K; j++) if (this.active[j]) rows++;
+    if (rows === 0) return 0;
+    // Frequency wander and a dropout move every harmonic's phase together (in proportion to k), so over
+    // K harmonics the statistic behaves as one degree of freedom, not K: it is scaled and judged as χ²_1,
+    // which is the cautious choice when the harmonics' noise is independent too.
+    // Lower quartile of χ²_1 (0.1015; any statistics handbook, e.g. A&S table 26.8): the quartile, not the
+    // median, because up to half the pairs may touch a break.
+    const chiQuartile = 0.1015;
+    // Far in the tail of χ²_1 (P < 1e-14) for the break itself; past its 99.97 % point for a pair that
+    // "stands out" beside it.
+    const threshold = 60;
+    const standsOut = 13;
+    const known = this.countBreaks(M);
+    let found = 0;
+    let cuts = 0;
+    for (;;) {
+      this.assignStretches(M);
+      // Pair m joins segments m and m+1 when both are in the same stretch.
+      let pairs = 0;
+      for (let m = 0; m + 1 < M; m++) if (this.seg[m] >= 0 && this.seg[m] === this.seg[m + 1]) pairs++;
+      if (pairs < 3) return found;
       for (let j = 0; j < K; j++) {
-        if (!this.active[j] || (row >= 0 && j !== row)) continue;
-        let W = 0;
-        let Wt = 0;
-        let Wtt = 0;
-        let Wu = 0;
-        let Wtu = 0;
-        let Wr = 0;
-        let Wtr = 0;
-        let Wur = 0;
-        let Wrr = 0;
-        let cells = 0;
-        for (let m = m0; m <= m1; m++) {
-          if (this.seg[m] !== r || m === b) continue;
-          const idx = j * ms + m;
-          const wt = this.w[idx];
-          if (!(wt > 0)) continue;
-          const t = this.t[m] - this.t[b];
-          const e = this.re[idx];
-          const u = m > b ? 1 : 0;
-          W += wt;
-          Wt += wt * t;
-          Wtt += wt * t * t;
-          Wu += wt * u;
-          Wtu += wt * t * u;
-          Wr += wt * e;
-          Wtr += wt * t * e;
-          Wur += wt * u * e;
-          Wrr += wt * e * e;
-          cells++;
+        if (!this.active[j]) continue;
+        const row = j * ms;
+        // Circular weighted mean advance of this harmonic over all pairs.
+        let sc = 0;
+        let ss = 0;
+        for (let m = 0; m + 1 < M; m++) {
+          if (this.seg[m] < 0 || this.seg[m] !== this.seg[m + 1]) continue;
+          const d = this.phase0[row + m + 1] - this.phase0[row + m];
+          const v = Math.min(this.w[row + m], this.w[row + m + 1]);
+          sc += v * Math.cos(d);
+          ss += v * Math.sin(d);
         }
-        const det = W * Wtt - Wt * Wt;
-        if (!(det > 0) || cells < 4) continue;
-        const a = (Wtt * Wr - Wt * Wtr) / det;
-        const c = (W * Wtr - Wt * Wr) / det;
-        const alpha = (Wtt * Wu - Wt * Wtu) / det;
-        const beta = (W * Wtu - Wt * Wu) / det;
-        const num = Wur - alpha * Wr - beta * Wtr;
-        const den = Wu - alpha * Wu - beta * Wtu;
-        rss += Math.max(0, Wrr - a * Wr - c * Wtr);
-        if (den > 0) dRss += (num * num) / den;
-        n += cells;
-        used++;
+        const g = Math.atan2(ss, sc);
+        const loc = this.zs;
+        let nl = 0;
+        for (let m = 0; m + 1 < M; m++) {
+          const pair = this.seg[m] >= 0 && this.seg[m] === this.seg[m + 1];
+          e[row + m] = pair ? wrapPi(this.phase0[row + m + 1] - this.phase0[row + m] - g) : NaN;
+          if (pair) loc[nl++] = e[row + m];
+        }
+        // The median advance, not the mean: the pairs that hold a break do not move it.
+        const med = selectMedian(loc, nl);
+        for (let m = 0; m + 1 < M; m++) e[row + m] -= med;
       }
-      const nu = n - 3 * used;
-      if (used === 0 || nu < 2) continue;
-      const rest = Math.max(rss - dRss, 1e-300);
-      stat[b] = dRss / (rest / nu);
+      // Statistic per pair.
+      let nz = 0;
+      for (let m = 0; m + 1 < M; m++) {
+        z[m] = NaN;
+        if (this.seg[m] < 0 || this.seg[m] !== this.seg[m + 1]) continue;
+        let d2 = 0;
+        for (let j = 0; j < K; j++) {
+          if (!this.active[j]) continue;
+          const row = j * ms;
+          const r = e[row + m];
+          const v = Math.min(this.w[row + m], this.w[row + m + 1]);
+          d2 += v * r * r;
+        }
+        z[m] = d2;
+        this.zs[nz++] = d2;
+      }
+      if (nz < 3) return found;
+      const scale = selectQuantile(this.zs, nz, nz >> 2) / chiQuartile;
+      if (!(scale > 0)) return found;
+      let best = -1;
+      for (let m = 0; m + 1 < M; m++) {
+        if (!(z[m] === z[m])) continue;
+        z[m] /= scale;
+        if (best < 0 || z[m] > z[best]) best = m;
+      }
+      if (best < 0 || !(z[best] > threshold)) return found;
+      // The time shift the excess amounts to, weighted over the harmonics.
+      let num = 0;
+      let den = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        const row = j * ms;
+        const v = Math.min(this.w[row + best], this.w[row + best + 1]);
+        num += (v * Math.abs(e[row + best])) / (TWO_PI * this.hk[j] * f0Hz);
+        den += v;
+      }
+      if (!(den > 0) || num / den < MIN_SHIFT_SECONDS) return found;
+      if (found === MAX_FOUND_BREAKS || cuts === 2 * MAX_FOUND_BREAKS) return -1;
+      const before = best > 0 && z[best - 1] === z[best - 1] ? z[best - 1] : 0;
+      const after = best + 2 < M && z[best + 1] === z[best + 1] ? z[best + 1] : 0;
+      if (before > standsOut && before >= after) this.cut[best] = 1;
+      else if (after > standsOut) this.cut[best + 1] = 1;
+      else if (this.cut[best + 1] === 0) this.cut[best + 1] = 2;
+      cuts++;
+      found = this.countBreaks(M) - known;
     }
-    let best = -1;
-    for (let b = 0; b < M; b++) if (stat[b] > 0 && (best < 0 || stat[b] > stat[best])) best = b;
-    if (best < 0) return -1;
-    const threshold = Math.max(60, rows + 5.5 * Math.sqrt(2 * rows) + 12);
-    if (!(stat[best] > threshold)) return -1;
-    // Neighbours two segments away, and the lesser of the two next to it: a break close to a segment
-    // boundary shows in both segments around that boundary, and is no less sharp for it.
-    const at = (q: number) => (q >= 0 && q < M ? stat[q] : 0);
-    // Over all harmonics jointly (row < 0), where frequency wander weighs most, both neighbours count.
-    const near = row < 0 ? Math.max(at(best - 1), at(best + 1)) : Math.min(at(best - 1), at(best + 1));
-    const side = Math.max(at(best - 2), at(best + 2), near);
-    const lo = best > 0 ? this.segPow[best - 1] : Infinity;
-    const hi = best + 1 < M ? this.segPow[best + 1] : Infinity;
-    const ref = Math.min(lo, hi);
-    const dipped = Number.isFinite(ref) && this.segPow[best] <= DIP * ref;
-    // Next to the window's edge the neighbours say little: the segment must also have lost power.
-    if (this.edge[best]) return stat[best] >= SHARPNESS * side && dipped ? best : -1;
-    if (stat[best] >= SHARPNESS * side) return best;
-    // Less sharp (frequency wander nearby): take it only when the segment also lost power, as a segment
-    // with a phase jump inside does (its two parts add out of phase) and a wandering tone does not.
-    return stat[best] >= 3 * side && dipped ? best : -1;
   }
 
   /** Weighted means of segment time and phase of harmonic slot `j`, per stretch, into stT/stY. */
