@@ -529,7 +529,8 @@ export class HarmonicRefiner {
     // fit. Its reading states 1.5 times the standard error (set on the benchmark's dropout table so that
     // 90 % of readings fall within 2σ; no published source).
     const foundFactor = found > 0 ? FOUND_BREAK_WIDENING : 1;
-    const se = Math.sqrt(s2 / (TWO_PI * TWO_PI * sxx)) * smallSampleFactor(dofOut) * foundFactor;
+    const seFit = Math.sqrt(s2 / (TWO_PI * TWO_PI * sxx)) * smallSampleFactor(dofOut) * foundFactor;
+    const se = Math.sqrt(seFit * seFit + this.jumpVariance * hz * hz);
     out.ok = Number.isFinite(hz) && hz > 0 && Number.isFinite(se);
     out.hz = hz;
     out.stdErrHz = se;
@@ -548,6 +549,8 @@ export class HarmonicRefiner {
   private readonly unwrapped: Float64Array;
   private readonly stat: Float64Array;
   private readonly zs: Float64Array;
+  /** From the last search for breaks: see {@link HarmonicRefiner.smallJumpVariance}. */
+  private jumpVariance = 0;
 
   /**
    * Tells the next {@link refine} call where the signal breaks (dropped samples, a restarted stream),
@@ -599,6 +602,58 @@ export class HarmonicRefiner {
       used = true;
     }
     return used ? id + 1 : Math.max(1, id);
+  }
+
+  /**
+   * Relative-frequency variance that the phase jumps too small to be taken for breaks may leave in the
+   * slope. Every pair past `level` in `stat` (9, the 99.7 % point of χ²_1, raised like the break threshold
+   * when there are few pairs) is treated as an uncorrected
+   * step: a step of τ seconds at pair m moves a least-squares line's slope by
+   * τ·Σ_{n>m}(t_n − t̄)/Σ(t_n − t̄)² over its stretch (the regression's normal equations), and these
+   * possible biases enter the uncertainty in quadrature (JCGM 100:2008, 3.2.4 and F.2.4.5: a known
+   * systematic effect left uncorrected is carried as an uncertainty).
+   */
+  private smallJumpVariance(K: number, M: number, f0Hz: number, level: number): number {
+    const ms = this.maxSegments;
+    const z = this.stat;
+    const e = this.scratch;
+    const nStretch = this.assignStretches(M);
+    // Unweighted mean time per stretch.
+    this.stT.fill(0, 0, nStretch);
+    this.stW.fill(0, 0, nStretch);
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r < 0) continue;
+      this.stT[r] += this.t[m];
+      this.stW[r] += 1;
+    }
+    for (let r = 0; r < nStretch; r++) if (this.stW[r] > 0) this.stT[r] /= this.stW[r];
+    let sxx = 0;
+    for (let m = 0; m < M; m++) {
+      const r = this.seg[m];
+      if (r >= 0) sxx += (this.t[m] - this.stT[r]) ** 2;
+    }
+    if (!(sxx > 0)) return 0;
+    let v = 0;
+    for (let m = 0; m + 1 < M; m++) {
+      if (!(z[m] > level)) continue;
+      let num = 0;
+      let den = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        const wt = Math.min(this.w[j * ms + m], this.w[j * ms + m + 1]);
+        num += (wt * e[j * ms + m]) / (TWO_PI * this.hk[j] * f0Hz);
+        den += wt;
+      }
+      if (!(den > 0)) continue;
+      const tau = num / den;
+      const r = this.seg[m];
+      let lever = 0;
+      for (let q = m + 1; q < M && this.seg[q] === r; q++) lever += this.t[q] - this.stT[r];
+      const bias = (tau * lever) / sxx;
+      v += bias * bias;
+    }
+    return v;
   }
 
   /**
@@ -699,6 +754,7 @@ export class HarmonicRefiner {
     const threshold = 60;
     const standsOut = 13;
     const known = this.countBreaks(M);
+    this.jumpVariance = 0;
     let found = 0;
     let cuts = 0;
     for (;;) {
@@ -760,7 +816,15 @@ export class HarmonicRefiner {
         if (best < 0 || z[m] > z[best]) best = m;
       }
       // Fewer pairs give a rougher scale: the threshold rises so that noise alone passes it as rarely.
-      if (best < 0 || !(z[best] > Math.max(threshold, (15 * threshold) / nz))) return found;
+      if (best < 0 || !(z[best] > Math.max(threshold, (15 * threshold) / nz))) {
+        this.jumpVariance = this.smallJumpVariance(
+          K,
+          M,
+          f0Hz,
+          (9 * Math.max(threshold, (15 * threshold) / nz)) / threshold,
+        );
+        return found;
+      }
       // The time shift the excess amounts to, weighted over the harmonics.
       let num = 0;
       let den = 0;
