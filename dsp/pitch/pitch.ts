@@ -423,11 +423,7 @@ export class PitchEstimator {
         let between = 0;
         for (let m = 1; m * sub < limit && m <= 48; m++) {
           if (m % d === 0) onF += this.powerAt(m * sub);
-          else if (!this.nearMains(m * sub)) {
-            // Hum is no subharmonic, nor is the broad skirt of a tone broken by dropouts: only a line counts.
-            const p = this.powerAt(m * sub);
-            if (p > 10 * this.sidePower(m * sub)) between += p;
-          }
+          else if (!this.nearMains(m * sub)) between += this.powerAt(m * sub); // hum is no subharmonic
         }
         if (between > 0.1 * onF) {
           f = sub;

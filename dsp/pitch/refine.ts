@@ -390,7 +390,6 @@ export class HarmonicRefiner {
       for (let m = 0; m < M; m++) this.phase0[j * ms + m] = this.phase[j * ms + m];
     }
     const found = this.findBreaks(K, M, f0Hz);
-    if (found < 0) return out;
     const nStretch = this.assignStretches(M);
     this.zeroDropped(K, M);
     let deltaA = 0;
@@ -737,7 +736,10 @@ export class HarmonicRefiner {
    * there. Then the search is repeated on the stretches that remain (binary segmentation, one break at a
    * time), up to {@link MAX_FOUND_BREAKS}.
    *
-   * @returns The number of breaks found, or −1 when more breaks stand out than can be separated.
+   * When more breaks stand out than {@link MAX_FOUND_BREAKS}, the search stops there and the jumps left
+   * uncut enter the uncertainty (see `smallJumpVariance`).
+   *
+   * @returns The number of breaks found.
    */
   private findBreaks(K: number, M: number, f0Hz: number): number {
     const ms = this.maxSegments;
@@ -816,13 +818,9 @@ export class HarmonicRefiner {
         if (best < 0 || z[m] > z[best]) best = m;
       }
       // Fewer pairs give a rougher scale: the threshold rises so that noise alone passes it as rarely.
-      if (best < 0 || !(z[best] > Math.max(threshold, (15 * threshold) / nz))) {
-        this.jumpVariance = this.smallJumpVariance(
-          K,
-          M,
-          f0Hz,
-          (9 * Math.max(threshold, (15 * threshold) / nz)) / threshold,
-        );
+      const few = Math.max(1, 15 / nz);
+      if (best < 0 || !(z[best] > threshold * few)) {
+        this.jumpVariance = this.smallJumpVariance(K, M, f0Hz, 9 * few);
         return found;
       }
       // The time shift the excess amounts to, weighted over the harmonics.
@@ -836,7 +834,12 @@ export class HarmonicRefiner {
         den += v;
       }
       if (!(den > 0) || num / den < MIN_SHIFT_SECONDS) return found;
-      if (found === MAX_FOUND_BREAKS || cuts === 2 * MAX_FOUND_BREAKS) return -1;
+      if (found === MAX_FOUND_BREAKS || cuts === 2 * MAX_FOUND_BREAKS) {
+        // More breaks stand out than can be separated (or the tone glides): the jumps left uncut enter
+        // the uncertainty, which is then large, and the reading says it spans breaks.
+        this.jumpVariance = this.smallJumpVariance(K, M, f0Hz, 9 * few);
+        return found;
+      }
       const before = best > 0 && z[best - 1] === z[best - 1] ? z[best - 1] : 0;
       const after = best + 2 < M && z[best + 1] === z[best + 1] ? z[best + 1] : 0;
       if (before > standsOut && before >= after) this.cut[best] = 1;
