@@ -398,125 +398,119 @@ export class HarmonicRefiner {
     let sxx = 0;
     let dofOut = 0;
     let activeCount = 0;
-    {
-      for (let j = 0; j < K; j++) {
-        if (!this.active[j]) continue;
-        for (let m = 0; m < M; m++) this.phase[j * ms + m] = this.phase0[j * ms + m];
-      }
-      // Stage A: slope of the strongest harmonic alone, unwrapped sequentially inside each unbroken stretch,
-      // with one intercept per stretch.
-      const slopeA = this.stageA(strongest, M, nStretch);
-      if (!Number.isFinite(slopeA)) return out;
-      deltaA = slopeA / (TWO_PI * kA);
+    // Stage A: slope of the strongest harmonic alone, unwrapped sequentially inside each unbroken stretch,
+    // with one intercept per stretch.
+    const slopeA = this.stageA(strongest, M, nStretch);
+    if (!Number.isFinite(slopeA)) return out;
+    deltaA = slopeA / (TWO_PI * kA);
 
-      // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
-      // one intercept per harmonic and stretch, and Tukey re-weighting.
-      activeCount = 0;
-      let usable = 0;
-      for (let m = 0; m < M; m++) if (this.seg[m] >= 0) usable++;
+    // Stage B: all harmonics, phases taken relative to stage A's line, then a joint weighted fit with
+    // one intercept per harmonic and stretch, and Tukey re-weighting.
+    activeCount = 0;
+    let usable = 0;
+    for (let m = 0; m < M; m++) if (this.seg[m] >= 0) usable++;
+    for (let j = 0; j < K; j++) {
+      if (!this.active[j]) continue;
+      activeCount++;
+      const k = this.hk[j];
+      // Circular weighted mean of the residual phase per stretch sets the intercept used for wrapping.
+      this.stT.fill(0, 0, nStretch);
+      this.stY.fill(0, 0, nStretch);
+      for (let m = 0; m < M; m++) {
+        const r = this.seg[m];
+        if (r < 0) continue;
+        const idx = j * ms + m;
+        const e = this.phase[idx] - TWO_PI * k * deltaA * this.t[m];
+        this.stT[r] += this.w[idx] * Math.cos(e);
+        this.stY[r] += this.w[idx] * Math.sin(e);
+      }
+      for (let m = 0; m < M; m++) {
+        const idx = j * ms + m;
+        const r = this.seg[m];
+        if (r < 0) {
+          this.phase[idx] = 0;
+          this.wr[idx] = 0;
+          continue;
+        }
+        const a0 = Math.atan2(this.stY[r], this.stT[r]);
+        this.phase[idx] = wrapPi(this.phase[idx] - TWO_PI * k * deltaA * this.t[m] - a0);
+        this.wr[idx] = 1;
+      }
+    }
+    const nPoints = activeCount * usable;
+    if (nPoints - activeCount * nStretch - 1 < 1) return out;
+
+    delta = 0;
+    s2 = 0;
+    sxx = 0;
+    dofOut = 0;
+    for (let pass = 0; pass < 4; pass++) {
+      let sxy = 0;
+      sxx = 0;
       for (let j = 0; j < K; j++) {
         if (!this.active[j]) continue;
-        activeCount++;
         const k = this.hk[j];
-        // Circular weighted mean of the residual phase per stretch sets the intercept used for wrapping.
-        this.stT.fill(0, 0, nStretch);
-        this.stY.fill(0, 0, nStretch);
+        this.weightedMeans(j, M, nStretch);
         for (let m = 0; m < M; m++) {
           const r = this.seg[m];
           if (r < 0) continue;
           const idx = j * ms + m;
-          const e = this.phase[idx] - TWO_PI * k * deltaA * this.t[m];
-          this.stT[r] += this.w[idx] * Math.cos(e);
-          this.stY[r] += this.w[idx] * Math.sin(e);
+          const ww = this.w[idx] * this.wr[idx];
+          const dt = this.t[m] - this.stT[r];
+          sxy += ww * k * dt * (this.phase[idx] - this.stY[r]);
+          sxx += ww * k * k * dt * dt;
         }
+      }
+      if (!(sxx > 0)) return out;
+      // Model: phase = a_{k,r} + (2π·k·d)·t  ⇒  d = Σ w k Δt Δy / (2π Σ w k² Δt²).
+      delta = sxy / (TWO_PI * sxx);
+      // Residuals and scale.
+      let ss = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        const k = this.hk[j];
+        this.weightedMeans(j, M, nStretch);
         for (let m = 0; m < M; m++) {
           const idx = j * ms + m;
           const r = this.seg[m];
           if (r < 0) {
-            this.phase[idx] = 0;
-            this.wr[idx] = 0;
+            this.re[idx] = 0;
             continue;
           }
-          const a0 = Math.atan2(this.stY[r], this.stT[r]);
-          this.phase[idx] = wrapPi(this.phase[idx] - TWO_PI * k * deltaA * this.t[m] - a0);
-          this.wr[idx] = 1;
+          const e = this.phase[idx] - this.stY[r] - TWO_PI * k * delta * (this.t[m] - this.stT[r]);
+          // The residual is kept in `re` (the coefficients are no longer needed).
+          this.re[idx] = e;
+          ss += this.w[idx] * this.wr[idx] * e * e;
         }
       }
-      const nPoints = activeCount * usable;
-      if (nPoints - activeCount * nStretch - 1 < 1) return out;
-
-      delta = 0;
-      s2 = 0;
-      sxx = 0;
-      dofOut = 0;
-      for (let pass = 0; pass < 4; pass++) {
-        let sxy = 0;
-        sxx = 0;
-        for (let j = 0; j < K; j++) {
-          if (!this.active[j]) continue;
-          const k = this.hk[j];
-          this.weightedMeans(j, M, nStretch);
-          for (let m = 0; m < M; m++) {
-            const r = this.seg[m];
-            if (r < 0) continue;
-            const idx = j * ms + m;
-            const ww = this.w[idx] * this.wr[idx];
-            const dt = this.t[m] - this.stT[r];
-            sxy += ww * k * dt * (this.phase[idx] - this.stY[r]);
-            sxx += ww * k * k * dt * dt;
-          }
+      // Robust scale from the median absolute standardised residual (1.4826·MAD estimates σ for normal
+      // errors), then Tukey's biweight with c = 4.685·σ: a segment hit by a click or a DC step gets weight
+      // 0 instead of pulling the slope (Huber, "Robust Statistics"; Mosteller & Tukey, 1977).
+      let nu = 0;
+      let nEff = 0;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        for (let m = 0; m < M; m++) {
+          if (this.seg[m] < 0) continue;
+          const idx = j * ms + m;
+          this.scratch[nu++] = Math.abs(this.re[idx]) * Math.sqrt(this.w[idx]);
+          nEff += this.wr[idx];
         }
-        if (!(sxx > 0)) return out;
-        // Model: phase = a_{k,r} + (2π·k·d)·t  ⇒  d = Σ w k Δt Δy / (2π Σ w k² Δt²).
-        delta = sxy / (TWO_PI * sxx);
-        // Residuals and scale.
-        let ss = 0;
-        for (let j = 0; j < K; j++) {
-          if (!this.active[j]) continue;
-          const k = this.hk[j];
-          this.weightedMeans(j, M, nStretch);
-          for (let m = 0; m < M; m++) {
-            const idx = j * ms + m;
-            const r = this.seg[m];
-            if (r < 0) {
-              this.re[idx] = 0;
-              continue;
-            }
-            const e = this.phase[idx] - this.stY[r] - TWO_PI * k * delta * (this.t[m] - this.stT[r]);
-            // The residual is kept in `re` (the coefficients are no longer needed).
-            this.re[idx] = e;
-            ss += this.w[idx] * this.wr[idx] * e * e;
-          }
-        }
-        // Robust scale from the median absolute standardised residual (1.4826·MAD estimates σ for normal
-        // errors), then Tukey's biweight with c = 4.685·σ: a segment hit by a click or a DC step gets weight
-        // 0 instead of pulling the slope (Huber, "Robust Statistics"; Mosteller & Tukey, 1977).
-        let nu = 0;
-        let nEff = 0;
-        for (let j = 0; j < K; j++) {
-          if (!this.active[j]) continue;
-          for (let m = 0; m < M; m++) {
-            if (this.seg[m] < 0) continue;
-            const idx = j * ms + m;
-            this.scratch[nu++] = Math.abs(this.re[idx]) * Math.sqrt(this.w[idx]);
-            nEff += this.wr[idx];
-          }
-        }
-        const effDof = nEff - activeCount * nStretch - 1;
-        s2 = effDof > 0 ? ss / effDof : 0;
-        dofOut = effDof;
-        if (pass === 3) break;
-        const scale = 1.4826 * selectMedian(this.scratch, nu);
-        if (!(scale > 0)) break;
-        const c = 4.685 * scale;
-        for (let j = 0; j < K; j++) {
-          if (!this.active[j]) continue;
-          for (let m = 0; m < M; m++) {
-            if (this.seg[m] < 0) continue;
-            const idx = j * ms + m;
-            const u = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / c;
-            this.wr[idx] = u < 1 ? (1 - u * u) * (1 - u * u) : 0;
-          }
+      }
+      const effDof = nEff - activeCount * nStretch - 1;
+      s2 = effDof > 0 ? ss / effDof : 0;
+      dofOut = effDof;
+      if (pass === 3) break;
+      const scale = 1.4826 * selectMedian(this.scratch, nu);
+      if (!(scale > 0)) break;
+      const c = 4.685 * scale;
+      for (let j = 0; j < K; j++) {
+        if (!this.active[j]) continue;
+        for (let m = 0; m < M; m++) {
+          if (this.seg[m] < 0) continue;
+          const idx = j * ms + m;
+          const u = (Math.abs(this.re[idx]) * Math.sqrt(this.w[idx])) / c;
+          this.wr[idx] = u < 1 ? (1 - u * u) * (1 - u * u) : 0;
         }
       }
     }
