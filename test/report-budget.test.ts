@@ -11,7 +11,7 @@ import Papa from 'papaparse';
 import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { CSV_STEP_COLUMNS } from '../renderer/src/lib/export.ts';
-import { formatUncertainty } from '../renderer/src/lib/format.ts';
+import { formatUncertainty } from '../dsp/format/index.ts';
 import { budgetsOf } from '../renderer/src/ui/results/budget.ts';
 import {
   DEFAULT_TOLERANCE_CENTS,

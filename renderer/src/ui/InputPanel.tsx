@@ -5,7 +5,7 @@
 import { demoUnits } from '../../../dsp/sim/index.ts';
 import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import type { InputDevice } from '../audio/input.ts';
-import { formatDbfs } from '../lib/format.ts';
+import { formatDbfs } from '../../../dsp/format/index.ts';
 import { simSettingsForUnit, type SimSettings } from '../lib/sim-settings.ts';
 
 /** Level state for the meter. */

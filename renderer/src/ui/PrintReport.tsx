@@ -4,7 +4,7 @@
  * date, label and unit details, or the live run) and nothing else.
  */
 import { memo } from 'react';
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
+import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { BudgetTable } from './results/BudgetTable.tsx';
 import { formatTakenAt, verdictFor, type RunReport } from './results/index.ts';

@@ -7,7 +7,7 @@ import type { ReactNode } from 'react';
 import type { RecordingAnalysisOk } from '../../../dsp/recording/index.ts';
 import type { WavFileInfo } from '../engine/wav-analysis.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
+import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
 

@@ -10,7 +10,7 @@ import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
 import { RUN_KEYS, redoTarget } from '../hooks/useRunKeys.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
 import { DECIMAL_HINT, meterQuestion, parseNumberField } from '../lib/fields.ts';
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
+import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
 

@@ -1,5 +1,5 @@
 /** The error table of a result (saved run, printed report): rows in voltage order, read only. */
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../lib/format.ts';
+import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../../../dsp/format/index.ts';
 import { ErrorTableHead } from './ErrorTableHead.tsx';
 import type { ResultModel } from './model.ts';
 
