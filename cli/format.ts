@@ -17,7 +17,7 @@ import {
   formatSeconds,
   formatUncertainty,
   formatVolts,
-  hzDecimalsForHundredthCent,
+  hzColumnDecimals,
 } from '../dsp/format/index.ts';
 import type { WavDecoded } from '../dsp/io/index.ts';
 
@@ -150,7 +150,7 @@ export function formatRecordingTable(analysis: RecordingAnalysisOk): string {
     'settled',
   ];
   // One number of decimals for the column: the most any row needs to resolve a hundredth of a cent.
-  const hzDecimals = Math.max(0, ...analysis.steps.map((s) => hzDecimalsForHundredthCent(s.hz)));
+  const hzDecimals = hzColumnDecimals(analysis.steps.map((s) => s.hz));
   const rows = analysis.steps.map((s) => [
     formatVolts(s.volts, false),
     ...(hasMeasured ? [formatVolts(s.measuredVolts, false)] : []),

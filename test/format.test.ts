@@ -12,6 +12,7 @@ import {
   formatUncertainty,
   formatVolts,
   formatWithUncertainty,
+  hzColumnDecimals,
   hzDecimalsForHundredthCent,
   MINUS_SIGN,
   NO_VALUE,
@@ -187,5 +188,14 @@ describe('volts, dBFS, seconds and clock times', () => {
     [360000, 0, '100:00:00'],
   ])('formatClock(%f, %i) is %s', (s, d, text) => {
     expect(formatClock(s, d)).toBe(text);
+  });
+});
+
+describe('a column of frequencies', () => {
+  // The decimals the lowest frequency needs (A. J. Ellis, 1885: 0.01 cent is a ratio of 5.78e-6).
+  it('takes the decimals its lowest row needs, skipping missing values', () => {
+    expect(hzColumnDecimals([55, 110, 880])).toBe(4);
+    expect(hzColumnDecimals([4186.009, null, NaN, 1046.5])).toBe(3);
+    expect(hzColumnDecimals([])).toBe(2);
   });
 });

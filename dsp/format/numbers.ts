@@ -83,6 +83,19 @@ export function hzDecimalsForHundredthCent(hz: Hertz): number {
 }
 
 /**
+ * Decimal places for a column of frequencies: the most any of them needs (`hzDecimalsForHundredthCent`), so
+ * every row resolves a hundredth of a cent and the decimal points line up.
+ *
+ * @param hzs - The column's frequencies, Hz; non-finite ones are skipped.
+ * @returns Decimals, 0…8 (2 for an empty column).
+ * @example hzColumnDecimals([55, 110, 880]) // 4 (what 55 Hz needs)
+ */
+export function hzColumnDecimals(hzs: readonly (Hertz | null | undefined)[]): number {
+  const finite = hzs.filter(isNumber);
+  return finite.length === 0 ? 2 : Math.max(...finite.map(hzDecimalsForHundredthCent));
+}
+
+/**
  * A frequency with the digits a 0.01-cent reading needs (`hzDecimalsForHundredthCent`), without the unit.
  * A column of frequencies passes the decimals its lowest row needs, so the points line up.
  *
