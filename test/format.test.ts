@@ -199,3 +199,12 @@ describe('a column of frequencies', () => {
     expect(hzColumnDecimals([])).toBe(2);
   });
 });
+
+describe('misuse', () => {
+  // House style: misuse throws a RangeError naming the parameter, its value and the range.
+  it('names a bad number of decimals', () => {
+    expect(() => formatCents(1, 2.5)).toThrow('decimals must be a whole number from 0 to 100, got 2.5');
+    expect(() => formatNumber(1, -1)).toThrow('decimals must be a whole number from 0 to 100, got -1');
+    expect(() => formatClock(1, 4)).toThrow('decimals must be a whole number from 0 to 3, got 4');
+  });
+});

@@ -23,9 +23,16 @@ function isNumber(v: Maybe): v is number {
   return typeof v === 'number' && Number.isFinite(v);
 }
 
+/** Throws unless `decimals` is a whole number from 0 to `max` (misuse, not data). */
+function checkDecimals(decimals: number, max: number): void {
+  if (!Number.isInteger(decimals) || decimals < 0 || decimals > max)
+    throw new RangeError(`decimals must be a whole number from 0 to ${max}, got ${decimals}`);
+}
+
 /** `|v|` with `decimals` places, in plain notation (exponent notation only at 1e21 and above). */
 function plain(v: number, decimals: number): string {
-  return Math.abs(v).toFixed(Math.max(0, Math.min(100, decimals)));
+  checkDecimals(decimals, 100);
+  return Math.abs(v).toFixed(decimals);
 }
 
 /** True when `text` (digits and a point) is a zero, for example "0.000". */
@@ -38,7 +45,7 @@ function isZeroText(text: string): boolean {
  * to zero. The building block of the signed formatters (cents, ppm).
  *
  * @param value - The number; null, undefined or non-finite gives "—".
- * @param decimals - Places after the point, 0…100.
+ * @param decimals - Places after the point, a whole number from 0 to 100; otherwise a RangeError.
  * @example formatSigned(-1.234, 2) // '−1.23'
  * @example formatSigned(0.004, 2) // '0.00'
  * @example formatSigned(NaN, 2) // '—'
@@ -213,14 +220,15 @@ export function formatSeconds(s: Seconds | null | undefined, decimals = 3): stri
  * seconds, or to `decimals` places of a second (`1:02:03.4`).
  *
  * @param seconds - Elapsed time, s; negative gives zero, null, undefined or non-finite gives "—".
- * @param decimals - Places of a second, 0…3 (default 0).
+ * @param decimals - Places of a second, a whole number from 0 to 3 (default 0); otherwise a RangeError.
  * @example formatClock(75) // '1:15'
  * @example formatClock(3725) // '1:02:05'
  * @example formatClock(123.45, 1) // '2:03.4'
  */
 export function formatClock(seconds: Seconds | null | undefined, decimals = 0): string {
+  checkDecimals(decimals, 3);
   if (!isNumber(seconds)) return NO_VALUE;
-  const d = Math.max(0, Math.min(3, Math.floor(decimals)));
+  const d = decimals;
   const scale = Math.pow(10, d);
   // Cut to the shown resolution; the 1e-9 keeps 0.3 s from showing as 0.2 after binary rounding.
   const units = Math.max(0, Math.floor(seconds * scale + 1e-9));
