@@ -7,6 +7,7 @@ import tseslint from 'typescript-eslint';
  */
 const DSP_LAYERS = [
   'math',
+  'format',
   'converter',
   'pitch',
   'io',

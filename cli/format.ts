@@ -1,5 +1,6 @@
 /**
- * Text and JSON output of the command-line tools. Pure functions: numbers in, strings out.
+ * Text and JSON output of the command-line tools. Pure functions: numbers in, strings out. The numbers
+ * themselves are written by the formatters every surface shares (dsp/format); this file lays them out.
  */
 import type { ResistorChange } from '../dsp/advice/index.ts';
 import { centsToPpm, ppmToCents, type ClockFromReferenceOk } from '../dsp/io/index.ts';
@@ -7,7 +8,17 @@ import { formatOhms } from '../dsp/converter/index.ts';
 import { nearestNote, type NearestNote } from '../dsp/math/index.ts';
 import type { RecordingAnalysisOk } from '../dsp/recording/index.ts';
 import type { PitchNone, PitchOk } from '../dsp/pitch/index.ts';
-import type { Cents, Decibels, Hertz, Ppm, Seconds, Volts } from '../dsp/math/index.ts';
+import type { Hertz, Ppm, Volts } from '../dsp/math/index.ts';
+import {
+  formatCents,
+  formatDbfs,
+  formatHz,
+  formatPpm,
+  formatSeconds,
+  formatUncertainty,
+  formatVolts,
+  hzColumnDecimals,
+} from '../dsp/format/index.ts';
 import type { WavDecoded } from '../dsp/io/index.ts';
 
 /** One measured step: the control voltage it was taken at (null for a single steady tone) and its reading. */
@@ -20,51 +31,6 @@ export interface AnalysisStep {
   readonly note: NearestNote;
   /** Tuning reference the note was taken against, Hz. */
   readonly a4Hz: Hertz;
-}
-
-/**
- * A frequency in Hz with 6 decimals: enough for a hundredth of a cent (a ratio of 5.8e-6) at any audio
- * frequency down to 1 Hz.
- *
- * @example formatHz(261.6255653) // '261.625565'
- */
-export function formatHz(hz: Hertz): string {
-  return hz.toFixed(6);
-}
-
-/**
- * Signed cents with a fixed number of decimals (2 by default, a hundredth of a cent).
- *
- * @example formatSignedCents(-0.004) // '+0.00'
- * @example formatSignedCents(3.14159) // '+3.14'
- */
-export function formatSignedCents(cents: Cents, decimals = 2): string {
-  const s = cents.toFixed(decimals);
-  if (/^-0\.?0*$/.test(s)) return `+${s.slice(1)}`; // a value that rounds to zero shows no sign of its own
-  return s.startsWith('-') ? s : `+${s}`;
-}
-
-/** The one uncertainty formatter (two significant digits, JCGM 100:2008 7.2.6), shared with `dsp/model/budget.ts`. */
-export { formatUncertainty } from '../dsp/model/index.ts';
-import { formatUncertainty } from '../dsp/model/index.ts';
-
-/**
- * A level in dBFS with one decimal; digital silence is `-inf`.
- *
- * @example formatDbfs(-12.04) // '-12.0 dBFS'
- */
-export function formatDbfs(db: Decibels): string {
-  if (db === -Infinity) return '-inf dBFS';
-  return `${db.toFixed(1)} dBFS`;
-}
-
-/**
- * A duration in seconds with millisecond resolution.
- *
- * @example formatSeconds(1.5) // '1.500 s'
- */
-export function formatSeconds(s: Seconds): string {
-  return `${s.toFixed(3)} s`;
 }
 
 /**
@@ -85,17 +51,17 @@ export function describeWav(fileName: string, decoded: WavDecoded, channelNumber
  *
  * The uncertainty is the standard uncertainty of the reading (one standard error, 1σ), JCGM 100:2008.
  *
- * @example formatStepReport(step).split('\n')[0] // 'frequency    261.625565 Hz'
+ * @example formatStepReport(step).split('\n')[0] // 'frequency    261.626 Hz'
  */
 export function formatStepReport(step: AnalysisStep): string {
   const r = step.reading;
   const n = step.note;
   const uHz = r.hz * (Math.pow(2, r.uncertaintyCents / 1200) - 1);
   const rows: Array<[string, string]> = [];
-  if (step.volts !== null) rows.push(['control', `${step.volts} V`]);
+  if (step.volts !== null) rows.push(['control', formatVolts(step.volts)]);
   rows.push(
     ['frequency', `${formatHz(r.hz)} Hz`],
-    ['note', `${n.name} ${formatSignedCents(n.cents)} cents (${n.name} = ${formatHz(n.noteHz)} Hz)`],
+    ['note', `${n.name} ${formatCents(n.cents)} cents (${n.name} = ${formatHz(n.noteHz)} Hz)`],
     ['reference', `A4 = ${step.a4Hz} Hz, middle C = C4`],
     [
       'uncertainty',
@@ -116,7 +82,7 @@ export function formatStepReport(step: AnalysisStep): string {
  * Why no pitch was found, as one line for a person, from the reading's typed reason.
  *
  * @example describeNoPitch({ kind: 'none', reason: 'silent', level, timeSeconds: 0 })
- * // 'no pitch: the signal is too quiet to measure (-92.3 dBFS RMS)'
+ * // 'no pitch: the signal is too quiet to measure (−92.3 dBFS RMS)'
  */
 export function describeNoPitch(r: PitchNone): string {
   const rms = formatDbfs(r.level.rmsDbfs);
@@ -145,15 +111,6 @@ export function describeNoPitch(r: PitchNone): string {
 // ---------------------------------------------------------------------------------------------------
 // Multi-step recordings
 // ---------------------------------------------------------------------------------------------------
-
-/**
- * A voltage with three decimals (a millivolt, 1.2 cents at 1 V/oct, docs/facts.md), or `—` when unknown.
- *
- * @example formatVolts(2) // '2.000'
- */
-export function formatVolts(v: Volts | null): string {
-  return v === null ? '—' : v.toFixed(3);
-}
 
 /** Left- or right-aligned columns under a header, two spaces apart. */
 function alignColumns(
@@ -192,15 +149,16 @@ export function formatRecordingTable(analysis: RecordingAnalysisOk): string {
     '±1σ cents',
     'settled',
   ];
-  const dash = (v: Cents | null) => (v === null ? '—' : formatSignedCents(v));
+  // One number of decimals for the column: the most any row needs to resolve a hundredth of a cent.
+  const hzDecimals = hzColumnDecimals(analysis.steps.map((s) => s.hz));
   const rows = analysis.steps.map((s) => [
-    formatVolts(s.volts),
-    ...(hasMeasured ? [formatVolts(s.measuredVolts)] : []),
-    formatHz(s.hz),
+    formatVolts(s.volts, false),
+    ...(hasMeasured ? [formatVolts(s.measuredVolts, false)] : []),
+    formatHz(s.hz, hzDecimals),
     s.note.name,
-    formatSignedCents(s.note.cents),
-    dash(s.centsFromIdeal),
-    dash(s.intervalErrorCents),
+    formatCents(s.note.cents),
+    formatCents(s.centsFromIdeal),
+    formatCents(s.intervalErrorCents),
     formatUncertainty(s.uncertaintyCents),
     `${s.startSeconds.toFixed(1)}–${s.endSeconds.toFixed(1)} s${s.source === 'readings' ? ' *' : ''}`,
   ]);
@@ -222,9 +180,9 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
   const lines: Array<[string, string]> = [
     [
       'scale',
-      `${fit.octavesPerVolt.toFixed(6)} octaves per volt: ${formatSignedCents(fit.scaleErrorCentsPerOctave)} ± ` +
+      `${fit.octavesPerVolt.toFixed(6)} octaves per volt: ${formatCents(fit.scaleErrorCentsPerOctave)} ± ` +
         `${formatUncertainty(fit.scaleErrorStdErrCents)} cents per octave ` +
-        `(${formatVolts(fit.fromVolts)} to ${formatVolts(fit.toVolts)} V)`,
+        `(${formatVolts(fit.fromVolts, false)} to ${formatVolts(fit.toVolts)})`,
     ],
     [
       'at 0 V',
@@ -258,7 +216,7 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
     if (rf.straightLine) {
       lines.push([
         'line',
-        `the straight line through every step: ${formatSignedCents(rf.straightLine.scaleErrorCentsPerOctave)} cents per octave, ` +
+        `the straight line through every step: ${formatCents(rf.straightLine.scaleErrorCentsPerOctave)} cents per octave, ` +
           `${formatHz(rf.straightLine.hzAt0V)} Hz at 0 V (droop and suspect steps included)`,
       ]);
     }
@@ -266,7 +224,7 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
       if (st.flags.includes('suspect-voltage')) {
         lines.push([
           'suspect',
-          `step ${st.index + 1} (${formatVolts(st.volts ?? 0)} V) plays as if at ${formatVolts(st.likelyVolts ?? 0)} V: left out; re-check its voltage`,
+          `step ${st.index + 1} (${formatVolts(st.volts)}) plays as if at ${formatVolts(st.likelyVolts)}: left out; re-check its voltage`,
         ]);
       }
     }
@@ -284,7 +242,7 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
           e.steps.length === 1 ? `the ${label} step bends` : `the ${label} ${e.steps.length} steps bend`;
         ends.push(
           `${which} ${e.direction} of the middle line, ${Math.abs(e.centsAtEnd).toFixed(2)} cents at ` +
-            `${formatVolts(e.steps[0].volts)} V`,
+            `${formatVolts(e.steps[0].volts)}`,
         );
       }
     }
@@ -292,8 +250,8 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
       const m = b.middle;
       lines.push([
         'bends',
-        `${ends.join('; ')}; middle ${formatVolts(m.fromVolts)} to ${formatVolts(m.toVolts)} V: ` +
-          `${formatSignedCents(m.scaleErrorCentsPerOctave)} cents per octave`,
+        `${ends.join('; ')}; middle ${formatVolts(m.fromVolts, false)} to ${formatVolts(m.toVolts)}: ` +
+          `${formatCents(m.scaleErrorCentsPerOctave)} cents per octave`,
       ]);
     }
   }
@@ -303,16 +261,7 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
 
 function nearestNoteText(hz: Hertz, a4Hz: Hertz): string {
   const n = nearestNote(hz, a4Hz);
-  return `${n.name} ${formatSignedCents(n.cents)} cents`;
-}
-
-/**
- * A clock error in ppm with three decimals and its sign (a thousandth of a ppm is 2e-6 cent).
- *
- * @example formatPpm(37.5) // '+37.500'
- */
-export function formatPpm(ppm: Ppm): string {
-  return formatSignedCents(ppm, 3);
+  return `${n.name} ${formatCents(n.cents)} cents`;
 }
 
 /**
@@ -323,7 +272,7 @@ export function formatPpm(ppm: Ppm): string {
  */
 export function describeClockCorrection(ppm: Ppm): string {
   return (
-    `clock     corrected by ${formatPpm(ppm)} ppm (${formatSignedCents(ppmToCents(ppm), 4)} cents); ` +
+    `clock     corrected by ${formatPpm(ppm)} ppm (${formatCents(ppmToCents(ppm), 4)} cents); ` +
     'intervals are unaffected'
   );
 }
@@ -402,7 +351,7 @@ function partLabel(part: ResistorChange['part']): string {
  */
 export function formatResistorChange(r: ResistorChange): string {
   const pick = (v: ResistorChange['e24']) =>
-    `${v.series} ${formatOhms(v.ohms)} leaves ${formatSignedCents(v.resultingScaleErrorCentsPerOctave)}`;
+    `${v.series} ${formatOhms(v.ohms)} leaves ${formatCents(v.resultingScaleErrorCentsPerOctave)}`;
   return (
     `${partLabel(r.part)} ${formatOhms(r.fromOhms)} → ${formatOhms(r.toOhms)} exact; ` +
     `${pick(r.e24)}, ${pick(r.e96)} cents per octave`

@@ -6,16 +6,7 @@ import { applyClockPpm } from '../dsp/io/index.ts';
 import { nearestNote } from '../dsp/math/index.ts';
 import type { SteadyToneOk } from '../dsp/recording/index.ts';
 import type { Hertz, Ppm } from '../dsp/math/index.ts';
-import { formatHz, formatSignedCents, formatUncertainty } from './format.ts';
-
-/** A time as h:mm:ss or m:ss with tenths: `1:02:03.4`, `2:03.4`. */
-export function formatClock(seconds: number): string {
-  const s = Math.max(0, seconds);
-  const h = Math.floor(s / 3600);
-  const m = Math.floor((s % 3600) / 60);
-  const rest = (s % 60).toFixed(1).padStart(4, '0');
-  return h > 0 ? `${h}:${String(m).padStart(2, '0')}:${rest}` : `${m}:${rest}`;
-}
+import { formatCents, formatClock, formatHz, formatUncertainty } from '../dsp/format/index.ts';
 
 function corrected(hz: Hertz, ppm: Ppm): Hertz {
   return ppm === 0 ? hz : applyClockPpm(hz, ppm);
@@ -23,16 +14,16 @@ function corrected(hz: Hertz, ppm: Ppm): Hertz {
 
 function noteText(hz: Hertz, a4Hz: Hertz): string {
   const n = nearestNote(hz, a4Hz);
-  return `${n.name} ${formatSignedCents(n.cents)} cents`;
+  return `${n.name} ${formatCents(n.cents)} cents`;
 }
 
 function warmUpText(tone: SteadyToneOk): string {
   const d = tone.drift;
   if (d.kind === 'settled') {
-    return `settled after ${formatClock(d.warmUpSeconds)} (drift under 0.1 cent/min over 2-minute windows)`;
+    return `settled after ${formatClock(d.warmUpSeconds, 1)} (drift under 0.1 cent/min over 2-minute windows)`;
   }
   if (d.kind === 'not-yet-settled') {
-    return `not settled: the last 2 minutes drift ${formatSignedCents(d.driftRateCentsPerMinute, 3)} cent/min (settled is under 0.1)`;
+    return `not settled: the last 2 minutes drift ${formatCents(d.driftRateCentsPerMinute, 3)} cent/min (settled is under 0.1)`;
   }
   return 'too short to judge (under 2 minutes)';
 }
@@ -52,16 +43,16 @@ export function formatMovingTone(tone: SteadyToneOk, a4Hz: Hertz, clockPpm: Ppm)
   const rows: [string, string][] = [
     [
       'start',
-      `${formatHz(corrected(t.startHz, clockPpm))} Hz ± ${u(t.endUncertaintyCents)} cents   ${noteText(t.startHz, a4Hz)}   at ${formatClock(t.startSeconds)}`,
+      `${formatHz(corrected(t.startHz, clockPpm))} Hz ± ${u(t.endUncertaintyCents)} cents   ${noteText(t.startHz, a4Hz)}   at ${formatClock(t.startSeconds, 1)}`,
     ],
     [
       'end',
-      `${formatHz(corrected(t.endHz, clockPpm))} Hz ± ${u(t.endUncertaintyCents)} cents   ${noteText(t.endHz, a4Hz)}   at ${formatClock(t.endSeconds)}`,
+      `${formatHz(corrected(t.endHz, clockPpm))} Hz ± ${u(t.endUncertaintyCents)} cents   ${noteText(t.endHz, a4Hz)}   at ${formatClock(t.endSeconds, 1)}`,
     ],
-    ['drift', `${formatSignedCents(t.driftCents, 3)} ± ${u(t.driftUncertaintyCents)} cents`],
+    ['drift', `${formatCents(t.driftCents, 3)} ± ${u(t.driftUncertaintyCents)} cents`],
     [
       'drift rate',
-      `${formatSignedCents(t.rateCentsPerMinute, 4)} ± ${u(t.rateUncertaintyCentsPerMinute)} cents/min`,
+      `${formatCents(t.rateCentsPerMinute, 4)} ± ${u(t.rateUncertaintyCentsPerMinute)} cents/min`,
     ],
     [
       'mean',
@@ -73,8 +64,8 @@ export function formatMovingTone(tone: SteadyToneOk, a4Hz: Hertz, clockPpm: Ppm)
   ];
   const width = Math.max(...rows.map(([k]) => k.length)) + 2;
   const head =
-    `a moving pitch: ${formatSignedCents(t.driftCents, 2)} ± ${u(t.driftUncertaintyCents)} cents over ` +
-    `${formatClock(t.endSeconds - t.startSeconds)}` +
+    `a moving pitch: ${formatCents(t.driftCents, 2)} ± ${u(t.driftUncertaintyCents)} cents over ` +
+    `${formatClock(t.endSeconds - t.startSeconds, 1)}` +
     (tone.moving && Math.abs(t.driftCents) <= 2 * t.driftUncertaintyCents
       ? ' (no drift beyond its uncertainty)'
       : '');

@@ -103,11 +103,12 @@ describe('spanmeter analyze --points', () => {
     // 55·2^(1.002·V) Hz: A1 at 0 V, A2 at 1 V, … (12-TET, A4 = 440 Hz, ISO 16:1975).
     ['A1', 'A2', 'A3', 'A4', 'A5'].forEach((note, i) => {
       expect(rows[i]).toMatch(
-        new RegExp(`^${POINTS[i]}\\.000\\s+\\d+\\.\\d{6}\\s+${note}\\s+[+-]\\d+\\.\\d\\d\\s`),
+        new RegExp(`^${POINTS[i]}\\.000\\s+\\d+\\.\\d{4}\\s+${note}\\s+[+\u2212]?\\d+\\.\\d\\d\\s`),
       );
     });
-    // Aligned: the Hz column ends at the same place on every row.
-    const hzEnd = rows.map((l) => l.search(/\d+\.\d{6}/) + (l.match(/\d+\.\d{6}/)?.[0].length ?? 0));
+    // Aligned: the Hz column ends at the same place on every row, with the decimals the lowest step needs
+    // (four at 55 Hz, where 0.0001 Hz is 0.0031 cent; Ellis 1885).
+    const hzEnd = rows.map((l) => l.search(/\d+\.\d{4}/) + (l.match(/\d+\.\d{4}/)?.[0].length ?? 0));
     expect(new Set(hzEnd).size).toBe(1);
     expect(r.stdout).toMatch(/^scale\s+1\.002\d{3} octaves per volt: \+2\.\d\d ± [\d.]+ cents per octave/m);
     expect(r.stdout).toMatch(/^1\. \[scale\] /m);

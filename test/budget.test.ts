@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest';
 import jstat from 'jstat';
 import {
   derivedBudget,
-  formatUncertainty,
   meterHalfWidth,
   meterResolutionVolts,
   METER_PRESETS,
@@ -12,6 +11,7 @@ import {
   type BudgetStep,
 } from '../dsp/model/index.ts';
 import { fitCalibrationModel, predictionSensitivities, scaleSensitivities } from '../dsp/model/index.ts';
+import { formatUncertainty } from '../dsp/format/index.ts';
 import { coverageFactor, studentTCdf, studentTQuantile, welchSatterthwaite } from '../dsp/math/index.ts';
 import { judgeTolerance } from '../dsp/model/index.ts';
 

@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import { Midi } from '@tonaljs/tonal';
 import wavefile from 'wavefile';
 import { run } from '../cli/main.ts';
-import { formatHz, formatSignedCents, formatUncertainty } from '../cli/format.ts';
+import { formatCents, formatHz, formatUncertainty } from '../dsp/format/index.ts';
 import { parseAnalyzeArgs } from '../cli/analyze.ts';
 import { gaussianNoise, tone } from './signals.ts';
 import { cli, type Ran } from './cli-run.ts';
@@ -145,11 +145,12 @@ describe('spanmeter analyze (report)', () => {
     expect(r.code).toBe(0);
     const out = r.stdout;
     expect(out).toMatch(/^c4\.wav: channel 1 of 1, 48000 Hz, 16-bit PCM, 1\.000 s\n/);
-    expect(out).toMatch(/^frequency\s+261\.6255\d\d Hz$/m);
-    expect(out).toMatch(/^note\s+C4 [+-]0\.00 cents \(C4 = 261\.625565 Hz\)$/m);
+    // Three decimals at 261.6 Hz: 0.001 Hz is 0.0066 cent, the digits a hundredth of a cent needs (Ellis 1885).
+    expect(out).toMatch(/^frequency\s+261\.626 Hz$/m);
+    expect(out).toMatch(/^note\s+C4 0\.00 cents \(C4 = 261\.626 Hz\)$/m);
     expect(out).toMatch(/^reference\s+A4 = 440 Hz, middle C = C4$/m);
     expect(out).toMatch(/^uncertainty\s+±[\d.]+ cents \(1σ, standard error\), ±[\d.]+ Hz$/m);
-    expect(out).toMatch(/^level\s+-\d+\.\d dBFS RMS, -\d+\.\d dBFS peak$/m);
+    expect(out).toMatch(/^level\s+\u2212\d+\.\d dBFS RMS, \u2212\d+\.\d dBFS peak$/m);
     expect(out).toMatch(/^window\s+1\.000 s, \d+ harmonics?, clarity [01]\.\d{3}$/m);
   });
 
@@ -319,19 +320,21 @@ describe('argument parsing (in process)', () => {
 });
 
 describe('output formatting', () => {
-  it('frequency with 6 decimals resolves a hundredth of a cent down to 1 Hz (a ratio of 5.78e-6, Ellis 1885)', () => {
-    expect(formatHz(261.6255653005986)).toBe('261.625565');
-    expect(10 ** -6 / 1).toBeLessThan(2 ** (0.01 / 1200) - 1);
+  it('frequency to the digits that resolve a hundredth of a cent (a ratio of 5.78e-6, Ellis 1885)', () => {
+    expect(formatHz(261.6255653005986)).toBe('261.626');
+    // One unit in the last place, 0.001 Hz at 261.6 Hz, is under 0.01 cent.
+    expect(10 ** -3 / 261.6255653005986).toBeLessThan(2 ** (0.01 / 1200) - 1);
   });
 
+  // Signed cents: a true minus (U+2212, ISO 80000-1 7.1.4), no sign on a value that rounds to zero.
   it.each([
-    [0, '+0.00'],
-    [-0.004, '+0.00'],
-    [-0.005001, '-0.01'],
+    [0, '0.00'],
+    [-0.004, '0.00'],
+    [-0.005001, '\u22120.01'],
     [3.14159, '+3.14'],
-    [-49.999, '-50.00'],
+    [-49.999, '\u221250.00'],
   ])('signed cents %f → %s', (c, s) => {
-    expect(formatSignedCents(c)).toBe(s);
+    expect(formatCents(c)).toBe(s);
   });
 
   // Two significant digits for an uncertainty: JCGM 100:2008 (GUM), 7.2.6.

@@ -10,6 +10,7 @@ const ROOT = path.resolve(import.meta.dirname, '..');
 const DSP = path.join(ROOT, 'dsp');
 const LAYERS = [
   'math',
+  'format',
   'converter',
   'pitch',
   'io',

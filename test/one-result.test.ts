@@ -25,6 +25,7 @@ import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { browserStore } from '../renderer/src/storage/store.ts';
 import { draftFromInfo } from '../renderer/src/ui/RecordsPanel.tsx';
+import { reportToJson, resultFromAnalysis, type RunReport } from '../renderer/src/ui/results/index.ts';
 
 const PLAN = [0, 1, 2, 3, 4];
 const CLOCK_PPM = 35;
@@ -118,6 +119,30 @@ describe('one plan, every path, one result', () => {
   it('the JSON export is the same', () => {
     const exported = JSON.parse(resultToJsonText(runAnalysisOf(calibrator.of(state, {})).result));
     expect(numbers(exported)).toEqual(numbers(wavResult));
+  });
+
+  it("the app's JSON export of the run carries the one result shape, only wrapped in the unit's details", () => {
+    const report: RunReport = {
+      result: resultFromAnalysis(runAnalysisOf(calibrator.of(state, {}))),
+      unitName: 'OL3-0417',
+      serial: 'OL3-0417',
+      label: 'before',
+      takenAt: '2026-12-02T10:00:00.000Z',
+      roomTempC: null,
+      meterUsed: null,
+      warmUpMinutes: null,
+      notes: null,
+      planVolts: PLAN,
+      toleranceCents: 2,
+      saved: false,
+      softwareVersion: '0.0.0',
+    };
+    const j = JSON.parse(reportToJson(report));
+    expect(Object.keys(j).sort()).toEqual(['format', 'result', 'run', 'software', 'unit', 'version']);
+    expect(j.result).toEqual(JSON.parse(resultToJsonText(liveResult)));
+    expect(numbers(j.result)).toEqual(numbers(wavResult));
+    // The envelope adds only what the result does not hold: no second copy of steps, fit or advice.
+    expect(Object.keys(j.run).sort()).toEqual(['label', 'plan', 'saved', 'takenAt', 'verdict']);
   });
 
   it('a saved record (browser and desktop stores) holds the same', async () => {

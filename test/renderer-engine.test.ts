@@ -14,7 +14,7 @@ import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts
 import { analyzeRecording } from '../dsp/recording/index.ts';
 import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
 import { answerPendingCapture, feedReading } from '../renderer/src/engine/run-host.ts';
-import { formatHz, hzDecimalsForHundredthCent } from '../renderer/src/lib/format.ts';
+import { formatHz, hzDecimalsForHundredthCent } from '../dsp/format/index.ts';
 import { parseStartupParams } from '../renderer/src/lib/params.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
 

@@ -248,8 +248,9 @@ describe('a saved run reported with its own values', () => {
       toleranceCents: DEFAULT_TOLERANCE_CENTS,
     });
     expect(j.run).toMatchObject({ label: 'after', takenAt: '2026-11-30T10:40:00.000Z', saved: true });
-    expect(j.run.steps.map((s: { hz: number }) => s.hz)).toEqual([32.7, 65.41, 130.82]);
-    expect(j.run.fit.scaleErrorCentsPerOctave).toBe(0.25);
+    expect(j.result.steps.map((s: { hz: number }) => s.hz)).toEqual([32.7, 65.41, 130.82]);
+    expect(j.result.fit.scaleErrorCentsPerOctave).toBe(0.25);
+    expect(j.result).toEqual(after.result); // the run's one result, as the book saved it
     expect(j.run.verdict.kind).toBe('pass');
     expect(j.software.name).toBe('Spanmeter');
     expect(reportFileName(reportOfStored(rec, after))).toBe('ol3-0417-after-2026-11-30');

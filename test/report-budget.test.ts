@@ -11,7 +11,7 @@ import Papa from 'papaparse';
 import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { CSV_STEP_COLUMNS } from '../renderer/src/lib/export.ts';
-import { formatUncertainty } from '../renderer/src/lib/format.ts';
+import { formatUncertainty } from '../dsp/format/index.ts';
 import { budgetsOf } from '../renderer/src/ui/results/budget.ts';
 import {
   DEFAULT_TOLERANCE_CENTS,
@@ -135,16 +135,15 @@ describe('the budget in the exports', () => {
     expect(Number(first[CSV_STEP_COLUMNS.indexOf('budget_coverage_k')])).toBeGreaterThanOrEqual(2);
   });
 
-  it('JSON: the budgets with named contributions', () => {
+  it('JSON: the budgets with named contributions, in the one result shape', () => {
     const j = JSON.parse(reportToJson(r));
-    expect(j.run.budget.map((b: { quantity: string }) => b.quantity)).toEqual(budgets.map((b) => b.quantity));
-    const scale = j.run.budget[0];
-    expect(scale.unit).toBe('cents per octave');
-    expect(scale.contributions[0]).toMatchObject({ source: expect.any(String), name: expect.any(String) });
-    expect(scale.expandedUncertainty).toBeCloseTo(
-      scale.coverageFactor * scale.combinedStandardUncertainty,
-      9,
-    );
+    // The export carries the result as saved (dsp/calibration/result.ts), so the same budgets come out of it.
+    expect(budgetsOf(j.result).map((b) => b.quantity)).toEqual(budgets.map((b) => b.quantity));
+    expect(budgetsOf(j.result)).toEqual(budgets);
+    const scale = j.result.fit.scaleBudget;
+    expect(scale.terms[0]).toMatchObject({ source: expect.any(String), type: expect.any(String) });
+    // U = k·u_c (JCGM 100:2008, 6.2.1).
+    expect(scale.expandedCents).toBeCloseTo(scale.coverageFactor * scale.combinedCents, 9);
   });
 
   it('formatUncertainty shows two significant digits (GUM §7.2.6)', () => {

@@ -9,13 +9,13 @@
  */
 import {
   derivedBudget,
-  formatUncertainty,
   lineBudgets,
   stepBudget,
   type BudgetOptions,
   type BudgetStep,
   type UncertaintyBudget,
 } from '../model/index.ts';
+import { formatUncertainty, formatVolts } from '../format/index.ts';
 import { nearestPreferred, formatOhms, type PreferredValue } from '../converter/index.ts';
 import { predictedHz, type BendAnalysis, type TrackingFit, type TrackingFitOk } from '../model/index.ts';
 import {
@@ -293,7 +293,7 @@ function fmtHz(hz: number): string {
   return hz >= 1000 ? hz.toFixed(1) : hz.toFixed(2);
 }
 function fmtV(v: number): string {
-  return `${v < 0 ? '−' : ''}${Math.abs(v).toFixed(3)} V`;
+  return formatVolts(v);
 }
 function fmtMv(mv: number): string {
   return `${Math.abs(mv).toPrecision(2)} mV`;

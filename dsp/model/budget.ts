@@ -654,32 +654,3 @@ export function lineBudgets(
     ),
   };
 }
-
-/**
- * An uncertainty with two significant digits, as the GUM advises ("usually sufficient to quote u_c and U to
- * at most two significant digits", JCGM 100:2008, 7.2.6), in plain decimal notation. The one formatter every
- * view uses.
- *
- * @example formatUncertainty(0.0001234) // '0.00012'
- * @example formatUncertainty(2.345) // '2.3'
- */
-export function formatUncertainty(value: number): string {
-  if (!Number.isFinite(value)) return String(value);
-  if (value === 0) return '0';
-  let decimals = Math.max(0, 1 - Math.floor(Math.log10(Math.abs(value))));
-  // 0.0999… rounds to 0.100: one decimal fewer keeps two significant digits (0.10).
-  if (decimals > 0 && Math.abs(Number(value.toFixed(decimals))) >= Math.pow(10, 2 - decimals)) decimals -= 1;
-  return value.toFixed(decimals);
-}
-
-/**
- * A value rounded to the decimals of its uncertainty (two significant digits of the uncertainty, GUM 7.2.6).
- *
- * @example formatWithUncertainty(1.23456, 0.0123) // '1.235'
- */
-export function formatWithUncertainty(value: number, uncertainty: number): string {
-  if (!Number.isFinite(value)) return String(value);
-  if (!(uncertainty > 0) || !Number.isFinite(uncertainty)) return value.toString();
-  const decimals = Math.max(0, 1 - Math.floor(Math.log10(uncertainty)));
-  return value.toFixed(Math.min(decimals, 12));
-}

@@ -5,7 +5,8 @@
  * acceptance of ISO 14253-1:2017 (conformance proven only when the measured value lies inside the tolerance
  * shrunk by U; nonconformance only outside it widened by U).
  */
-import { formatUncertainty, type BudgetSource, type UncertaintyBudget } from './budget.ts';
+import { formatCents, formatUncertainty, formatVolts } from '../format/index.ts';
+import type { BudgetSource, UncertaintyBudget } from './budget.ts';
 import type { Cents, Volts } from '../math/index.ts';
 
 /** A step's verdict. */
@@ -113,7 +114,7 @@ export function judgeTolerance(steps: readonly ToleranceInput[], toleranceCents:
       verdict: 'cannot-tell',
       neededExpandedCents: needed,
       settle:
-        `the error ${a.toFixed(2)} ± ${formatUncertainty(u)} cents straddles the ±${tol} cent tolerance: ` +
+        `the error ${formatCents(s.errorCents)} ± ${formatUncertainty(u)} cents straddles the ±${tol} cent tolerance: ` +
         `U must fall below ${formatUncertainty(needed)} cent to decide; ${remedy}.`,
     };
   });
@@ -132,10 +133,10 @@ export function judgeTolerance(steps: readonly ToleranceInput[], toleranceCents:
   let text: string;
   if (judged.length === 0) text = 'No steps to judge against the tolerance.';
   else if (verdict === 'within')
-    text = `Every step is within ±${tol} cent, uncertainty included (worst ${worst!.errorCents.toFixed(2)} ± ${formatUncertainty(worst!.expandedCents)} cents at ${worst!.volts} V).`;
+    text = `Every step is within ±${tol} cent, uncertainty included (worst ${formatCents(worst!.errorCents)} ± ${formatUncertainty(worst!.expandedCents)} cents at ${formatVolts(worst!.volts)}).`;
   else if (verdict === 'outside') {
     const out = judged.filter((s) => s.verdict === 'outside');
-    text = `Outside ±${tol} cent at ${out.map((s) => `${s.volts} V (${s.errorCents.toFixed(2)} ± ${formatUncertainty(s.expandedCents)})`).join(', ')}.`;
+    text = `Outside ±${tol} cent at ${out.map((s) => `${formatVolts(s.volts)} (${formatCents(s.errorCents)} ± ${formatUncertainty(s.expandedCents)})`).join(', ')}.`;
   } else {
     const first = judged.find((s) => s.verdict === 'cannot-tell')!;
     text = `Can't tell yet whether every step is within ±${tol} cent: at ${first.volts} V ${first.settle}`;

@@ -220,7 +220,7 @@ export function App() {
   });
 
   // ---- Recording (Open WAV…) -------------------------------------------------------------------
-  const wav = useWavAnalysis(client, view, planText, audio.channel, setup);
+  const wav = useWavAnalysis(client, view, planText, audio.channelIndex, setup);
   const onOpenWav = useCallback(
     (f: File | null) => {
       if (f) setTab('run');
@@ -312,9 +312,9 @@ export function App() {
               devices={audio.devices}
               deviceId={audio.deviceId}
               onDevice={audio.setDeviceId}
-              channel={audio.channel}
+              channelIndex={audio.channelIndex}
               channelCount={audio.channelCount}
-              onChannel={audio.setChannel}
+              onChannelIndex={audio.setChannelIndex}
               sampleRateHz={view.source.sampleRateHz}
               message={inputMessage}
               onReopen={audio.closed ? audio.reopen : null}

@@ -86,7 +86,7 @@ describe.skipIf(!enabled)('records in Chromium', () => {
     const j = JSON.parse(json.text);
     expect(j.run.label).toBe('before');
     expect(j.run.plan.volts).toEqual([0, 2]);
-    expect(j.run.steps.map((s: { volts: number }) => s.volts)).toEqual([0, 2]);
+    expect(j.result.steps.map((s: { volts: number }) => s.volts)).toEqual([0, 2]); // the one result shape
     expect(j.unit).toMatchObject({
       name: UNIT.name,
       serial: UNIT.serial,
@@ -113,7 +113,7 @@ describe.skipIf(!enabled)('records in Chromium', () => {
       .slice(at + 1)
       .filter((r) => r.length > 3)
       .map((r) => Number(r[3]));
-    expect(csvHz).toEqual(j.run.steps.map((s: { hz: number }) => s.hz));
+    expect(csvHz).toEqual(j.result.steps.map((s: { hz: number }) => s.hz));
 
     // The printed report of that run: print to PDF, render to PNG, read its text.
     await page.click('[data-testid="print-report"]');

@@ -30,7 +30,7 @@ export interface OpenInput {
   readonly settings: MediaTrackSettings;
   readonly context: AudioContext;
   /** Picks the channel the worklet passes on (0-based). */
-  setChannel(channel: number): void;
+  setChannelIndex(channelIndex: number): void;
   /** Resumes the AudioContext (browsers start it suspended until the user interacts). */
   resume(): Promise<void>;
   /** Stops the tracks and closes the context. */
@@ -95,7 +95,7 @@ export interface OpenInputOptions {
   /** A device from {@link listInputs}, or null for the system's default input. */
   readonly deviceId: string | null;
   /** 0-based channel to analyse. */
-  readonly channel: number;
+  readonly channelIndex: number;
   /** The engine worker's end of the audio channel is created here and given to `connectEngine`. */
   connectEngine(port: MessagePort, sampleRateHz: number): void;
   /** Called when the worklet sees a different number of input channels. */
@@ -183,7 +183,7 @@ export async function openInput(
     numberOfInputs: 1,
     numberOfOutputs: 0,
     channelCountMode: 'max',
-    processorOptions: { blockFrames: BLOCK_FRAMES, poolSize: 16, channel: o.channel },
+    processorOptions: { blockFrames: BLOCK_FRAMES, poolSize: 16, channel: o.channelIndex },
   });
   const channel = new MessageChannel();
   const toWorklet: ToWorklet = { type: 'connect', port: channel.port1 };
@@ -203,7 +203,7 @@ export async function openInput(
     sampleRateHz: context.sampleRate,
     settings,
     context,
-    setChannel: (c) => {
+    setChannelIndex: (c) => {
       const m: ToWorklet = { type: 'channel', channel: c };
       node.port.postMessage(m);
     },

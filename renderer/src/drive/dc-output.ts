@@ -31,7 +31,7 @@ export const FULL_SCALE: LevelBounds = { low: -1, high: 1 };
 /** A DC level on one channel of a Web Audio context. */
 export class DcOutput {
   readonly context: BaseAudioContext;
-  readonly channel: number;
+  readonly channelIndex: number;
   private readonly source: ConstantSourceNode;
   private readonly merger: ChannelMergerNode;
   private ramp: Ramp = { from: 0, to: 0, startSeconds: 0, seconds: 0.005 };
@@ -42,16 +42,18 @@ export class DcOutput {
    * Builds the graph at level 0 (the output at rest).
    *
    * @param context - A realtime or offline context.
-   * @param channel - Output channel, from 0, below `channelCount`.
+   * @param channelIndex - Output channel, 0-based, below `channelCount` (a person sees it from 1).
    * @param channelCount - Channels of the destination to use (≤ its maxChannelCount).
    */
-  constructor(context: BaseAudioContext, channel: number, channelCount: number) {
+  constructor(context: BaseAudioContext, channelIndex: number, channelCount: number) {
     if (!Number.isInteger(channelCount) || channelCount < 1)
       throw new RangeError(`channelCount must be an integer ≥ 1, got ${channelCount}`);
-    if (!Number.isInteger(channel) || channel < 0 || channel >= channelCount)
-      throw new RangeError(`channel must be an integer in [0, ${channelCount - 1}], got ${channel}`);
+    if (!Number.isInteger(channelIndex) || channelIndex < 0 || channelIndex >= channelCount)
+      throw new RangeError(
+        `channelIndex must be an integer in [0, ${channelCount - 1}], got ${channelIndex}`,
+      );
     this.context = context;
-    this.channel = channel;
+    this.channelIndex = channelIndex;
     const dest = context.destination;
     if (dest.maxChannelCount >= channelCount) dest.channelCount = channelCount;
     dest.channelCountMode = 'explicit';
@@ -59,7 +61,7 @@ export class DcOutput {
     this.merger = context.createChannelMerger(channelCount);
     this.source = context.createConstantSource();
     this.source.offset.value = 0;
-    this.source.connect(this.merger, 0, channel);
+    this.source.connect(this.merger, 0, channelIndex);
     this.merger.connect(dest);
     this.source.start(0);
   }
@@ -170,9 +172,9 @@ type SinkContext = AudioContext & { setSinkId?: (id: string) => Promise<void> };
 
 /**
  * Opens a realtime context on the device (`setSinkId`; the default device when `deviceId` is
- * 'default' or empty) with a DC output on `channel`.
+ * 'default' or empty) with a DC output on channel `channelIndex` (0-based).
  */
-export async function openDcOutput(deviceId: string, channel: number): Promise<OpenDcResult> {
+export async function openDcOutput(deviceId: string, channelIndex: number): Promise<OpenDcResult> {
   let ctx: SinkContext;
   try {
     ctx = new AudioContext({ latencyHint: 'interactive' });
@@ -194,11 +196,14 @@ export async function openDcOutput(deviceId: string, channel: number): Promise<O
       await ctx.setSinkId(deviceId);
     }
     const n = Math.max(1, ctx.destination.maxChannelCount);
-    if (channel >= n) {
+    if (channelIndex >= n) {
       void ctx.close();
-      return { ok: false, message: `Output channel ${channel + 1} is not on this device (it has ${n}).` };
+      return {
+        ok: false,
+        message: `Output channel ${channelIndex + 1} is not on this device (it has ${n}).`,
+      };
     }
-    const output = new DcOutput(ctx, channel, n);
+    const output = new DcOutput(ctx, channelIndex, n);
     if (ctx.state === 'suspended') await ctx.resume().catch(() => undefined);
     return { ok: true, output, context: ctx, channelCount: n };
   } catch (err) {

@@ -25,8 +25,9 @@ export interface AudioInput {
   devices: InputDevice[];
   deviceId: string | null;
   setDeviceId(id: string | null): void;
-  channel: number;
-  setChannel(c: number): void;
+  /** The input channel analysed, 0-based (the picker shows it from 1). */
+  channelIndex: number;
+  setChannelIndex(i: number): void;
   channelCount: number;
   message: InputMessage | null;
   suspended: boolean;
@@ -50,7 +51,7 @@ export function useAudioInput(client: EngineClient, params: StartupParams): Audi
   const [source, setSource] = useState<SourceKind>(params.input);
   const [devices, setDevices] = useState<InputDevice[]>([]);
   const [deviceId, setDeviceId] = useState<string | null>(null);
-  const [channel, setChannel] = useState(0);
+  const [channelIndex, setChannelIndex] = useState(0);
   const [channelCount, setChannelCount] = useState(1);
   const [message, setMessage] = useState<InputMessage | null>(startupWarning);
   const [suspended, setSuspended] = useState(false);
@@ -86,7 +87,7 @@ export function useAudioInput(client: EngineClient, params: StartupParams): Audi
     void (async () => {
       const r = await openInput({
         deviceId,
-        channel,
+        channelIndex,
         connectEngine: (port, rate) => client.send({ type: 'source-live', sampleRateHz: rate, port }, [port]),
         onChannels: (n) => setChannelCount(n),
         onEnded: () => inputGone('The audio input stopped (unplugged or taken by the system).'),
@@ -120,8 +121,8 @@ export function useAudioInput(client: EngineClient, params: StartupParams): Audi
   }, [sim, source, client]);
 
   useEffect(() => {
-    inputRef.current?.setChannel(channel);
-  }, [channel]);
+    inputRef.current?.setChannelIndex(channelIndex);
+  }, [channelIndex]);
 
   useEffect(() => {
     const md = navigator.mediaDevices;
@@ -158,8 +159,8 @@ export function useAudioInput(client: EngineClient, params: StartupParams): Audi
     devices,
     deviceId,
     setDeviceId,
-    channel,
-    setChannel,
+    channelIndex,
+    setChannelIndex,
     channelCount,
     message,
     suspended: suspended && source === 'device',

@@ -25,14 +25,14 @@ export interface WavStatus {
  * @param client - The engine.
  * @param view - The engine's view (its `wav` part).
  * @param planText - The plan, whose voltages map the recording's steps.
- * @param channel - Input channel, from 0.
+ * @param channelIndex - Input channel, 0-based (the request carries its number, from 1).
  * @param setup - Clock correction, fit range and input network.
  */
 export function useWavAnalysis(
   client: EngineClient,
   view: EngineView,
   planText: string,
-  channel: number,
+  channelIndex: number,
   setup: SetupOptions,
 ) {
   const [planProblem, setPlanProblem] = useState<string | null>(null);
@@ -56,7 +56,7 @@ export function useWavAnalysis(
         fileName: file.name,
         request: {
           points: [...p.volts],
-          channel: channel + 1,
+          channel: channelIndex + 1,
           settleSeconds: RECORDING_SETTLE_SECONDS,
           a4Hz: A4_HZ,
           clockPpm: setup.clockPpm,
@@ -68,7 +68,7 @@ export function useWavAnalysis(
       });
       return true;
     },
-    [client, planText, channel, setup],
+    [client, planText, channelIndex, setup],
   );
 
   useEffect(

@@ -8,7 +8,7 @@ import { applyClockPpm } from '../../../dsp/io/index.ts';
 import { nearestNote } from '../../../dsp/math/index.ts';
 import type { EngineView } from '../engine/client.ts';
 import type { RunState } from '../../../dsp/calibration/index.ts';
-import { formatCents, formatHz, formatVolts } from '../lib/format.ts';
+import { formatCents, formatHz, formatVolts } from '../../../dsp/format/index.ts';
 import { promptFor } from './RunPanel.tsx';
 
 /** Seconds of trend shown. */

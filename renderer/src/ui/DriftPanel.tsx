@@ -5,7 +5,7 @@
 import { useState } from 'react';
 import type { DriftView } from '../engine/protocol.ts';
 import { numberOrNull, type NumberRule } from '../lib/fields.ts';
-import { formatCents, formatClock } from '../lib/format.ts';
+import { formatCents, formatClock } from '../../../dsp/format/index.ts';
 import { DriftChart } from './charts.tsx';
 import { DriftLogBar, type DriftKeeper } from './DriftLogBar.tsx';
 import { NumberField } from './NumberField.tsx';

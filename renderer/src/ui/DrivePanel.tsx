@@ -7,6 +7,7 @@
  */
 import { useEffect, useState } from 'react';
 import { MAX_DRIVE_VOLTS_CEILING, meterUncertainty, MIDDLE_C_NOTE } from '../../../dsp/drive/index.ts';
+import { formatCents, formatNumber, NO_VALUE } from '../../../dsp/format/index.ts';
 import { midiToName } from '../../../dsp/math/index.ts';
 import type { DriveApi } from '../drive/use-drive.ts';
 import { parseNumberField, type NumberRule } from '../lib/fields.ts';
@@ -14,12 +15,9 @@ import { DevicePicker } from './DevicePicker.tsx';
 import { NumberField } from './NumberField.tsx';
 import type { DriveKind } from '../drive/drive.ts';
 
+/** Volts with the unit: 0.1 mV by default (a meter's last digit), the shared formatter (dsp/format). */
 function fmtV(v: number, digits = 4): string {
-  return Number.isFinite(v) ? `${(v + 0).toFixed(digits)} V` : '—';
-}
-
-function fmtC(c: number | null, digits = 2): string {
-  return c === null || !Number.isFinite(c) ? '—' : `${c >= 0 ? '+' : ''}${c.toFixed(digits)}`;
+  return Number.isFinite(v) ? `${formatNumber(v, digits)} V` : NO_VALUE;
 }
 
 /**
@@ -539,9 +537,9 @@ export function HandsOffPanel(props: { api: DriveApi; tab: string }) {
                 data-offset-cents={p.offsetCents === null ? '' : String(p.offsetCents)}
               >
                 <td>{p.pass}</td>
-                <td>{fmtC(p.scaleCentsPerOctave)}</td>
-                <td>{fmtC(p.hfCents)}</td>
-                <td>{fmtC(p.offsetCents)}</td>
+                <td>{formatCents(p.scaleCentsPerOctave)}</td>
+                <td>{formatCents(p.hfCents)}</td>
+                <td>{formatCents(p.offsetCents)}</td>
                 <td>{p.withinTolerance ? 'within tolerance' : 'trim'}</td>
               </tr>
             ))}

@@ -1,6 +1,6 @@
 /** The question about the first step of a run (hooks/useFirstStep.ts), or the note that it is known. */
 import type { FirstStep } from '../hooks/useFirstStep.ts';
-import { formatHz, formatVolts } from '../lib/format.ts';
+import { formatCents, formatHz, formatVolts } from '../../../dsp/format/index.ts';
 
 export function FirstStepQuestion(props: { first: FirstStep }) {
   const { first } = props;
@@ -29,9 +29,8 @@ export function FirstStepQuestion(props: { first: FirstStep }) {
     const c = first.known.cents;
     return (
       <p className="message info small" data-testid="first-step-known">
-        Step 1 is {c >= 0 ? '+' : '−'}
-        {Math.abs(c).toFixed(1)} ¢ from the same voltage in “{first.known.label}” of {first.known.unitName}:
-        the voltage looks right.
+        Step 1 is {formatCents(c, 1)} ¢ from the same voltage in “{first.known.label}” of{' '}
+        {first.known.unitName}: the voltage looks right.
       </p>
     );
   }

@@ -5,7 +5,7 @@
 import { demoUnits } from '../../../dsp/sim/index.ts';
 import type { PitchReading } from '../../../dsp/pitch/index.ts';
 import type { InputDevice } from '../audio/input.ts';
-import { formatDbfs } from '../lib/format.ts';
+import { formatDbfs } from '../../../dsp/format/index.ts';
 import { simSettingsForUnit, type SimSettings } from '../lib/sim-settings.ts';
 
 /** Level state for the meter. */
@@ -92,9 +92,10 @@ export interface InputPanelProps {
   devices: readonly InputDevice[];
   deviceId: string | null;
   onDevice(id: string | null): void;
-  channel: number;
+  /** The input channel analysed, 0-based; shown from 1. */
+  channelIndex: number;
   channelCount: number;
-  onChannel(c: number): void;
+  onChannelIndex(i: number): void;
   sampleRateHz: number | null;
   message: { kind: 'info' | 'warn' | 'error'; text: string } | null;
   /** Set while the audio input is closed after a failure: opens it again. */
@@ -187,8 +188,8 @@ export function InputPanel(p: InputPanelProps) {
           <label className="field">
             <span>Channel</span>
             <select
-              value={p.channel}
-              onChange={(e) => p.onChannel(Number(e.target.value))}
+              value={p.channelIndex}
+              onChange={(e) => p.onChannelIndex(Number(e.target.value))}
               data-testid="channel-select"
             >
               {Array.from({ length: Math.max(1, p.channelCount) }, (_, i) => (

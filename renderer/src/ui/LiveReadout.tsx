@@ -5,7 +5,7 @@
 import { applyClockPpm } from '../../../dsp/io/index.ts';
 import { nearestNote } from '../../../dsp/math/index.ts';
 import type { PitchReading } from '../../../dsp/pitch/index.ts';
-import { formatCents, formatHz, formatUncertainty } from '../lib/format.ts';
+import { formatCents, formatHz, formatUncertainty } from '../../../dsp/format/index.ts';
 
 const REASONS: Record<string, string> = {
   silent: 'too quiet to measure',

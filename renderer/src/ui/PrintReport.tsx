@@ -4,7 +4,13 @@
  * date, label and unit details, or the live run) and nothing else.
  */
 import { memo } from 'react';
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
+import {
+  formatCents,
+  formatHz,
+  formatUncertainty,
+  formatVolts,
+  hzColumnDecimals,
+} from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { BudgetTable } from './results/BudgetTable.tsx';
 import { formatTakenAt, verdictFor, type RunReport } from './results/index.ts';
@@ -21,6 +27,7 @@ function Meta(props: { k: string; v: string | null | undefined }) {
 /** Re-rendered only when the report changes (not on every reading). */
 export const PrintReport = memo(function PrintReport(props: { report: RunReport | null }) {
   const r = props.report;
+  const hzDecimals = hzColumnDecimals(r?.result.rows.map((x) => x.hz) ?? []);
   if (!r) {
     return (
       <section className="print-report" aria-hidden="true">
@@ -127,7 +134,7 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
                   <td>{x.step}</td>
                   <td>{formatVolts(x.nominalVolts, false)}</td>
                   <td>{x.measuredVolts === null ? '—' : formatVolts(x.measuredVolts, false)}</td>
-                  <td>{formatHz(x.hz)}</td>
+                  <td>{formatHz(x.hz, hzDecimals)}</td>
                   <td>
                     {x.noteName} {formatCents(x.noteCents, 1)}
                   </td>

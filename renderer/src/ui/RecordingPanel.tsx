@@ -7,7 +7,13 @@ import type { ReactNode } from 'react';
 import type { RecordingAnalysisOk } from '../../../dsp/recording/index.ts';
 import type { WavFileInfo } from '../engine/wav-analysis.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
+import {
+  formatCents,
+  formatHz,
+  formatUncertainty,
+  formatVolts,
+  hzColumnDecimals,
+} from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
 
@@ -28,6 +34,7 @@ export interface RecordingPanelProps {
 
 export function RecordingPanel(p: RecordingPanelProps) {
   const r = p.recording;
+  const hzDecimals = hzColumnDecimals(r.steps.map((s) => s.hz));
   const result = resultFromAnalysis(p.analysis);
   const f = p.file;
   return (
@@ -72,7 +79,7 @@ export function RecordingPanel(p: RecordingPanelProps) {
                   <td>{s.index + 1}</td>
                   <td>{formatVolts(s.volts, false)}</td>
                   <td>{s.measuredVolts === null ? '' : formatVolts(s.measuredVolts, false)}</td>
-                  <td className="num mono">{formatHz(s.hz)}</td>
+                  <td className="num mono">{formatHz(s.hz, hzDecimals)}</td>
                   <td>
                     {s.note.name} <span className="dim">{formatCents(s.note.cents, 1)}</span>
                   </td>

@@ -9,7 +9,7 @@ import type { CalibrationResult } from '../../../dsp/calibration/index.ts';
 import type { RecordSummary, Run, UnitRecord, UnitRecordDraft } from '../../../main/api-types.ts';
 import { RECORD_SCHEMA_VERSION } from '../../../main/ipc-contract.ts';
 import { numberOrNull } from '../lib/fields.ts';
-import { formatCents } from '../lib/format.ts';
+import { formatCents } from '../../../dsp/format/index.ts';
 import type { RecordStore } from '../storage/store.ts';
 import { CompareChart, StepChart } from './charts.tsx';
 import { NumberField } from './NumberField.tsx';

@@ -10,7 +10,13 @@ import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
 import { RUN_KEYS, redoTarget } from '../hooks/useRunKeys.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
 import { DECIMAL_HINT, meterQuestion, parseNumberField } from '../lib/fields.ts';
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../lib/format.ts';
+import {
+  formatCents,
+  formatHz,
+  formatUncertainty,
+  formatVolts,
+  hzColumnDecimals,
+} from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
 
@@ -307,6 +313,7 @@ export function RunPanel(p: RunPanelProps) {
     (pr) => parsed.kind === 'ok' && formatPlan(pr.volts) === formatPlan(parsed.volts),
   );
   const rows = p.analysis?.table?.rows ?? [];
+  const hzDecimals = hzColumnDecimals(rows.map((r) => r.hz));
   const rowByStep = new Map<number, (typeof rows)[number]>();
   rows.forEach((r) => {
     const pt = p.analysis?.points[r.index];
@@ -529,7 +536,7 @@ export function RunPanel(p: RunPanelProps) {
                       <td>{st.index + 1}</td>
                       <td>{formatVolts(st.nominalVolts, false)}</td>
                       <td>{meterCell}</td>
-                      <td className="num mono">{formatHz(row.hz)}</td>
+                      <td className="num mono">{formatHz(row.hz, hzDecimals)}</td>
                       <td>
                         {row.noteName} <span className="dim">{formatCents(row.noteCents, 1)}</span>
                       </td>

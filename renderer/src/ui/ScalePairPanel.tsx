@@ -7,7 +7,7 @@
 import { useState } from 'react';
 import type { ScalePairConfig, ScalePairView } from '../engine/protocol.ts';
 import { numberOrNull } from '../lib/fields.ts';
-import { formatCents, formatHz } from '../lib/format.ts';
+import { formatCents, formatHz } from '../../../dsp/format/index.ts';
 import { NumberField } from './NumberField.tsx';
 
 const VOLT_RULE = { min: -12, max: 12, unit: 'V', optional: false } as const;

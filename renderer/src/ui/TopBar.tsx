@@ -4,7 +4,7 @@
  */
 import type { EngineView } from '../engine/client.ts';
 import type { Theme } from '../hooks/useTheme.ts';
-import { formatClock } from '../lib/format.ts';
+import { formatClock } from '../../../dsp/format/index.ts';
 import { FrameMeter } from './FrameMeter.tsx';
 
 export type Tab = 'run' | 'scale-pair' | 'drift' | 'book';

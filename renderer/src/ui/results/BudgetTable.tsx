@@ -4,7 +4,7 @@
  * uncertainty U and a column per named contribution, all to two significant digits (JCGM 100:2008 §7.2.6).
  */
 import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
-import { formatUncertainty } from '../../lib/format.ts';
+import { formatUncertainty } from '../../../../dsp/format/index.ts';
 import { budgetColumns, budgetsOf, budgetSourceLabel, formatK, termOf } from './budget.ts';
 
 export function BudgetTable(props: { result: CalibrationResult | null; className?: string }) {

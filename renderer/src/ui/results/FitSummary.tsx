@@ -1,6 +1,6 @@
 /** The fit of a result: scale error with its uncertainty, octaves per volt, pitch at 0 V, residual, bends. */
 import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
-import { formatCents, formatHz, formatUncertainty } from '../../lib/format.ts';
+import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../../../dsp/format/index.ts';
 import { budgetSourceLabel } from './budget.ts';
 import type { ResultModel } from './model.ts';
 
@@ -53,7 +53,7 @@ function ModelBudgetRows(props: { result: CalibrationResult }) {
             {suspects
               .map(
                 (s) =>
-                  `step ${s.index + 1}: plays as ${(s.likelyVolts ?? 0).toFixed(3)} V, given ${(s.volts ?? 0).toFixed(3)} V`,
+                  `step ${s.index + 1}: plays as ${formatVolts(s.likelyVolts)}, given ${formatVolts(s.volts)}`,
               )
               .join('; ')}
           </dd>

@@ -1,9 +1,16 @@
 /** The error table of a result (saved run, printed report): rows in voltage order, read only. */
-import { formatCents, formatHz, formatUncertainty, formatVolts } from '../../lib/format.ts';
+import {
+  formatCents,
+  formatHz,
+  formatUncertainty,
+  formatVolts,
+  hzColumnDecimals,
+} from '../../../../dsp/format/index.ts';
 import { ErrorTableHead } from './ErrorTableHead.tsx';
 import type { ResultModel } from './model.ts';
 
 export function ResultTable(props: { result: ResultModel; testId?: string; caption?: string }) {
+  const hzDecimals = hzColumnDecimals(props.result.rows.map((r) => r.hz));
   return (
     <div className="table-wrap">
       <table className="error-table" data-testid={props.testId ?? 'result-table'}>
@@ -21,7 +28,7 @@ export function ResultTable(props: { result: ResultModel; testId?: string; capti
               <td>{r.step}</td>
               <td>{formatVolts(r.nominalVolts, false)}</td>
               <td>{r.measuredVolts === null ? '' : formatVolts(r.measuredVolts, false)}</td>
-              <td className="num mono">{formatHz(r.hz)}</td>
+              <td className="num mono">{formatHz(r.hz, hzDecimals)}</td>
               <td>
                 {r.noteName} <span className="dim">{formatCents(r.noteCents, 1)}</span>
               </td>

@@ -6,6 +6,7 @@
  * uncertainty U = k·u_c (JCGM 100:2008 §6.2.1, k from Student's t at 95.45 %, §G.3).
  */
 import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
+import { formatVolts } from '../../../../dsp/format/index.ts';
 import { BUDGET_TERM_SOURCES } from '../../lib/export.ts';
 
 /** The contributions dsp/model/budget.ts names, in the order a budget lists them (BudgetSource). */
@@ -107,7 +108,7 @@ export function budgetsOf(result: CalibrationResult | null): BudgetView[] {
   for (const s of steps) {
     const v = s.volts as number;
     out.push(
-      view(`step-${s.index + 1}`, `Step ${s.index + 1}, ${v.toFixed(3)} V`, '¢', s.budget as StoredBudget, {
+      view(`step-${s.index + 1}`, `Step ${s.index + 1}, ${formatVolts(v)}`, '¢', s.budget as StoredBudget, {
         number: s.index + 1,
         volts: v,
       }),

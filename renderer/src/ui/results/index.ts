@@ -14,6 +14,8 @@ export { ResultTable } from './ResultTable.tsx';
 export { CompareChart, StepChart } from '../charts.tsx';
 export {
   DEFAULT_TOLERANCE_CENTS,
+  RUN_REPORT_FORMAT,
+  RUN_REPORT_VERSION,
   SOFTWARE_VERSION,
   formatTakenAt,
   reportFileName,

@@ -7,7 +7,7 @@ import type { ResistorChange } from '../../../../dsp/advice/index.ts';
 import { formatOhms } from '../../../../dsp/converter/index.ts';
 import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
 import type { RunAnalysis } from '../../lib/analysis.ts';
-import { formatCents } from '../../lib/format.ts';
+import { formatCents, formatNumber } from '../../../../dsp/format/index.ts';
 
 const PART_NAMES: Record<ResistorChange['part'], string> = {
   series: 'Series Rs',
@@ -121,7 +121,7 @@ export function resultFromAnalysis(a: RunAnalysis): ResultModel {
     })),
   );
   const end = (e: { kind: string; direction?: string; centsAtEnd?: number }) =>
-    e.kind === 'bent' ? `bends ${e.direction} ${(e.centsAtEnd ?? 0).toFixed(1)} ¢` : 'straight';
+    e.kind === 'bent' ? `bends ${e.direction} ${formatNumber(e.centsAtEnd ?? 0, 1)} ¢` : 'straight';
   const fit: ResultFit | null =
     a.fit.kind === 'ok'
       ? {
@@ -192,7 +192,7 @@ export function resultFromStored(r: CalibrationResult): ResultModel {
       ? null
       : e.kind === 'straight'
         ? 'straight'
-        : `bends ${e.kind} ${(e.centsAtEnd ?? 0).toFixed(1)} ¢`;
+        : `bends ${e.kind} ${formatNumber(e.centsAtEnd ?? 0, 1)} ¢`;
   const fit: ResultFit | null = r.fit
     ? {
         scaleErrorCentsPerOctave: r.fit.scaleErrorCentsPerOctave,

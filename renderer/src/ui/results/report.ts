@@ -8,7 +8,6 @@ import { resultToJsonText } from '../../../../dsp/calibration/index.ts';
 import type { Run, UnitRecord } from '../../../../main/api-types.ts';
 import { toCsv, type CsvCell } from '../../lib/csv.ts';
 import { CSV_STEP_COLUMNS, fitBudgetLines, stepBudgetCells } from '../../lib/export.ts';
-import { budgetsOf } from './budget.ts';
 import { resultFromStored, type ResultModel } from './model.ts';
 
 export { SOFTWARE_VERSION };
@@ -149,17 +148,30 @@ export function reportToCsv(r: RunReport): string {
   return toCsv([...head, [], [...CSV_STEP_COLUMNS], ...rows]);
 }
 
+/** The `format` of the run report JSON (the app's JSON export). */
+export const RUN_REPORT_FORMAT = 'spanmeter-run-report';
+
 /**
- * The run as JSON: `{ format, software, unit: {…}, run: { label, takenAt, plan, steps, fit, advice,
- * verdict, budget }, result }`, every value the run's own; `result` is the run's one result in the one JSON
- * shape (`resultToJsonText`, dsp/calibration/result.ts).
+ * The version of the run report envelope. Version 1 also copied the steps, fit, advice and budgets into
+ * `run` under other names; from version 2 they are only in `result`, the one result shape.
+ */
+export const RUN_REPORT_VERSION = 2;
+
+/**
+ * The run as JSON: the run's one result exactly as `spanmeter analyze --json` prints it and the unit book
+ * saves it (`result`: `resultToJsonText`, dsp/calibration/result.ts, versioned by its `schemaVersion`),
+ * inside an envelope that only adds what the result does not hold: `{ format, version, software,
+ * unit: { name, serial, roomTempC, meterUsed, warmUpMinutes, notes, toleranceCents }, run: { label, takenAt,
+ * saved, plan, verdict }, result }`. Steps, fit, advice and the uncertainty budgets are read from `result`.
+ *
+ * @example JSON.parse(reportToJson(report)).result.schemaVersion // RESULT_SCHEMA_VERSION
  */
 export function reportToJson(r: RunReport): string {
   const v = verdictFor(r.result, r.toleranceCents);
   return JSON.stringify(
     {
-      format: 'spanmeter-run-report',
-      version: 1,
+      format: RUN_REPORT_FORMAT,
+      version: RUN_REPORT_VERSION,
       software: { name: 'Spanmeter', version: r.softwareVersion },
       unit: {
         name: r.unitName,
@@ -175,43 +187,9 @@ export function reportToJson(r: RunReport): string {
         takenAt: r.takenAt,
         saved: r.saved,
         plan: { volts: r.planVolts },
-        steps: r.result.rows.map((x) => ({
-          step: x.step,
-          volts: x.nominalVolts,
-          measuredVolts: x.measuredVolts,
-          hz: x.hz,
-          uncertaintyCents: x.uncertaintyCents,
-          note: x.noteName,
-          centsFromNote: x.noteCents,
-          centsFromIdeal: x.centsFromIdeal,
-          intervalErrorCents: x.intervalErrorCents,
-        })),
-        fit: r.result.fit && {
-          octavesPerVolt: r.result.fit.octavesPerVolt,
-          scaleErrorCentsPerOctave: r.result.fit.scaleErrorCentsPerOctave,
-          scaleErrorStdErrCents: r.result.fit.scaleErrorStdErrCents,
-          hzAt0V: r.result.fit.hzAt0V,
-          maxResidualCents: r.result.fit.maxResidualCents,
-        },
-        advice: r.result.advice.map((a) => ({ trimmer: a.trimmer, status: a.status, text: a.text })),
+        // Judged against the unit's tolerance: not part of the result, which knows no tolerance.
         verdict: { kind: v.kind, worstCents: v.worstCents },
-        // The uncertainty budgets (dsp/model/budget.ts): scale, 0 V pitch and each step, with named contributions.
-        budget: budgetsOf(r.result.source).map((b) => ({
-          quantity: b.quantity,
-          unit: b.unit === '¢/oct' ? 'cents per octave' : 'cents',
-          step: b.step?.number ?? null,
-          combinedStandardUncertainty: b.combined,
-          coverageFactor: b.coverageFactor,
-          expandedUncertainty: b.expanded,
-          contributions: b.terms.map((t) => ({
-            source: t.source,
-            name: t.label,
-            type: t.type,
-            standardUncertainty: t.standard,
-          })),
-        })),
       },
-      // The run's one result, in the one JSON shape (dsp/calibration/result.ts, as `spanmeter analyze --json`).
       result: r.result.source ? (JSON.parse(resultToJsonText(r.result.source)) as unknown) : null,
     },
     null,
