@@ -5,7 +5,6 @@
  * the simulator's own truth (dsp/sim/simulate.ts trueHz / StepTruth), in cents after A. J. Ellis (1885).
  */
 import { describe, expect, it } from 'vitest';
-import wavefile from 'wavefile';
 import { createRun, runReducer, validateRunState, type RunState } from '../dsp/calibration/index.ts';
 import { findDemoUnit, planSchedule, renderOscillator, trueHz } from '../dsp/sim/index.ts';
 import { EngineCore } from '../renderer/src/engine/core.ts';
@@ -17,6 +16,7 @@ import { answerPendingCapture, feedReading } from '../renderer/src/engine/run-ho
 import { formatHz, hzDecimalsForHundredthCent } from '../renderer/src/lib/format.ts';
 import { parseStartupParams } from '../renderer/src/lib/params.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
+import { wavBytes } from './helpers/wav.ts';
 
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
 
@@ -116,7 +116,7 @@ describe('EngineCore with the simulated oscillator', () => {
   it('analyses a WAV with analyzeRecording in the engine and keeps the live run, paused', () => {
     const unit = findDemoUnit('ol3-0423')!;
     const rec = renderOscillator({ ...unit.options, snrDb: 70 }, planSchedule([0, 2, 4], { holdSeconds: 3 }));
-    const bytes = new Uint8Array(wav16(rec.samples, rec.sampleRateHz)).buffer;
+    const bytes = new Uint8Array(wavBytes([rec.samples], rec.sampleRateHz, '16')).buffer;
     const { core, messages, lastRun } = collect();
     core.handle({
       type: 'source-sim',
@@ -160,23 +160,6 @@ describe('EngineCore with the simulated oscillator', () => {
   });
 });
 
-function wav16(samples: Float32Array, sampleRateHz: number): Uint8Array {
-  const w = new wavefile.WaveFile();
-  w.fromScratch(
-    1,
-    sampleRateHz,
-    '16',
-    Int16Array.from(samples, (x) => Math.round(x * 32767)),
-  );
-  return w.toBuffer();
-}
-
-function wav32f(samples: Float32Array, sampleRateHz: number): Uint8Array {
-  const w = new wavefile.WaveFile();
-  w.fromScratch(1, sampleRateHz, '32f', samples);
-  return w.toBuffer();
-}
-
 describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   // The reference is dsp/recording/recording.ts analyzeRecording itself, the analysis `spanmeter analyze` runs:
   // the app must give the same Hz, bit for bit, for the same file and options.
@@ -190,7 +173,10 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
       planSchedule(volts, { holdSeconds: 2.5 }),
     );
     // 32-bit float WAV holds the samples exactly, so both analyses see the same numbers.
-    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), { points: volts, channel: 1 });
+    const out = analyzeWavBytes(wavBytes([rec.samples], rec.sampleRateHz, '32f'), {
+      points: volts,
+      channel: 1,
+    });
     const ref = analyzeRecording(rec.samples, rec.sampleRateHz, { points: volts });
     expect(out.kind).toBe('ok');
     expect(ref.kind).toBe('ok');
@@ -207,7 +193,7 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   it('passes settle and a4 through, as the command line does', () => {
     const u = findDemoUnit('ol3-0412')!;
     const rec = renderOscillator({ ...u.options, snrDb: 60 }, planSchedule([0, 1], { holdSeconds: 2.5 }));
-    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), {
+    const out = analyzeWavBytes(wavBytes([rec.samples], rec.sampleRateHz, '32f'), {
       points: [0, 1],
       channel: 1,
       settleSeconds: 0.8,
@@ -219,7 +205,10 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   it('gives the typed plateau-count mismatch, naming how many plateaus were found and when', () => {
     const u = findDemoUnit('ol3-0412')!;
     const rec = renderOscillator({ ...u.options, snrDb: 60 }, planSchedule([0, 1, 2], { holdSeconds: 2.5 }));
-    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), { points: [0, 1], channel: 1 });
+    const out = analyzeWavBytes(wavBytes([rec.samples], rec.sampleRateHz, '32f'), {
+      points: [0, 1],
+      channel: 1,
+    });
     expect(out.kind).toBe('error');
     if (out.kind !== 'error') return;
     expect(out.code).toBe('plateau-count-mismatch');
@@ -228,7 +217,7 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   });
 
   it('refuses a channel the file does not have, and bad options, without throwing', () => {
-    const bytes = wav32f(new Float32Array(48_000).fill(0.1), 48_000);
+    const bytes = wavBytes([new Float32Array(48_000).fill(0.1)], 48_000, '32f');
     const ch = analyzeWavBytes(bytes, { points: [0], channel: 2 });
     expect(ch.kind === 'error' && ch.message).toMatch(/channel/);
     const bad = analyzeWavBytes(bytes, { points: [0], channel: 1, a4Hz: 1000 });

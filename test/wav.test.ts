@@ -34,7 +34,11 @@ function bitsOf(depth: Depth): number {
   return parseInt(depth, 10);
 }
 
-/** Write a file with wavefile; returns the file and the normalised samples it should decode to. */
+/**
+ * Write a file with wavefile; returns the file and the normalised samples it should decode to. Kept apart from
+ * the shared writer (test/helpers/wav.ts) on purpose: it also writes RIFX and 64-bit float files and quantises
+ * against 2^(bits−1), so the decoder's scaling is checked against the library's own reading.
+ */
 function writeWithWavefile(
   depth: Depth,
   channels: number,
