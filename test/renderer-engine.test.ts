@@ -7,9 +7,7 @@
 import { describe, expect, it } from 'vitest';
 import { createRun, runReducer, validateRunState, type RunState } from '../dsp/calibration/index.ts';
 import { findDemoUnit, planSchedule, renderOscillator, trueHz } from '../dsp/sim/index.ts';
-import { EngineCore } from '../renderer/src/engine/core.ts';
 import { foldEngineMessage, HISTORY_SECONDS, INITIAL_VIEW } from '../renderer/src/engine/client.ts';
-import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
 import { analyzeRecording } from '../dsp/recording/index.ts';
 import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
 import { answerPendingCapture, feedReading } from '../renderer/src/engine/run-host.ts';
@@ -17,29 +15,15 @@ import { formatHz, hzDecimalsForHundredthCent } from '../renderer/src/lib/format
 import { parseStartupParams } from '../renderer/src/lib/params.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
 import { wavBytes } from './helpers/wav.ts';
+import { engineHarness } from './helpers/engine.ts';
 
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
-
-function collect() {
-  const messages: FromEngine[] = [];
-  let t = 0;
-  const core = new EngineCore({ post: (m) => void messages.push(m), nowMs: () => (t += 0.01) });
-  const lastRun = (): RunSnapshot | null => {
-    for (let i = messages.length - 1; i >= 0; i--) {
-      const m = messages[i];
-      if (m.type === 'run') return m.run;
-      if (m.type === 'tick' && m.run !== undefined) return m.run;
-    }
-    return null;
-  };
-  return { core, messages, lastRun };
-}
 
 describe('EngineCore with the simulated oscillator', () => {
   it('walks a plan hands-free, moving the simulator to each voltage, within 0.1 cent of the true pitch', () => {
     const settings = simSettingsForUnit('ol3-0417');
     const options = simOptions(settings);
-    const { core, lastRun } = collect();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     for (let i = 0; i < 400 && lastRun()?.state.phase !== 'finished'; i++) core.tickSim(0.05);
@@ -62,7 +46,7 @@ describe('EngineCore with the simulated oscillator', () => {
 
   it('a run started before the input opens waits for it, then runs; a later restart pauses with a reason', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
-    const { core, lastRun } = collect();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     expect(lastRun()?.state.phase).toBe('apply-voltage');
     expect(lastRun()?.waitingForInput).toBe(true);
@@ -81,7 +65,7 @@ describe('EngineCore with the simulated oscillator', () => {
 
   it('pauses a live run when the source goes away and keeps its captures', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
-    const { core, lastRun } = collect();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     for (let i = 0; i < 200 && (lastRun()?.state.steps[0].capture ?? null) === null; i++) core.tickSim(0.05);
@@ -94,7 +78,7 @@ describe('EngineCore with the simulated oscillator', () => {
 
   it('moves a run onto a new sample rate: captures kept, paused, the change reported, then resumes', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
-    const { core, messages, lastRun } = collect();
+    const { core, messages, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     for (let i = 0; i < 200 && (lastRun()?.state.steps[0].capture ?? null) === null; i++) core.tickSim(0.05);
@@ -117,7 +101,7 @@ describe('EngineCore with the simulated oscillator', () => {
     const unit = findDemoUnit('ol3-0423')!;
     const rec = renderOscillator({ ...unit.options, snrDb: 70 }, planSchedule([0, 2, 4], { holdSeconds: 3 }));
     const bytes = new Uint8Array(wavBytes([rec.samples], rec.sampleRateHz, '16')).buffer;
-    const { core, messages, lastRun } = collect();
+    const { core, messages, lastRun } = engineHarness();
     core.handle({
       type: 'source-sim',
       sampleRateHz: 48_000,
@@ -145,7 +129,7 @@ describe('EngineCore with the simulated oscillator', () => {
   });
 
   it('reports a WAV it cannot read, with the decoder’s message', () => {
-    const { core, messages } = collect();
+    const { core, messages } = engineHarness();
     core.handle({
       type: 'wav-analyze',
       bytes: new TextEncoder().encode('ID3\u0004').buffer as ArrayBuffer,
