@@ -13,6 +13,7 @@ import fc from 'fast-check';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
 import { decodeWav, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, type WavResult } from '../dsp/io/index.ts';
+import { concatBytes } from './helpers/bytes.ts';
 
 /** Allowed growth of heap + array buffers across one call, beyond 16 bytes per byte of file. */
 const MEMORY_SLACK_BYTES = 32 * 1024 * 1024;
@@ -47,15 +48,7 @@ interface RiffSpec {
 
 const ascii = (s: string): Uint8Array => Uint8Array.from(s, (c) => c.charCodeAt(0));
 
-function concat(parts: readonly Uint8Array[]): Uint8Array {
-  const out = new Uint8Array(parts.reduce((n, p) => n + p.length, 0));
-  let at = 0;
-  for (const p of parts) {
-    out.set(p, at);
-    at += p.length;
-  }
-  return out;
-}
+const concat = (parts: readonly Uint8Array[]): Uint8Array => concatBytes(...parts);
 
 function u32(v: number, be: boolean): Uint8Array {
   const b = new Uint8Array(4);

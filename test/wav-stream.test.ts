@@ -14,25 +14,12 @@ import {
   type ByteSource,
   type WavLayout,
 } from '../dsp/io/index.ts';
+import { concatBytes, latin1, u32le, u64le } from './helpers/bytes.ts';
 
-const enc = (s: string): Uint8Array => Uint8Array.from(s, (ch) => ch.charCodeAt(0));
-function u32(v: number): Uint8Array {
-  const b = new Uint8Array(4);
-  new DataView(b.buffer).setUint32(0, v, true);
-  return b;
-}
-function u64(v: number): Uint8Array {
-  return concat(u32(v % 2 ** 32), u32(Math.floor(v / 2 ** 32)));
-}
-function concat(...parts: Uint8Array[]): Uint8Array {
-  const out = new Uint8Array(parts.reduce((n, p) => n + p.length, 0));
-  let at = 0;
-  for (const p of parts) {
-    out.set(p, at);
-    at += p.length;
-  }
-  return out;
-}
+const enc = latin1;
+const u32 = u32le;
+const u64 = u64le;
+const concat = concatBytes;
 function fmt16(channels: number, rate: number, bits: number, tag = 1): Uint8Array {
   const b = new Uint8Array(16);
   const v = new DataView(b.buffer);
