@@ -1,24 +1,18 @@
 // `spanmeter analyze` calibration options: --clock-ppm, --true-hz, --fit-from/--fit-to, --divider and
 // --summer, run as a user would run them.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { rmSync } from 'node:fs';
 import { join } from 'node:path';
-import wavefile from 'wavefile';
 import { inputNetworkGain, type InputNetwork, type ResistorChange } from '../dsp/advice/index.ts';
 import { planSchedule, renderOscillator } from '../dsp/sim/index.ts';
-import { cli } from './cli-run.ts';
+import { cliInProcess } from './cli-run.ts';
+import { tempDir, writeWavFile } from './helpers/wav.ts';
 
 let dir = '';
 
-/** 16-bit PCM mono WAV (Float32 within ±1). */
+/** A 16-bit PCM mono WAV in the test's folder (the shared writer, test/helpers/wav.ts). */
 function writeWav(name: string, samples: Float32Array, rate: number): string {
-  const coded = Array.from(samples, (x) => Math.round(Math.max(-1, Math.min(1, x)) * 32767));
-  const wav = new wavefile.WaveFile();
-  wav.fromScratch(1, rate, '16', coded);
-  const path = join(dir, name);
-  writeFileSync(path, wav.toBuffer());
-  return path;
+  return writeWavFile(join(dir, name), [samples], rate);
 }
 
 /**
@@ -54,15 +48,15 @@ interface Out {
   advice: { trimmer: string; kind: string; direction: string; resistors: ResistorChange[] | null }[];
 }
 
-function json(...args: string[]): Out {
-  const r = cli('analyze', pass, '--points', POINTS.join(','), '--json', ...args);
+async function json(...args: string[]): Promise<Out> {
+  const r = await cliInProcess('analyze', pass, '--points', POINTS.join(','), '--json', ...args);
   expect(r.stderr).toBe('');
   expect(r.code).toBe(0);
   return JSON.parse(r.stdout) as Out;
 }
 
-beforeAll(() => {
-  dir = mkdtempSync(join(tmpdir(), 'spanmeter-options-'));
+beforeAll(async () => {
+  dir = tempDir('options');
   const rec = renderOscillator(
     { hz0: 55, shape: 'saw', snrDb: 50, humDb: -40, scaleOctPerVolt: SCALE, seed: 31 },
     planSchedule(POINTS, { holdSeconds: 2, glideSeconds: 0.15 }),
@@ -74,7 +68,7 @@ beforeAll(() => {
     planSchedule([0], { holdSeconds: 3 }),
   );
   ref = writeWav('ref.wav', tone.samples, tone.sampleRateHz);
-  cli('--help'); // build the bundle once, up front
+  await cliInProcess('analyze', '--help'); // load the command's modules once, up front
 });
 
 afterAll(() => {
@@ -82,8 +76,8 @@ afterAll(() => {
 });
 
 describe('spanmeter analyze: calibration options', () => {
-  it('--divider 100k,1.8k: a wide scale asks for less gain, with E24/E96 values of IEC 60063', () => {
-    const out = json('--divider', '100k,1.8k');
+  it('--divider 100k,1.8k: a wide scale asks for less gain, with E24/E96 values of IEC 60063', async () => {
+    const out = await json('--divider', '100k,1.8k');
     const scale = out.advice[0];
     expect(scale).toMatchObject({ trimmer: 'scale', kind: 'trim', direction: 'narrow' });
     const network: InputNetwork = { topology: 'divider', seriesOhms: 100e3, shuntOhms: 1.8e3 };
@@ -103,24 +97,24 @@ describe('spanmeter analyze: calibration options', () => {
     expect(rs[0].toOhms).toBeGreaterThan(100e3);
     expect(rs[1].toOhms).toBeLessThan(1.8e3);
     // Without a network the field is there and null.
-    expect(json().advice[0].resistors).toBeNull();
+    expect((await json()).advice[0].resistors).toBeNull();
 
-    const human = cli('analyze', pass, '--points', POINTS.join(','), '--divider', '100k,1.8k');
+    const human = await cliInProcess('analyze', pass, '--points', POINTS.join(','), '--divider', '100k,1.8k');
     expect(human.code).toBe(0);
     expect(human.stdout).toMatch(/^ {3}resistor: series Rs 100 kΩ → [\d.]+ kΩ exact; E24 [\d.]+ kΩ leaves /m);
     expect(human.stdout).toMatch(/^ {3}resistor: shunt Rsh 1\.8 kΩ → [\d.]+ kΩ exact; .* E96 /m);
   });
 
-  it('--summer 100k,100k: the input resistor grows, the feedback shrinks', () => {
-    const rs = json('--summer', '100k,100k').advice[0].resistors!;
+  it('--summer 100k,100k: the input resistor grows, the feedback shrinks', async () => {
+    const rs = (await json('--summer', '100k,100k')).advice[0].resistors!;
     expect(rs.map((r) => r.part)).toEqual(['input', 'feedback']);
     expect(rs[0].toOhms).toBeGreaterThan(100e3);
     expect(rs[1].toOhms).toBeLessThan(100e3);
   });
 
-  it('--clock-ppm 100 moves every absolute Hz by 100 ppm and leaves the interval errors alone', () => {
-    const plain = json();
-    const fixed = json('--clock-ppm', '100');
+  it('--clock-ppm 100 moves every absolute Hz by 100 ppm and leaves the interval errors alone', async () => {
+    const plain = await json();
+    const fixed = await json('--clock-ppm', '100');
     fixed.steps.forEach((s, i) => {
       expect(s.hz / plain.steps[i].hz - 1).toBeCloseTo(100e-6, 12);
       // docs/facts.md, "The sound card": a clock error scales every frequency alike, so intervals are immune.
@@ -129,27 +123,27 @@ describe('spanmeter analyze: calibration options', () => {
     expect(fixed.fit.scaleErrorCentsPerOctave).toBeCloseTo(plain.fit.scaleErrorCentsPerOctave, 9);
     // 100 ppm is 0.173 cent (docs/facts.md).
     expect(cents(fixed.steps[0].hz, plain.steps[0].hz)).toBeCloseTo(0.173, 3);
-    const human = cli('analyze', pass, '--points', POINTS.join(','), '--clock-ppm', '100');
+    const human = await cliInProcess('analyze', pass, '--points', POINTS.join(','), '--clock-ppm', '100');
     expect(human.stdout).toMatch(/^clock\s+corrected by \+100\.000 ppm \(\+0\.1731 cents\)/m);
   });
 
-  it('--fit-from 1 --fit-to 5 fits only those steps', () => {
-    const out = json('--fit-from', '1', '--fit-to', '5');
+  it('--fit-from 1 --fit-to 5 fits only those steps', async () => {
+    const out = await json('--fit-from', '1', '--fit-to', '5');
     expect(out.fit).toMatchObject({ fromVolts: 1, toVolts: 5 });
     expect(out.fit.residualsCents).toHaveLength(5);
     expect(out.steps).toHaveLength(POINTS.length);
     expect(out.fit.scaleErrorCentsPerOctave).toBeCloseTo(4, 1);
-    expect(json().fit).toMatchObject({ fromVolts: 0, toVolts: 6 });
+    expect((await json()).fit).toMatchObject({ fromVolts: 0, toVolts: 6 });
   });
 
-  it('--true-hz recovers a known clock error within 0.5 ppm', () => {
-    const r = cli('analyze', ref, '--true-hz', '1000', '--json');
+  it('--true-hz recovers a known clock error within 0.5 ppm', async () => {
+    const r = await cliInProcess('analyze', ref, '--true-hz', '1000', '--json');
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout) as { clockPpm: number; measuredHz: number; trueHz: number };
     expect(Math.abs(out.clockPpm - CLOCK_PPM), `${out.clockPpm} ppm`).toBeLessThan(0.5);
     expect(out.trueHz).toBe(1000);
-    const human = cli('analyze', ref, '--true-hz', '1000');
+    const human = await cliInProcess('analyze', ref, '--true-hz', '1000');
     expect(human.code).toBe(0);
     expect(human.stdout).toMatch(/^clock\s+\+37\.\d{3} ppm ±[\d.]+ \(1σ\): the interface clock runs fast/m);
     expect(human.stdout).toMatch(/^use\s+--clock-ppm 37\.\d{3} /m);
@@ -178,8 +172,8 @@ describe('spanmeter analyze: calibration options', () => {
       /^--fit-from \(5 V\) must not be above --fit-to \(1 V\)$/,
     ],
     ['true-hz with points', ['--true-hz', '1000'], /^--true-hz reads one reference tone/],
-  ])('%s: one line on stderr, exit 2, nothing on stdout', (_name, extra, message) => {
-    const r = cli('analyze', pass, '--points', POINTS.join(','), ...extra);
+  ])('%s: one line on stderr, exit 2, nothing on stdout', async (_name, extra, message) => {
+    const r = await cliInProcess('analyze', pass, '--points', POINTS.join(','), ...extra);
     expect(r.stdout).toBe('');
     expect(r.code).toBe(2);
     const lines = r.stderr.trimEnd().split('\n');
@@ -187,8 +181,8 @@ describe('spanmeter analyze: calibration options', () => {
     expect(lines[0].replace(/^spanmeter analyze: /, '')).toMatch(message);
   });
 
-  it('run-only options without --points are misuse', () => {
-    const r = cli('analyze', ref, '--divider', '100k,1.8k');
+  it('run-only options without --points are misuse', async () => {
+    const r = await cliInProcess('analyze', ref, '--divider', '100k,1.8k');
     expect([r.code, r.stdout]).toEqual([2, '']);
     expect(r.stderr).toBe(
       'spanmeter analyze: --divider applies only to a multi-step run: give --points too\n',

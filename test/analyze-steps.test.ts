@@ -1,24 +1,13 @@
 // `spanmeter analyze FILE.wav --points …`: a recorded calibration pass, run as a user would run it.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { rmSync } from 'node:fs';
 import { join } from 'node:path';
-import wavefile from 'wavefile';
 import { CalibrationResultSchema } from '../dsp/calibration/index.ts';
 import { planSchedule, renderOscillator, type RenderedOscillator } from '../dsp/sim/index.ts';
-import { cli } from './cli-run.ts';
+import { cliInProcess } from './cli-run.ts';
+import { tempDir, writeWavFile } from './helpers/wav.ts';
 
 let dir = '';
-
-/** 16-bit PCM WAV of the given channels (Float32 within ±1). */
-function writeWav(name: string, channels: Float32Array[], rate: number): string {
-  const coded = channels.map((c) => Array.from(c, (x) => Math.round(Math.max(-1, Math.min(1, x)) * 32767)));
-  const wav = new wavefile.WaveFile();
-  wav.fromScratch(channels.length, rate, '16', channels.length === 1 ? coded[0] : coded);
-  const path = join(dir, name);
-  writeFileSync(path, wav.toBuffer());
-  return path;
-}
 
 /** Cents between two frequencies: 1200·log2(f1/f2) (A. J. Ellis, 1885). */
 const cents = (f1: number, f2: number) => 1200 * Math.log2(f1 / f2);
@@ -27,16 +16,20 @@ const POINTS = [0, 1, 2, 3, 4];
 let rec: RenderedOscillator;
 let stereo = '';
 
-beforeAll(() => {
-  dir = mkdtempSync(join(tmpdir(), 'spanmeter-steps-'));
+beforeAll(async () => {
+  dir = tempDir('steps');
   // A saw stepped through 0–4 V with glides and small overshoots, 45 dB SNR and 50 Hz hum; its scale is
   // 1.002 octaves per volt (+2.4 cents per octave). Channel 1 of the file is silent, channel 2 holds it.
   rec = renderOscillator(
     { hz0: 55, shape: 'saw', snrDb: 45, humDb: -35, scaleOctPerVolt: 1.002, seed: 21 },
     planSchedule(POINTS, { holdSeconds: 2, glideSeconds: 0.15, overshootVolts: 0.05 }),
   );
-  stereo = writeWav('pass.wav', [new Float32Array(rec.samples.length), rec.samples], rec.sampleRateHz);
-  cli('--help'); // build the bundle once, up front
+  stereo = writeWavFile(
+    join(dir, 'pass.wav'),
+    [new Float32Array(rec.samples.length), rec.samples],
+    rec.sampleRateHz,
+  );
+  await cliInProcess('analyze', '--help'); // load the command's modules once, up front
 });
 
 afterAll(() => {
@@ -55,8 +48,8 @@ interface StepJson {
 }
 
 describe('spanmeter analyze --points', () => {
-  it('--json: exactly one object {steps, fit, advice}; every step within 0.05 cent of the truth', () => {
-    const r = cli('analyze', stereo, '--channel', '2', '--points', POINTS.join(','), '--json');
+  it('--json: exactly one object {steps, fit, advice}; every step within 0.05 cent of the truth', async () => {
+    const r = await cliInProcess('analyze', stereo, '--channel', '2', '--points', POINTS.join(','), '--json');
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     expect(r.stdout.endsWith('\n')).toBe(true);
@@ -89,8 +82,8 @@ describe('spanmeter analyze --points', () => {
     expect(out.advice.every((a) => a.text.length > 0)).toBe(true);
   });
 
-  it('the report: aligned table, fit summary, advice and the caution', () => {
-    const r = cli('analyze', stereo, '--channel', '2', '--points', POINTS.join(','));
+  it('the report: aligned table, fit summary, advice and the caution', async () => {
+    const r = await cliInProcess('analyze', stereo, '--channel', '2', '--points', POINTS.join(','));
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const lines = r.stdout.split('\n');
@@ -117,8 +110,8 @@ describe('spanmeter analyze --points', () => {
 
   it.each([[[]], [['--json']]])(
     'plateau count mismatch %j: one line on stderr, when and how many',
-    (extra) => {
-      const r = cli('analyze', stereo, '--channel', '2', '--points', '0,1,2,3', ...extra);
+    async (extra) => {
+      const r = await cliInProcess('analyze', stereo, '--channel', '2', '--points', '0,1,2,3', ...extra);
       expect(r.stdout).toBe('');
       expect(r.code).toBe(1);
       const err = r.stderr.trimEnd().split('\n');
@@ -135,8 +128,8 @@ describe('spanmeter analyze --points', () => {
     },
   );
 
-  it('a silent channel: a clear error, nothing on stdout', () => {
-    const r = cli('analyze', stereo, '--channel', '1', '--points', POINTS.join(','), '--json');
+  it('a silent channel: a clear error, nothing on stdout', async () => {
+    const r = await cliInProcess('analyze', stereo, '--channel', '1', '--points', POINTS.join(','), '--json');
     expect(r.stdout).toBe('');
     expect(r.code).toBe(1);
     expect(r.stderr).toBe(
@@ -144,8 +137,17 @@ describe('spanmeter analyze --points', () => {
     );
   });
 
-  it('--settle longer than the holds: no settled steps', () => {
-    const r = cli('analyze', stereo, '--channel', '2', '--points', POINTS.join(','), '--settle', '5');
+  it('--settle longer than the holds: no settled steps', async () => {
+    const r = await cliInProcess(
+      'analyze',
+      stereo,
+      '--channel',
+      '2',
+      '--points',
+      POINTS.join(','),
+      '--settle',
+      '5',
+    );
     expect(r.stdout).toBe('');
     expect(r.code).toBe(1);
     expect(r.stderr).toMatch(

@@ -249,6 +249,8 @@ describe('simulate: targets it must not write', () => {
   });
 });
 
+// Spawned on purpose: opening a FIFO with no writer blocks the opening thread, so the question is whether the real
+// process ends at all (its exit, not just run()'s answer); an in-process run cannot show that.
 describe('the real program (spawned)', () => {
   it('a FIFO with no writer ends at once with one line', (ctx) => {
     if (!hasFifo) ctx.skip();

@@ -1,16 +1,15 @@
 import { calibrate } from '../dsp/calibration/index.ts';
 import { CalibrationResultSchema, resultToJsonText } from '../dsp/calibration/index.ts';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { chmodSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { chmodSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Midi } from '@tonaljs/tonal';
-import wavefile from 'wavefile';
 import { run } from '../cli/main.ts';
 import { formatCents, formatHz, formatUncertainty } from '../dsp/format/index.ts';
 import { parseAnalyzeArgs } from '../cli/analyze.ts';
 import { gaussianNoise, tone } from './signals.ts';
-import { cli, type Ran } from './cli-run.ts';
+import { cli, cliInProcess, type Ran } from './cli-run.ts';
+import { tempDir, writeWavFile, type WavDepth } from './helpers/wav.ts';
 
 // In-process runs of `book` hit this stand-in, which fails the way a bug would (`book` itself is tested in
 // records-book.test.ts); spawned runs (the real command line, through the bundle) are not affected by vi.mock.
@@ -31,14 +30,9 @@ function expectFailure(r: Ran, code: number, pattern: RegExp): void {
   expect(r.code).toBe(code);
 }
 
-function writeWav(name: string, channels: Float64Array[], rate: number, depth: '16' | '24' | '32f'): string {
-  const full = depth === '16' ? 32767 : depth === '24' ? 8388607 : 1;
-  const coded = channels.map((c) => Array.from(c, (x) => (depth === '32f' ? x : Math.round(x * full))));
-  const wav = new wavefile.WaveFile();
-  wav.fromScratch(channels.length, rate, depth, channels.length === 1 ? coded[0] : coded);
-  const path = join(dir, name);
-  writeFileSync(path, wav.toBuffer());
-  return path;
+/** A WAV file of the given channels in the test's folder (the shared writer, test/helpers/wav.ts). */
+function writeWav(name: string, channels: Float64Array[], rate: number, depth: WavDepth): string {
+  return writeWavFile(join(dir, name), channels, rate, depth);
 }
 
 interface JsonStep {
@@ -63,8 +57,8 @@ function parseJsonOutput(r: Ran): JsonStep[] {
 
 let files: Record<string, string> = {};
 
-beforeAll(() => {
-  dir = mkdtempSync(join(tmpdir(), 'spanmeter-cli-'));
+beforeAll(async () => {
+  dir = tempDir('cli');
   // Tones at published 12-TET frequencies (A4 = 440 Hz, ISO 16:1975), from tonal's Midi.midiToFreq.
   const c4 = Midi.midiToFreq(60);
   const a2 = Midi.midiToFreq(45);
@@ -95,8 +89,8 @@ beforeAll(() => {
   writeFileSync(files.mp3, Uint8Array.from([0x49, 0x44, 0x33, 4, 0, 0, 0, 0, 0, 0]));
   files.folder = join(dir, 'folder.wav');
   mkdirSync(files.folder);
-  // Build the bundle once up front, so each test below times only its own run.
-  cli('--help');
+  // Load the command modules once up front.
+  await cliInProcess('analyze', '--help');
 });
 
 afterAll(() => {
@@ -104,8 +98,8 @@ afterAll(() => {
 });
 
 describe('spanmeter analyze --json', () => {
-  it('prints exactly one JSON object and nothing else; C4 reads as C4 at 0.00 cents', () => {
-    const [step, ...more] = parseJsonOutput(cli('analyze', files.c4, '--json'));
+  it('prints exactly one JSON object and nothing else; C4 reads as C4 at 0.00 cents', async () => {
+    const [step, ...more] = parseJsonOutput(await cliInProcess('analyze', files.c4, '--json'));
     expect(more).toHaveLength(0);
     expect(step.volts).toBeNull();
     expect(step.note).toBe(Midi.midiToNoteName(60, { sharps: true })); // 'C4' (tonal)
@@ -116,31 +110,31 @@ describe('spanmeter analyze --json', () => {
     expect(step.uncertaintyCents).toBeLessThan(0.01);
   });
 
-  it('a 24-bit saw at A2 (110 Hz) reads as A2', () => {
-    const [step] = parseJsonOutput(cli('analyze', files.a2saw24, '--json'));
+  it('a 24-bit saw at A2 (110 Hz) reads as A2', async () => {
+    const [step] = parseJsonOutput(await cliInProcess('analyze', files.a2saw24, '--json'));
     expect(step.note).toBe(Midi.midiToNoteName(45, { sharps: true })); // 'A2'
     expect(Math.abs(step.centsFromNote)).toBeLessThan(0.01);
   });
 
-  it('--channel 2 picks the right channel of a stereo file: a square 12.50 cents sharp of A4', () => {
-    const [step] = parseJsonOutput(cli('analyze', files.stereo, '--channel', '2', '--json'));
+  it('--channel 2 picks the right channel of a stereo file: a square 12.50 cents sharp of A4', async () => {
+    const [step] = parseJsonOutput(await cliInProcess('analyze', files.stereo, '--channel', '2', '--json'));
     expect(step.note).toBe('A4');
     expect(step.centsFromNote).toBeCloseTo(12.5, 2);
   });
 
-  it('--a4 432 names notes against 432 Hz; at 440 the same tone is −31.77 cents from A4', () => {
-    const [at432] = parseJsonOutput(cli('analyze', files.tuned432, '--a4', '432', '--json'));
+  it('--a4 432 names notes against 432 Hz; at 440 the same tone is −31.77 cents from A4', async () => {
+    const [at432] = parseJsonOutput(await cliInProcess('analyze', files.tuned432, '--a4', '432', '--json'));
     expect(at432.note).toBe('A4');
     expect(Math.abs(at432.centsFromNote)).toBeLessThan(0.01);
     expect(at432.a4Hz).toBe(432);
-    const [at440] = parseJsonOutput(cli('analyze', files.tuned432, '--json'));
+    const [at440] = parseJsonOutput(await cliInProcess('analyze', files.tuned432, '--json'));
     expect(at440.centsFromNote).toBeCloseTo(1200 * Math.log2(432 / 440), 2); // Ellis, 1885
   });
 });
 
 describe('spanmeter analyze (report)', () => {
-  it('prints frequency, note, cents, uncertainty (1σ), level and window', () => {
-    const r = cli('analyze', files.c4);
+  it('prints frequency, note, cents, uncertainty (1σ), level and window', async () => {
+    const r = await cliInProcess('analyze', files.c4);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const out = r.stdout;
@@ -154,8 +148,8 @@ describe('spanmeter analyze (report)', () => {
     expect(out).toMatch(/^window\s+1\.000 s, \d+ harmonics?, clarity [01]\.\d{3}$/m);
   });
 
-  it('--help prints the usage on stdout', () => {
-    const r = cli('analyze', '--help');
+  it('--help prints the usage on stdout', async () => {
+    const r = await cliInProcess('analyze', '--help');
     expect(r.code).toBe(0);
     expect(r.stderr).toBe('');
     expect(r.stdout).toMatch(/^usage: spanmeter analyze FILE\.wav/);
@@ -232,41 +226,44 @@ describe('spanmeter analyze: errors are one line on stderr, nothing on stdout, n
     ],
     ['a bad --points list', ['<c4>', '--points', '0,x'], 2, /--points: "x" is neither a voltage/],
     ['--settle alone', ['<c4>', '--settle', '2'], 2, /--settle applies only to a multi-step run/],
-  ])('%s', (_name, args, code, pattern) => {
+  ])('%s', async (_name, args, code, pattern) => {
     const resolved = args.map((a) =>
       a.startsWith('<') ? files[a.slice(1, -1)] : a === 'nope.wav' ? join(dir, a) : a,
     );
-    expectFailure(cli('analyze', ...resolved), code, pattern);
+    expectFailure(await cliInProcess('analyze', ...resolved), code, pattern);
     // The same with --json: still nothing on stdout.
-    if (code === 1) expectFailure(cli('analyze', ...resolved, '--json'), code, pattern);
+    if (code === 1) expectFailure(await cliInProcess('analyze', ...resolved, '--json'), code, pattern);
   });
 
-  it.skipIf(process.getuid?.() === 0)('an unreadable file (skipped as root, who can read anything)', () => {
-    const p = join(dir, 'locked.wav');
-    writeFileSync(p, 'RIFF');
-    chmodSync(p, 0o000);
-    expectFailure(cli('analyze', p), 1, /cannot read '.*locked\.wav': permission denied$/);
-  });
+  it.skipIf(process.getuid?.() === 0)(
+    'an unreadable file (skipped as root, who can read anything)',
+    async () => {
+      const p = join(dir, 'locked.wav');
+      writeFileSync(p, 'RIFF');
+      chmodSync(p, 0o000);
+      expectFailure(await cliInProcess('analyze', p), 1, /cannot read '.*locked\.wav': permission denied$/);
+    },
+  );
 });
 
 describe('spanmeter (dispatcher)', () => {
-  it('--help lists the commands on stdout', () => {
-    const r = cli('--help');
+  it('--help lists the commands on stdout', async () => {
+    const r = await cliInProcess('--help');
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/^usage: spanmeter <command> \[args\]/);
     for (const c of ['analyze', 'simulate', 'book']) expect(r.stdout).toMatch(new RegExp(`^  ${c} `, 'm'));
   });
 
-  it('no command prints the usage on stderr with exit code 2', () => {
-    const r = cli();
+  it('no command prints the usage on stderr with exit code 2', async () => {
+    const r = await cliInProcess();
     expect(r.code).toBe(2);
     expect(r.stdout).toBe('');
     expect(r.stderr).toMatch(/^usage: spanmeter/);
   });
 
-  it('an unknown command', () => {
+  it('an unknown command', async () => {
     expectFailure(
-      cli('frobnicate'),
+      await cliInProcess('frobnicate'),
       2,
       /^spanmeter: unknown command 'frobnicate'; commands are analyze, simulate, book \(see spanmeter --help\)$/,
     );
@@ -292,6 +289,23 @@ describe('spanmeter (dispatcher)', () => {
       else process.env.SPANMETER_DEBUG = before;
     }
   });
+});
+
+// The one spawned test of the command line: the real bundle (scripts/run-cli.mjs builds it when stale), started
+// as its own process, so the bundling, the entry point's "am I the program" check and the exit code set through
+// process.exitCode are covered. Everything else above runs in process through run(), which is the same code.
+describe('the real program (spawned smoke test)', () => {
+  it('the bundle analyses a file as --json and refuses a missing one with one line and exit 1', () => {
+    const [step] = parseJsonOutput(cli('analyze', files.c4, '--json'));
+    expect(step.note).toBe(Midi.midiToNoteName(60, { sharps: true })); // 'C4' (tonal)
+    expect(Math.abs(step.centsFromNote)).toBeLessThan(0.01);
+    expectFailure(
+      cli('analyze', join(dir, 'nope.wav')),
+      1,
+      /^spanmeter analyze: no such file: '.*nope\.wav'$/,
+    );
+    expectFailure(cli('frobnicate'), 2, /^spanmeter: unknown command 'frobnicate'/);
+  }, 120_000);
 });
 
 describe('argument parsing (in process)', () => {

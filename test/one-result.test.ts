@@ -10,7 +10,6 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it, vi } from 'vitest';
-import wavefile from 'wavefile';
 import 'fake-indexeddb/auto';
 import { IDBFactory } from 'fake-indexeddb';
 import type { InputNetwork } from '../dsp/advice/index.ts';
@@ -26,6 +25,7 @@ import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
 import { browserStore } from '../renderer/src/storage/store.ts';
 import { draftFromInfo } from '../renderer/src/ui/RecordsPanel.tsx';
 import { reportToJson, resultFromAnalysis, type RunReport } from '../renderer/src/ui/results/index.ts';
+import { wavBytes } from './helpers/wav.ts';
 
 const PLAN = [0, 1, 2, 3, 4];
 const CLOCK_PPM = 35;
@@ -41,9 +41,7 @@ const rec = renderOscillator(
   planSchedule(PLAN, { holdSeconds: 2.5 }),
 );
 // 32-bit float WAV holds the samples exactly, so every path reads the same numbers.
-const wav = new wavefile.WaveFile();
-wav.fromScratch(1, rec.sampleRateHz, '32f', rec.samples);
-const bytes = wav.toBuffer();
+const bytes = wavBytes([rec.samples], rec.sampleRateHz, '32f');
 const wavPath = join(dir, 'ol3-0417.wav');
 writeFileSync(wavPath, bytes);
 

@@ -10,16 +10,13 @@ import {
   type Plateau,
 } from '../dsp/calibration/index.ts';
 import type { PitchReading } from '../dsp/pitch/index.ts';
-import { gaussianNoise } from './signals.ts';
+import { READING_LEVEL, readingStream, segmentsTruth, type Segment } from './helpers/readings.ts';
 
 // ---------------------------------------------------------------------------------------------------
 // A reading-stream simulator: segments of pitch over time, sampled at the pitch engine's ~20 readings/s.
 // Demo scenario (invented): a bench oscillator on the repair desk, about 65.2 Hz at 0 V.
 
-type Seg =
-  | { kind: 'hold'; seconds: number; hz: number; creepCents?: number; tauSeconds?: number }
-  | { kind: 'glide'; seconds: number; toHz: number }
-  | { kind: 'silence'; seconds: number };
+type Seg = Segment;
 
 interface Sim {
   readings: PitchReading[];
@@ -29,56 +26,16 @@ interface Sim {
   starts: number[];
 }
 
-const LEVEL = { rmsDbfs: -14, peakDbfs: -8, clippedFraction: 0 };
+const LEVEL = READING_LEVEL;
 
+/** The shared generator (test/helpers/readings.ts) over segments; seed 7 unless given. */
 function simulate(segs: Seg[], opts: { rate?: number; sigma?: number; seed?: number } = {}): Sim {
-  const rate = opts.rate ?? 20;
-  const sigma = opts.sigma ?? 0.02;
-  const starts: number[] = [];
-  let total = 0;
-  for (const s of segs) {
-    starts.push(total);
-    total += s.seconds;
-  }
-  const startHz: number[] = [];
-  let prevHz = 0;
-  for (const s of segs) {
-    startHz.push(prevHz);
-    if (s.kind === 'hold') prevHz = s.hz;
-    if (s.kind === 'glide') prevHz = s.toHz;
-  }
-  const truthAt = (t: number): number | null => {
-    let i = segs.length - 1;
-    while (i > 0 && t < starts[i]) i--;
-    const s = segs[i];
-    const dt = t - starts[i];
-    if (s.kind === 'silence') return null;
-    if (s.kind === 'hold')
-      return s.hz * Math.pow(2, ((s.creepCents ?? 0) * Math.exp(-dt / (s.tauSeconds ?? 1))) / 1200);
-    const from = startHz[i] || s.toHz;
-    return from * Math.pow(s.toHz / from, Math.min(1, dt / s.seconds));
-  };
-  const n = Math.floor(total * rate);
-  const noise = gaussianNoise(n, 1, opts.seed ?? 7);
-  const readings: PitchReading[] = [];
-  for (let k = 0; k < n; k++) {
-    const t = k / rate;
-    const f = truthAt(t);
-    if (f === null) {
-      readings.push({ kind: 'none', reason: 'silent', level: LEVEL, timeSeconds: t });
-    } else {
-      readings.push({
-        kind: 'ok',
-        hz: f * Math.pow(2, (sigma * noise[k]) / 1200),
-        uncertaintyCents: sigma,
-        clarity: 0.97,
-        level: LEVEL,
-        windowSeconds: 0.05,
-        harmonicsUsed: 8,
-        timeSeconds: t,
-      });
-    }
-  }
+  const { truthAt, starts, totalSeconds } = segmentsTruth(segs);
+  const readings = readingStream(truthAt, totalSeconds, {
+    rate: opts.rate,
+    sigmaCents: opts.sigma,
+    seed: opts.seed,
+  });
   return { readings, truthAt, starts };
 }
 

@@ -8,7 +8,7 @@ import { IDBFactory } from 'fake-indexeddb';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { createRecordsStore, type RecordsStore } from '../main/records-store.ts';
 import { browserStore } from '../renderer/src/storage/store.ts';
-import { cli } from './cli-run.ts';
+import { cliInProcess } from './cli-run.ts';
 import { sampleDraft, sampleRun } from './main-fixtures.ts';
 
 let dir: string;
@@ -96,18 +96,27 @@ describe('spanmeter book', () => {
     const a = await store.save(sampleDraft({ unitName: 'Ostlund Lane VCO 4' }));
     const out = path.join(dir, 'backup.json');
     const recordsDir = path.join(dir, 'records');
-    expect(cli('book', 'backup', '--dir', recordsDir, '--out', out).code).toBe(0);
-    const again = cli('book', 'backup', '--dir', recordsDir, '--out', out);
+    expect((await cliInProcess('book', 'backup', '--dir', recordsDir, '--out', out)).code).toBe(0);
+    const again = await cliInProcess('book', 'backup', '--dir', recordsDir, '--out', out);
     expect(again.code).toBe(1);
     expect(again.stderr).toMatch(/already exists; choose a new file name/);
     await store.save({ ...a, notes: 'changed after the backup' });
-    const refused = cli('book', 'restore', '--dir', recordsDir, '--in', out);
+    const refused = await cliInProcess('book', 'restore', '--dir', recordsDir, '--in', out);
     expect(refused.code).toBe(1);
     expect(refused.stderr).toMatch(
       /differ from the book's; nothing was restored\. Run again with --on-conflict copy/,
     );
     expect((await store.list()).records).toHaveLength(1);
-    const copied = cli('book', 'restore', '--dir', recordsDir, '--in', out, '--on-conflict', 'copy');
+    const copied = await cliInProcess(
+      'book',
+      'restore',
+      '--dir',
+      recordsDir,
+      '--in',
+      out,
+      '--on-conflict',
+      'copy',
+    );
     expect(copied.code).toBe(0);
     expect(copied.stdout).toContain('1 kept as copies');
     expect((await store.list()).records.map((r) => r.unitName).sort()).toEqual([

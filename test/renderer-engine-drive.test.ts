@@ -14,34 +14,18 @@ import {
   type CalibrationReading,
 } from '../dsp/drive/index.ts';
 import { trueHz } from '../dsp/sim/index.ts';
-import { EngineCore } from '../renderer/src/engine/core.ts';
-import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
 import { Drive } from '../renderer/src/drive/drive.ts';
 import { DEFAULT_DRIVE_SETTINGS } from '../renderer/src/drive/use-drive.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
+import { engineHarness } from './helpers/engine.ts';
 
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
-
-function engine() {
-  const messages: FromEngine[] = [];
-  let t = 0;
-  const core = new EngineCore({ post: (m) => void messages.push(m), nowMs: () => (t += 0.01) });
-  const lastRun = (): RunSnapshot | null => {
-    for (let i = messages.length - 1; i >= 0; i--) {
-      const m = messages[i];
-      if (m.type === 'run') return m.run;
-      if (m.type === 'tick' && m.run !== undefined) return m.run;
-    }
-    return null;
-  };
-  return { core, lastRun };
-}
 
 describe('EngineCore with the drive patched in', () => {
   const options = simOptions(simSettingsForUnit('ol3-0417'));
 
   it('leaves the simulator where the drive put it when the run moves on', () => {
-    const { core } = engine();
+    const { core } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'sim-patch', patched: true });
     core.handle({ type: 'sim-volts', volts: 0.5, glideSeconds: 0 });
@@ -55,7 +39,7 @@ describe('EngineCore with the drive patched in', () => {
   });
 
   it('runs 0–7 V hands-off through the calibrated simulated output, each step within 0.05 cent of the truth', async () => {
-    const { core, lastRun } = engine();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'sim-patch', patched: true });
     const send = (volts: number, glideSeconds: number) =>

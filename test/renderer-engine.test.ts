@@ -5,41 +5,25 @@
  * the simulator's own truth (dsp/sim/simulate.ts trueHz / StepTruth), in cents after A. J. Ellis (1885).
  */
 import { describe, expect, it } from 'vitest';
-import wavefile from 'wavefile';
 import { createRun, runReducer, validateRunState, type RunState } from '../dsp/calibration/index.ts';
 import { findDemoUnit, planSchedule, renderOscillator, trueHz } from '../dsp/sim/index.ts';
-import { EngineCore } from '../renderer/src/engine/core.ts';
 import { foldEngineMessage, HISTORY_SECONDS, INITIAL_VIEW } from '../renderer/src/engine/client.ts';
-import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
 import { analyzeRecording } from '../dsp/recording/index.ts';
 import { analyzeWavBytes } from '../renderer/src/engine/wav-analysis.ts';
 import { answerPendingCapture, feedReading } from '../renderer/src/engine/run-host.ts';
 import { formatHz, hzDecimalsForHundredthCent } from '../dsp/format/index.ts';
 import { parseStartupParams } from '../renderer/src/lib/params.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
+import { wavBytes } from './helpers/wav.ts';
+import { engineHarness } from './helpers/engine.ts';
 
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
-
-function collect() {
-  const messages: FromEngine[] = [];
-  let t = 0;
-  const core = new EngineCore({ post: (m) => void messages.push(m), nowMs: () => (t += 0.01) });
-  const lastRun = (): RunSnapshot | null => {
-    for (let i = messages.length - 1; i >= 0; i--) {
-      const m = messages[i];
-      if (m.type === 'run') return m.run;
-      if (m.type === 'tick' && m.run !== undefined) return m.run;
-    }
-    return null;
-  };
-  return { core, messages, lastRun };
-}
 
 describe('EngineCore with the simulated oscillator', () => {
   it('walks a plan hands-free, moving the simulator to each voltage, within 0.1 cent of the true pitch', () => {
     const settings = simSettingsForUnit('ol3-0417');
     const options = simOptions(settings);
-    const { core, lastRun } = collect();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     for (let i = 0; i < 400 && lastRun()?.state.phase !== 'finished'; i++) core.tickSim(0.05);
@@ -62,7 +46,7 @@ describe('EngineCore with the simulated oscillator', () => {
 
   it('a run started before the input opens waits for it, then runs; a later restart pauses with a reason', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
-    const { core, lastRun } = collect();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     expect(lastRun()?.state.phase).toBe('apply-voltage');
     expect(lastRun()?.waitingForInput).toBe(true);
@@ -81,7 +65,7 @@ describe('EngineCore with the simulated oscillator', () => {
 
   it('pauses a live run when the source goes away and keeps its captures', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
-    const { core, lastRun } = collect();
+    const { core, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     for (let i = 0; i < 200 && (lastRun()?.state.steps[0].capture ?? null) === null; i++) core.tickSim(0.05);
@@ -94,7 +78,7 @@ describe('EngineCore with the simulated oscillator', () => {
 
   it('moves a run onto a new sample rate: captures kept, paused, the change reported, then resumes', () => {
     const options = simOptions(simSettingsForUnit('ol3-0412'));
-    const { core, messages, lastRun } = collect();
+    const { core, messages, lastRun } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'test', volts: [0, 1, 2] } });
     for (let i = 0; i < 200 && (lastRun()?.state.steps[0].capture ?? null) === null; i++) core.tickSim(0.05);
@@ -116,8 +100,8 @@ describe('EngineCore with the simulated oscillator', () => {
   it('analyses a WAV with analyzeRecording in the engine and keeps the live run, paused', () => {
     const unit = findDemoUnit('ol3-0423')!;
     const rec = renderOscillator({ ...unit.options, snrDb: 70 }, planSchedule([0, 2, 4], { holdSeconds: 3 }));
-    const bytes = new Uint8Array(wav16(rec.samples, rec.sampleRateHz)).buffer;
-    const { core, messages, lastRun } = collect();
+    const bytes = new Uint8Array(wavBytes([rec.samples], rec.sampleRateHz, '16')).buffer;
+    const { core, messages, lastRun } = engineHarness();
     core.handle({
       type: 'source-sim',
       sampleRateHz: 48_000,
@@ -145,7 +129,7 @@ describe('EngineCore with the simulated oscillator', () => {
   });
 
   it('reports a WAV it cannot read, with the decoder’s message', () => {
-    const { core, messages } = collect();
+    const { core, messages } = engineHarness();
     core.handle({
       type: 'wav-analyze',
       bytes: new TextEncoder().encode('ID3\u0004').buffer as ArrayBuffer,
@@ -160,23 +144,6 @@ describe('EngineCore with the simulated oscillator', () => {
   });
 });
 
-function wav16(samples: Float32Array, sampleRateHz: number): Uint8Array {
-  const w = new wavefile.WaveFile();
-  w.fromScratch(
-    1,
-    sampleRateHz,
-    '16',
-    Int16Array.from(samples, (x) => Math.round(x * 32767)),
-  );
-  return w.toBuffer();
-}
-
-function wav32f(samples: Float32Array, sampleRateHz: number): Uint8Array {
-  const w = new wavefile.WaveFile();
-  w.fromScratch(1, sampleRateHz, '32f', samples);
-  return w.toBuffer();
-}
-
 describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   // The reference is dsp/recording/recording.ts analyzeRecording itself, the analysis `spanmeter analyze` runs:
   // the app must give the same Hz, bit for bit, for the same file and options.
@@ -190,7 +157,10 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
       planSchedule(volts, { holdSeconds: 2.5 }),
     );
     // 32-bit float WAV holds the samples exactly, so both analyses see the same numbers.
-    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), { points: volts, channel: 1 });
+    const out = analyzeWavBytes(wavBytes([rec.samples], rec.sampleRateHz, '32f'), {
+      points: volts,
+      channel: 1,
+    });
     const ref = analyzeRecording(rec.samples, rec.sampleRateHz, { points: volts });
     expect(out.kind).toBe('ok');
     expect(ref.kind).toBe('ok');
@@ -207,7 +177,7 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   it('passes settle and a4 through, as the command line does', () => {
     const u = findDemoUnit('ol3-0412')!;
     const rec = renderOscillator({ ...u.options, snrDb: 60 }, planSchedule([0, 1], { holdSeconds: 2.5 }));
-    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), {
+    const out = analyzeWavBytes(wavBytes([rec.samples], rec.sampleRateHz, '32f'), {
       points: [0, 1],
       channel: 1,
       settleSeconds: 0.8,
@@ -219,7 +189,10 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   it('gives the typed plateau-count mismatch, naming how many plateaus were found and when', () => {
     const u = findDemoUnit('ol3-0412')!;
     const rec = renderOscillator({ ...u.options, snrDb: 60 }, planSchedule([0, 1, 2], { holdSeconds: 2.5 }));
-    const out = analyzeWavBytes(wav32f(rec.samples, rec.sampleRateHz), { points: [0, 1], channel: 1 });
+    const out = analyzeWavBytes(wavBytes([rec.samples], rec.sampleRateHz, '32f'), {
+      points: [0, 1],
+      channel: 1,
+    });
     expect(out.kind).toBe('error');
     if (out.kind !== 'error') return;
     expect(out.code).toBe('plateau-count-mismatch');
@@ -228,7 +201,7 @@ describe('analyzeWavBytes (the worker side of Open WAV…)', () => {
   });
 
   it('refuses a channel the file does not have, and bad options, without throwing', () => {
-    const bytes = wav32f(new Float32Array(48_000).fill(0.1), 48_000);
+    const bytes = wavBytes([new Float32Array(48_000).fill(0.1)], 48_000, '32f');
     const ch = analyzeWavBytes(bytes, { points: [0], channel: 2 });
     expect(ch.kind === 'error' && ch.message).toMatch(/channel/);
     const bad = analyzeWavBytes(bytes, { points: [0], channel: 1, a4Hz: 1000 });

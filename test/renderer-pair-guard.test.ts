@@ -5,20 +5,14 @@
  * anything near 6 octaves (the run's last 7 V against 1 V) would be a stale or wrong voltage.
  */
 import { describe, expect, it } from 'vitest';
-import { EngineCore, PAIR_GUARD_CENTS } from '../renderer/src/engine/core.ts';
-import type { FromEngine, ScalePairView } from '../renderer/src/engine/protocol.ts';
+import { PAIR_GUARD_CENTS } from '../renderer/src/engine/core.ts';
+import type { ScalePairView } from '../renderer/src/engine/protocol.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
-
-function engine() {
-  const messages: FromEngine[] = [];
-  let t = 0;
-  const core = new EngineCore({ post: (m) => void messages.push(m), nowMs: () => (t += 0.01) });
-  return { core, messages };
-}
+import { engineHarness } from './helpers/engine.ts';
 
 describe('the scale pair after a run on another voltage', () => {
   it('no instruction before its own pair has settled, and every instruction is the pair’s', () => {
-    const { core, messages } = engine();
+    const { core, messages } = engineHarness();
     const options = simOptions(simSettingsForUnit('ol3-0417'));
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 7 });
     core.handle({

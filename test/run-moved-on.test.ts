@@ -8,26 +8,10 @@
  */
 import { describe, expect, it } from 'vitest';
 import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
-import { EngineCore } from '../renderer/src/engine/core.ts';
-import type { FromEngine, RunSnapshot } from '../renderer/src/engine/protocol.ts';
+import { engineHarness } from './helpers/engine.ts';
 
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
 const BLOCK = 1024;
-
-function engine() {
-  const messages: FromEngine[] = [];
-  let t = 0;
-  const core = new EngineCore({ post: (m) => void messages.push(m), nowMs: () => (t += 0.01) });
-  const lastRun = (): RunSnapshot | null => {
-    for (let i = messages.length - 1; i >= 0; i--) {
-      const m = messages[i];
-      if (m.type === 'run') return m.run;
-      if (m.type === 'tick' && m.run !== undefined) return m.run;
-    }
-    return null;
-  };
-  return { core, lastRun };
-}
 
 describe('a source that moves on before the creep has died out', () => {
   it('captures each 3 s step once, from before the move, within 0.1 cent, flagged where it crept', () => {
@@ -37,7 +21,7 @@ describe('a source that moves on before the creep has died out', () => {
     // After the last step the source goes back to 0 V, as a looping sequence or recording does.
     const schedule = planSchedule([...volts, 0], { holdSeconds: 3, glideSeconds: 0.15 });
     const rec = renderOscillator({ ...unit.options, snrDb: 70, sampleRateHz: 48_000 }, schedule);
-    const { core, lastRun } = engine();
+    const { core, lastRun } = engineHarness();
     // The worker hands the engine the worklet's port; the engine itself only reads the rate here.
     core.handle({
       type: 'source-live',

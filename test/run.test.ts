@@ -21,6 +21,7 @@ import {
   WINDOW_MARGIN_CENTS,
 } from '../dsp/calibration/index.ts';
 import { gaussianNoise } from './signals.ts';
+import { noReading, okReading, readingStream } from './helpers/readings.ts';
 
 // ---------------------------------------------------------------------------------------------------
 // Demo scenario (invented): unit 14 on the repair bench, an oscillator at 65.2 Hz at 0 V whose scale runs
@@ -29,7 +30,6 @@ import { gaussianNoise } from './signals.ts';
 const OPV = 0.998;
 const unitHz = (v: number) => 65.2 * Math.pow(2, OPV * v);
 const cents = (hz: number, ref: number) => 1200 * Math.log2(hz / ref);
-const LEVEL = { rmsDbfs: -14, peakDbfs: -8, clippedFraction: 0 };
 const RATE = 20;
 
 /** What the user does: apply a voltage (with an optional overshoot and thermal tail), or unplug. */
@@ -82,28 +82,12 @@ function session(acts: Act[], opts: { sigma?: number; seed?: number; t0?: number
     const settleDt = dt - glide - overT;
     return target * Math.pow(2, ((a.creepCents ?? 0) * Math.exp(-settleDt / (a.tauSeconds ?? 1))) / 1200);
   };
-  const first = Math.ceil(t0 * RATE - 1e-9);
-  const n = Math.floor(total * RATE) - first;
-  const noise = gaussianNoise(Math.max(n, 0), 1, opts.seed ?? 1);
-  const readings: PitchReading[] = [];
-  for (let k = 0; k < n; k++) {
-    const t = (first + k) / RATE;
-    const f = truthAt(t);
-    readings.push(
-      f === null
-        ? { kind: 'none', reason: 'silent', level: LEVEL, timeSeconds: t }
-        : {
-            kind: 'ok',
-            hz: f * Math.pow(2, (sigma * noise[k]) / 1200),
-            uncertaintyCents: sigma,
-            clarity: 0.97,
-            level: LEVEL,
-            windowSeconds: 0.05,
-            harmonicsUsed: 8,
-            timeSeconds: t,
-          },
-    );
-  }
+  const readings = readingStream(truthAt, total, {
+    rate: RATE,
+    sigmaCents: sigma,
+    seed: opts.seed ?? 1,
+    fromSeconds: t0,
+  });
   return { readings, truthAt, starts };
 }
 
@@ -940,17 +924,8 @@ describe('model-based: random sessions and actions', () => {
                     : target;
               const reading: PitchReading =
                 f === null
-                  ? { kind: 'none', reason: 'silent', level: LEVEL, timeSeconds: t }
-                  : {
-                      kind: 'ok',
-                      hz: f * Math.pow(2, (0.02 * noise[k++ % noise.length]) / 1200),
-                      uncertaintyCents: 0.02,
-                      clarity: 0.97,
-                      level: LEVEL,
-                      windowSeconds: 0.05,
-                      harmonicsUsed: 8,
-                      timeSeconds: t,
-                    };
+                  ? noReading(t)
+                  : okReading(f * Math.pow(2, (0.02 * noise[k++ % noise.length]) / 1200), t);
               s = checkedStep(s, { type: 'reading', reading });
               captured += s.notes.filter((x) => x.kind === 'captured').length;
               const pc = s.pendingCapture;

@@ -6,6 +6,11 @@
  * so they are exactly band-limited: no aliases to flatter or fool an estimator.
  */
 
+import { rng } from './helpers/random.ts';
+
+/** The seeded generator (test/helpers/random.ts), re-exported for the signal generators' users. */
+export { rng };
+
 export type Shape = 'sine' | 'saw' | 'square' | 'pulse10' | 'triangle';
 
 /** Fourier amplitude (sine series, relative) of harmonic k of a unit waveform. */
@@ -63,18 +68,6 @@ export function tone(
   const g = (opts.amplitude ?? 0.5) / (peak || 1);
   for (let i = 0; i < n; i++) out[i] *= g;
   return out;
-}
-
-/** Mulberry32: a small seeded PRNG (public domain), so noisy tests repeat exactly. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 /** Gaussian white noise with standard deviation `sigma` (Box–Muller). */

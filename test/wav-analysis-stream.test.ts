@@ -3,23 +3,17 @@
 // with no read larger than a block. The reference is dsp/recording/recording.ts analyzeRecording on the samples, the
 // analysis `spanmeter analyze` runs.
 import { describe, expect, it } from 'vitest';
-import wavefile from 'wavefile';
 import { analyzeRecording } from '../dsp/recording/index.ts';
 import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { EngineCore } from '../renderer/src/engine/core.ts';
 import type { FromEngine } from '../renderer/src/engine/protocol.ts';
 import { analyzeWavBytes, analyzeWavSource, sliceByteSource } from '../renderer/src/engine/wav-analysis.ts';
-
-function stereo32f(samples: Float32Array, rate: number): Uint8Array {
-  const w = new wavefile.WaveFile();
-  w.fromScratch(2, rate, '32f', [samples, samples.map((x) => -x)]);
-  return w.toBuffer();
-}
+import { wavBytes } from './helpers/wav.ts';
 
 const unit = findDemoUnit('ol3-0412')!;
 const volts = [0, 1, 2];
 const rec = renderOscillator({ ...unit.options, snrDb: 60 }, planSchedule(volts, { holdSeconds: 2.5 }));
-const bytes = stereo32f(rec.samples, rec.sampleRateHz);
+const bytes = wavBytes([rec.samples, rec.samples.map((x) => -x)], rec.sampleRateHz, '32f');
 
 describe('Open WAV reads the file in slices', () => {
   it('gives the same steps as analyzeRecording on the samples, and reads no slice over 1 MiB', () => {

@@ -5,6 +5,7 @@
 // floods.
 import { describe, expect, it } from 'vitest';
 import wavefile from 'wavefile';
+import { wavBytes, type WavDepth } from './helpers/wav.ts';
 import {
   bytesSource,
   decodeWav,
@@ -13,25 +14,12 @@ import {
   type ByteSource,
   type WavLayout,
 } from '../dsp/io/index.ts';
+import { concatBytes, latin1, u32le, u64le } from './helpers/bytes.ts';
 
-const enc = (s: string): Uint8Array => Uint8Array.from(s, (ch) => ch.charCodeAt(0));
-function u32(v: number): Uint8Array {
-  const b = new Uint8Array(4);
-  new DataView(b.buffer).setUint32(0, v, true);
-  return b;
-}
-function u64(v: number): Uint8Array {
-  return concat(u32(v % 2 ** 32), u32(Math.floor(v / 2 ** 32)));
-}
-function concat(...parts: Uint8Array[]): Uint8Array {
-  const out = new Uint8Array(parts.reduce((n, p) => n + p.length, 0));
-  let at = 0;
-  for (const p of parts) {
-    out.set(p, at);
-    at += p.length;
-  }
-  return out;
-}
+const enc = latin1;
+const u32 = u32le;
+const u64 = u64le;
+const concat = concatBytes;
 function fmt16(channels: number, rate: number, bits: number, tag = 1): Uint8Array {
   const b = new Uint8Array(16);
   const v = new DataView(b.buffer);
@@ -53,22 +41,18 @@ function int16(values: number[]): Uint8Array {
   return b;
 }
 
-/** A file written by wavefile: `frames` frames of a two-tone test signal. */
+/**
+ * A file written by wavefile (through the shared writer, test/helpers/wav.ts, which uses the npm library as an
+ * outside reference): `frames` frames of a two-tone test signal.
+ */
 function wavefileFile(bits: string, channels: number, frames: number): Uint8Array {
-  const chans: number[][] = [];
-  const float = bits.endsWith('f');
-  const depth = float ? 32 : Number(bits);
-  for (let c = 0; c < channels; c++) {
-    const x: number[] = [];
-    for (let i = 0; i < frames; i++) {
-      const v = 0.6 * Math.sin(0.01 * i * (c + 1)) + 0.2 * Math.sin(0.37 * i);
-      x.push(float ? v : depth === 8 ? Math.round(v * 127 + 128) : Math.round(v * (2 ** (depth - 1) - 1)));
-    }
-    chans.push(x);
-  }
-  const w = new wavefile.WaveFile();
-  w.fromScratch(channels, 48000, bits, channels === 1 ? chans[0] : chans);
-  return w.toBuffer();
+  const chans = Array.from({ length: channels }, (_, c) =>
+    Float64Array.from(
+      { length: frames },
+      (_, i) => 0.6 * Math.sin(0.01 * i * (c + 1)) + 0.2 * Math.sin(0.37 * i),
+    ),
+  );
+  return wavBytes(chans, 48000, bits as WavDepth);
 }
 
 function okLayout(r: ReturnType<typeof openWav>): WavLayout {

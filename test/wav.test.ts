@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import wavefile from 'wavefile';
 import { decodeWav, pickChannel, type WavDecoded, type WavResult } from '../dsp/io/index.ts';
+import { concatBytes, latin1, u32le } from './helpers/bytes.ts';
 
 // ---------------------------------------------------------------------------------------------------------
 // Helpers: files written by the `wavefile` package (an outside, general-purpose WAV writer), and a tiny
@@ -34,7 +35,11 @@ function bitsOf(depth: Depth): number {
   return parseInt(depth, 10);
 }
 
-/** Write a file with wavefile; returns the file and the normalised samples it should decode to. */
+/**
+ * Write a file with wavefile; returns the file and the normalised samples it should decode to. Kept apart from
+ * the shared writer (test/helpers/wav.ts) on purpose: it also writes RIFX and 64-bit float files and quantises
+ * against 2^(bits−1), so the decoder's scaling is checked against the library's own reading.
+ */
 function writeWithWavefile(
   depth: Depth,
   channels: number,
@@ -74,23 +79,9 @@ function expectError(r: WavResult, code: string): string {
   return r.message;
 }
 
-const enc = (s: string): Uint8Array => Uint8Array.from(s, (ch) => ch.charCodeAt(0));
-
-function u32(v: number): Uint8Array {
-  const b = new Uint8Array(4);
-  new DataView(b.buffer).setUint32(0, v, true);
-  return b;
-}
-
-function concat(...parts: Uint8Array[]): Uint8Array {
-  const out = new Uint8Array(parts.reduce((n, p) => n + p.length, 0));
-  let at = 0;
-  for (const p of parts) {
-    out.set(p, at);
-    at += p.length;
-  }
-  return out;
-}
+const enc = latin1;
+const u32 = u32le;
+const concat = concatBytes;
 
 /** A chunk: id, size, body, and the pad byte that keeps odd-sized chunks even (RIFF specification, 1991). */
 function chunk(id: string, body: Uint8Array, declaredSize = body.length): Uint8Array {

@@ -3,11 +3,11 @@
  * the stepped recording the fake capture device plays, and read the app's state from the page.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, rmSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Page } from 'playwright-core';
-import wavefile from 'wavefile';
+import { writeWavFile } from '../helpers/wav.ts';
 import {
   planSchedule,
   renderOscillator,
@@ -158,10 +158,7 @@ export function writeSteppedRecording(
   const schedule = planSchedule(volts, { holdSeconds, glideSeconds });
   schedule[0] = { ...schedule[0], holdSeconds: firstHoldSeconds };
   const r = renderOscillator({ ...options, sampleRateHz: 48_000 }, schedule);
-  const w = new wavefile.WaveFile();
-  w.fromScratch(1, r.sampleRateHz, '32f', r.samples);
-  const file = path.join(ARTIFACTS, name);
-  writeFileSync(file, w.toBuffer());
+  const file = writeWavFile(path.join(ARTIFACTS, name), [r.samples], r.sampleRateHz, '32f');
   return { file, truth: r.truth, durationSeconds: r.samples.length / r.sampleRateHz };
 }
 
@@ -173,11 +170,7 @@ export function centsBetween(hz: number, refHz: number): number {
 /** Writes samples as a mono 32-bit float WAV into test-artifacts/ and returns its path. */
 export function writeWav(name: string, samples: Float32Array, sampleRateHz: number): string {
   mkdirSync(ARTIFACTS, { recursive: true });
-  const w = new wavefile.WaveFile();
-  w.fromScratch(1, sampleRateHz, '32f', samples);
-  const file = path.join(ARTIFACTS, name);
-  writeFileSync(file, w.toBuffer());
-  return file;
+  return writeWavFile(path.join(ARTIFACTS, name), [samples], sampleRateHz, '32f');
 }
 
 /** One row of the error table as the page shows it. */

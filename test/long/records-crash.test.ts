@@ -18,6 +18,7 @@ import { TEMP_PREFIX } from '../../main/atomic-file.ts';
 import { createRecordsStore } from '../../main/records-store.ts';
 import { deserializeRun, runCaptures, serializeRun } from '../../dsp/calibration/index.ts';
 import { CRASH_RECORD_ID, crashGeneration, scriptedRunStates } from '../fixtures/crash-run.ts';
+import { rng } from '../helpers/random.ts';
 
 const root = path.resolve(import.meta.dirname, '../..');
 /** Kills and acknowledged saves to reach (all lanes together); the lanes run side by side. */
@@ -56,18 +57,6 @@ beforeAll(async () => {
 afterAll(async () => {
   await rm(dir, { recursive: true, force: true });
 });
-
-/** mulberry32: a small seeded generator, so a failing sequence of delays can be replayed. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 interface Acks {
   record: number | null;
@@ -126,7 +115,7 @@ const enough = () => totals.kills >= MIN_KILLS && totals.acknowledged >= MIN_ACK
 const capped = () => performance.now() - totals.started > CAP_MS;
 
 async function lane(index: number, seed: number): Promise<LaneTally> {
-  const random = mulberry32(seed);
+  const random = rng(seed);
   const base = path.join(dir, `lane-${index}`);
   const recordsDir = path.join(base, 'records');
   const autosaveFile = path.join(base, 'autosave', 'run.json');
