@@ -27,6 +27,7 @@ import {
   chromiumAvailable,
   startWebServer,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const VIEWPORT = { width: 1280, height: 900 };
@@ -189,6 +190,8 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     initScript?: string;
     runRows?: number;
     kind?: 'midi' | 'dc';
+    /** 1 for a test that acts mid-run (see simQuery); the tests' pace otherwise. */
+    pace?: number;
   }): Promise<{ ctx: BrowserContext; page: Page; errors: string[] }> {
     const ctx = await browser.newContext({ viewport: VIEWPORT });
     if (o.initScript) await ctx.addInitScript(o.initScript);
@@ -197,7 +200,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
     await page.goto(
-      `${server.url}?input=sim${o.simDrive ? '&drive=sim' : ''}&unit=${UNIT}&plan=${o.plan.join(',')}`,
+      `${server.url}${simQuery(`${o.simDrive ? '&drive=sim' : ''}&unit=${UNIT}&plan=${o.plan.join(',')}`, o.pace)}`,
     );
     await waitLive(page);
     if (o.runRows !== undefined) {
@@ -502,7 +505,12 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
   }, 400_000);
 
   it('closing the window mid-run sends the converter back to its 0 V note and releases it', async () => {
-    const { ctx, page, errors } = await openApp({ plan: PLAN8, initScript: midiStub(false), kind: 'midi' });
+    const { ctx, page, errors } = await openApp({
+      plan: PLAN8,
+      initScript: midiStub(false),
+      kind: 'midi',
+      pace: 1,
+    });
     await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
     await waitOpen(page);
     await page.click('[data-testid="drive-calibrate"]');
@@ -531,6 +539,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       initScript: midiStub(true),
       runRows: 2,
       kind: 'midi',
+      pace: 1,
     });
     await page.waitForSelector('[data-testid="drive-message"]');
     const text = await page.innerText('[data-testid="drive-message"]');
@@ -550,6 +559,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       initScript: midiStub(false),
       runRows: 2,
       kind: 'midi',
+      pace: 1,
     });
     await waitOpen(page);
     await page.click('[data-testid="drive-calibrate"]');
@@ -577,6 +587,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       plan: [0, 1, 2, 3, 4, 5],
       initScript: OUTPUT_STUB,
       kind: 'dc',
+      pace: 1,
     });
     await chooseOutput(page, 'drive-dc-device', 'bench-dc-1');
     await waitOpen(page);
