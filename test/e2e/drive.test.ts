@@ -306,13 +306,21 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await page.check('[data-testid="trim-loop"]');
     await page.fill('[data-testid="trim-loop-passes"]', '3');
     await page.click('[data-testid="start-hands-off"]');
-    await page.waitForFunction(
-      () => document.querySelectorAll('[data-testid="pass-row"]').length >= 3,
-      undefined,
-      {
-        timeout: 480_000,
-      },
-    );
+    try {
+      await page.waitForFunction(
+        () => document.querySelectorAll('[data-testid="pass-row"]').length >= 3,
+        undefined,
+        { timeout: 480_000 },
+      );
+    } catch (e) {
+      // What the page showed when the passes stopped coming, for whoever reads the failure.
+      await page.screenshot({ path: path.join(ARTIFACTS, 'drive-trim-loop-stalled.png'), fullPage: true });
+      console.log(
+        'e2e drive trim loop stalled; the page read:',
+        await page.evaluate(() => document.body.innerText),
+      );
+      throw e;
+    }
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-trim-loop-1280x900.png') });
     const passes = await page.$$eval('[data-testid="pass-row"]', (els) =>
       els.map((e) => ({
