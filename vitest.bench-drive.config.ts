@@ -7,7 +7,7 @@ export default defineConfig({
   test: {
     include: ['test/e2e/drive.test.ts'],
     testNamePattern: 'runs 0–7 V hands-off|driven by keypresses',
-    env: { SPANMETER_DRIVE_BENCH: '1' },
+    env: { SPANMETER_DRIVE_BENCH: '1', SPANMETER_SIM_PACE: '1' },
     testTimeout: 600_000,
     hookTimeout: 180_000,
     pool: 'forks',

@@ -337,6 +337,7 @@ describe('page side', () => {
       planText: '0,1,2,3',
       unitId: 'ol3-0417',
       simRateHz: 96_000,
+      simPace: 1,
       drive: null,
       problems: [],
     });
@@ -344,6 +345,12 @@ describe('page side', () => {
     expect(bad.input).toBe('device');
     expect(bad.problems).toHaveLength(3);
     expect(parseStartupParams('?input=sim&drive=sim').drive).toBe('sim');
+    expect(parseStartupParams('?input=sim&pace=4').simPace).toBe(4);
+    for (const pace of ['0', '9', '2.5', 'fast'])
+      expect(parseStartupParams(`?input=sim&pace=${pace}`)).toMatchObject({
+        simPace: 1,
+        problems: [`pace in the address: "${pace}" is not a whole number from 1 to 8`],
+      });
     expect(parseStartupParams('?drive=sim').problems).toEqual([
       'drive=sim needs input=sim: the simulated drive is patched into the simulated oscillator',
     ]);

@@ -326,6 +326,7 @@ export function App() {
               simVolts={view.simVolts}
               onSimVolts={(v) => client.send({ type: 'sim-volts', volts: v, glideSeconds: 0.05 })}
               runDrivesSim={active && tab === 'run'}
+              simPace={params.simPace}
             />
             <DrivePanel api={drive} />
           </div>

@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
-import { ROOT, chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
+import { ROOT, chromiumAvailable, startWebServer, type WebServer, simQuery } from './helpers.ts';
 import { SCREENS, finishRun, launch } from './screens-helpers.ts';
 
 const enabled = chromiumAvailable();
@@ -56,7 +56,7 @@ describe.skipIf(!enabled)('accessibility in Chromium', () => {
     const ctx = await browser.newContext({ bypassCSP: true, viewport: { width: 1280, height: 800 } });
     page = await ctx.newPage();
     page.setDefaultTimeout(60_000);
-    await page.goto(`${server.url}?input=sim&unit=ol3-0417`);
+    await page.goto(`${server.url}${simQuery('&unit=ol3-0417')}`);
     await page.waitForSelector('[data-testid="tab-run"]');
     await page.evaluate(AXE);
     await finishRun(page, '0,1');

@@ -15,7 +15,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import path from 'node:path';
-import { chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
+import { chromiumAvailable, startWebServer, type WebServer, simQuery } from './helpers.ts';
 import { SHOTS, finishRun, fitScaleCents, launch, openApp } from './screens-helpers.ts';
 
 const enabled = chromiumAvailable();
@@ -28,7 +28,7 @@ describe.skipIf(!enabled)('bench checks in Chromium', () => {
   beforeAll(async () => {
     server = await startWebServer();
     browser = await launch();
-    page = await openApp(browser, server.url, { width: 1280, height: 800 }, '?input=sim&unit=ol3-0417');
+    page = await openApp(browser, server.url, { width: 1280, height: 800 }, simQuery('&unit=ol3-0417'));
   }, 120_000);
 
   afterAll(async () => {

@@ -22,6 +22,7 @@ import {
   writeSteppedRecording,
   writeWav,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const VIEWPORT = { width: 1280, height: 720 };
@@ -304,7 +305,7 @@ describe.skipIf(!enabled)('bench workflow in Chromium', () => {
     const page = await browser.newPage({ viewport: VIEWPORT });
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
-    await page.goto(`${server.url}?input=sim&unit=${UNIT}&plan=${PLAN.join(',')}`);
+    await page.goto(`${server.url}${simQuery(`&unit=${UNIT}&plan=${PLAN.join(',')}`)}`);
     await page.waitForFunction(
       () => Number(document.querySelector('[data-testid="live-hz"]')?.getAttribute('data-hz')) > 0,
       undefined,

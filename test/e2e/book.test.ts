@@ -21,6 +21,7 @@ import {
   waitForStepRows,
   writeWav,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const PLAN = [0, 1, 2, 3];
@@ -52,7 +53,7 @@ describe.skipIf(!enabled)('the unit book in Chromium', () => {
     const page = await context.newPage();
     page.on('pageerror', (e) => errors.push(e.message));
     page.on('dialog', (d) => void d.accept());
-    await page.goto(`${server.url}?input=sim&unit=ol3-0412&plan=${PLAN.join(',')}`);
+    await page.goto(`${server.url}${simQuery(`&unit=ol3-0412&plan=${PLAN.join(',')}`)}`);
     return page;
   }
 

@@ -15,6 +15,7 @@ import {
   startWebServer,
   waitForStepRows,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const enabled = chromiumAvailable();
@@ -57,7 +58,7 @@ describe.skipIf(!enabled)('Content-Security-Policy in Chromium', () => {
     const csp = await watchCsp(page);
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
-    const response = await page.goto(`${server.url}?input=sim&unit=ol3-0412&plan=0,1,2`);
+    const response = await page.goto(`${server.url}${simQuery('&unit=ol3-0412&plan=0,1,2')}`);
     expect(response?.headers()['content-security-policy']).toBe(CONTENT_SECURITY_POLICY);
     await page.waitForFunction(
       () => Number(document.querySelector('[data-testid="live-hz"]')?.getAttribute('data-hz')) > 0,
@@ -86,7 +87,7 @@ describe.skipIf(!enabled)('Content-Security-Policy in Chromium', () => {
   it('refuses an inline script and eval', async () => {
     const page = await browser.newPage();
     const csp = await watchCsp(page);
-    await page.goto(`${server.url}?input=sim`);
+    await page.goto(`${server.url}${simQuery()}`);
     await page.waitForSelector('[data-testid="tab-run"]');
 
     // An inline <script>: addScriptTag either throws or the script never runs.

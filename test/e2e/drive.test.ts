@@ -27,6 +27,7 @@ import {
   chromiumAvailable,
   startWebServer,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const VIEWPORT = { width: 1280, height: 900 };
@@ -189,6 +190,8 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     initScript?: string;
     runRows?: number;
     kind?: 'midi' | 'dc';
+    /** 1 for a test that acts mid-run (see simQuery); the tests' pace otherwise. */
+    pace?: number;
   }): Promise<{ ctx: BrowserContext; page: Page; errors: string[] }> {
     const ctx = await browser.newContext({ viewport: VIEWPORT });
     if (o.initScript) await ctx.addInitScript(o.initScript);
@@ -197,7 +200,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     const errors: string[] = [];
     page.on('pageerror', (e) => errors.push(e.message));
     await page.goto(
-      `${server.url}?input=sim${o.simDrive ? '&drive=sim' : ''}&unit=${UNIT}&plan=${o.plan.join(',')}`,
+      `${server.url}${simQuery(`${o.simDrive ? '&drive=sim' : ''}&unit=${UNIT}&plan=${o.plan.join(',')}`, o.pace)}`,
     );
     await waitLive(page);
     if (o.runRows !== undefined) {
@@ -303,13 +306,21 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await page.check('[data-testid="trim-loop"]');
     await page.fill('[data-testid="trim-loop-passes"]', '3');
     await page.click('[data-testid="start-hands-off"]');
-    await page.waitForFunction(
-      () => document.querySelectorAll('[data-testid="pass-row"]').length >= 3,
-      undefined,
-      {
-        timeout: 480_000,
-      },
-    );
+    try {
+      await page.waitForFunction(
+        () => document.querySelectorAll('[data-testid="pass-row"]').length >= 3,
+        undefined,
+        { timeout: 480_000 },
+      );
+    } catch (e) {
+      // What the page showed when the passes stopped coming, for whoever reads the failure.
+      await page.screenshot({ path: path.join(ARTIFACTS, 'drive-trim-loop-stalled.png'), fullPage: true });
+      console.log(
+        'e2e drive trim loop stalled; the page read:',
+        await page.evaluate(() => document.body.innerText),
+      );
+      throw e;
+    }
     await page.screenshot({ path: path.join(ARTIFACTS, 'drive-trim-loop-1280x900.png') });
     const passes = await page.$$eval('[data-testid="pass-row"]', (els) =>
       els.map((e) => ({
@@ -502,7 +513,12 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
   }, 400_000);
 
   it('closing the window mid-run sends the converter back to its 0 V note and releases it', async () => {
-    const { ctx, page, errors } = await openApp({ plan: PLAN8, initScript: midiStub(false), kind: 'midi' });
+    const { ctx, page, errors } = await openApp({
+      plan: PLAN8,
+      initScript: midiStub(false),
+      kind: 'midi',
+      pace: 1,
+    });
     await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
     await waitOpen(page);
     await page.click('[data-testid="drive-calibrate"]');
@@ -531,6 +547,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       initScript: midiStub(true),
       runRows: 2,
       kind: 'midi',
+      pace: 1,
     });
     await page.waitForSelector('[data-testid="drive-message"]');
     const text = await page.innerText('[data-testid="drive-message"]');
@@ -550,6 +567,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       initScript: midiStub(false),
       runRows: 2,
       kind: 'midi',
+      pace: 1,
     });
     await waitOpen(page);
     await page.click('[data-testid="drive-calibrate"]');
@@ -577,6 +595,7 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
       plan: [0, 1, 2, 3, 4, 5],
       initScript: OUTPUT_STUB,
       kind: 'dc',
+      pace: 1,
     });
     await chooseOutput(page, 'drive-dc-device', 'bench-dc-1');
     await waitOpen(page);

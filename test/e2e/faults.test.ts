@@ -26,6 +26,7 @@ import {
   waitForStepRows,
   writeSteppedRecording,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const VIEWPORT = { width: 1280, height: 720 };
@@ -101,7 +102,7 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     browsers.push(browser);
     const page = await browser.newPage({ viewport: VIEWPORT });
     const errors = watchErrors(page);
-    await page.goto(`${server.url}?input=sim&unit=ol3-0412&plan=${PLAN}`);
+    await page.goto(`${server.url}${simQuery(`&unit=ol3-0412&plan=${PLAN}`, 1)}`);
     await waitForPitch(page);
     await page.click('[data-testid="start-run"]');
     await waitForStepRows(page, 1);
@@ -192,7 +193,7 @@ describe.skipIf(!enabled)('faults in Chromium', () => {
     browsers.push(browser);
     const page = await browser.newPage({ viewport: VIEWPORT });
     const errors = watchErrors(page);
-    await page.goto(`${server.url}?input=sim&unit=ol3-0412&plan=${PLAN}`);
+    await page.goto(`${server.url}${simQuery(`&unit=ol3-0412&plan=${PLAN}`, 1)}`);
     await waitForPitch(page);
     await page.click('[data-testid="start-run"]');
     await waitForStepRows(page, 1);

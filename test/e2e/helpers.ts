@@ -19,6 +19,24 @@ export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '
 export const ARTIFACTS = path.join(ROOT, 'test-artifacts');
 export const CHROMIUM = '/usr/bin/chromium';
 
+/**
+ * How many times faster than the clock the app's simulated oscillator runs in these tests (`&pace=` in the
+ * address, renderer/src/lib/params.ts). The engine times everything in samples, so what the tests check is
+ * the same at any pace; only the waiting is shorter. `SPANMETER_SIM_PACE=1` gives real time (the drive
+ * benchmark, and anyone watching a run). If the machine cannot keep up, the simulator falls behind the
+ * clock instead of dropping audio, so nothing here depends on the machine's speed.
+ */
+export const SIM_PACE = Number(process.env.SPANMETER_SIM_PACE ?? 4);
+
+/**
+ * The address's query for the simulated oscillator at the tests' pace, plus `rest` (`&unit=…`). A test
+ * that acts while a run is still going (a fault mid-run) passes `pace` 1: at real time the run cannot
+ * finish before the test's action lands, however busy the machine.
+ */
+export function simQuery(rest = '', pace = SIM_PACE): string {
+  return `?input=sim&pace=${pace}${rest}`;
+}
+
 /** Launch arguments for Debian's Chromium in a container with a fake audio capture device. */
 export function chromiumArgs(fakeAudioFile?: string): string[] {
   return [

@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import path from 'node:path';
-import { chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
+import { chromiumAvailable, startWebServer, type WebServer, simQuery } from './helpers.ts';
 import {
   SCREENS,
   SHOTS,
@@ -33,7 +33,7 @@ describe.skipIf(!enabled)('layout in Chromium', () => {
   beforeAll(async () => {
     server = await startWebServer();
     browser = await launch();
-    page = await openApp(browser, server.url, { width: 1280, height: 800 }, '?input=sim&unit=ol3-0417');
+    page = await openApp(browser, server.url, { width: 1280, height: 800 }, simQuery('&unit=ol3-0417'));
     await finishRun(page, '0,1,2');
     await page.click('[data-testid="tab-book"]');
     await page.fill('[data-testid="unit-name"]', 'OL3-0417');

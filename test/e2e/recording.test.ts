@@ -24,6 +24,7 @@ import {
   waitForStepRows,
   writeWav,
   type WebServer,
+  simQuery,
 } from './helpers.ts';
 
 const VIEWPORT = { width: 1280, height: 720 };
@@ -69,7 +70,7 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
     expect(ref.kind).toBe('ok');
     if (ref.kind !== 'ok') return;
 
-    const { page, errors } = await openPage(`?input=sim&unit=ol3-0412&plan=${PLAN.join(',')}`);
+    const { page, errors } = await openPage(simQuery(`&unit=ol3-0412&plan=${PLAN.join(',')}`));
     await page.setInputFiles('[data-testid="open-wav"]', file);
     await waitForStepRows(page, PLAN.length, 30_000);
     await page.waitForSelector('[data-testid="recording-panel"]');
@@ -112,7 +113,7 @@ describe.skipIf(!enabled)('Open WAV… in Chromium', () => {
     // The file is written before the run starts, so the run is still going when it is opened.
     const rec = render([0, 1, 2]);
     const file = writeWav('e2e-open-wav-3-steps.wav', rec.samples, rec.sampleRateHz);
-    const { page, errors } = await openPage(`?input=sim&unit=ol3-0412&plan=${PLAN.join(',')}`);
+    const { page, errors } = await openPage(simQuery(`&unit=ol3-0412&plan=${PLAN.join(',')}`));
     await page.waitForFunction(
       () => Number(document.querySelector('[data-testid="live-hz"]')?.getAttribute('data-hz')) > 0,
       undefined,

@@ -12,7 +12,7 @@ import Papa from 'papaparse';
 import { execFileSync } from 'node:child_process';
 import { readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
-import { chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
+import { chromiumAvailable, startWebServer, type WebServer, simQuery } from './helpers.ts';
 import { SHOTS, finishRun, launch, openApp, programAvailable } from './screens-helpers.ts';
 
 const enabled = chromiumAvailable();
@@ -55,7 +55,7 @@ describe.skipIf(!enabled)('records in Chromium', () => {
   });
 
   it('saves two runs, reloads, and exports and prints the older with its own values', async () => {
-    const page = await openApp(browser, server.url, { width: 1280, height: 800 }, '?input=sim&unit=ol3-0417');
+    const page = await openApp(browser, server.url, { width: 1280, height: 800 }, simQuery('&unit=ol3-0417'));
     await finishRun(page, '0,2');
     await page.click('[data-testid="tab-book"]');
     await page.fill('[data-testid="unit-name"]', UNIT.name);

@@ -13,7 +13,7 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { CSV_STEP_COLUMNS } from '../../renderer/src/lib/export.ts';
-import { ROOT, chromiumAvailable, startWebServer, type WebServer } from './helpers.ts';
+import { ROOT, chromiumAvailable, startWebServer, type WebServer, simQuery } from './helpers.ts';
 import { SHOTS, finishRun, launch, programAvailable } from './screens-helpers.ts';
 
 /** axe-core, the general-purpose accessibility checker from npm (WCAG 2.x rules). */
@@ -76,7 +76,7 @@ describe.skipIf(!enabled)('the uncertainty budget in the report, in Chromium', (
     await page.addInitScript(() => {
       window.print = () => undefined;
     });
-    await page.goto(`${server.url}?input=sim&unit=ol3-0417`);
+    await page.goto(`${server.url}${simQuery('&unit=ol3-0417')}`);
     await page.waitForSelector('[data-testid="tab-run"]');
     await finishRun(page, '0,1,2,3,4');
     await page.click('[data-testid="tab-book"]');

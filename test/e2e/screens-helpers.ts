@@ -6,7 +6,7 @@ import { execFileSync } from 'node:child_process';
 import { existsSync, mkdirSync } from 'node:fs';
 import path from 'node:path';
 import { chromium, type Browser, type Page } from 'playwright-core';
-import { ARTIFACTS, CHROMIUM, chromiumArgs } from './helpers.ts';
+import { ARTIFACTS, CHROMIUM, chromiumArgs, simQuery } from './helpers.ts';
 
 export const SHOTS = path.join(ARTIFACTS, 'screens');
 
@@ -21,7 +21,7 @@ export async function openApp(
   browser: Browser,
   url: string,
   viewport = { width: 1280, height: 800 },
-  query = '?input=sim',
+  query = simQuery(),
 ): Promise<Page> {
   const page = await browser.newPage({ viewport });
   // Generous: the page shares a small machine with other suites (waits count events, never time them).

@@ -1,7 +1,8 @@
 /**
  * The engine worker: hosts {@link EngineCore} off the page's thread. Audio arrives from the capture
  * worklet over a MessagePort; each buffer is handed back for reuse once analysed. With the simulated
- * oscillator as the source, a timer renders it in real time (by the clock, so a late timer catches up).
+ * oscillator as the source, a timer renders it in real time (by the clock, so a late timer catches up),
+ * or `pace` times faster when the address asks for it.
  */
 import '../lib/zod-jitless.ts';
 import { EngineCore } from './core.ts';
@@ -57,9 +58,10 @@ scope.onmessage = (e: MessageEvent<ToEngine>) => {
     audioPort = null;
     stopSim();
     simLast = performance.now();
+    const pace = msg.pace ?? 1;
     simTimer = setInterval(() => {
       const now = performance.now();
-      core.tickSim((now - simLast) / 1000);
+      core.tickSim((pace * (now - simLast)) / 1000);
       simLast = now;
     }, 20);
   } else if (msg.type === 'source-stop') {

@@ -49,6 +49,8 @@ export type ToEngine =
       readonly sampleRateHz: number;
       readonly options: OscillatorOptions;
       readonly volts: number;
+      /** Simulated seconds per second of the clock (1, real time, when absent; `?pace=` in the address). */
+      readonly pace?: number;
     }
   | { readonly type: 'source-stop'; readonly reason: string }
   | { readonly type: 'sim-options'; readonly options: OscillatorOptions }

@@ -79,7 +79,13 @@ export function useAudioInput(client: EngineClient, params: StartupParams): Audi
     inputRef.current?.close();
     inputRef.current = null;
     if (source === 'sim') {
-      client.send({ type: 'source-sim', sampleRateHz: sim.sampleRateHz, options: simOptions(sim), volts: 0 });
+      client.send({
+        type: 'source-sim',
+        sampleRateHz: sim.sampleRateHz,
+        options: simOptions(sim),
+        volts: 0,
+        pace: params.simPace,
+      });
       setSuspended(false);
       setClosed(false);
       return;
@@ -114,7 +120,7 @@ export function useAudioInput(client: EngineClient, params: StartupParams): Audi
       cancelled = true;
     };
     // The sim's knobs are sent separately below; only its sample rate restarts the source.
-  }, [source, deviceId, sim.sampleRateHz, client, inputGone, attempt]);
+  }, [source, deviceId, sim.sampleRateHz, client, inputGone, attempt, params.simPace]);
 
   useEffect(() => {
     if (source === 'sim') client.send({ type: 'sim-options', options: simOptions(sim) });

@@ -108,6 +108,8 @@ export interface InputPanelProps {
   simVolts: number | null;
   onSimVolts(v: number): void;
   runDrivesSim: boolean;
+  /** Simulated seconds per second of the clock (`?pace=` in the address); 1 is real time. */
+  simPace?: number;
 }
 
 function NumberKnob(props: {
@@ -233,6 +235,12 @@ export function InputPanel(p: InputPanelProps) {
             </label>
           </div>
           {unit && <p className="hint">{unit.description}</p>}
+          {(p.simPace ?? 1) > 1 && (
+            <p className="hint" data-testid="sim-pace">
+              Running {p.simPace}× faster than real time (pace={p.simPace} in the address): results are the
+              same, only the waiting is shorter.
+            </p>
+          )}
           <div className="knobs">
             <NumberKnob
               label="Scale error"
