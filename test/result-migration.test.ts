@@ -162,18 +162,32 @@ describe('the autosave of schema 1 and the one pipeline', () => {
     // and the oscillator's repeatability now enters each step's uncertainty. So the numbers are no longer
     // bit for bit those of schema 1; each step must agree with the old one within the two stated σ combined
     // (common practice for comparing two measurements, no source), with the same note.
+    // Below a thousandth of a cent (a tenth of what the app resolves) the comparison has a floor: the
+    // break search changed the 32 Hz step by 0.0002 cent, towards the known truth (0.00014 cent from it,
+    // was 0.00034), where both stated about 0.00004 cent. At that level the estimator's own small bias
+    // on a 32 Hz tone, not a change of behaviour, decides; the floor is ours, no source.
+    const floorCents = 0.001;
     const old1 = (was as CalibrationResult).steps;
     expect(a.result.steps.map((s) => s.note)).toEqual(old1.map((s) => s.note));
     for (const [i, s] of a.result.steps.entries()) {
       const dCents = 1200 * Math.log2(s.hz / old1[i].hz);
       const sigma = Math.hypot(s.uncertaintyCents, old1[i].uncertaintyCents);
-      expect(Math.abs(dCents), `step ${i}: ${dCents} cent against σ ${sigma}`).toBeLessThan(2 * sigma);
-      expect(s.uncertaintyCents).toBeGreaterThanOrEqual(old1[i].uncertaintyCents);
+      expect(Math.abs(dCents), `step ${i}: ${dCents} cent against σ ${sigma}`).toBeLessThan(
+        Math.max(2 * sigma, floorCents),
+      );
+      expect(s.uncertaintyCents + floorCents).toBeGreaterThanOrEqual(old1[i].uncertaintyCents);
     }
     // The headline fit and the advice come from the calibration model; the old straight line is kept.
+    // It is weighted by the steps' stated uncertainties through points that miss it by up to 1.3 cent (the
+    // HF bend), so it moves with those weights: the 0 V step (no tail before it, no wander in this unit)
+    // now states its estimator's σ alone, where spurious sub-window scatter once added 0.005 cent. It must
+    // stay within two of the old line's own standard errors of the scale (weighted least squares, common
+    // practice, no source).
+    const oldStdErr = was.fit!.scaleErrorStdErrCents;
+    expect(oldStdErr).toBeGreaterThan(0.1); // 0.22 cent per octave in the fixture
     expect(
       Math.abs(a.result.fit!.straightLine!.scaleErrorCentsPerOctave - was.fit!.scaleErrorCentsPerOctave),
-    ).toBeLessThan(0.05);
+    ).toBeLessThan(2 * oldStdErr!);
     expect(a.result.fit!.model?.criterion).toBe('AICc');
     expect(a.result.advice.map((x) => x.kind)).toEqual(expect.arrayContaining(['trim', 'next', 'caution']));
   });
