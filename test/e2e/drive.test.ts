@@ -512,139 +512,156 @@ describe.skipIf(!enabled)('drive in Chromium', () => {
     await ctx.close();
   }, 400_000);
 
-  it('closing the window mid-run sends the converter back to its 0 V note and releases it', async () => {
-    const { ctx, page, errors } = await openApp({
-      plan: PLAN8,
-      initScript: midiStub(false),
-      kind: 'midi',
-      pace: 1,
-    });
-    await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
-    await waitOpen(page);
-    await page.click('[data-testid="drive-calibrate"]');
-    for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
-    await waitCalibrated(page);
-    await page.click('[data-testid="start-hands-off"]');
-    await waitRows(page, 2);
-    // The page goes away (pagehide, as when the window closes), then the stub's record is read back.
-    await page.reload();
-    const sent: number[][] = await page.evaluate(() =>
-      JSON.parse(sessionStorage.getItem('__midiSent') ?? '[]'),
-    );
-    console.log('e2e drive MIDI bytes, window closed mid-run:', JSON.stringify(sent.slice(-5)));
-    const lastOn = sent.slice(0, -3).findLast((m) => m[0] === 0x90);
-    if (!lastOn) throw new Error(`no note-on before the close: ${JSON.stringify(sent)}`);
-    // MIDI 1.0, channel 1: the step's note off (0x80), the 0 V note (36) on (0x90) and off; nothing after.
-    expect(lastOn[1]).toBeGreaterThan(36);
-    expect(sent.slice(-3)).toEqual(backToRest(lastOn[1]));
-    expect(errors).toEqual([]);
-    await ctx.close();
-  }, 400_000);
-
-  it('faults: MIDI access refused mid-run gives a clear message, keeps the run and leaves the drive at 0 V', async () => {
-    const { ctx, page, errors } = await openApp({
-      plan: [0, 1, 2, 3, 4],
-      initScript: midiStub(true),
-      runRows: 2,
-      kind: 'midi',
-      pace: 1,
-    });
-    await page.waitForSelector('[data-testid="drive-message"]');
-    const text = await page.innerText('[data-testid="drive-message"]');
-    console.log('e2e drive fault (MIDI refused):', text);
-    expect(text).toContain('MIDI access was refused');
-    expect(text).toContain('The run is kept with its captured steps, paused.');
-    expect(await attr(page, 'run-prompt', 'data-phase')).toBe('paused');
-    expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
-    expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
-    expect(errors).toEqual([]);
-    await ctx.close();
-  }, 400_000);
-
-  it('faults: readings that do not fit a line are refused, the run is kept and the converter goes back to its 0 V note', async () => {
-    const { ctx, page, errors } = await openApp({
-      plan: PLAN8,
-      initScript: midiStub(false),
-      runRows: 2,
-      kind: 'midi',
-      pace: 1,
-    });
-    await waitOpen(page);
-    await page.click('[data-testid="drive-calibrate"]');
-    // The calibration's notes move the oscillator: the run is paused before the first one, its steps kept.
-    await page.waitForSelector('[data-testid="drive-cal-paused-run"]');
-    for (const r of [0.003, 2.007, 5.013, 6.2]) await typeReading(page, r);
-    await page.waitForSelector('[data-testid="drive-message"]');
-    const text = await page.innerText('[data-testid="drive-message"]');
-    console.log('e2e drive fault (not a line):', text);
-    expect(text).toContain('do not fit a line');
-    expect(text).toContain('reading 4 (6.2 V)');
-    expect(text).toContain('The drive is back at 0 V.');
-    expect(await attr(page, 'drive-calibration', 'data-calibrated')).toBe('no');
-    expect(await attr(page, 'run-prompt', 'data-phase')).toBe('paused');
-    expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
-    expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
-    const sent = await midiSent(page);
-    expect(sent.slice(-3)).toEqual(backToRest(120));
-    expect(errors).toEqual([]);
-    await ctx.close();
-  }, 400_000);
-
-  it('faults: the DC output device disappearing mid-run pauses the run, keeps its steps and stops the drive', async () => {
-    const { ctx, page, errors } = await openApp({
-      plan: [0, 1, 2, 3, 4, 5],
-      initScript: OUTPUT_STUB,
-      kind: 'dc',
-      pace: 1,
-    });
-    await chooseOutput(page, 'drive-dc-device', 'bench-dc-1');
-    await waitOpen(page);
-    // An output really giving 9.95 V at full scale and +2 mV: each reading follows the level sent.
-    await page.click('[data-testid="drive-calibrate"]');
-    let last = 0;
-    for (let k = 0; k < 4; k++) {
-      await page.waitForFunction(
-        (i) =>
-          document.querySelector('[data-testid="drive-cal-session"]')?.getAttribute('data-reading-index') ===
-          String(i),
-        k,
+  it(
+    'closing the window mid-run sends the converter back to its 0 V note and releases it',
+    { tags: ['real-time'], timeout: 400_000 },
+    async () => {
+      const { ctx, page, errors } = await openApp({
+        plan: PLAN8,
+        initScript: midiStub(false),
+        kind: 'midi',
+        pace: 1,
+      });
+      await chooseOutput(page, 'drive-midi-port', 'stub-out-1');
+      await waitOpen(page);
+      await page.click('[data-testid="drive-calibrate"]');
+      for (const r of [0.003, 2.007, 5.013, 7.017]) await typeReading(page, r);
+      await waitCalibrated(page);
+      await page.click('[data-testid="start-hands-off"]');
+      await waitRows(page, 2);
+      // The page goes away (pagehide, as when the window closes), then the stub's record is read back.
+      await page.reload();
+      const sent: number[][] = await page.evaluate(() =>
+        JSON.parse(sessionStorage.getItem('__midiSent') ?? '[]'),
       );
-      const level = Number(await attr(page, 'drive-status', 'data-output-level'));
-      last = Math.round((9.95 * level + 0.002) * 1000) / 1000;
+      console.log('e2e drive MIDI bytes, window closed mid-run:', JSON.stringify(sent.slice(-5)));
+      const lastOn = sent.slice(0, -3).findLast((m) => m[0] === 0x90);
+      if (!lastOn) throw new Error(`no note-on before the close: ${JSON.stringify(sent)}`);
+      // MIDI 1.0, channel 1: the step's note off (0x80), the 0 V note (36) on (0x90) and off; nothing after.
+      expect(lastOn[1]).toBeGreaterThan(36);
+      expect(sent.slice(-3)).toEqual(backToRest(lastOn[1]));
+      expect(errors).toEqual([]);
+      await ctx.close();
+    },
+  );
+
+  it(
+    'faults: MIDI access refused mid-run gives a clear message, keeps the run and leaves the drive at 0 V',
+    { tags: ['real-time'], timeout: 400_000 },
+    async () => {
+      const { ctx, page, errors } = await openApp({
+        plan: [0, 1, 2, 3, 4],
+        initScript: midiStub(true),
+        runRows: 2,
+        kind: 'midi',
+        pace: 1,
+      });
+      await page.waitForSelector('[data-testid="drive-message"]');
+      const text = await page.innerText('[data-testid="drive-message"]');
+      console.log('e2e drive fault (MIDI refused):', text);
+      expect(text).toContain('MIDI access was refused');
+      expect(text).toContain('The run is kept with its captured steps, paused.');
+      expect(await attr(page, 'run-prompt', 'data-phase')).toBe('paused');
+      expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
+      expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
+      expect(errors).toEqual([]);
+      await ctx.close();
+    },
+  );
+
+  it(
+    'faults: readings that do not fit a line are refused, the run is kept and the converter goes back to its 0 V note',
+    { tags: ['real-time'], timeout: 400_000 },
+    async () => {
+      const { ctx, page, errors } = await openApp({
+        plan: PLAN8,
+        initScript: midiStub(false),
+        runRows: 2,
+        kind: 'midi',
+        pace: 1,
+      });
+      await waitOpen(page);
+      await page.click('[data-testid="drive-calibrate"]');
+      // The calibration's notes move the oscillator: the run is paused before the first one, its steps kept.
+      await page.waitForSelector('[data-testid="drive-cal-paused-run"]');
+      for (const r of [0.003, 2.007, 5.013, 6.2]) await typeReading(page, r);
+      await page.waitForSelector('[data-testid="drive-message"]');
+      const text = await page.innerText('[data-testid="drive-message"]');
+      console.log('e2e drive fault (not a line):', text);
+      expect(text).toContain('do not fit a line');
+      expect(text).toContain('reading 4 (6.2 V)');
+      expect(text).toContain('The drive is back at 0 V.');
+      expect(await attr(page, 'drive-calibration', 'data-calibrated')).toBe('no');
+      expect(await attr(page, 'run-prompt', 'data-phase')).toBe('paused');
+      expect(await rowCount(page)).toBeGreaterThanOrEqual(2);
+      expect(await attr(page, 'drive-status', 'data-at-rest')).toBe('yes');
+      const sent = await midiSent(page);
+      expect(sent.slice(-3)).toEqual(backToRest(120));
+      expect(errors).toEqual([]);
+      await ctx.close();
+    },
+  );
+
+  it(
+    'faults: the DC output device disappearing mid-run pauses the run, keeps its steps and stops the drive',
+    { tags: ['real-time'], timeout: 400_000 },
+    async () => {
+      const { ctx, page, errors } = await openApp({
+        plan: [0, 1, 2, 3, 4, 5],
+        initScript: OUTPUT_STUB,
+        kind: 'dc',
+        pace: 1,
+      });
+      await chooseOutput(page, 'drive-dc-device', 'bench-dc-1');
+      await waitOpen(page);
+      // An output really giving 9.95 V at full scale and +2 mV: each reading follows the level sent.
+      await page.click('[data-testid="drive-calibrate"]');
+      let last = 0;
+      for (let k = 0; k < 4; k++) {
+        await page.waitForFunction(
+          (i) =>
+            document
+              .querySelector('[data-testid="drive-cal-session"]')
+              ?.getAttribute('data-reading-index') === String(i),
+          k,
+        );
+        const level = Number(await attr(page, 'drive-status', 'data-output-level'));
+        last = Math.round((9.95 * level + 0.002) * 1000) / 1000;
+        await typeReading(page, last);
+      }
+      // The hold check: once the level has been held its ten seconds, the meter reads the same (it stayed).
+      await page.waitForFunction(() => {
+        const due = document
+          .querySelector('[data-testid="drive-cal-session"]')
+          ?.getAttribute('data-hold-due-at-ms');
+        return due !== null && due !== undefined && due !== '' && Date.now() >= Number(due);
+      });
       await typeReading(page, last);
-    }
-    // The hold check: once the level has been held its ten seconds, the meter reads the same (it stayed).
-    await page.waitForFunction(() => {
-      const due = document
-        .querySelector('[data-testid="drive-cal-session"]')
-        ?.getAttribute('data-hold-due-at-ms');
-      return due !== null && due !== undefined && due !== '' && Date.now() >= Number(due);
-    });
-    await typeReading(page, last);
-    await waitCalibrated(page);
-    expect(await page.evaluate(() => (window as unknown as { __sinkIds: string[] }).__sinkIds)).toContain(
-      'bench-dc-1',
-    );
-    await page.click('[data-testid="start-hands-off"]');
-    await waitRows(page, 2);
-    const before = await rowCount(page);
-    await page.evaluate(() => (window as unknown as { __unplug(): void }).__unplug());
-    await page.waitForSelector('[data-testid="drive-message"]');
-    const text = await page.innerText('[data-testid="drive-message"]');
-    console.log('e2e drive fault (device gone):', text);
-    expect(text).toContain('output device was disconnected');
-    expect(text).toContain('The run is kept with its captured steps, paused.');
-    expect(text).toContain('The drive is back at 0 V.');
-    await page.waitForFunction(
-      () => document.querySelector('[data-testid="run-prompt"]')?.getAttribute('data-phase') === 'paused',
-    );
-    expect(await rowCount(page)).toBeGreaterThanOrEqual(before);
-    expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
-    expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
-    await page.screenshot({ path: path.join(ARTIFACTS, 'drive-fault-device-gone-1280x900.png') });
-    expect(errors).toEqual([]);
-    await ctx.close();
-  }, 400_000);
+      await waitCalibrated(page);
+      expect(await page.evaluate(() => (window as unknown as { __sinkIds: string[] }).__sinkIds)).toContain(
+        'bench-dc-1',
+      );
+      await page.click('[data-testid="start-hands-off"]');
+      await waitRows(page, 2);
+      const before = await rowCount(page);
+      await page.evaluate(() => (window as unknown as { __unplug(): void }).__unplug());
+      await page.waitForSelector('[data-testid="drive-message"]');
+      const text = await page.innerText('[data-testid="drive-message"]');
+      console.log('e2e drive fault (device gone):', text);
+      expect(text).toContain('output device was disconnected');
+      expect(text).toContain('The run is kept with its captured steps, paused.');
+      expect(text).toContain('The drive is back at 0 V.');
+      await page.waitForFunction(
+        () => document.querySelector('[data-testid="run-prompt"]')?.getAttribute('data-phase') === 'paused',
+      );
+      expect(await rowCount(page)).toBeGreaterThanOrEqual(before);
+      expect(await attr(page, 'drive-status', 'data-open')).not.toBe('yes');
+      expect(await attr(page, 'hands-off-state', 'data-active')).toBe('no');
+      await page.screenshot({ path: path.join(ARTIFACTS, 'drive-fault-device-gone-1280x900.png') });
+      expect(errors).toEqual([]);
+      await ctx.close();
+    },
+  );
 
   // A measurement, not a check of the issue: run by `npm run bench:drive` (vitest.bench-drive.config.ts),
   // not by `npm test`, where it would add a minute and a half of browser time.

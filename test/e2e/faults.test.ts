@@ -83,7 +83,7 @@ async function waitForNextCapture(page: Page, rows: number, fault: string): Prom
   }
 }
 
-describe.skipIf(!enabled)('faults in Chromium', () => {
+describe.skipIf(!enabled)('faults in Chromium', { tags: ['real-time'] }, () => {
   let server: WebServer;
   const browsers: Browser[] = [];
 

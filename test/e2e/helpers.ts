@@ -26,7 +26,7 @@ export const CHROMIUM = '/usr/bin/chromium';
  * benchmark, and anyone watching a run). If the machine cannot keep up, the simulator falls behind the
  * clock instead of dropping audio, so nothing here depends on the machine's speed.
  */
-export const SIM_PACE = Number(process.env.SPANMETER_SIM_PACE ?? 4);
+export const SIM_PACE = Number(process.env.SPANMETER_SIM_PACE ?? 8);
 
 /**
  * The address's query for the simulated oscillator at the tests' pace, plus `rest` (`&unit=…`). A test
