@@ -263,4 +263,35 @@ describe('a saved run reported with its own values', () => {
     expect(reportOfStored({ ...rec, toleranceCents: 10 }, before).toleranceCents).toBe(10);
     expect(verdictFor(resultFromStored(v2({ steps: [], fit: null, advice: [] })), 2).kind).toBe('none');
   });
+
+  it('the verdict takes each step with its expanded uncertainty (guarded acceptance, ISO 14253-1)', () => {
+    // Guarded acceptance after ISO 14253-1:2017: conformance only when |error| + U is inside the tolerance,
+    // nonconformance only when |error| − U is beyond it, otherwise undecided.
+    const row = (volts: number, cents: number, expandedCents: number | null, uncertaintyCents = 0.01) => ({
+      step: volts + 1,
+      nominalVolts: volts,
+      measuredVolts: null,
+      volts,
+      hz: 55 * 2 ** (volts + cents / 1200),
+      noteName: 'A1',
+      noteCents: 0,
+      centsFromIdeal: cents,
+      intervalErrorCents: null,
+      uncertaintyCents,
+      expandedCents,
+    });
+    const base = resultFromStored(v2({ steps: [], fit: null, advice: [] }));
+    const judge = (rows: ReturnType<typeof row>[]) => verdictFor({ ...base, rows }, 1);
+    // 0.8 + 0.1 ≤ 1: within; 0.95 + 0.1 straddles 1; 1.2 − 0.1 > 1: outside.
+    expect(judge([row(0, 0, 0.1), row(1, 0.8, 0.1)]).kind).toBe('pass');
+    const straddle = judge([row(0, 0, 0.1), row(1, 0.95, 0.1)]);
+    expect(straddle.kind).toBe('cannot-tell');
+    expect(straddle.text).toMatch(/^Can't tell yet/);
+    expect(straddle.worstCents).toBeCloseTo(0.95, 12);
+    expect(straddle.worstExpandedCents).toBeCloseTo(0.1, 12);
+    expect(judge([row(0, 0, 0.1), row(1, -1.2, 0.1)]).kind).toBe('fail');
+    // No budget: U = 2 u (k = 2, JCGM 100:2008 §6.3): 0.95 + 2 × 0.01 ≤ 1 is a pass, 0.99 + 0.02 is not.
+    expect(judge([row(0, 0, null), row(1, 0.95, null)]).kind).toBe('pass');
+    expect(judge([row(0, 0, null), row(1, 0.99, null)]).kind).toBe('cannot-tell');
+  });
 });

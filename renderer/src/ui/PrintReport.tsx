@@ -7,6 +7,7 @@ import { memo } from 'react';
 import {
   formatCents,
   formatHz,
+  formatNumber,
   formatUncertainty,
   formatVolts,
   hzColumnDecimals,
@@ -53,7 +54,13 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
           <h1>1 V/octave tracking report</h1>
         </div>
         <div className={`print-verdict ${verdict.kind}`}>
-          {verdict.kind === 'pass' ? 'PASS' : verdict.kind === 'fail' ? 'FAIL' : '—'}
+          {verdict.kind === 'pass'
+            ? 'PASS'
+            : verdict.kind === 'fail'
+              ? 'FAIL'
+              : verdict.kind === 'cannot-tell'
+                ? 'CAN’T TELL'
+                : '—'}
           <span>±{r.toleranceCents} ¢</span>
         </div>
       </header>
@@ -92,7 +99,9 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
         <div>
           <div className="print-label">Worst step from ideal</div>
           <div className="print-figure">
-            {verdict.worstCents === null ? '—' : `${verdict.worstCents.toFixed(2)} ¢`}
+            {verdict.worstCents === null
+              ? '—'
+              : `${formatNumber(verdict.worstCents, 2)} ± ${formatUncertainty(verdict.worstExpandedCents ?? 0)} ¢ (U)`}
           </div>
         </div>
         <div>

@@ -457,7 +457,13 @@ export function RecordsPanel(p: RecordsPanelProps) {
                         <td>
                           {v ? (
                             <span className={`verdict ${v.kind}`} title={v.text}>
-                              {v.kind === 'pass' ? 'Pass' : v.kind === 'fail' ? 'Fail' : '—'}
+                              {v.kind === 'pass'
+                                ? 'Pass'
+                                : v.kind === 'fail'
+                                  ? 'Fail'
+                                  : v.kind === 'cannot-tell'
+                                    ? 'Can’t tell'
+                                    : '—'}
                               {v.worstCents !== null && (
                                 <span className="dim small">
                                   {' '}

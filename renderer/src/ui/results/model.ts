@@ -38,6 +38,8 @@ export interface ResultRow {
   /** Interval error to the next lower voltage, cents; null on the lowest row. */
   readonly intervalErrorCents: number | null;
   readonly uncertaintyCents: number;
+  /** Expanded uncertainty U of the step's error from its budget, cents; null when the step has no budget. */
+  readonly expandedCents: number | null;
 }
 
 /** The tracking fit as shown. */
@@ -118,6 +120,7 @@ export function resultFromAnalysis(a: RunAnalysis): ResultModel {
       centsFromIdeal: r.centsFromIdeal,
       intervalErrorCents: r.intervalErrorCents,
       uncertaintyCents: r.uncertaintyCents,
+      expandedCents: a.result.steps[r.index]?.budget?.expandedCents ?? null,
     })),
   );
   const end = (e: { kind: string; direction?: string; centsAtEnd?: number }) =>
@@ -182,7 +185,10 @@ export function resultFromStored(r: CalibrationResult): ResultModel {
               noteCents: s.centsFromNote,
               centsFromIdeal: s.centsFromIdeal ?? 0,
               intervalErrorCents: s.intervalErrorCents,
-              uncertaintyCents: s.centsFromIdealUncertainty ?? s.uncertaintyCents,
+              // The reading's own standard uncertainty, as the live run and recording tables show it
+              // (ErrorTableHead's COLUMN_HELP.sigma): one meaning for the column in every view.
+              uncertaintyCents: s.uncertaintyCents,
+              expandedCents: s.budget?.expandedCents ?? null,
             },
           ],
     ),

@@ -5,10 +5,11 @@
  */
 import { version as SOFTWARE_VERSION } from '../../../../package.json';
 import { resultToJsonText } from '../../../../dsp/calibration/index.ts';
+import { judgeTolerance } from '../../../../dsp/model/index.ts';
 import type { Run, UnitRecord } from '../../../../main/api-types.ts';
 import { toCsv, type CsvCell } from '../../lib/csv.ts';
 import { CSV_STEP_COLUMNS, fitBudgetLines, stepBudgetCells } from '../../lib/export.ts';
-import { resultFromStored, type ResultModel } from './model.ts';
+import { resultFromStored, type ResultModel, type ResultRow } from './model.ts';
 
 export { SOFTWARE_VERSION };
 
@@ -39,27 +40,56 @@ export interface RunReport {
 
 /** The verdict of a run against a tolerance. */
 export interface Verdict {
-  readonly kind: 'pass' | 'fail' | 'none';
+  /**
+   * `pass`: every step is within the tolerance with its expanded uncertainty; `fail`: some step is beyond it
+   * even after taking its uncertainty off; `cannot-tell`: some step straddles the limit; `none`: too few steps.
+   */
+  readonly kind: 'pass' | 'fail' | 'cannot-tell' | 'none';
   /** Largest |cents from ideal| over the steps, cents; null without steps. */
   readonly worstCents: number | null;
+  /** The expanded uncertainty U of that step, cents; null without steps. */
+  readonly worstExpandedCents: number | null;
   readonly text: string;
 }
 
 /**
- * Pass when every step lies within ±tolerance of the ideal 1 V/oct line through the lowest step.
+ * The expanded uncertainty a row is judged with: its budget's U when the step has one, else twice its
+ * standard uncertainty (k = 2, about 95 % with many degrees of freedom, JCGM 100:2008 §6.3).
+ */
+export function rowExpandedCents(r: ResultRow): number {
+  return r.expandedCents ?? 2 * r.uncertaintyCents;
+}
+
+/**
+ * The run against ±tolerance of the ideal 1 V/oct line through the lowest step, judged with each step's
+ * expanded uncertainty (guarded acceptance, ISO 14253-1, `judgeTolerance` in dsp/model/tolerance.ts): a pass
+ * only when |error| + U is inside the tolerance for every step, a fail when |error| − U is beyond it for any,
+ * otherwise "can't tell yet" with what would settle it.
  *
  * @param result - The run's result.
  * @param toleranceCents - ± cents, > 0.
- * @example verdictFor(result, 2).kind // 'pass' when every |cents from ideal| ≤ 2
+ * @example verdictFor(result, 2).kind // 'pass' when every |cents from ideal| + U ≤ 2
  */
 export function verdictFor(result: ResultModel, toleranceCents: number): Verdict {
-  if (result.rows.length < 2) return { kind: 'none', worstCents: null, text: 'not enough steps' };
-  const worst = Math.max(...result.rows.map((r) => Math.abs(r.centsFromIdeal)));
-  const pass = worst <= toleranceCents;
+  if (result.rows.length < 2)
+    return { kind: 'none', worstCents: null, worstExpandedCents: null, text: 'not enough steps' };
+  const judged = judgeTolerance(
+    result.rows.map((r, i) => ({
+      index: i,
+      volts: r.volts,
+      errorCents: r.centsFromIdeal,
+      budget: { expanded: rowExpandedCents(r), dominant: null },
+    })),
+    toleranceCents,
+  );
+  const worst = judged.steps.reduce((w, st) => (Math.abs(st.errorCents) > Math.abs(w.errorCents) ? st : w));
+  const kind = judged.verdict === 'within' ? 'pass' : judged.verdict === 'outside' ? 'fail' : 'cannot-tell';
+  const said = judged.text.replace(/\.$/, '');
   return {
-    kind: pass ? 'pass' : 'fail',
-    worstCents: worst,
-    text: `${pass ? 'Pass' : 'Fail'}: worst step ${worst.toFixed(2)} ¢ from ideal, tolerance ±${toleranceCents} ¢`,
+    kind,
+    worstCents: Math.abs(worst.errorCents),
+    worstExpandedCents: worst.expandedCents,
+    text: kind === 'pass' ? `Pass: ${said}` : kind === 'fail' ? `Fail: ${said}` : said,
   };
 }
 
