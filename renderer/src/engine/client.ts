@@ -14,15 +14,8 @@ export interface HistoryPoint {
   readonly uncertaintyCents: number;
 }
 
-/** Engine statistics as last reported. */
-export interface EngineStats {
-  readonly loadPercent: number;
-  readonly simLoadPercent: number;
-  readonly maxBlockMs: number;
-  readonly sampleRateHz: number;
-  readonly droppedBlocks: number;
-  readonly maxCaptureMs: number;
-}
+/** Engine statistics as last reported: the worker's `stats` message (protocol.ts) without its tag. */
+export type EngineStats = Omit<Extract<FromEngine, { type: 'stats' }>, 'type'>;
 
 /** Everything the page shows from the engine. */
 export interface EngineView {
@@ -122,18 +115,10 @@ export function foldEngineMessage(v: EngineView, m: FromEngine): EngineView {
         reading: m.kind === 'none' ? null : v.reading,
         settled: false,
       };
-    case 'stats':
-      return {
-        ...v,
-        stats: {
-          loadPercent: m.loadPercent,
-          simLoadPercent: m.simLoadPercent,
-          maxBlockMs: m.maxBlockMs,
-          sampleRateHz: m.sampleRateHz,
-          droppedBlocks: m.droppedBlocks,
-          maxCaptureMs: m.maxCaptureMs,
-        },
-      };
+    case 'stats': {
+      const { type: _type, ...stats } = m;
+      return { ...v, stats };
+    }
     case 'wav-started':
       return { ...v, wav: { fileName: m.fileName, outcome: null } };
     case 'wav-done':

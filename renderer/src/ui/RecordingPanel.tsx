@@ -99,12 +99,7 @@ export function RecordingPanel(p: RecordingPanelProps) {
         <div className="chart-wrap">
           <StepChart
             planVolts={r.steps.map((s) => s.measuredVolts ?? s.volts ?? 0)}
-            steps={(r.table?.rows ?? []).map((row) => ({
-              volts: row.volts,
-              centsFromIdeal: row.centsFromIdeal,
-              intervalErrorCents: row.intervalErrorCents,
-              uncertaintyCents: row.uncertaintyCents,
-            }))}
+            steps={r.table?.rows ?? []}
           />
         </div>
         <FitSummary result={result} />

@@ -563,15 +563,7 @@ export function RunPanel(p: RunPanelProps) {
       {s && (
         <div className="chart-fit">
           <div className="chart-wrap">
-            <StepChart
-              planVolts={s.steps.map((x) => x.measuredVolts ?? x.nominalVolts)}
-              steps={rows.map((r) => ({
-                volts: r.volts,
-                centsFromIdeal: r.centsFromIdeal,
-                intervalErrorCents: r.intervalErrorCents,
-                uncertaintyCents: r.uncertaintyCents,
-              }))}
-            />
+            <StepChart planVolts={s.steps.map((x) => x.measuredVolts ?? x.nominalVolts)} steps={rows} />
           </div>
           {result && <FitSummary result={result} />}
         </div>
