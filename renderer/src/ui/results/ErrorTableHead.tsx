@@ -6,7 +6,8 @@ export const COLUMN_HELP = {
   meter: 'The voltage your meter read at the input jack, volts (used instead of the set voltage when given)',
   ideal: 'Pitch against the ideal 1 V/oct line through the lowest step, cents',
   interval: 'Error of the interval from the next lower voltage, cents (positive: the octave is wide)',
-  sigma: 'Standard uncertainty of the reading, cents (1σ)',
+  sigma:
+    'Standard uncertainty of the pitch reading alone, cents (1σ): estimator, the oscillator’s repeatability and settling. The step’s whole budget (voltage, meter, clock) and its expanded uncertainty are in the budget table.',
 } as const;
 
 export function ErrorTableHead(props: { last: string | null; lastLabel?: string }) {
@@ -33,7 +34,7 @@ export function ErrorTableHead(props: { last: string | null; lastLabel?: string 
           Interval err., ¢
         </th>
         <th scope="col" className="num" title={COLUMN_HELP.sigma}>
-          ±, ¢
+          u reading, ¢
         </th>
         {props.last === null ? (
           <th scope="col">
