@@ -44,6 +44,28 @@ const sharedDetectors = new Map<number, Coarse>();
 /** Hann windows kept per estimator, by length (live windows change length with the pitch). */
 const HANN_CACHE_ENTRIES = 6;
 
+/** The Hann window w[i] = sin²(π(i + ½)/len), i < len (F. J. Harris, Proc. IEEE 66(1), 1978). */
+function hannWindow(len: number): Float64Array {
+  const h = new Float64Array(len);
+  for (let i = 0; i < len; i++) {
+    const s = Math.sin((Math.PI * (i + 0.5)) / len);
+    h[i] = s * s;
+  }
+  return h;
+}
+
+/**
+ * Runs a new coarse detector once over a tone in its own buffer and discards the answer. The detector keeps
+ * nothing from one call to the next (every buffer is rewritten), so later answers are unchanged; the call
+ * lets the JavaScript engine see every step of it before it compiles the hot loops, which otherwise, on
+ * Node 20, can leave compiled code that is thrown away and re-entered on every later call.
+ */
+function warmUp(coarse: Coarse): void {
+  const b = coarse.buf;
+  for (let i = 0; i < b.length; i++) b[i] = Math.sin(0.05 * i) + 0.5 * Math.sin(0.1 * i + 1);
+  coarse.det.findPitch(b, 48000);
+}
+
 /** Options of the pitch estimator. All have defaults. */
 export interface PitchOptions {
   /** Lowest fundamental to report, Hz. Default 10. */
@@ -150,7 +172,10 @@ export class PitchEstimator {
   private fftSize = 0;
   private readonly harmonics: Int32Array;
   private readonly noiseScratch = new Float64Array(64);
-  private noiseFloor = 0;
+  // Set by chooseHarmonics before every use. Starts as NaN, a non-integer, so that the engine keeps the
+  // field as a double from the start: a field that starts as 0 changes its storage when the first double
+  // lands in it, and the other estimators' compiled code then fails its shape checks call after call.
+  private noiseFloor = Number.NaN;
   private hann: Float64Array = new Float64Array(0);
   private hannLength = 0;
   private readonly hanns = new Map<number, Float64Array>();
@@ -233,6 +258,7 @@ export class PitchEstimator {
       const det = PitchDetector.forFloat64Array(lc);
       det.clarityThreshold = 0.9;
       coarse = { det, buf: new Float64Array(lc) };
+      warmUp(coarse);
       detectors.set(lc, coarse);
     }
     const cb = coarse.buf;
@@ -364,11 +390,7 @@ export class PitchEstimator {
   private useHann(len: number): void {
     let h = this.hanns.get(len);
     if (h === undefined) {
-      h = new Float64Array(len);
-      for (let i = 0; i < len; i++) {
-        const s = Math.sin((Math.PI * (i + 0.5)) / len);
-        h[i] = s * s;
-      }
+      h = hannWindow(len);
       // At most a few windows, and no more samples in all than twice the longest window.
       while (
         this.hanns.size > 0 &&
