@@ -150,6 +150,20 @@ function wrapPi(a: number): number {
   return a - TWO_PI * Math.round(a / TWO_PI);
 }
 
+/**
+ * Writes the length-`L` Hann window sin²(π(i + ½)/L) into `win[0…L)` and returns the sum of its values
+ * (F. J. Harris, Proc. IEEE 66(1), 1978). A small function of its own, so that it is optimised early.
+ */
+function hannSegment(win: Float64Array, L: number): number {
+  let wsum = 0;
+  for (let i = 0; i < L; i++) {
+    const s = Math.sin((Math.PI * (i + 0.5)) / L);
+    win[i] = s * s;
+    wsum += s * s;
+  }
+  return wsum;
+}
+
 /** `out[i] = x[s0 + i]·win[i]` for i < L: one segment, windowed (a small function, so it is optimised early). */
 function windowInto(x: Float64Array, s0: number, win: Float64Array, L: number, out: Float64Array): void {
   for (let i = 0; i < L; i++) out[i] = x[s0 + i] * win[i];
@@ -341,13 +355,7 @@ export class HarmonicRefiner {
     if (M < 3 || L < 4) return out;
     const offset = Math.floor((n - M * L) / 2);
     const win = this.win;
-    let wsum = 0;
-    for (let i = 0; i < L; i++) {
-      const s = Math.sin((Math.PI * (i + 0.5)) / L);
-      win[i] = s * s;
-      wsum += s * s;
-    }
-    const invW = 1 / wsum;
+    const invW = 1 / hannSegment(win, L);
     const segSeconds = L / fs;
     for (let m = 0; m < M; m++) this.t[m] = (offset + m * L + (L - 1) / 2) / fs;
 
