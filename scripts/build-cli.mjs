@@ -10,18 +10,9 @@ export const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
 export const BUNDLE = join(ROOT, 'build', 'cli', 'spanmeter.mjs');
 
 // Bundled CommonJS dependencies may call require(); an ESM file has none, so give it one.
-//
-// The command line is a short-lived process: on a 15 s recording most of its time goes to the JavaScript
-// engine compiling the hot loops, not to running them. Without inlining, V8's optimising compiler builds
-// smaller code much sooner; measured on `analyze` of a 15 s stereo recording (Node 20, 10 runs each), the
-// median CPU time fell from 1.34 s to 1.20 s, and the warm per-file time of the live pass did not change
-// beyond the noise. Inlining changes no arithmetic (JavaScript has no fused or reordered floating point),
-// so every number printed is the same. The flag is set before any of the bundle's code runs.
 const BANNER = [
   '#!/usr/bin/env node',
   "import { createRequire as __spanmeterCreateRequire } from 'node:module';",
-  "import { setFlagsFromString as __spanmeterV8Flags } from 'node:v8';",
-  "__spanmeterV8Flags('--no-turbo-inlining');",
   'const require = __spanmeterCreateRequire(import.meta.url);',
 ].join('\n');
 
