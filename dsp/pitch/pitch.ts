@@ -32,6 +32,44 @@ const NO_BREAKS = new Float64Array(0);
  */
 const EDGE = 1 - 1e-5;
 
+/**
+ * Transforms and coarse detectors up to this size are shared by every estimator of the process (they hold
+ * no state between calls, and all calls run on one thread); larger ones belong to their estimator, so that
+ * their memory goes with it.
+ */
+const SHARED_MAX_SIZE = 1 << 17;
+const sharedFfts = new Map<number, FFT>();
+type Coarse = { det: PitchDetector<Float64Array>; buf: Float64Array };
+const sharedDetectors = new Map<number, Coarse>();
+/** Hann windows kept per estimator, by length (live windows change length with the pitch). */
+const HANN_CACHE_ENTRIES = 6;
+
+/** The Hann window w[i] = sin²(π(i + ½)/len), i < len (F. J. Harris, Proc. IEEE 66(1), 1978). */
+function hannWindow(len: number): Float64Array {
+  const h = new Float64Array(len);
+  for (let i = 0; i < len; i++) {
+    const s = Math.sin((Math.PI * (i + 0.5)) / len);
+    h[i] = s * s;
+  }
+  return h;
+}
+
+/**
+ * Runs a new coarse detector once over a tone in its own buffer and discards the answer. The detector keeps
+ * nothing from one call to the next (every buffer is rewritten), so later answers are unchanged; the call
+ * lets the JavaScript engine see every step of it before it compiles the hot loops, which otherwise, on
+ * Node 20, can leave compiled code that is thrown away and re-entered on every later call.
+ */
+function warmUp(coarse: Coarse): void {
+  const b = coarse.buf;
+  for (let i = 0; i < b.length; i++) b[i] = Math.sin(0.05 * i) + 0.5 * Math.sin(0.1 * i + 1);
+  coarse.det.findPitch(b, 48000);
+  // A short burst in silence, so that the normalisation runs out before the end of the lags too.
+  b.fill(0);
+  for (let i = 0; i < 64; i++) b[(b.length >> 1) + i] = Math.sin(0.3 * i);
+  coarse.det.findPitch(b, 48000);
+}
+
 /** Options of the pitch estimator. All have defaults. */
 export interface PitchOptions {
   /** Lowest fundamental to report, Hz. Default 10. */
@@ -118,8 +156,9 @@ function resolve(fs: number, o: PitchOptions): Resolved {
 
 /**
  * A reusable pitch estimator for windows up to `maxSamples` long at one sample rate. Buffers are allocated
- * once (the coarse detector and FFT for each power-of-two size on first use); after that an estimate
- * allocates only the reading it returns and the small temporaries of the `pitchy` call.
+ * once (the coarse detector and FFT for each power-of-two size on first use, shared by all estimators up
+ * to 2¹⁷ points); after that an estimate allocates only the reading it returns, the small temporaries of
+ * the `pitchy` call, and a Hann window the first time it meets a window length (the last few are kept).
  */
 export class PitchEstimator {
   readonly sampleRateHz: number;
@@ -129,7 +168,7 @@ export class PitchEstimator {
   private readonly stats: ConditionStats = { badSamples: 0, peak: 0, clippedFraction: 0, rms: 0 };
   private readonly refiner: HarmonicRefiner;
   private readonly refined: RefineResult = emptyRefineResult();
-  private readonly detectors = new Map<number, { det: PitchDetector<Float64Array>; buf: Float64Array }>();
+  private readonly detectors = new Map<number, Coarse>();
   private readonly ffts = new Map<number, FFT>();
   private readonly fftIn: Float64Array;
   private readonly fftOut: Float64Array;
@@ -137,9 +176,14 @@ export class PitchEstimator {
   private fftSize = 0;
   private readonly harmonics: Int32Array;
   private readonly noiseScratch = new Float64Array(64);
-  private noiseFloor = 0;
-  private readonly hann: Float64Array;
+  // Set by chooseHarmonics before every use. Starts as NaN, a non-integer, so that the engine keeps the
+  // field as a double from the start: a field that starts as 0 changes its storage when the first double
+  // lands in it, and the other estimators' compiled code then fails its shape checks call after call.
+  private noiseFloor = Number.NaN;
+  private hann: Float64Array = new Float64Array(0);
   private hannLength = 0;
+  private readonly hanns = new Map<number, Float64Array>();
+  private hannTotal = 0;
 
   /**
    * @param maxSamples - Longest window, samples (integer ≥ 64).
@@ -159,7 +203,6 @@ export class PitchEstimator {
     this.refiner = new HarmonicRefiner(maxSamples, this.opts.maxHarmonics, 48);
     const nfft = ceilPow2(maxSamples);
     this.fftIn = new Float64Array(nfft);
-    this.hann = new Float64Array(maxSamples);
     this.fftOut = new Float64Array(2 * nfft);
     this.spec = new Float64Array(nfft / 2 + 1);
     this.harmonics = new Int32Array(this.opts.maxHarmonics);
@@ -212,16 +255,18 @@ export class PitchEstimator {
     // Always a power of two, so the per-size detectors stay few (one per size, made on first use).
     const lc = Math.min(ceilPow2(Math.max(1024, coarseWanted)), floorPow2(count));
     const c0 = Math.floor((count - lc) / 2);
-    let coarse = this.detectors.get(lc);
+    const detectors = lc <= SHARED_MAX_SIZE ? sharedDetectors : this.detectors;
+    let coarse = detectors.get(lc);
     if (!coarse) {
       // pitchy's detector takes inputs of exactly its own length: one detector and buffer per size.
       const det = PitchDetector.forFloat64Array(lc);
       det.clarityThreshold = 0.9;
       coarse = { det, buf: new Float64Array(lc) };
-      this.detectors.set(lc, coarse);
+      warmUp(coarse);
+      detectors.set(lc, coarse);
     }
     const cb = coarse.buf;
-    for (let i = 0; i < lc; i++) cb[i] = this.work[c0 + i];
+    cb.set(this.work.subarray(c0, c0 + lc));
     const [mpmHz, clarity] = coarse.det.findPitch(cb, fs);
 
     this.spectrum(count);
@@ -322,19 +367,14 @@ export class PitchEstimator {
     const len = fit ? nfft : count;
     const off = fit ? (count - nfft) >> 1 : 0;
     this.fftSize = nfft;
-    let fft = this.ffts.get(nfft);
+    const ffts = nfft <= SHARED_MAX_SIZE ? sharedFfts : this.ffts;
+    let fft = ffts.get(nfft);
     if (!fft) {
       fft = new FFT(nfft);
-      this.ffts.set(nfft, fft);
+      ffts.set(nfft, fft);
     }
     const inp = this.fftIn;
-    if (this.hannLength !== len) {
-      for (let i = 0; i < len; i++) {
-        const s = Math.sin((Math.PI * (i + 0.5)) / len);
-        this.hann[i] = s * s;
-      }
-      this.hannLength = len;
-    }
+    if (this.hannLength !== len) this.useHann(len);
     for (let i = 0; i < len; i++) inp[i] = this.work[off + i] * this.hann[i];
     for (let i = len; i < nfft; i++) inp[i] = 0;
     // fft.js reads the first `nfft` entries of the input and writes 2·nfft interleaved values.
@@ -345,6 +385,30 @@ export class PitchEstimator {
       const im = out[2 * b + 1];
       this.spec[b] = re * re + im * im;
     }
+  }
+
+  /**
+   * Makes `hann` the length-`len` window w[i] = sin²(π(i + ½)/len), from the few kept by length or newly
+   * computed (the oldest kept one is dropped).
+   */
+  private useHann(len: number): void {
+    let h = this.hanns.get(len);
+    if (h === undefined) {
+      h = hannWindow(len);
+      // At most a few windows, and no more samples in all than twice the longest window.
+      while (
+        this.hanns.size > 0 &&
+        (this.hanns.size >= HANN_CACHE_ENTRIES || this.hannTotal + len > 2 * this.maxSamples)
+      ) {
+        const oldest = this.hanns.keys().next().value as number;
+        this.hannTotal -= oldest;
+        this.hanns.delete(oldest);
+      }
+      this.hanns.set(len, h);
+      this.hannTotal += len;
+    }
+    this.hann = h;
+    this.hannLength = len;
   }
 
   /** Largest spectral power within ±1.5 bins of `hz` (0 outside the spectrum). */

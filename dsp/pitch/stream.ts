@@ -43,6 +43,28 @@ function req(name: string, v: number, lo: number, hi: number, integer = false): 
 }
 
 /**
+ * Copies frames `[from, from + count)` of channel `channel` of an interleaved block (`cc` channels) into
+ * `ring` from `writePos`, wrapping at its end; returns the next write position.
+ */
+function copyIntoRing(
+  block: ArrayLike<number>,
+  from: number,
+  count: number,
+  cc: number,
+  channel: number,
+  ring: Float32Array,
+  writePos: number,
+): number {
+  const cap = ring.length;
+  let w = writePos;
+  for (let i = from; i < from + count; i++) {
+    ring[w] = block[i * cc + channel];
+    w = w + 1 === cap ? 0 : w + 1;
+  }
+  return w;
+}
+
+/**
  * Live pitch tracker over a ring buffer of recent audio.
  *
  * @example
@@ -128,14 +150,16 @@ export class PitchTracker {
   push(block: ArrayLike<number>, onReading?: (reading: PitchReading) => void): number {
     const cc = this.channelCount;
     const frames = Math.floor(block.length / cc);
-    const ring = this.ring;
-    const cap = ring.length;
     let emitted = 0;
-    for (let i = 0; i < frames; i++) {
-      ring[this.writePos] = block[i * cc + this.channel];
-      this.writePos = this.writePos + 1 === cap ? 0 : this.writePos + 1;
-      this.total++;
-      if (++this.sinceReading >= this.hop) {
+    // Copy up to the next reading at a time, then read: the same samples land in the same places as one
+    // at a time would, and each reading sees the same history.
+    for (let i = 0; i < frames;) {
+      const k = Math.min(frames - i, this.hop - this.sinceReading);
+      this.writePos = copyIntoRing(block, i, k, cc, this.channel, this.ring, this.writePos);
+      this.total += k;
+      this.sinceReading += k;
+      i += k;
+      if (this.sinceReading >= this.hop) {
         this.sinceReading = 0;
         const r = this.readNow();
         emitted++;

@@ -139,6 +139,7 @@ export function livePass(
   const blockFrames = quietBlock * Math.ceil(LIVE_BLOCK_FRAMES / quietBlock);
   const block = new Float32Array(blockFrames);
   const quietRuns: number[] = [];
+  const scan = new Float64Array(2);
   const raw: PitchReading[] = [];
   let runStart = -1;
   let anySignal = false;
@@ -151,14 +152,10 @@ export function livePass(
     const x = got === blockFrames ? block : block.subarray(0, got);
     for (let b = 0; b < got; b += quietBlock) {
       const e = Math.min(got, b + quietBlock);
-      let mean = 0;
-      for (let i = b; i < e; i++) mean += x[i];
-      sum += mean;
-      if (!anySignal) for (let i = b; i < e && !anySignal; i++) if (x[i] !== 0) anySignal = true;
-      mean /= e - b;
-      let ss = 0;
-      for (let i = b; i < e; i++) ss += (x[i] - mean) * (x[i] - mean);
-      const quiet = ss * (quietBlock / (e - b)) < limit;
+      const blockSum = scanBlock(x, b, e, scan);
+      sum += blockSum;
+      if (!anySignal && scan[1] !== 0) anySignal = true;
+      const quiet = scan[0] * (quietBlock / (e - b)) < limit;
       if (quiet && runStart < 0) runStart = done + b;
       if (!quiet && runStart >= 0) {
         quietRuns.push(runStart, done + b);
@@ -193,6 +190,25 @@ export function livePass(
     }
   }
   return { readings, centreAt, quietRuns, anySignal, meanLevel: done > 0 ? sum / done : 0, frameCount: done };
+}
+
+/**
+ * One silence block `x[b…e)`: returns the sum of its samples; leaves in `out[0]` the sum of squares about
+ * its mean and in `out[1]` 1 when any sample is non-zero, else 0.
+ */
+function scanBlock(x: Float32Array, b: number, e: number, out: Float64Array): number {
+  let sum = 0;
+  let nonZero = 0;
+  for (let i = b; i < e; i++) {
+    sum += x[i];
+    if (x[i] !== 0) nonZero = 1;
+  }
+  const mean = sum / (e - b);
+  let ss = 0;
+  for (let i = b; i < e; i++) ss += (x[i] - mean) * (x[i] - mean);
+  out[0] = ss;
+  out[1] = nonZero;
+  return sum;
 }
 
 /**
