@@ -40,6 +40,7 @@ import {
   type PlateauDetectorState,
   type PlateauOptions,
 } from './plateau.ts';
+import { fitThermalTail } from './tail.ts';
 import { PLAN_LIMITS, validatePlanVolts, type Plan } from './plan.ts';
 import type { PitchReading, StepFlag, UncertaintyComponents } from '../pitch/index.ts';
 import type { Cents, Hertz, Seconds, Volts } from '../math/index.ts';
@@ -62,7 +63,11 @@ export interface RunOptions {
    * standard errors of zero, when the readings are too noisy to tell less).
    */
   settleLimitCents: Cents;
-  /** How long creep at the current rate is counted as still to come, seconds, in [0, 60]. Default 3.5 (thermal tails of τ up to about 3 s). */
+  /**
+   * The longest thermal tail allowed for, seconds, in [0, 60]. Default 3.5 (thermal tails of τ up to about
+   * 3 s). The tail fit tries time constants up to this; with too few readings for it, creep at the current
+   * rate is counted as still to come for this long. 0 turns the settling test off.
+   */
   creepHorizonSeconds: Seconds;
   /** How long a completed capture window may wait for the creep to die out before it is taken anyway and flagged `still-settling`, seconds, in [0, 600]. Default 4. */
   settleTimeoutSeconds: Seconds;
@@ -91,6 +96,8 @@ const CAPTURE_JUMP_CENTS = 20;
 const MOVE_MARGIN_SECONDS = 0.15;
 /** Trailing span over which the creep's slope is measured, seconds (at least the capture window). */
 const CREEP_WINDOW_SECONDS = 2;
+/** The remaining creep may move a capture by up to this fraction of the window's own standard error (or `settleLimitCents`). */
+const SETTLE_FRACTION = 0.5;
 
 /** Limits of the estimated slope; outside them the start value is used instead, octaves per volt. */
 const SLOPE_LIMITS = [0.25, 4] as const;
@@ -864,15 +871,21 @@ function okComponents(v: unknown): UncertaintyComponents | null {
 }
 
 /**
- * Settling on the slope. Called when the capture window [start, end] has completed at time t: measures
- * the trailing slope b ± u_b of the pitch (dsp/calibration/plateau.ts, trailingSlope, over the last
- * max(2 s, captureSeconds) of the plateau) and counts creep at that rate over `creepHorizonSeconds` H as
- * still to come. The window is taken when (|b| + u_b)·H ≤ settleLimitCents (the creep cannot move the
- * result by more than the limit) or |b| ≤ 2·u_b (no creep the readings can resolve); or, flagged
- * `still-settling`, when the settle timeout has run out. Either way the residual creep enters the step as
- * a rectangular term: settlingCents = (|b| + u_b)·H/√3 (JCGM 100:2008 §4.3.7). For an exponential tail of
- * time constant τ, the window mean lies b·τ²/T·(e^{T/τ} − 1) from the settled value, about 1.6–3.6·|b| for
- * τ = 0.5–3 s and T = 1 s, inside (|b| + u_b)·H with H = 3.5 s.
+ * Settling on the slope. Called when the capture window [start, end] has completed at time t: bounds how
+ * far the window's mean still lies from the settled pitch, and takes the window once that remaining creep
+ * cannot move it by more than `settleLimitCents` or half its own standard error (whichever is larger); or,
+ * flagged `still-settling`, when the settle timeout has run out. Either way the bound B enters the step as a
+ * rectangular term, settlingCents = B/√3 (JCGM 100:2008 §4.3.7).
+ *
+ * The bound comes from an exponential tail c∞ + a·exp(−t/τ) fitted to the plateau's readings from its start
+ * (where the pitch first held still enough to settle, so no reading of the step's glide enters;
+ * {@link fitThermalTail}, dsp/calibration/tail.ts; the exponential settling model, common practice, no
+ * source), τ up to `creepHorizonSeconds`. A tail the fit cannot tell from a steady pitch (F-test) does not
+ * hold the window, but its bound still enters the uncertainty. With too few readings for the fit, it falls
+ * back to the trailing slope b ± u_b (dsp/calibration/plateau.ts, trailingSlope, over the last
+ * max(2 s, captureSeconds)): creep at that rate over H = `creepHorizonSeconds` is counted as still to come,
+ * B = (|b| + u_b)·H, and the window is also taken when |b| ≤ 2·u_b (no creep the readings can resolve). For
+ * an exponential tail of time constant τ ≤ H the window mean lies b·τ²/T·(e^{T/τ} − 1) from the settled value, inside that B.
  */
 function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
   const o = s.options;
@@ -882,17 +895,42 @@ function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
     t - Math.max(CREEP_WINDOW_SECONDS, o.captureSeconds),
   );
   const slope = trailingSlope(s.detector, from, t);
-  if (!slope || !(o.creepHorizonSeconds > 0)) {
-    cap.creepCentsPerSecond = slope ? slope.centsPerSecond : null;
+  cap.creepCentsPerSecond = slope ? slope.centsPerSecond : null;
+  if (!(o.creepHorizonSeconds > 0)) {
     cap.settlingCents = 0;
     return true;
   }
-  const b = Math.abs(slope.centsPerSecond);
-  const ub = slope.standardErrorCentsPerSecond;
   const H = o.creepHorizonSeconds;
-  cap.creepCentsPerSecond = slope.centsPerSecond;
-  cap.settlingCents = ((b + ub) * H) / Math.sqrt(3);
-  if ((b + ub) * H <= o.settleLimitCents || b <= 2 * ub) return true;
+  const fit =
+    cap.plateauStartSeconds !== null && H > 0.05
+      ? fitThermalTail(
+          s.detector.times,
+          s.detector.cents,
+          Math.max(cap.plateauStartSeconds, t - s.options.plateau.maxSettleSeconds),
+          t,
+          cap.startSeconds,
+          cap.endSeconds,
+          H,
+        )
+      : null;
+  const sem = cap.count >= 2 ? Math.sqrt(cap.m2 / (cap.count - 1) / cap.count) : 0;
+  const limit = Math.max(o.settleLimitCents, SETTLE_FRACTION * sem);
+  let bound: number;
+  let settled: boolean;
+  if (fit) {
+    bound = fit.residualBoundCents;
+    settled = bound <= limit || !fit.resolved;
+  } else if (slope) {
+    const b = Math.abs(slope.centsPerSecond);
+    const ub = slope.standardErrorCentsPerSecond;
+    bound = (b + ub) * H;
+    settled = bound <= limit || b <= 2 * ub;
+  } else {
+    cap.settlingCents = 0;
+    return true;
+  }
+  cap.settlingCents = bound / Math.sqrt(3);
+  if (settled) return true;
   if (t - cap.firstCloseSeconds >= o.settleTimeoutSeconds - 1e-9) {
     cap.timedOut = true;
     return true;
