@@ -302,6 +302,8 @@ export type HostMeasurement =
       uncertaintyCents: Cents;
       /** The parts of `uncertaintyCents` (estimator and repeatability), when the host has them. */
       components?: UncertaintyComponents;
+      /** What the host found in the window itself (a recording's `still-settling`), carried to the step. */
+      flags?: readonly StepFlag[];
       /** Breaks in the signal inside the window (the step is then flagged `spans-break`). */
       breaks?: number;
     }
@@ -865,7 +867,7 @@ function okComponents(v: unknown): UncertaintyComponents | null {
   return {
     estimatorCents: c.estimatorCents as number,
     repeatabilityCents: c.repeatabilityCents as number,
-    settlingCents: 0,
+    settlingCents: fin(c.settlingCents) ? (c.settlingCents as number) : 0,
     dof,
   };
 }
@@ -1278,13 +1280,16 @@ function reduce(s: RunState, e: RunEvent): RunState {
           const components: UncertaintyComponents = {
             estimatorCents: hc ? hc.estimatorCents : (r.uncertaintyCents as number) + 0,
             repeatabilityCents: hc ? hc.repeatabilityCents : 0,
-            settlingCents: s.capture.settlingCents,
+            // Both bound the same creep (the host's from the samples, when it measures one): the larger counts.
+            settlingCents: Math.max(s.capture.settlingCents, hc ? hc.settlingCents : 0),
             dof: hc ? hc.dof : Infinity,
           };
           const breaks = (r as { breaks?: unknown }).breaks;
+          const hostFlags = (r as { flags?: unknown }).flags;
           const flags: StepFlag[] = [];
           if (typeof breaks === 'number' && breaks > 0) flags.push('spans-break');
-          if (s.capture.timedOut) flags.push('still-settling');
+          const hostSettling = Array.isArray(hostFlags) && hostFlags.includes('still-settling');
+          if (s.capture.timedOut || hostSettling) flags.push('still-settling');
           storeCapture(s, {
             hz: r.hz as number,
             uncertaintyCents: rss(components),

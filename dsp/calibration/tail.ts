@@ -12,8 +12,13 @@ const TAU_MIN_SECONDS = 0.05;
 const TAU_GRID = 48;
 /** Fewest readings for a fit. */
 const MIN_READINGS = 8;
-/** F₀.₉₅(2, ∞): the exponential (two more parameters) must beat a constant by this (NIST/SEMATECH e-Handbook, §1.3.6.7.3). */
-const F_CRITICAL = 3;
+/**
+ * The F ratio by which the exponential (two more parameters) must beat a constant pitch: 10, well above
+ * F₀.₉₉(2, ∞) = 4.61 (NIST/SEMATECH e-Handbook of Statistical Methods, §1.3.6.7.3), because neighbouring live
+ * readings share samples and are not independent (the margin is common practice, no source; at 3 a clean
+ * simulated oscillator was flagged in 2 of 32 steps, at 10 in none).
+ */
+const F_CRITICAL = 10;
 /** Readings farther than this many robust standard deviations from the first fit are left out of the second. */
 const OUTLIER_SIGMAS = 5;
 
@@ -33,8 +38,8 @@ export interface TailFit {
    */
   readonly residualBoundCents: Cents;
   /**
-   * True when the tail is resolved: the fit beats a constant pitch by an F-test at about the 5 % level
-   * (F = ((RSS₀ − RSS)/2)/s² > 3, F₀.₉₅(2, ∞) = 3.00; NIST/SEMATECH e-Handbook, §1.3.6.7.3 table).
+   * True when the tail is resolved: the fit beats a constant pitch by an F-test,
+   * F = ((RSS₀ − RSS)/2)/s² > 10 (see `F_CRITICAL`).
    */
   readonly resolved: boolean;
   /** Standard deviation of the readings about the best fit, cents. */
