@@ -59,8 +59,9 @@ export interface RunOptions {
   octavesPerVoltStart: number;
   /**
    * How far the creep still under way may move a capture, cents, in [0.0001, 10]. Default 0.01. A capture
-   * closes once the trailing slope, counted over `creepHorizonSeconds`, is within this (or within two
-   * standard errors of zero, when the readings are too noisy to tell less).
+   * closes once the bound on the creep left in its window (an exponential tail fitted to the plateau's
+   * readings, dsp/calibration/tail.ts) is within this or half the window's own standard error, or the fit
+   * cannot tell the pitch from a steady one; else it slides on until `settleTimeoutSeconds`.
    */
   settleLimitCents: Cents;
   /**
