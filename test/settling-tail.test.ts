@@ -8,7 +8,8 @@
 import { describe, expect, it } from 'vitest';
 import { createRun, fitThermalTail, type RunState } from '../dsp/calibration/index.ts';
 import { PitchTracker, type PitchReading } from '../dsp/pitch/index.ts';
-import { createOscillatorStream, trueHz } from '../dsp/sim/index.ts';
+import { analyzeRecording } from '../dsp/recording/index.ts';
+import { createOscillatorStream, planSchedule, renderOscillator, trueHz } from '../dsp/sim/index.ts';
 import { feedReading } from '../renderer/src/engine/run-host.ts';
 import { rng } from './signals.ts';
 
@@ -144,4 +145,32 @@ describe('live runs on a thermal tail (simulator truth)', () => {
       expect(c.startSeconds - i * 3).toBeLessThan(0.8);
     });
   });
+});
+
+describe('recordings on a thermal tail (simulator truth)', () => {
+  for (const [tail, tau, hold] of [
+    [-0.7, 1.5, 3],
+    [-0.7, 1.5, 8],
+    [2, 0.5, 3],
+    [0.2, 3, 5],
+  ] as const) {
+    it(`${tail} cent/V, τ ${tau} s, ${hold} s holds: the last settled window, its creep bounded and flagged`, () => {
+      const rec = renderOscillator(
+        { hz0: 55, tailCentsPerVolt: tail, tailTauSeconds: tau, snrDb: 45, seed: 4, sampleRateHz: 48_000 },
+        planSchedule([0, 1, 2, 3], { holdSeconds: hold, glideSeconds: 0.15 }),
+      );
+      const a = analyzeRecording(rec.samples, rec.sampleRateHz, { points: [0, 1, 2, 3] });
+      if (a.kind !== 'ok') throw new Error(a.message);
+      let inside = 0;
+      a.steps.forEach((st, i) => {
+        // The simulator's pitch at the end of the hold, the tail as far decayed as it got (dsp/sim/simulate.ts).
+        const e = 1200 * Math.log2(st.hz / rec.truth[i].recordedHz);
+        if (!st.flags.includes('still-settling')) expect(Math.abs(e)).toBeLessThanOrEqual(0.02);
+        if (Math.abs(e) <= 2 * st.uncertaintyCents) inside++;
+        // The window is the plateau's last settled part: it ends where the plateau's readings end.
+        expect(st.endSeconds - st.windowEndSeconds).toBeLessThan(0.2);
+      });
+      expect(inside).toBeGreaterThanOrEqual(0.9 * a.steps.length);
+    });
+  }
 });
