@@ -31,6 +31,7 @@ import { z } from 'zod';
 import {
   clonePlateauState,
   createPlateauState,
+  DEFAULT_PLATEAU_OPTIONS,
   isUsablePitch,
   openPlateau,
   pushReading,
@@ -95,6 +96,14 @@ export const DEFAULT_RUN_OPTIONS: Omit<RunOptions, 'plateau'> = Object.freeze({
 const CAPTURE_JUMP_CENTS = 20;
 /** A window taken when the voltage moved on ends this long before the first sign of the move, seconds (three readings at 20 per second). */
 const MOVE_MARGIN_SECONDS = 0.15;
+/**
+ * Floor of the run's settle band half-width, cents (the detector's own default floor is 0.05): a pitch
+ * creeping on a thermal tail at up to about 0.6 cent per second (0.3 cent over the 0.5 s settle) still
+ * settles, so a strong tail is captured (the window waiting on the tail fit, flagged `still-settling` on
+ * the timeout) rather than missed; at 0.05 a tail of 2 cents per volt with τ = 1.5–3 s never settled
+ * within a 3–5 s hold. A voltage step moves the pitch by far more (1 mV is 1.2 cents, docs/facts.md).
+ */
+const RUN_MIN_HALF_WIDTH_CENTS = 0.15;
 /** Trailing span over which the creep's slope is measured, seconds (at least the capture window). */
 const CREEP_WINDOW_SECONDS = 2;
 /** The remaining creep may move a capture by up to this fraction of the window's own standard error (or `settleLimitCents`). */
@@ -360,7 +369,11 @@ export function resolveRunOptions(options: RunOptionsInput = {}): RunOptions {
   checkOption('settleLimitCents', o.settleLimitCents, 0.0001, 10);
   checkOption('creepHorizonSeconds', o.creepHorizonSeconds, 0, 60);
   checkOption('settleTimeoutSeconds', o.settleTimeoutSeconds, 0, 600);
-  return { ...o, plateau: { ...resolvePlateauOptions(plateau ?? {}) } };
+  // A pitch still creeping on a thermal tail settles as a plateau and the tail fit decides when to take it
+  // (settledEnough), so the run's settle band is as wide as the detector allows unless set.
+  const maxHalf = plateau?.maxHalfWidthCents ?? DEFAULT_PLATEAU_OPTIONS.maxHalfWidthCents;
+  const minHalf = Math.min(RUN_MIN_HALF_WIDTH_CENTS, maxHalf);
+  return { ...o, plateau: { ...resolvePlateauOptions({ minHalfWidthCents: minHalf, ...(plateau ?? {}) }) } };
 }
 
 /**
