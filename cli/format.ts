@@ -228,6 +228,15 @@ export function formatFitSummary(analysis: RecordingAnalysisOk): string {
         ]);
       }
     }
+    const creeping = analysis.result.steps.filter((st) => st.flags.includes('still-settling'));
+    if (creeping.length > 0) {
+      const most = Math.max(...creeping.map((st) => st.components?.settlingCents ?? 0)) * Math.sqrt(3);
+      lines.push([
+        'settling',
+        `${creeping.length === 1 ? 'step' : 'steps'} ${creeping.map((st) => `${st.index + 1} (${formatVolts(st.volts)})`).join(', ')} ` +
+          `still crept in ${creeping.length === 1 ? 'its window' : 'their windows'} (up to ${formatUncertainty(most)} cents, counted in the uncertainty); hold each voltage longer`,
+      ]);
+    }
     if (rf.tolerance) lines.push(['tolerance', rf.tolerance.text]);
   }
   const b = model ? null : analysis.bends;

@@ -93,6 +93,8 @@ describe('one plan, every path, one result', () => {
       uncertaintyCents: step.uncertaintyCents,
       // The parts of the uncertainty, as the recording measured them (dsp/pitch/settled.ts).
       ...(step.components ? { components: step.components } : {}),
+      // A creep the recording found in the window (dsp/recording/recording.ts, tailLeft) travels with it.
+      ...(step.flags.includes('still-settling') ? { flags: ['still-settling'] } : {}),
       clarity: 0.99,
       level,
       windowSeconds: 1,

@@ -31,6 +31,7 @@ import { z } from 'zod';
 import {
   clonePlateauState,
   createPlateauState,
+  DEFAULT_PLATEAU_OPTIONS,
   isUsablePitch,
   openPlateau,
   pushReading,
@@ -40,6 +41,7 @@ import {
   type PlateauDetectorState,
   type PlateauOptions,
 } from './plateau.ts';
+import { fitThermalTail } from './tail.ts';
 import { PLAN_LIMITS, validatePlanVolts, type Plan } from './plan.ts';
 import type { PitchReading, StepFlag, UncertaintyComponents } from '../pitch/index.ts';
 import type { Cents, Hertz, Seconds, Volts } from '../math/index.ts';
@@ -58,11 +60,16 @@ export interface RunOptions {
   octavesPerVoltStart: number;
   /**
    * How far the creep still under way may move a capture, cents, in [0.0001, 10]. Default 0.01. A capture
-   * closes once the trailing slope, counted over `creepHorizonSeconds`, is within this (or within two
-   * standard errors of zero, when the readings are too noisy to tell less).
+   * closes once the bound on the creep left in its window (an exponential tail fitted to the plateau's
+   * readings, dsp/calibration/tail.ts) is within this or half the window's own standard error, or the fit
+   * cannot tell the pitch from a steady one; else it slides on until `settleTimeoutSeconds`.
    */
   settleLimitCents: Cents;
-  /** How long creep at the current rate is counted as still to come, seconds, in [0, 60]. Default 3.5 (thermal tails of τ up to about 3 s). */
+  /**
+   * The longest thermal tail allowed for, seconds, in [0, 60]. Default 3.5 (thermal tails of τ up to about
+   * 3 s). The tail fit tries time constants up to this; with too few readings for it, creep at the current
+   * rate is counted as still to come for this long. 0 turns the settling test off.
+   */
   creepHorizonSeconds: Seconds;
   /** How long a completed capture window may wait for the creep to die out before it is taken anyway and flagged `still-settling`, seconds, in [0, 600]. Default 4. */
   settleTimeoutSeconds: Seconds;
@@ -89,8 +96,18 @@ export const DEFAULT_RUN_OPTIONS: Omit<RunOptions, 'plateau'> = Object.freeze({
 const CAPTURE_JUMP_CENTS = 20;
 /** A window taken when the voltage moved on ends this long before the first sign of the move, seconds (three readings at 20 per second). */
 const MOVE_MARGIN_SECONDS = 0.15;
+/**
+ * Floor of the run's settle band half-width, cents (the detector's own default floor is 0.05): a pitch
+ * creeping on a thermal tail at up to about 0.6 cent per second (0.3 cent over the 0.5 s settle) still
+ * settles, so a strong tail is captured (the window waiting on the tail fit, flagged `still-settling` on
+ * the timeout) rather than missed; at 0.05 a tail of 2 cents per volt with τ = 1.5–3 s never settled
+ * within a 3–5 s hold. A voltage step moves the pitch by far more (1 mV is 1.2 cents, docs/facts.md).
+ */
+const RUN_MIN_HALF_WIDTH_CENTS = 0.15;
 /** Trailing span over which the creep's slope is measured, seconds (at least the capture window). */
 const CREEP_WINDOW_SECONDS = 2;
+/** The remaining creep may move a capture by up to this fraction of the window's own standard error (or `settleLimitCents`). */
+const SETTLE_FRACTION = 0.5;
 
 /** Limits of the estimated slope; outside them the start value is used instead, octaves per volt. */
 const SLOPE_LIMITS = [0.25, 4] as const;
@@ -295,6 +312,8 @@ export type HostMeasurement =
       uncertaintyCents: Cents;
       /** The parts of `uncertaintyCents` (estimator and repeatability), when the host has them. */
       components?: UncertaintyComponents;
+      /** What the host found in the window itself (a recording's `still-settling`), carried to the step. */
+      flags?: readonly StepFlag[];
       /** Breaks in the signal inside the window (the step is then flagged `spans-break`). */
       breaks?: number;
     }
@@ -350,7 +369,11 @@ export function resolveRunOptions(options: RunOptionsInput = {}): RunOptions {
   checkOption('settleLimitCents', o.settleLimitCents, 0.0001, 10);
   checkOption('creepHorizonSeconds', o.creepHorizonSeconds, 0, 60);
   checkOption('settleTimeoutSeconds', o.settleTimeoutSeconds, 0, 600);
-  return { ...o, plateau: { ...resolvePlateauOptions(plateau ?? {}) } };
+  // A pitch still creeping on a thermal tail settles as a plateau and the tail fit decides when to take it
+  // (settledEnough), so the run's settle band is as wide as the detector allows unless set.
+  const maxHalf = plateau?.maxHalfWidthCents ?? DEFAULT_PLATEAU_OPTIONS.maxHalfWidthCents;
+  const minHalf = Math.min(RUN_MIN_HALF_WIDTH_CENTS, maxHalf);
+  return { ...o, plateau: { ...resolvePlateauOptions({ minHalfWidthCents: minHalf, ...(plateau ?? {}) }) } };
 }
 
 /**
@@ -858,21 +881,27 @@ function okComponents(v: unknown): UncertaintyComponents | null {
   return {
     estimatorCents: c.estimatorCents as number,
     repeatabilityCents: c.repeatabilityCents as number,
-    settlingCents: 0,
+    settlingCents: fin(c.settlingCents) ? (c.settlingCents as number) : 0,
     dof,
   };
 }
 
 /**
- * Settling on the slope. Called when the capture window [start, end] has completed at time t: measures
- * the trailing slope b ± u_b of the pitch (dsp/calibration/plateau.ts, trailingSlope, over the last
- * max(2 s, captureSeconds) of the plateau) and counts creep at that rate over `creepHorizonSeconds` H as
- * still to come. The window is taken when (|b| + u_b)·H ≤ settleLimitCents (the creep cannot move the
- * result by more than the limit) or |b| ≤ 2·u_b (no creep the readings can resolve); or, flagged
- * `still-settling`, when the settle timeout has run out. Either way the residual creep enters the step as
- * a rectangular term: settlingCents = (|b| + u_b)·H/√3 (JCGM 100:2008 §4.3.7). For an exponential tail of
- * time constant τ, the window mean lies b·τ²/T·(e^{T/τ} − 1) from the settled value, about 1.6–3.6·|b| for
- * τ = 0.5–3 s and T = 1 s, inside (|b| + u_b)·H with H = 3.5 s.
+ * Settling on the slope. Called when the capture window [start, end] has completed at time t: bounds how
+ * far the window's mean still lies from the settled pitch, and takes the window once that remaining creep
+ * cannot move it by more than `settleLimitCents` or half its own standard error (whichever is larger); or,
+ * flagged `still-settling`, when the settle timeout has run out. Either way the bound B enters the step as a
+ * rectangular term, settlingCents = B/√3 (JCGM 100:2008 §4.3.7).
+ *
+ * The bound comes from an exponential tail c∞ + a·exp(−t/τ) fitted to the plateau's readings from its start
+ * (where the pitch first held still enough to settle, so no reading of the step's glide enters;
+ * {@link fitThermalTail}, dsp/calibration/tail.ts; the exponential settling model, common practice, no
+ * source), τ up to `creepHorizonSeconds`. A tail the fit cannot tell from a steady pitch (F-test) does not
+ * hold the window, but its bound still enters the uncertainty. With too few readings for the fit, it falls
+ * back to the trailing slope b ± u_b (dsp/calibration/plateau.ts, trailingSlope, over the last
+ * max(2 s, captureSeconds)): creep at that rate over H = `creepHorizonSeconds` is counted as still to come,
+ * B = (|b| + u_b)·H, and the window is also taken when |b| ≤ 2·u_b (no creep the readings can resolve). For
+ * an exponential tail of time constant τ ≤ H the window mean lies b·τ²/T·(e^{T/τ} − 1) from the settled value, inside that B.
  */
 function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
   const o = s.options;
@@ -882,17 +911,42 @@ function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
     t - Math.max(CREEP_WINDOW_SECONDS, o.captureSeconds),
   );
   const slope = trailingSlope(s.detector, from, t);
-  if (!slope || !(o.creepHorizonSeconds > 0)) {
-    cap.creepCentsPerSecond = slope ? slope.centsPerSecond : null;
+  cap.creepCentsPerSecond = slope ? slope.centsPerSecond : null;
+  if (!(o.creepHorizonSeconds > 0)) {
     cap.settlingCents = 0;
     return true;
   }
-  const b = Math.abs(slope.centsPerSecond);
-  const ub = slope.standardErrorCentsPerSecond;
   const H = o.creepHorizonSeconds;
-  cap.creepCentsPerSecond = slope.centsPerSecond;
-  cap.settlingCents = ((b + ub) * H) / Math.sqrt(3);
-  if ((b + ub) * H <= o.settleLimitCents || b <= 2 * ub) return true;
+  const fit =
+    cap.plateauStartSeconds !== null && H > 0.05
+      ? fitThermalTail(
+          s.detector.times,
+          s.detector.cents,
+          Math.max(cap.plateauStartSeconds, t - s.options.plateau.maxSettleSeconds),
+          t,
+          cap.startSeconds,
+          cap.endSeconds,
+          H,
+        )
+      : null;
+  const sem = cap.count >= 2 ? Math.sqrt(cap.m2 / (cap.count - 1) / cap.count) : 0;
+  const limit = Math.max(o.settleLimitCents, SETTLE_FRACTION * sem);
+  let bound: number;
+  let settled: boolean;
+  if (fit) {
+    bound = fit.residualBoundCents;
+    settled = bound <= limit || !fit.resolved;
+  } else if (slope) {
+    const b = Math.abs(slope.centsPerSecond);
+    const ub = slope.standardErrorCentsPerSecond;
+    bound = (b + ub) * H;
+    settled = bound <= limit || b <= 2 * ub;
+  } else {
+    cap.settlingCents = 0;
+    return true;
+  }
+  cap.settlingCents = bound / Math.sqrt(3);
+  if (settled) return true;
   if (t - cap.firstCloseSeconds >= o.settleTimeoutSeconds - 1e-9) {
     cap.timedOut = true;
     return true;
@@ -1240,13 +1294,16 @@ function reduce(s: RunState, e: RunEvent): RunState {
           const components: UncertaintyComponents = {
             estimatorCents: hc ? hc.estimatorCents : (r.uncertaintyCents as number) + 0,
             repeatabilityCents: hc ? hc.repeatabilityCents : 0,
-            settlingCents: s.capture.settlingCents,
+            // Both bound the same creep (the host's from the samples, when it measures one): the larger counts.
+            settlingCents: Math.max(s.capture.settlingCents, hc ? hc.settlingCents : 0),
             dof: hc ? hc.dof : Infinity,
           };
           const breaks = (r as { breaks?: unknown }).breaks;
+          const hostFlags = (r as { flags?: unknown }).flags;
           const flags: StepFlag[] = [];
           if (typeof breaks === 'number' && breaks > 0) flags.push('spans-break');
-          if (s.capture.timedOut) flags.push('still-settling');
+          const hostSettling = Array.isArray(hostFlags) && hostFlags.includes('still-settling');
+          if (s.capture.timedOut || hostSettling) flags.push('still-settling');
           storeCapture(s, {
             hz: r.hz as number,
             uncertaintyCents: rss(components),

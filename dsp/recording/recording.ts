@@ -33,7 +33,12 @@ import type { BendAnalysisOk, TrackingFitOk } from '../model/index.ts';
 import { A4_HZ, CENTS_PER_OCTAVE, nearestNote, type NearestNote } from '../math/index.ts';
 import { PitchEstimator } from '../pitch/index.ts';
 import type { BudgetOptions } from '../model/index.ts';
-import { calibrate, checkCalibrationOptions, type CapturedStep } from '../calibration/index.ts';
+import {
+  calibrate,
+  checkCalibrationOptions,
+  fitThermalTail,
+  type CapturedStep,
+} from '../calibration/index.ts';
 import { MAX_CONTROL_VOLTS as MAX_VOLTS } from '../calibration/index.ts';
 import {
   findPlateaus,
@@ -41,7 +46,7 @@ import {
   type Plateau,
   type PlateauOptions,
 } from '../calibration/index.ts';
-import type { PitchOk, StepFlag, UncertaintyComponents } from '../pitch/index.ts';
+import type { PitchOk, PitchReading, StepFlag, UncertaintyComponents } from '../pitch/index.ts';
 import type { CalibrationResult } from '../calibration/index.ts';
 import { measureSettled } from '../pitch/index.ts';
 import type { InputNetwork, TrimAdvice } from '../advice/index.ts';
@@ -490,22 +495,32 @@ export function analyzeRecording(
         w1 = (s0 + n) / fs;
       }
     }
+    const flags = (reading && (reading.breaks ?? 0) > 0 ? ['spans-break'] : []) as StepFlag[];
+    let components = (reading?.components ?? {
+      estimatorCents: reading ? reading.uncertaintyCents : p.standardErrorCents,
+      repeatabilityCents: 0,
+      settlingCents: 0,
+      dof: Infinity,
+    }) as UncertaintyComponents;
+    // The creep left in the window, as in a live run (settledEnough, dsp/calibration/run.ts).
+    const creep = reading ? tailLeft(readings, centreAt, p, w0, w1) : null;
+    if (creep) {
+      components = { ...components, settlingCents: creep.settlingCents };
+      if (creep.stillSettling) flags.push('still-settling');
+    }
     return {
       index,
       piece,
       group: g,
       rawHz: reading ? reading.hz : p.meanHz,
-      uncertaintyCents: reading ? reading.uncertaintyCents : p.standardErrorCents,
+      uncertaintyCents: reading
+        ? Math.sqrt(reading.uncertaintyCents ** 2 + components.settlingCents ** 2)
+        : p.standardErrorCents,
       reading,
       windowStartSeconds: reading ? w0 : piece.startSeconds,
       windowEndSeconds: reading ? w1 : piece.endSeconds,
-      flags: (reading && (reading.breaks ?? 0) > 0 ? ['spans-break'] : []) as StepFlag[],
-      components: (reading?.components ?? {
-        estimatorCents: reading ? reading.uncertaintyCents : p.standardErrorCents,
-        repeatabilityCents: 0,
-        settlingCents: 0,
-        dof: Infinity,
-      }) as UncertaintyComponents,
+      flags,
+      components,
     };
   });
 
@@ -584,6 +599,46 @@ export function analyzeRecording(
 /** Shortest window worth measuring at this pitch, seconds. */
 function minWindowSeconds(hz: Hertz): Seconds {
   return Math.max(MIN_WINDOW_SECONDS, MIN_WINDOW_PERIODS / hz);
+}
+
+/** Longest thermal tail allowed for, seconds (the run's default `creepHorizonSeconds`). */
+const TAIL_TAU_MAX_SECONDS = 3.5;
+/** Creep a window may still hold and not be flagged `still-settling`, cents (the run's default `settleLimitCents`). */
+const TAIL_LIMIT_CENTS = 0.01;
+/** The tail fit looks back at most this far before the window, seconds. */
+const TAIL_LOOKBACK_SECONDS = 10;
+
+/**
+ * The creep a step's window [w0, w1] may still hold: an exponential tail fitted to the plateau's live
+ * readings (at their windows' centres) over up to {@link TAIL_LOOKBACK_SECONDS} before the window
+ * (`fitThermalTail`, dsp/calibration/tail.ts; the exponential settling model, common practice, no source).
+ * Its bound B enters as a rectangular term B/√3 (JCGM 100:2008 §4.3.7); a tail the fit resolves whose
+ * bound exceeds {@link TAIL_LIMIT_CENTS} flags the step `still-settling`. Null with too few readings.
+ */
+function tailLeft(
+  readings: readonly PitchReading[],
+  centreAt: ReadonlyMap<number, number>,
+  p: Plateau,
+  w0: Seconds,
+  w1: Seconds,
+): { settlingCents: Cents; stillSettling: boolean } | null {
+  const times: number[] = [];
+  const cents: number[] = [];
+  for (const r of readings) {
+    if (r.kind !== 'ok' || r.timeSeconds < p.startSeconds - 1e-9 || r.timeSeconds > p.endSeconds + 1e-9)
+      continue;
+    const tc = centreAt.get(r.timeSeconds) ?? r.timeSeconds;
+    if (tc < w0 - TAIL_LOOKBACK_SECONDS || tc > w1 + 1e-9) continue;
+    times.push(tc);
+    cents.push(CENTS_PER_OCTAVE * Math.log2(r.hz / p.meanHz));
+  }
+  if (times.length === 0) return null;
+  const fit = fitThermalTail(times, cents, times[0], w1, w0, w1, TAIL_TAU_MAX_SECONDS);
+  if (!fit) return null;
+  return {
+    settlingCents: fit.residualBoundCents / Math.sqrt(3),
+    stillSettling: fit.resolved && fit.residualBoundCents > TAIL_LIMIT_CENTS,
+  };
 }
 
 /** The precise window of a piece: after the settle time, or its whole settled stretch when that is too short. */

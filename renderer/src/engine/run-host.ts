@@ -61,6 +61,8 @@ export function answerPendingCapture(
           uncertaintyCents: m.uncertaintyCents,
           ...(m.components ? { components: m.components } : {}),
           ...(m.breaks ? { breaks: m.breaks } : {}),
+          // A measurer that found creep in the window (a recording's analysis) says so.
+          ...(hostFlags(m).includes('still-settling') ? { flags: ['still-settling' as const] } : {}),
         }
       : { kind: 'unavailable' };
   const next = runReducer(state, {
@@ -71,6 +73,12 @@ export function answerPendingCapture(
     result,
   });
   return { state: next, measured: m.kind === 'ok' ? m : null };
+}
+
+/** Flags a measurer attached to its result (not part of a live reading's shape), or none. */
+function hostFlags(m: PitchReading): readonly unknown[] {
+  const f = (m as unknown as { flags?: unknown }).flags;
+  return Array.isArray(f) ? f : [];
 }
 
 const NO_LEVEL = { rmsDbfs: -Infinity, peakDbfs: -Infinity, clippedFraction: 0 };
