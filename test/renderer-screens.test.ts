@@ -279,6 +279,7 @@ describe('a saved run reported with its own values', () => {
       intervalErrorCents: null,
       uncertaintyCents,
       expandedCents,
+      flags: [],
     });
     const base = resultFromStored(v2({ steps: [], fit: null, advice: [] }));
     const judge = (rows: ReturnType<typeof row>[]) => verdictFor({ ...base, rows }, 1);

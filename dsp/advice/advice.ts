@@ -30,7 +30,7 @@ import {
 } from '../model/index.ts';
 import { nearestNote, A4_HZ } from '../math/index.ts';
 import { centsToMillivolts, voltsPerOctaveAtBase } from '../converter/index.ts';
-import { judgeTolerance, type ToleranceResult } from '../model/index.ts';
+import { budgetSourceName, judgeTolerance, type ToleranceResult } from '../model/index.ts';
 import type { Celsius, Cents, Hertz, Ohms, Volts } from '../math/index.ts';
 
 const CENTS_PER_OCTAVE = 1200;
@@ -964,7 +964,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
       uncertaintyCents: uE,
       text:
         `The scale error (${fmtSigned(e)} ± ${formatUncertainty(uE)} cents per octave, k = ${scaleBudget.coverageFactor.toFixed(2)}) ` +
-        `cannot be told from zero: mostly ${scaleBudget.dominant ?? 'the readings'}. ` +
+        `cannot be told from zero: mostly ${scaleBudget.dominant ? budgetSourceName(scaleBudget.dominant) : 'the readings'}. ` +
         (scaleBudget.dominant === 'reference-voltage'
           ? 'Measure the voltages with a more accurate meter before trimming.'
           : 'Take longer readings at each step before trimming.'),
@@ -1114,7 +1114,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
       status: 'unresolved',
       errorCents: offErr,
       uncertaintyCents: uOff,
-      text: `The tuning error (${fmtSigned(offErr)} ± ${formatUncertainty(uOff)} cents at ${fmtV(refVolts)}) cannot be told from zero: mostly ${offsetBudget.dominant ?? 'the readings'}.`,
+      text: `The tuning error (${fmtSigned(offErr)} ± ${formatUncertainty(uOff)} cents at ${fmtV(refVolts)}) cannot be told from zero: mostly ${offsetBudget.dominant ? budgetSourceName(offsetBudget.dominant) : 'the readings'}.`,
     });
   } else {
     const sharp = offErr > 0;

@@ -154,6 +154,28 @@ export type BudgetSource =
   | 'temperature'
   | 'scatter';
 
+/** Plain names of the contributions, for people: what the advice, the report and the exports say. */
+export const BUDGET_SOURCE_NAMES: Readonly<Record<BudgetSource, string>> = {
+  estimator: 'pitch estimator',
+  repeatability: 'oscillator repeatability',
+  settling: 'settling residual',
+  'reference-voltage': 'reference voltage',
+  'meter-resolution': 'meter resolution',
+  clock: 'interface clock',
+  temperature: 'temperature',
+  scatter: 'scatter about the model',
+};
+
+/**
+ * The plain name of a contribution (its code when the name is not known, as for a record from a later version).
+ *
+ * @param source - A contribution's code.
+ * @example budgetSourceName('reference-voltage') // 'reference voltage'
+ */
+export function budgetSourceName(source: string): string {
+  return (BUDGET_SOURCE_NAMES as Readonly<Record<string, string>>)[source] ?? source;
+}
+
 /** One line of a budget. */
 export interface BudgetContribution {
   readonly source: BudgetSource;

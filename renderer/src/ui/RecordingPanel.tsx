@@ -15,7 +15,7 @@ import {
   hzColumnDecimals,
 } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
-import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
+import { AdviceList, ErrorTableHead, FitSummary, StepFlags, resultFromAnalysis } from './results/index.ts';
 
 export interface RecordingPanelProps {
   fileName: string;
@@ -76,7 +76,10 @@ export function RecordingPanel(p: RecordingPanelProps) {
                   data-start-seconds={String(s.startSeconds)}
                   data-end-seconds={String(s.endSeconds)}
                 >
-                  <td>{s.index + 1}</td>
+                  <td>
+                    {s.index + 1}
+                    <StepFlags flags={s.flags} />
+                  </td>
                   <td>{formatVolts(s.volts, false)}</td>
                   <td>{s.measuredVolts === null ? '' : formatVolts(s.measuredVolts, false)}</td>
                   <td className="num mono">{formatHz(s.hz, hzDecimals)}</td>

@@ -18,7 +18,7 @@ import {
   hzColumnDecimals,
 } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
-import { AdviceList, ErrorTableHead, FitSummary, resultFromAnalysis } from './results/index.ts';
+import { AdviceList, ErrorTableHead, FitSummary, StepFlags, resultFromAnalysis } from './results/index.ts';
 
 export { RUN_KEYS };
 
@@ -391,7 +391,7 @@ export function RunPanel(p: RunPanelProps) {
           {preview.text}
         </span>{' '}
         <span className="field-hint">
-          · commas between values, ranges like 0-7 or 0-4/0.5; decimal point only
+          · commas between values, ranges like 0-7, stepped ranges like 0:0.5:5; decimal point only
         </span>
       </p>
       {p.setup}
@@ -533,7 +533,10 @@ export function RunPanel(p: RunPanelProps) {
                       data-step-started-at={String(p.run?.stepStartedAt[st.index] ?? '')}
                       className={cur ? 'current' : ''}
                     >
-                      <td>{st.index + 1}</td>
+                      <td>
+                        {st.index + 1}
+                        <StepFlags flags={st.capture.flags} />
+                      </td>
                       <td>{formatVolts(st.nominalVolts, false)}</td>
                       <td>{meterCell}</td>
                       <td className="num mono">{formatHz(row.hz, hzDecimals)}</td>

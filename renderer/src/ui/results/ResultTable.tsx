@@ -7,6 +7,7 @@ import {
   hzColumnDecimals,
 } from '../../../../dsp/format/index.ts';
 import { ErrorTableHead } from './ErrorTableHead.tsx';
+import { StepFlags } from './StepFlags.tsx';
 import type { ResultModel } from './model.ts';
 
 export function ResultTable(props: { result: ResultModel; testId?: string; caption?: string }) {
@@ -25,7 +26,10 @@ export function ResultTable(props: { result: ResultModel; testId?: string; capti
               data-hz={String(r.hz)}
               data-interval-error-cents={r.intervalErrorCents === null ? '' : String(r.intervalErrorCents)}
             >
-              <td>{r.step}</td>
+              <td>
+                {r.step}
+                <StepFlags flags={r.flags} />
+              </td>
               <td>{formatVolts(r.nominalVolts, false)}</td>
               <td>{r.measuredVolts === null ? '' : formatVolts(r.measuredVolts, false)}</td>
               <td className="num mono">{formatHz(r.hz, hzDecimals)}</td>

@@ -7,27 +7,17 @@
  */
 import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
 import { formatVolts } from '../../../../dsp/format/index.ts';
+import { BUDGET_SOURCE_NAMES, budgetSourceName } from '../../../../dsp/model/index.ts';
 import { BUDGET_TERM_SOURCES } from '../../lib/export.ts';
 
 /** The contributions dsp/model/budget.ts names, in the order a budget lists them (BudgetSource). */
 export const BUDGET_SOURCES = BUDGET_TERM_SOURCES;
 
-/** Plain names of the contributions, for people (the labels of dsp/model/budget.ts, without their details). */
-export const BUDGET_SOURCE_LABELS: Readonly<Record<string, string>> = {
-  estimator: 'pitch estimator',
-  repeatability: 'oscillator repeatability',
-  settling: 'settling residual',
-  'reference-voltage': 'reference voltage',
-  'meter-resolution': 'meter resolution',
-  clock: 'interface clock',
-  temperature: 'temperature',
-  scatter: 'scatter about the model',
-};
+/** Plain names of the contributions, for people (dsp/model/budget.ts). */
+export const BUDGET_SOURCE_LABELS: Readonly<Record<string, string>> = BUDGET_SOURCE_NAMES;
 
 /** The plain name of a contribution (its code when the name is not known). */
-export function budgetSourceLabel(source: string): string {
-  return BUDGET_SOURCE_LABELS[source] ?? source;
-}
+export const budgetSourceLabel = budgetSourceName;
 
 /** One contribution of a budget. */
 export interface BudgetTermView {

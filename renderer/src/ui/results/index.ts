@@ -11,6 +11,7 @@ export {
   type ResultRow,
 } from './model.ts';
 export { ResultTable } from './ResultTable.tsx';
+export { STEP_FLAG_TEXT, StepFlags } from './StepFlags.tsx';
 export { CompareChart, StepChart } from '../charts.tsx';
 export {
   DEFAULT_TOLERANCE_CENTS,

@@ -5,7 +5,7 @@
  */
 import type { ResistorChange } from '../../../../dsp/advice/index.ts';
 import { formatOhms } from '../../../../dsp/converter/index.ts';
-import type { CalibrationResult } from '../../../../dsp/calibration/index.ts';
+import type { CalibrationResult, StepFlag } from '../../../../dsp/calibration/index.ts';
 import type { RunAnalysis } from '../../lib/analysis.ts';
 import { formatCents, formatNumber } from '../../../../dsp/format/index.ts';
 
@@ -40,6 +40,8 @@ export interface ResultRow {
   readonly uncertaintyCents: number;
   /** Expanded uncertainty U of the step's error from its budget, cents; null when the step has no budget. */
   readonly expandedCents: number | null;
+  /** What deserves a second look (dsp/calibration/result.ts `STEP_FLAGS`). */
+  readonly flags: readonly StepFlag[];
 }
 
 /** The tracking fit as shown. */
@@ -121,6 +123,7 @@ export function resultFromAnalysis(a: RunAnalysis): ResultModel {
       intervalErrorCents: r.intervalErrorCents,
       uncertaintyCents: r.uncertaintyCents,
       expandedCents: a.result.steps[r.index]?.budget?.expandedCents ?? null,
+      flags: a.result.steps[r.index]?.flags ?? [],
     })),
   );
   const end = (e: { kind: string; direction?: string; centsAtEnd?: number }) =>
@@ -189,6 +192,7 @@ export function resultFromStored(r: CalibrationResult): ResultModel {
               // (ErrorTableHead's COLUMN_HELP.sigma): one meaning for the column in every view.
               uncertaintyCents: s.uncertaintyCents,
               expandedCents: s.budget?.expandedCents ?? null,
+              flags: s.flags,
             },
           ],
     ),
