@@ -17,20 +17,9 @@ import {
 } from '../../dsp/model/index.ts';
 import { fitCalibrationModel } from '../../dsp/model/index.ts';
 import { bulkResistanceAlpha } from '../../dsp/sim/index.ts';
+import { rng } from '../../test/helpers/random.ts';
 
 const CENTS = 1200;
-
-/** A small deterministic generator (mulberry32), so every table is reproducible. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function gaussian(r: () => number): number {
   return Math.sqrt(-2 * Math.log(r() + 1e-300)) * Math.cos(2 * Math.PI * r());
