@@ -61,7 +61,9 @@ function ModelBudgetRows(props: { result: CalibrationResult }) {
       )}
       {rf.tolerance && (
         <>
-          <dt>Tolerance ±{rf.tolerance.toleranceCents} ¢</dt>
+          <dt title="Each step's pitch against the 1 V/oct line through the target note at the reference voltage, so the offset counts too, judged with its expanded uncertainty. The unit book's verdict judges tracking alone, against the ideal line through the lowest step.">
+            On the note line ±{rf.tolerance.toleranceCents} ¢
+          </dt>
           <dd data-testid="tolerance-verdict">{rf.tolerance.text}</dd>
         </>
       )}
