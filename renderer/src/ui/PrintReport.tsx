@@ -14,7 +14,7 @@ import {
 } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { BudgetTable } from './results/BudgetTable.tsx';
-import { formatTakenAt, verdictFor, type RunReport } from './results/index.ts';
+import { formatTakenAt, verdictFor, VERDICT_LABELS, type RunReport } from './results/index.ts';
 
 function Meta(props: { k: string; v: string | null | undefined }) {
   return (
@@ -54,13 +54,7 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
           <h1>1 V/octave tracking report</h1>
         </div>
         <div className={`print-verdict ${verdict.kind}`}>
-          {verdict.kind === 'pass'
-            ? 'PASS'
-            : verdict.kind === 'fail'
-              ? 'FAIL'
-              : verdict.kind === 'cannot-tell'
-                ? 'CAN’T TELL'
-                : '—'}
+          {VERDICT_LABELS[verdict.kind].toUpperCase()}
           <span>±{r.toleranceCents} ¢</span>
         </div>
       </header>

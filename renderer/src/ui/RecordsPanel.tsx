@@ -22,6 +22,7 @@ import {
   formatTakenAt,
   reportOfStored,
   verdictFor,
+  VERDICT_LABELS,
   type RunReport,
 } from './results/index.ts';
 
@@ -457,13 +458,7 @@ export function RecordsPanel(p: RecordsPanelProps) {
                         <td>
                           {v ? (
                             <span className={`verdict ${v.kind}`} title={v.text}>
-                              {v.kind === 'pass'
-                                ? 'Pass'
-                                : v.kind === 'fail'
-                                  ? 'Fail'
-                                  : v.kind === 'cannot-tell'
-                                    ? 'Can’t tell'
-                                    : '—'}
+                              {VERDICT_LABELS[v.kind]}
                               {v.worstCents !== null && (
                                 <span className="dim small">
                                   {' '}

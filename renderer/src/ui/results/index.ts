@@ -24,6 +24,7 @@ export {
   reportToCsv,
   reportToJson,
   verdictFor,
+  VERDICT_LABELS,
   type RunReport,
   type Verdict,
 } from './report.ts';

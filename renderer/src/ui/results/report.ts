@@ -52,6 +52,14 @@ export interface Verdict {
   readonly text: string;
 }
 
+/** A verdict in one or two words, as the unit book's list shows it (the printed report shows it in capitals). */
+export const VERDICT_LABELS: Readonly<Record<Verdict['kind'], string>> = {
+  pass: 'Pass',
+  fail: 'Fail',
+  'cannot-tell': 'Can’t tell',
+  none: '—',
+};
+
 /**
  * The expanded uncertainty a row is judged with: its budget's U when the step has one, else twice its
  * standard uncertainty (k = 2, about 95 % with many degrees of freedom, JCGM 100:2008 §6.3).
