@@ -44,12 +44,34 @@ const sharedDetectors = new Map<number, Coarse>();
 /** Hann windows kept per estimator, by length (live windows change length with the pitch). */
 const HANN_CACHE_ENTRIES = 6;
 
-/** The Hann window w[i] = sin²(π(i + ½)/len), i < len (F. J. Harris, Proc. IEEE 66(1), 1978). */
+/** Steps of the rotation in {@link hannWindow} between exact values of the sine. */
+const HANN_RESEED = 32;
+
+/**
+ * The Hann window w[i] = sin²(π(i + ½)/len), i < len (F. J. Harris, Proc. IEEE 66(1), 1978). The sine is
+ * advanced by rotating (cos, sin) through π/len, recomputed exactly every {@link HANN_RESEED} samples so
+ * the rounding error stays near 1e-15, and the second half mirrors the first (w is symmetric): long
+ * windows cost a few multiplications per sample instead of a sine each.
+ */
 function hannWindow(len: number): Float64Array {
   const h = new Float64Array(len);
-  for (let i = 0; i < len; i++) {
-    const s = Math.sin((Math.PI * (i + 0.5)) / len);
+  const step = Math.PI / len;
+  const cs = Math.cos(step);
+  const sn = Math.sin(step);
+  const half = (len + 1) >> 1;
+  let c = 0;
+  let s = 0;
+  for (let i = 0; i < half; i++) {
+    if (i % HANN_RESEED === 0) {
+      c = Math.cos(step * (i + 0.5));
+      s = Math.sin(step * (i + 0.5));
+    } else {
+      const s1 = s * cs + c * sn;
+      c = c * cs - s * sn;
+      s = s1;
+    }
     h[i] = s * s;
+    h[len - 1 - i] = s * s;
   }
   return h;
 }
@@ -58,8 +80,10 @@ function hannWindow(len: number): Float64Array {
  * Runs a new coarse detector once over a tone in its own buffer and discards the answer. The detector keeps
  * nothing from one call to the next (every buffer is rewritten), so later answers are unchanged; the call
  * lets the JavaScript engine see every step of it before it compiles the hot loops, which otherwise, on
- * Node 20, can leave compiled code that is thrown away and re-entered on every later call.
+ * Node 20, can leave compiled code that is thrown away and re-entered on every later call. Once per
+ * process is enough: the detectors of every size share the same code.
  */
+let warmedUp = false;
 function warmUp(coarse: Coarse): void {
   const b = coarse.buf;
   for (let i = 0; i < b.length; i++) b[i] = Math.sin(0.05 * i) + 0.5 * Math.sin(0.1 * i + 1);
@@ -262,7 +286,10 @@ export class PitchEstimator {
       const det = PitchDetector.forFloat64Array(lc);
       det.clarityThreshold = 0.9;
       coarse = { det, buf: new Float64Array(lc) };
-      warmUp(coarse);
+      if (!warmedUp) {
+        warmUp(coarse);
+        warmedUp = true;
+      }
       detectors.set(lc, coarse);
     }
     const cb = coarse.buf;

@@ -5,4 +5,5 @@
  */
 export * from './recording.ts';
 export * from './recording-input.ts';
+export * from './decimate.ts';
 export * from './steady-tone.ts';

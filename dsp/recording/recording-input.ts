@@ -18,6 +18,7 @@ import type { PitchReading } from '../pitch/index.ts';
 import { PitchTracker, type TrackerOptions } from '../pitch/index.ts';
 import type { Hertz, Seconds } from '../math/index.ts';
 import { readWavFrames, type ByteSource, type WavLayout } from '../io/index.ts';
+import { Decimator, decimationFactorFor } from './decimate.ts';
 
 /** One channel of a recording, read a stretch at a time. */
 export interface SampleSource {
@@ -109,11 +110,20 @@ export interface LivePass {
 export type LivePassOptions = Pick<
   TrackerOptions,
   'readingsPerSecond' | 'liveHarmonics' | 'minCycles' | 'minWindowSeconds'
->;
+> & {
+  /**
+   * Read the recording decimated to about 12 kHz (see `decimate.ts`), which is several times faster and
+   * changes no pitch; a recording with its sound above 4.4 kHz is read at its own rate anyway. Default true.
+   */
+  readonly decimate?: boolean;
+};
 
 /**
  * Reads a recording once from start to end in blocks, runs the live tracker over it and marks its silent
  * stretches. Memory: one block, the tracker's one-second ring, and the readings (one object per reading).
+ * The tracker reads the recording decimated to about 12 kHz unless `opts.decimate` is false or the sound
+ * lies mostly above the decimated passband (then the pass is made again at the file's own rate); readings
+ * are stamped in the recording's own time either way.
  *
  * @param source - The recording.
  * @param opts - Tracker settings (readings per second, harmonics, cycles per window, shortest window).
@@ -127,17 +137,49 @@ export function livePass(
   opts: LivePassOptions,
   onProgress?: (fraction: number) => void,
 ): LivePass {
+  const factor = opts.decimate === false ? 1 : decimationFactorFor(source.sampleRateHz);
+  if (factor > 1) {
+    // Decimated, the pass sees a quarter of the samples; a file whose sound lies mostly above the
+    // decimated passband (a step over about 4.8 kHz) is read again at its own rate.
+    let reported = 0;
+    const quick = passAt(source, opts, factor, (f) => onProgress?.((reported = f)));
+    if (quick !== null) return quick;
+    // Progress carries on from where the decimated pass stopped rather than going back.
+    return passAt(source, opts, 1, (f) => onProgress?.(reported + (1 - reported) * f))!;
+  }
+  return passAt(source, opts, 1, onProgress)!;
+}
+
+/**
+ * A decimated block whose signal kept less than this fraction of its energy (about its mean) through the
+ * anti-alias filter had most of its sound above the passband: the pass is made again without decimation.
+ */
+const MIN_KEPT_ENERGY = 0.5;
+
+/**
+ * The live pass with the tracker reading the recording decimated by `factor` (1: as it is). Null when a
+ * block lost more than half its energy to the decimation filter.
+ */
+function passAt(
+  source: SampleSource,
+  opts: LivePassOptions,
+  factor: number,
+  onProgress?: (fraction: number) => void,
+): LivePass | null {
   const fs = source.sampleRateHz;
+  const { decimate: _d, ...trackerOptions } = opts;
   const tracker = new PitchTracker({
-    sampleRateHz: fs,
-    ...opts,
+    sampleRateHz: fs / factor,
+    ...trackerOptions,
     maxWindowSeconds: 1,
     historySeconds: 1,
   });
+  const decimator = factor > 1 ? new Decimator(factor) : null;
   const quietBlock = Math.max(1, Math.round(SILENCE_BLOCK_SECONDS * fs));
   const limit = quietBlock * Math.pow(10, SILENCE_DBFS / 10); // sum of squares of a block at the floor
   const blockFrames = quietBlock * Math.ceil(LIVE_BLOCK_FRAMES / quietBlock);
   const block = new Float32Array(blockFrames);
+  const small = decimator ? new Float32Array(decimator.outputLength(blockFrames)) : block;
   const quietRuns: number[] = [];
   const scan = new Float64Array(2);
   const raw: PitchReading[] = [];
@@ -150,10 +192,12 @@ export function livePass(
     const got = source.read(done, block.subarray(0, Math.min(blockFrames, total - done)));
     if (got <= 0) break;
     const x = got === blockFrames ? block : block.subarray(0, got);
+    let blockSquares = 0;
     for (let b = 0; b < got; b += quietBlock) {
       const e = Math.min(got, b + quietBlock);
       const blockSum = scanBlock(x, b, e, scan);
       sum += blockSum;
+      blockSquares += scan[0];
       if (!anySignal && scan[1] !== 0) anySignal = true;
       const quiet = scan[0] * (quietBlock / (e - b)) < limit;
       if (quiet && runStart < 0) runStart = done + b;
@@ -162,7 +206,20 @@ export function livePass(
         runStart = -1;
       }
     }
-    tracker.push(x, (r) => raw.push(r));
+    if (decimator) {
+      const n = decimator.push(x, small);
+      const y = small.subarray(0, n);
+      // Energy kept, against the block's own (both about their means, per frame of the input).
+      if (
+        blockSquares > limit * (got / quietBlock) &&
+        factor * squaresAboutMean(y) < MIN_KEPT_ENERGY * blockSquares
+      ) {
+        return null;
+      }
+      tracker.push(y, (r) => raw.push(r));
+    } else {
+      tracker.push(x, (r) => raw.push(r));
+    }
     done += got;
     onProgress?.(total > 0 ? done / total : 1);
   }
@@ -172,10 +229,13 @@ export function livePass(
   // what the plateau detector wants; `centreAt` maps those moments back to the windows' centres, since
   // windows change length with the pitch. A window more than half silent is not a reading of the step:
   // after a silence the tracker has no hint and reads over its longest window, which would bridge a short
-  // silence between two holds.
+  // silence between two holds. Decimated readings are moved back by the filter's delay (the last output
+  // of a window is the input `factor − 1` frames before the window's end, delayed by the filter).
+  const shift = decimator ? (decimator.delayFrames + factor - 1) / fs : 0;
   const readings: PitchReading[] = [];
   const centreAt = new Map<number, number>();
-  for (const r of raw) {
+  for (const r0 of raw) {
+    const r = shift === 0 ? r0 : { ...r0, timeSeconds: r0.timeSeconds - shift };
     const t = r.timeSeconds;
     const centre = r.kind === 'ok' ? t - r.windowSeconds / 2 : t;
     centreAt.set(t, centre);
@@ -190,6 +250,16 @@ export function livePass(
     }
   }
   return { readings, centreAt, quietRuns, anySignal, meanLevel: done > 0 ? sum / done : 0, frameCount: done };
+}
+
+/** Sum of squares of `y` about its mean. */
+function squaresAboutMean(y: Float32Array): number {
+  let s = 0;
+  for (let i = 0; i < y.length; i++) s += y[i];
+  const mean = y.length > 0 ? s / y.length : 0;
+  let ss = 0;
+  for (let i = 0; i < y.length; i++) ss += (y[i] - mean) * (y[i] - mean);
+  return ss;
 }
 
 /**

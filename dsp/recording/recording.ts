@@ -121,7 +121,7 @@ export interface RecordingOptions {
   readonly maxWindowSeconds?: Seconds;
   /** Readings per second of the live pass, 2…50. Default 10. */
   readonly readingsPerSecond?: number;
-  /** Harmonics fitted per live reading, 1…64. Default 4. */
+  /** Harmonics fitted per live reading, 1…64. Default 8 (the live pass reads a decimated copy, so more harmonics cost little). */
   readonly liveHarmonics?: number;
   /** Harmonics fitted in a precise window, 1…64. Default 24. */
   readonly windowHarmonics?: number;
@@ -129,6 +129,11 @@ export interface RecordingOptions {
   readonly liveMinCycles?: number;
   /** Shortest live window, seconds, 0.05…1. Default 0.1. */
   readonly liveMinWindowSeconds?: Seconds;
+  /**
+   * Let the live pass read the recording decimated to about 12 kHz (several times faster; the steps are
+   * still measured at the file's own rate). Default true; see `livePass`.
+   */
+  readonly decimateLivePass?: boolean;
   /** Further plateau-detector settings (its `settleSeconds` comes from the option above). */
   readonly plateau?: Partial<Omit<PlateauOptions, 'settleSeconds'>>;
 }
@@ -339,7 +344,7 @@ export function analyzeRecording(
   const minPlateau = checkNumber('minPlateauSeconds', opts.minPlateauSeconds ?? settle, 0, 3600);
   const cap = checkNumber('maxWindowSeconds', opts.maxWindowSeconds ?? 4, 0.25, 30);
   const rps = checkNumber('readingsPerSecond', opts.readingsPerSecond ?? 10, 2, 50);
-  const liveHarmonics = checkNumber('liveHarmonics', opts.liveHarmonics ?? 4, 1, 64, true);
+  const liveHarmonics = checkNumber('liveHarmonics', opts.liveHarmonics ?? 8, 1, 64, true);
   const windowHarmonics = checkNumber('windowHarmonics', opts.windowHarmonics ?? 24, 1, 64, true);
   const liveMinCycles = checkNumber('liveMinCycles', opts.liveMinCycles ?? 20, 3, 1000);
   const liveMinWindow = checkNumber('liveMinWindowSeconds', opts.liveMinWindowSeconds ?? 0.1, 0.05, 1);
@@ -360,7 +365,13 @@ export function analyzeRecording(
   // ---- 1. Live pass (dsp/recording/recording-input.ts: blocks → tracker → readings, silent windows marked) --------
   const pass = livePass(
     source,
-    { readingsPerSecond: rps, liveHarmonics, minCycles: liveMinCycles, minWindowSeconds: liveMinWindow },
+    {
+      readingsPerSecond: rps,
+      liveHarmonics,
+      minCycles: liveMinCycles,
+      minWindowSeconds: liveMinWindow,
+      decimate: opts.decimateLivePass ?? true,
+    },
     onProgress,
   );
   if (!pass.anySignal) {
@@ -607,6 +618,8 @@ const TAIL_TAU_MAX_SECONDS = 3.5;
 const TAIL_LIMIT_CENTS = 0.01;
 /** The tail fit looks back at most this far before the window, seconds. */
 const TAIL_LOOKBACK_SECONDS = 10;
+/** Readings whose uncertainty is over this many times the median of their plateau are left out of the tail fit. */
+const UNCERTAIN_READING_FACTOR = 5;
 
 /**
  * The creep a step's window [w0, w1] may still hold: an exponential tail fitted to the plateau's live
@@ -624,12 +637,24 @@ function tailLeft(
 ): { settlingCents: Cents; stillSettling: boolean } | null {
   const times: number[] = [];
   const cents: number[] = [];
+  const sigmas: number[] = [];
+  const inPlateau: PitchOk[] = [];
   for (const r of readings) {
     if (r.kind !== 'ok' || r.timeSeconds < p.startSeconds - 1e-9 || r.timeSeconds > p.endSeconds + 1e-9)
       continue;
     const tc = centreAt.get(r.timeSeconds) ?? r.timeSeconds;
     if (tc < w0 - TAIL_LOOKBACK_SECONDS || tc > w1 + 1e-9) continue;
-    times.push(tc);
+    inPlateau.push(r);
+    sigmas.push(r.uncertaintyCents);
+  }
+  // A reading far less certain than its neighbours (a window still holding the glide) says nothing about a
+  // creep of hundredths of a cent, and as the first point of an unweighted fit it would set the tail's
+  // start: leave it out.
+  sigmas.sort((a, b) => a - b);
+  const limit = sigmas.length > 0 ? UNCERTAIN_READING_FACTOR * sigmas[sigmas.length >> 1] : Infinity;
+  for (const r of inPlateau) {
+    if (!(r.uncertaintyCents <= limit)) continue;
+    times.push(centreAt.get(r.timeSeconds) ?? r.timeSeconds);
     cents.push(CENTS_PER_OCTAVE * Math.log2(r.hz / p.meanHz));
   }
   if (times.length === 0) return null;

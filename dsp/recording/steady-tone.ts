@@ -77,7 +77,7 @@ export function analyzeSteadyTone(
   const pass = livePass(
     source,
     // A long tone is read at 2 per second over windows nearly that long, so little audio goes unheard.
-    { readingsPerSecond: rps, liveHarmonics: 4, minCycles: 20, minWindowSeconds: Math.min(0.45, 0.9 / rps) },
+    { readingsPerSecond: rps, liveHarmonics: 8, minCycles: 20, minWindowSeconds: Math.min(0.45, 0.9 / rps) },
     opts.onProgress,
   );
   let loudest = -Infinity;
