@@ -108,5 +108,7 @@ export async function run(argv: readonly string[], out: Output = processOutput):
 
 // Run when this file (or the bundle built from it) is the program itself, not when it is imported.
 if (process.argv[1] !== undefined && import.meta.url === pathToFileURL(process.argv[1]).href) {
-  process.exitCode = await run(process.argv.slice(2));
+  void run(process.argv.slice(2)).then((code) => {
+    process.exitCode = code;
+  });
 }

@@ -1,6 +1,7 @@
 // `node scripts/run-cli.mjs <command> [args]`: runs the bundled command line, rebuilding the bundle first
-// only when a file under dsp/ or cli/, package-lock.json or the build script is newer than it. The check is
-// a cheap scan of modification times; esbuild is loaded only when a rebuild is needed.
+// only when a file under dsp/ or cli/, package-lock.json or the build script is newer than it, or when it has no
+// code cache for the Node running it. The check is a cheap scan of modification times; esbuild is loaded only
+// when a rebuild is needed.
 import { readdirSync, statSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -40,6 +41,8 @@ function newerThan(dir, since) {
 function isStale() {
   const built = mtimeMs(BUNDLE);
   if (built === -Infinity) return true;
+  // The code cache is made for one Node version (scripts/build-cli.mjs): another Node gets its own.
+  if (mtimeMs(join(ROOT, 'build', 'cli', `spanmeter.${process.version}.v8cache`)) === -Infinity) return true;
   return (
     SOURCE_FILES.some((f) => mtimeMs(join(ROOT, f)) > built) ||
     SOURCE_DIRS.some((d) => newerThan(join(ROOT, d), built))
