@@ -41,27 +41,23 @@ const SHARED_MAX_SIZE = 1 << 17;
 const sharedFfts = new Map<number, FFT>();
 type Coarse = { det: PitchDetector<Float64Array>; buf: Float64Array };
 const sharedDetectors = new Map<number, Coarse>();
-/** Hann windows kept per estimator, by length (live windows change length with the pitch). */
-const HANN_CACHE_ENTRIES = 6;
 
-/** Steps of the rotation in {@link hannWindow} between exact values of the sine. */
+/** Steps of the rotation in {@link applyHann} between exact values of the sine. */
 const HANN_RESEED = 32;
 
 /**
- * The Hann window w[i] = sin²(π(i + ½)/len), i < len (F. J. Harris, Proc. IEEE 66(1), 1978). The sine is
- * advanced by rotating (cos, sin) through π/len, recomputed exactly every {@link HANN_RESEED} samples so
- * the rounding error stays near 1e-15, and the second half mirrors the first (w is symmetric): long
- * windows cost a few multiplications per sample instead of a sine each.
+ * dst[i] = src[off + i]·w[i] for i < len, with the Hann window w[i] = sin²(π(i + ½)/len) (F. J. Harris,
+ * Proc. IEEE 66(1), 1978). The sine is advanced by rotating (cos, sin) through π/len and recomputed exactly
+ * every {@link HANN_RESEED} samples, so it stays within about 1e-15 of `Math.sin`; no window is stored, so
+ * windows of any length cost neither memory nor a sine per sample.
  */
-function hannWindow(len: number): Float64Array {
-  const h = new Float64Array(len);
+function applyHann(src: Float64Array, off: number, len: number, dst: Float64Array): void {
   const step = Math.PI / len;
   const cs = Math.cos(step);
   const sn = Math.sin(step);
-  const half = (len + 1) >> 1;
   let c = 0;
   let s = 0;
-  for (let i = 0; i < half; i++) {
+  for (let i = 0; i < len; i++) {
     if (i % HANN_RESEED === 0) {
       c = Math.cos(step * (i + 0.5));
       s = Math.sin(step * (i + 0.5));
@@ -70,10 +66,8 @@ function hannWindow(len: number): Float64Array {
       c = c * cs - s * sn;
       s = s1;
     }
-    h[i] = s * s;
-    h[len - 1 - i] = s * s;
+    dst[i] = src[off + i] * (s * s);
   }
-  return h;
 }
 
 /**
@@ -182,7 +176,7 @@ function resolve(fs: number, o: PitchOptions): Resolved {
  * A reusable pitch estimator for windows up to `maxSamples` long at one sample rate. Buffers are allocated
  * once (the coarse detector and FFT for each power-of-two size on first use, shared by all estimators up
  * to 2¹⁷ points); after that an estimate allocates only the reading it returns, the small temporaries of
- * the `pitchy` call, and a Hann window the first time it meets a window length (the last few are kept).
+ * the `pitchy` call (the Hann window is applied on the fly, never stored).
  */
 export class PitchEstimator {
   readonly sampleRateHz: number;
@@ -204,10 +198,6 @@ export class PitchEstimator {
   // field as a double from the start: a field that starts as 0 changes its storage when the first double
   // lands in it, and the other estimators' compiled code then fails its shape checks call after call.
   private noiseFloor = Number.NaN;
-  private hann: Float64Array = new Float64Array(0);
-  private hannLength = 0;
-  private readonly hanns = new Map<number, Float64Array>();
-  private hannTotal = 0;
 
   /**
    * @param maxSamples - Longest window, samples (integer ≥ 64).
@@ -401,8 +391,7 @@ export class PitchEstimator {
       ffts.set(nfft, fft);
     }
     const inp = this.fftIn;
-    if (this.hannLength !== len) this.useHann(len);
-    for (let i = 0; i < len; i++) inp[i] = this.work[off + i] * this.hann[i];
+    applyHann(this.work, off, len, inp);
     for (let i = len; i < nfft; i++) inp[i] = 0;
     // fft.js reads the first `nfft` entries of the input and writes 2·nfft interleaved values.
     fft.realTransform(this.fftOut, inp);
@@ -412,30 +401,6 @@ export class PitchEstimator {
       const im = out[2 * b + 1];
       this.spec[b] = re * re + im * im;
     }
-  }
-
-  /**
-   * Makes `hann` the length-`len` window w[i] = sin²(π(i + ½)/len), from the few kept by length or newly
-   * computed (the oldest kept one is dropped).
-   */
-  private useHann(len: number): void {
-    let h = this.hanns.get(len);
-    if (h === undefined) {
-      h = hannWindow(len);
-      // At most a few windows, and no more samples in all than twice the longest window.
-      while (
-        this.hanns.size > 0 &&
-        (this.hanns.size >= HANN_CACHE_ENTRIES || this.hannTotal + len > 2 * this.maxSamples)
-      ) {
-        const oldest = this.hanns.keys().next().value as number;
-        this.hannTotal -= oldest;
-        this.hanns.delete(oldest);
-      }
-      this.hanns.set(len, h);
-      this.hannTotal += len;
-    }
-    this.hann = h;
-    this.hannLength = len;
   }
 
   /** Largest spectral power within ±1.5 bins of `hz` (0 outside the spectrum). */
