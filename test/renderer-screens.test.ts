@@ -20,6 +20,7 @@ import {
   reportOfStored,
   reportToCsv,
   reportToJson,
+  trackingBasis,
   verdictFor,
 } from '../renderer/src/ui/results/report.ts';
 import { resultFromStored } from '../renderer/src/ui/results/model.ts';
@@ -262,6 +263,10 @@ describe('a saved run reported with its own values', () => {
     expect(verdictFor(resultFromStored(before.result), 10).kind).toBe('pass');
     expect(reportOfStored({ ...rec, toleranceCents: 10 }, before).toleranceCents).toBe(10);
     expect(verdictFor(resultFromStored(v2({ steps: [], fit: null, advice: [] })), 2).kind).toBe('none');
+    // The report says what the verdict judges, so it is not read as the Fit box's note-line check.
+    expect(trackingBasis(2)).toMatch(
+      /^Tracking within ±2 ¢: each step against the ideal 1 V\/oct line through the lowest step \(the offset does not count\)/,
+    );
   });
 
   it('the verdict takes each step with its expanded uncertainty (guarded acceptance, ISO 14253-1)', () => {

@@ -14,7 +14,7 @@ import {
 } from '../../../dsp/format/index.ts';
 import { StepChart } from './charts.tsx';
 import { BudgetTable } from './results/BudgetTable.tsx';
-import { formatTakenAt, verdictFor, VERDICT_LABELS, type RunReport } from './results/index.ts';
+import { formatTakenAt, trackingBasis, verdictFor, VERDICT_LABELS, type RunReport } from './results/index.ts';
 
 function Meta(props: { k: string; v: string | null | undefined }) {
   return (
@@ -111,6 +111,7 @@ export const PrintReport = memo(function PrintReport(props: { report: RunReport 
         </div>
       </div>
       <p className="print-verdict-text">{verdict.text}.</p>
+      <p className="print-verdict-basis">{trackingBasis(r.toleranceCents)}.</p>
       {r.notes && (
         <p className="print-notes">
           <strong>Notes:</strong> {r.notes}

@@ -21,6 +21,7 @@ import {
   ResultTable,
   formatTakenAt,
   reportOfStored,
+  trackingBasis,
   verdictFor,
   VERDICT_LABELS,
   type RunReport,
@@ -586,7 +587,10 @@ export function RecordsPanel(p: RecordsPanelProps) {
               Print report
             </button>
           </div>
-          <p className={`verdict-line ${verdictFor(viewReport.result, viewReport.toleranceCents).kind}`}>
+          <p
+            className={`verdict-line ${verdictFor(viewReport.result, viewReport.toleranceCents).kind}`}
+            title={`${trackingBasis(viewReport.toleranceCents)}.`}
+          >
             {verdictFor(viewReport.result, viewReport.toleranceCents).text}
           </p>
           <ResultTable

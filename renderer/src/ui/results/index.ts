@@ -23,6 +23,7 @@ export {
   reportOfStored,
   reportToCsv,
   reportToJson,
+  trackingBasis,
   verdictFor,
   VERDICT_LABELS,
   type RunReport,

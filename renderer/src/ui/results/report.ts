@@ -61,6 +61,21 @@ export const VERDICT_LABELS: Readonly<Record<Verdict['kind'], string>> = {
 };
 
 /**
+ * What the unit book's verdict judges, in words for its readers (the unit book, the printed report). The Fit
+ * box's "On the note line" row judges something else (each step's pitch on the note line, offset included),
+ * with the same guarded acceptance; each names what it judges.
+ *
+ * @example trackingBasis(1) // 'Tracking within ±1 ¢: each step against the ideal 1 V/oct line through the lowest step …'
+ */
+export function trackingBasis(toleranceCents: number): string {
+  return (
+    `Tracking within ±${String(toleranceCents)} ¢: each step against the ideal 1 V/oct line through ` +
+    'the lowest step (the offset does not count), passed only when its error plus its expanded uncertainty ' +
+    'stays inside'
+  );
+}
+
+/**
  * The expanded uncertainty a row is judged with: its budget's U when the step has one, else twice its
  * standard uncertainty (k = 2, about 95 % with many degrees of freedom, JCGM 100:2008 §6.3).
  */
