@@ -1,14 +1,15 @@
 import { calibrate } from '../dsp/calibration/index.ts';
 import { CalibrationResultSchema, resultToJsonText } from '../dsp/calibration/index.ts';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { chmodSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { chmodSync, existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Midi } from '@tonaljs/tonal';
 import { run } from '../cli/main.ts';
 import { formatCents, formatHz, formatUncertainty } from '../dsp/format/index.ts';
 import { parseAnalyzeArgs } from '../cli/analyze.ts';
 import { gaussianNoise, tone } from './signals.ts';
-import { cli, cliInProcess, type Ran } from './cli-run.ts';
+import { cli, cliInProcess, ROOT, type Ran } from './cli-run.ts';
 import { tempDir, writeWavFile, type WavDepth } from './helpers/wav.ts';
 
 // In-process runs of `book` hit this stand-in, which fails the way a bug would (`book` itself is tested in
@@ -305,6 +306,16 @@ describe('the real program (spawned smoke test)', () => {
       /^spanmeter analyze: no such file: '.*nope\.wav'$/,
     );
     expectFailure(cli('frobnicate'), 2, /^spanmeter: unknown command 'frobnicate'/);
+    // The program itself, started directly, compiles the bundle with the code cache its build made for this
+    // Node (scripts/build-cli.mjs); V8 refusing it would only cost time, and the debug switch says so.
+    expect(existsSync(join(ROOT, 'build', 'cli', `spanmeter.${process.version}.v8cache`))).toBe(true);
+    const direct = spawnSync(process.execPath, [join(ROOT, 'build', 'cli', 'spanmeter.mjs'), '--help'], {
+      encoding: 'utf8',
+      env: { ...process.env, NODE_OPTIONS: '', SPANMETER_DEBUG: '1' },
+    });
+    expect(direct.status).toBe(0);
+    expect(direct.stdout).toMatch(/^usage: spanmeter <command>/);
+    expect(direct.stderr).toBe('');
   }, 120_000);
 });
 
