@@ -5,7 +5,16 @@
  * counted in samples rendered, never on a clock. Truth is the simulator's own pitch (`trueHz`).
  */
 import { describe, expect, it } from 'vitest';
-import { captureSecondsFor, CAPTURE_MIN_CYCLES, DEFAULT_RUN_OPTIONS } from '../dsp/calibration/index.ts';
+import {
+  captureSecondsFor,
+  CAPTURE_MIN_CYCLES,
+  createRun,
+  DEFAULT_RUN_OPTIONS,
+  resolveRunOptions,
+  stepSecondsAt,
+} from '../dsp/calibration/index.ts';
+import type { RunSnapshot } from '../renderer/src/engine/protocol.ts';
+import { promptFor, subAudioNote, subAudioPlanHint } from '../renderer/src/ui/RunPanel.tsx';
 import { trueHz } from '../dsp/sim/index.ts';
 import { LIVE_LOWEST_HZ } from '../renderer/src/engine/core.ts';
 import { simOptions, simSettingsForUnit } from '../renderer/src/lib/sim-settings.ts';
@@ -18,7 +27,7 @@ describe('a live run in the LFO range', () => {
     const options = simOptions(simSettingsForUnit('ol2-0208'));
     expect(trueHz(0, options)).toBeCloseTo(2, 3);
     expect(LIVE_LOWEST_HZ).toBeLessThanOrEqual(2);
-    const { core, lastRun } = engineHarness();
+    const { core, lastRun, messages } = engineHarness();
     core.handle({ type: 'source-sim', sampleRateHz: 48_000, options, volts: 0 });
     core.handle({ type: 'run-start', plan: { id: 'custom', label: 'lfo', volts: [0, 1, 2, 3] } });
     // At most 120 s of simulated audio, in 50 ms ticks.
@@ -41,5 +50,54 @@ describe('a live run in the LFO range', () => {
       if (truth < 3) expect(took).toBeGreaterThan((2 * CAPTURE_MIN_CYCLES) / truth);
       expect(took).toBeLessThan(2 * captureSecondsFor(DEFAULT_RUN_OPTIONS, truth) + 10);
     }
+    // What the run said along the way: the capture prompt names the ten-cycle window, and a step expected
+    // below 20 Hz says about how long it takes.
+    const snaps = messages.flatMap((m): RunSnapshot[] =>
+      m.type === 'run' && m.run ? [m.run] : m.type === 'tick' && m.run ? [m.run] : [],
+    );
+    const capturing0 = snaps.find((r) => r.state.phase === 'capturing' && r.state.current === 0);
+    expect(promptFor(capturing0!.state, true).detail).toMatch(
+      /^Averaging the settled pitch over 5 s \(ten cycles of this low pitch\)/,
+    );
+    const waiting1 = snaps.find((r) => r.state.phase === 'apply-voltage' && r.state.current === 1);
+    expect(subAudioNote(waiting1!.state)).toMatch(/^Below 20 Hz a step takes longer: about 6 s at 4\.0\d Hz/);
+    expect(promptFor(waiting1!.state, true).detail).toContain('about 6 s at 4.0');
+    const waiting3 = snaps.find((r) => r.state.phase === 'apply-voltage' && r.state.current === 3);
+    expect(subAudioNote(waiting3!.state)).toMatch(/about 2 s at 16\.0\d Hz/);
+  });
+});
+
+describe('how long a sub-audio step takes', () => {
+  const o = resolveRunOptions();
+  it.each([
+    // Ten periods to read, the 0.5 s settle, then a capture of max(1 s, ten periods) (dsp/calibration/run.ts).
+    [2, 5 + 0.5 + 5],
+    [4, 2.5 + 0.5 + 2.5],
+    [8.18, 10 / 8.18 + 0.5 + 10 / 8.18],
+    [16, 0.625 + 0.5 + 1],
+    [440, 10 / 440 + 0.5 + 1],
+  ])('%f Hz: %f s', (hz, seconds) => {
+    expect(stepSecondsAt(o, hz)).toBeCloseTo(seconds, 9);
+  });
+
+  it('the capture window holds ten periods below 10 Hz and captureSeconds above', () => {
+    expect(captureSecondsFor(o, 2)).toBe(5);
+    expect(captureSecondsFor(o, 10)).toBe(1);
+    expect(captureSecondsFor(o, 440)).toBe(1);
+    expect(captureSecondsFor(o, null)).toBe(1);
+  });
+
+  it('refuses a pitch that is not a positive frequency', () => {
+    expect(() => stepSecondsAt(o, 0)).toThrow('hz must be a positive frequency, got 0');
+  });
+
+  it('says nothing of it before any pitch is known', () => {
+    expect(subAudioNote(createRun([0, 1]))).toBeNull();
+  });
+
+  it('the plan says it in words', () => {
+    expect(subAudioPlanHint()).toBe(
+      'steps below 20 Hz (LFO range, down to 2 Hz) take longer: about 11 s each at 2 Hz, 3 s at 8 Hz',
+    );
   });
 });

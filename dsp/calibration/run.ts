@@ -112,6 +112,28 @@ export function captureSecondsFor(options: Pick<RunOptions, 'captureSeconds'>, h
   return Math.max(options.captureSeconds, cycles);
 }
 
+/** Pitches below this are sub-audio: their steps take several seconds each, Hz. */
+export const SUB_AUDIO_HZ: Hertz = 20;
+
+/**
+ * About how long a step at a pitch takes from the new voltage to its capture, seconds: a live window of
+ * ten periods (the tracker's, dsp/pitch/stream.ts) before the readings show the new pitch, the plateau's
+ * `settleSeconds`, then the capture window ({@link captureSecondsFor}). A thermal tail the capture waits on
+ * adds to it. In-process engine runs over the demo LFO core took 10.1, 6.0, 3.4 and 2.4 s at 2, 4, 8 and
+ * 16 Hz (test/lfo-engine.test.ts).
+ *
+ * @param options - The run's options (`captureSeconds`, `plateau.settleSeconds`).
+ * @param hz - The step's pitch, Hz, > 0.
+ * @example stepSecondsAt(resolveRunOptions(), 2) // 10.5
+ */
+export function stepSecondsAt(
+  options: Pick<RunOptions, 'captureSeconds'> & { plateau: Pick<PlateauOptions, 'settleSeconds'> },
+  hz: Hertz,
+): Seconds {
+  if (!(hz > 0) || !Number.isFinite(hz)) throw new RangeError(`hz must be a positive frequency, got ${hz}`);
+  return CAPTURE_MIN_CYCLES / hz + options.plateau.settleSeconds + captureSecondsFor(options, hz);
+}
+
 /** A move of the pitch this far from a capture window's mean, cents, means the user moved on. */
 const CAPTURE_JUMP_CENTS = 20;
 /** A window taken when the voltage moved on ends this long before the first sign of the move, seconds (three readings at 20 per second). */
