@@ -154,8 +154,12 @@ interface LowTier {
   probeIn: number;
 }
 
-/** While nothing is heard, look for a sub-audio pitch every this many readings (5 a second at 20 a second). */
-const LOW_PROBE_EVERY = 4;
+/**
+ * While the full-rate window hears no pitch at all (noise, or a sub-audio tone it cannot call too low),
+ * look for a sub-audio pitch every this many readings (once a second at 20 a second): each look costs a
+ * window of up to 5 s, and a tone the full-rate window calls too low ('below-range') is looked for at once.
+ */
+const LOW_PROBE_EVERY = 20;
 
 function req(name: string, v: number, lo: number, hi: number, integer = false): number {
   if (!Number.isFinite(v) || v < lo || v > hi || (integer && !Number.isInteger(v))) {

@@ -62,8 +62,7 @@ export function LiveReadout(props: {
           {ok && ok.hz < 20 && (
             <span data-testid="live-window">
               {' '}
-              · over the last {ok.windowSeconds.toFixed(1)} s (ten cycles: below 20 Hz the reading follows a
-              change slowly)
+              · over the last {ok.windowSeconds.toFixed(1)} s (ten cycles), so a change shows slowly
             </span>
           )}
         </span>
