@@ -108,7 +108,7 @@ export interface LivePass {
 /** Tracker settings of the live pass (a subset of {@link TrackerOptions}). */
 export type LivePassOptions = Pick<
   TrackerOptions,
-  'readingsPerSecond' | 'liveHarmonics' | 'minCycles' | 'minWindowSeconds'
+  'readingsPerSecond' | 'liveHarmonics' | 'minCycles' | 'minWindowSeconds' | 'lowestHz'
 >;
 
 /**
@@ -133,6 +133,8 @@ export function livePass(
     ...opts,
     maxWindowSeconds: 1,
     historySeconds: 1,
+    // Sub-audio pitches: the live pass needs no more of the decimated stream than one window.
+    ...(opts.lowestHz !== undefined ? { lowHistorySeconds: (opts.minCycles ?? 10) / opts.lowestHz } : {}),
   });
   const quietBlock = Math.max(1, Math.round(SILENCE_BLOCK_SECONDS * fs));
   const limit = quietBlock * Math.pow(10, SILENCE_DBFS / 10); // sum of squares of a block at the floor
