@@ -55,7 +55,7 @@ function formatSeconds(sec: number): string {
 /**
  * How long a sub-audio step takes, in words, when the current step's pitch is below 20 Hz; else null.
  *
- * @example subAudioNote(run) // 'Below 20 Hz a step takes longer: about 10 s at 2.00 Hz (ten cycles to read the pitch, then ten to capture it).'
+ * @example subAudioNote(run) // 'Below 20 Hz a step takes longer: about 11 s at 2.00 Hz (ten cycles to read the pitch, then ten to capture it).'
  */
 export function subAudioNote(s: RunState): string | null {
   const hz = currentStepHz(s);
