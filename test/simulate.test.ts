@@ -741,7 +741,7 @@ describe('spanmeter simulate', () => {
     [['--out', 'x.wav', '--bits', '8'], "--bits must be one of 16, 24, 32f, got '8'"],
     [
       ['--out', 'x.wav', '--unit', 'nope'],
-      '--unit must be one of ol3-0412, ol3-0417, ol3-0423, ol3-0431, got',
+      '--unit must be one of ol3-0412, ol3-0417, ol3-0423, ol3-0431, ol2-0208, got',
     ],
     [['--out', 'x.wav', '--hum', '55'], "--hum must be one of 50, 60, off, got '55'"],
     [['--out', 'x.wav', '--hold', 'long'], "--hold must be a number from 0.01 to 600 s, got 'long'"],

@@ -14,7 +14,8 @@
  * - `settling`: a new pitch is settling; `progress` 0…1.
  * - `confirm-pitch`: a pitch settled far from where the fit expects it; see `warning`. The user applies
  *   the right voltage (a new plateau is judged afresh), sends `accept-pitch`, or `redo`.
- * - `capturing`: the capture window is running (`captureSeconds` after settling); `progress` 0…1.
+ * - `capturing`: the capture window is running (`captureSeconds`, or ten periods of a sub-audio pitch,
+ *   after settling); `progress` 0…1.
  * - `measuring`: the window is complete; `pendingCapture` asks the host for its precise measurement.
  * - `captured`: step done; the run moves on by itself after `capturedHoldSeconds` of readings.
  * - `paused`, `finished`, `aborted`.
@@ -91,6 +92,47 @@ export const DEFAULT_RUN_OPTIONS: Omit<RunOptions, 'plateau'> = Object.freeze({
   creepHorizonSeconds: 3.5,
   settleTimeoutSeconds: 4,
 });
+
+/**
+ * Fewest cycles of the pitch a capture window holds: below 10 Hz the window grows past `captureSeconds`
+ * to ten periods (5 s at 2 Hz), as the live tracker's windows do (dsp/pitch/stream.ts).
+ */
+export const CAPTURE_MIN_CYCLES = 10;
+
+/**
+ * Length of the capture window for a pitch: `captureSeconds`, or {@link CAPTURE_MIN_CYCLES} periods when
+ * that is longer (sub-audio pitches).
+ *
+ * @param options - The run's options (`captureSeconds`).
+ * @param hz - The pitch heard or expected, Hz, or null when unknown (then `captureSeconds`).
+ * @example captureSecondsFor({ captureSeconds: 1 }, 2) // 5
+ */
+export function captureSecondsFor(options: Pick<RunOptions, 'captureSeconds'>, hz: Hertz | null): Seconds {
+  const cycles = hz !== null && hz > 0 && Number.isFinite(hz) ? CAPTURE_MIN_CYCLES / hz : 0;
+  return Math.max(options.captureSeconds, cycles);
+}
+
+/** Pitches below this are sub-audio: their steps take several seconds each, Hz. */
+export const SUB_AUDIO_HZ: Hertz = 20;
+
+/**
+ * About how long a step at a pitch takes from the new voltage to its capture, seconds: a live window of
+ * ten periods (the tracker's, dsp/pitch/stream.ts) before the readings show the new pitch, the plateau's
+ * `settleSeconds`, then the capture window ({@link captureSecondsFor}). A thermal tail the capture waits on
+ * adds to it. In-process engine runs over the demo LFO core took 10.1, 6.0, 3.4 and 2.4 s at 2, 4, 8 and
+ * 16 Hz (test/lfo-engine.test.ts).
+ *
+ * @param options - The run's options (`captureSeconds`, `plateau.settleSeconds`).
+ * @param hz - The step's pitch, Hz, > 0.
+ * @example stepSecondsAt(resolveRunOptions(), 2) // 10.5
+ */
+export function stepSecondsAt(
+  options: Pick<RunOptions, 'captureSeconds'> & { plateau: Pick<PlateauOptions, 'settleSeconds'> },
+  hz: Hertz,
+): Seconds {
+  if (!(hz > 0) || !Number.isFinite(hz)) throw new RangeError(`hz must be a positive frequency, got ${hz}`);
+  return CAPTURE_MIN_CYCLES / hz + options.plateau.settleSeconds + captureSecondsFor(options, hz);
+}
 
 /** A move of the pitch this far from a capture window's mean, cents, means the user moved on. */
 const CAPTURE_JUMP_CENTS = 20;
@@ -762,11 +804,12 @@ function startCapture(
   how: CaptureHow,
   expectedHz: number | null,
   plateauStartSeconds: number | null,
+  pitchHz: number | null = expectedHz,
 ): void {
   s.capture = {
     stepIndex,
     startSeconds: atSeconds,
-    endSeconds: atSeconds + s.options.captureSeconds,
+    endSeconds: atSeconds + captureSecondsFor(s.options, pitchHz),
     how,
     expectedHz,
     plateauStartSeconds,
@@ -899,7 +942,7 @@ function okComponents(v: unknown): UncertaintyComponents | null {
  * source), τ up to `creepHorizonSeconds`. A tail the fit cannot tell from a steady pitch (F-test) does not
  * hold the window, but its bound still enters the uncertainty. With too few readings for the fit, it falls
  * back to the trailing slope b ± u_b (dsp/calibration/plateau.ts, trailingSlope, over the last
- * max(2 s, captureSeconds)): creep at that rate over H = `creepHorizonSeconds` is counted as still to come,
+ * max(2 s, the capture window)): creep at that rate over H = `creepHorizonSeconds` is counted as still to come,
  * B = (|b| + u_b)·H, and the window is also taken when |b| ≤ 2·u_b (no creep the readings can resolve). For
  * an exponential tail of time constant τ ≤ H the window mean lies b·τ²/T·(e^{T/τ} − 1) from the settled value, inside that B.
  */
@@ -908,7 +951,7 @@ function settledEnough(s: RunState, cap: CaptureWindow, t: number): boolean {
   if (cap.firstCloseSeconds === null) cap.firstCloseSeconds = t;
   const from = Math.max(
     cap.plateauStartSeconds ?? cap.startSeconds,
-    t - Math.max(CREEP_WINDOW_SECONDS, o.captureSeconds),
+    t - Math.max(CREEP_WINDOW_SECONDS, cap.endSeconds - cap.startSeconds),
   );
   const slope = trailingSlope(s.detector, from, t);
   cap.creepCentsPerSecond = slope ? slope.centsPerSecond : null;
@@ -1028,9 +1071,9 @@ function closeBeforeMove(s: RunState, cap: CaptureWindow, plateau: Plateau, t: n
   return true;
 }
 
-/** Moves a completed window on to the latest `captureSeconds` and rebuilds its live statistics. */
+/** Moves a completed window on to end at t (same length) and rebuilds its live statistics. */
 function slideWindow(s: RunState, cap: CaptureWindow, t: number): void {
-  cap.startSeconds = t - s.options.captureSeconds;
+  cap.startSeconds = t - (cap.endSeconds - cap.startSeconds);
   cap.endSeconds = t;
   cap.anchorHz = null;
   cap.count = 0;
@@ -1087,7 +1130,7 @@ function judge(s: RunState, stepIndex: number, heardHz: number): Verdict {
 function onSettled(s: RunState, heardHz: number, plateauStart: number, atSeconds: number): void {
   const v = judge(s, s.current, heardHz);
   if (v.kind === 'take') {
-    startCapture(s, s.current, atSeconds, v.how, v.expectedHz, plateauStart);
+    startCapture(s, s.current, atSeconds, v.how, v.expectedHz, plateauStart, heardHz);
   } else if (v.kind === 'same-pitch') {
     note(s, { kind: 'same-pitch-ignored', stepIndex: s.current, heardHz, atSeconds: s.lastSeconds });
     if (s.phase !== 'confirm-pitch') toListening(s);
@@ -1117,7 +1160,7 @@ function reconsider(s: RunState): void {
   if (!p || s.lastSeconds === null) return;
   const v = judge(s, s.current, p.meanHz);
   if (v.kind === 'take' && v.how === 'expected') {
-    startCapture(s, s.current, s.lastSeconds, v.how, v.expectedHz, p.startSeconds);
+    startCapture(s, s.current, s.lastSeconds, v.how, v.expectedHz, p.startSeconds, p.meanHz);
   }
 }
 
@@ -1411,7 +1454,8 @@ function reduce(s: RunState, e: RunEvent): RunState {
       if (s.phase === 'capturing' || s.phase === 'measuring') return ignore(s, type, 'already-capturing');
       if (s.lastSeconds === null) return ignore(s, type, 'no-readings-yet');
       const exp = expectedPitch(s, s.current);
-      startCapture(s, s.current, s.lastSeconds, 'manual', exp ? exp.expectedHz : null, null);
+      const heard = openPlateau(s.detector)?.meanHz ?? null;
+      startCapture(s, s.current, s.lastSeconds, 'manual', exp ? exp.expectedHz : null, null, heard);
       return s;
     }
     case 'accept-pitch': {
@@ -1423,7 +1467,7 @@ function reduce(s: RunState, e: RunEvent): RunState {
         return ignore(s, type, 'warning-plateau-gone');
       }
       const w = s.warning;
-      startCapture(s, s.current, s.lastSeconds, 'accepted-anyway', w.expectedHz, p.startSeconds);
+      startCapture(s, s.current, s.lastSeconds, 'accepted-anyway', w.expectedHz, p.startSeconds, p.meanHz);
       return s;
     }
     default:

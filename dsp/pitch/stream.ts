@@ -3,11 +3,18 @@
  * come out at a fixed rate over a window sized to the frequency, and a long settled average of any recent
  * span can be asked for at any time.
  *
- * Everything is allocated in the constructor (the ring of recent audio and the estimators' buffers); after
+ * Sub-audio pitches (LFO cores; MIDI note 0 is 8.18 Hz) need windows of many seconds: ten cycles of 2 Hz are
+ * 5 s, 240 000 samples at 48 kHz. With `lowestHz` below the reach of the full-rate windows
+ * (`minCycles / maxWindowSeconds`, 10 Hz by default), the tracker also keeps a decimated copy of the stream
+ * (a sample rate of 8 kHz to 16 kHz, whatever the input's) and measures the low pitches on it, so their
+ * memory and work are those of a 8 kHz stream: ten cycles of 2 Hz are 40 000 samples there, whatever the
+ * input's rate. Audio-range pitches are measured at the full rate exactly as before.
+ *
+ * Everything is allocated in the constructor (the rings of recent audio and the estimators' buffers); after
  * the first readings at each window size (warm-up), `push` allocates only the reading objects it emits.
  */
 
-import { PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
+import { MIN_SAMPLE_RATE_HZ, PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
 import type { PitchReading } from './reading.ts';
 import { MAX_BREAKS } from './refine.ts';
 import { measureSettled } from './settled.ts';
@@ -33,7 +40,126 @@ export interface TrackerOptions extends Omit<PitchOptions, 'timeSeconds' | 'hint
   readonly channel?: number;
   /** Harmonics fitted per live reading (settled averages use up to 64). Default 12. */
   readonly liveHarmonics?: number;
+  /**
+   * Lowest pitch the tracker follows, Hz, 0.5 to 20. Default: the reach of the full-rate windows,
+   * `minCycles / maxWindowSeconds` (10 Hz with the defaults). Lower, and pitches below that reach are
+   * measured on a decimated copy of the stream with windows of `minCycles` periods (5 s for 2 Hz).
+   */
+  readonly lowestHz?: Hertz;
+  /** Decimated audio kept for settled averages of sub-audio pitches, seconds. Default 2.5 × the longest sub-audio window, at least 12. */
+  readonly lowHistorySeconds?: Seconds;
 }
+
+/**
+ * A streaming decimator by an integer factor D: three cascaded moving averages of D samples (a third-order
+ * CIC filter, E. B. Hogenauer, "An economical class of digital filters for decimation and interpolation",
+ * IEEE Trans. ASSP 29(2), 1981), evaluated directly as one FIR of 3D − 2 taps so that no integrator
+ * accumulates rounding. Its nulls sit on every multiple of the output rate, where the aliases of the band a
+ * sub-audio tone's harmonics occupy come from; it is linear-phase, so it delays every frequency alike and
+ * moves no pitch.
+ */
+class Decimator {
+  readonly factor: number;
+  private readonly taps: Float64Array;
+  private readonly hist: Float64Array;
+  private pos = 0;
+  private phase = 0;
+
+  constructor(factor: number) {
+    this.factor = factor;
+    // The kernel: a box of D convolved with itself twice, normalised to unit gain at DC.
+    const box = new Float64Array(factor).fill(1);
+    let k: Float64Array = box;
+    for (let pass = 0; pass < 2; pass++) {
+      const next = new Float64Array(k.length + factor - 1);
+      for (let i = 0; i < k.length; i++) for (let j = 0; j < factor; j++) next[i + j] += k[i];
+      k = next;
+    }
+    const norm = factor * factor * factor;
+    for (let i = 0; i < k.length; i++) k[i] /= norm;
+    this.taps = k;
+    this.hist = new Float64Array(k.length);
+  }
+
+  /** Output samples the filter gives before its history is full (they see zeros before the stream). */
+  get startup(): number {
+    return Math.ceil((this.taps.length - this.factor) / this.factor);
+  }
+
+  /** Input index (of the full-rate stream) at the centre of output sample `j`. */
+  centreOf(j: number): number {
+    return j * this.factor - 0.5 * (this.factor - 1);
+  }
+
+  /**
+   * Takes frames `[from, from + count)` of channel `channel` of an interleaved block; writes each output
+   * sample into `ring` from `writePos`, wrapping. Returns the number of output samples written.
+   */
+  push(
+    block: ArrayLike<number>,
+    from: number,
+    count: number,
+    cc: number,
+    channel: number,
+    ring: Float32Array,
+    writePos: number,
+  ): number {
+    const L = this.taps.length;
+    const D = this.factor;
+    const h = this.hist;
+    const taps = this.taps;
+    const cap = ring.length;
+    let w = writePos;
+    let out = 0;
+    for (let i = from; i < from + count; i++) {
+      const x = block[i * cc + channel];
+      h[this.pos] = Number.isFinite(x) ? x : Number.NaN;
+      this.pos = this.pos + 1 === L ? 0 : this.pos + 1;
+      if (++this.phase < D) continue;
+      this.phase = 0;
+      let acc = 0;
+      let q = this.pos;
+      for (let t = 0; t < L; t++) {
+        acc += taps[t] * h[q];
+        q = q + 1 === L ? 0 : q + 1;
+      }
+      ring[w] = acc;
+      w = w + 1 === cap ? 0 : w + 1;
+      out++;
+    }
+    return out;
+  }
+
+  reset(): void {
+    this.hist.fill(0);
+    this.pos = 0;
+    this.phase = 0;
+  }
+}
+
+/** The decimated side of a tracker, for sub-audio pitches. */
+interface LowTier {
+  readonly dec: Decimator;
+  readonly rateHz: number;
+  readonly ring: Float32Array;
+  readonly window: Float32Array;
+  readonly live: PitchEstimator;
+  readonly settled: PitchEstimator;
+  /** Longest sub-audio live window, samples of the decimated stream. */
+  readonly maxWindow: number;
+  readonly breakScratch: Float64Array;
+  writePos: number;
+  total: number;
+  /** Readings to go before the next try for a sub-audio pitch while the full-rate window hears none. */
+  probeIn: number;
+}
+
+/**
+ * While the full-rate window hears no pitch at all (noise, or a sub-audio tone it cannot call too low),
+ * look for a sub-audio pitch every this many readings (once a second at 20 a second): each look costs a
+ * window of up to 5 s, and a tone the full-rate window calls too low ('below-range') is looked for at once.
+ */
+const LOW_PROBE_EVERY = 20;
 
 function req(name: string, v: number, lo: number, hi: number, integer = false): number {
   if (!Number.isFinite(v) || v < lo || v > hi || (integer && !Number.isInteger(v))) {
@@ -93,6 +219,11 @@ export class PitchTracker {
   private readonly breakAt = new Float64Array(64);
   private breakCount = 0;
   private readonly breakScratch = new Float64Array(MAX_BREAKS);
+  /** The reach of the full-rate windows, Hz: `minCycles / maxWindowSeconds`. */
+  private readonly fullFloorHz: Hertz;
+  private readonly low: LowTier | null = null;
+  /** Lowest pitch followed, Hz. */
+  readonly lowestHz: Hertz;
 
   /** @throws RangeError for options outside their ranges (each message names the option and its range). */
   constructor(options: TrackerOptions) {
@@ -119,6 +250,45 @@ export class PitchTracker {
       segments: 8,
     });
     this.settled = new PitchEstimator(this.ring.length, fs, pitchOptions);
+    this.fullFloorHz = this.minCycles / maxW;
+    this.lowestHz =
+      options.lowestHz === undefined ? this.fullFloorHz : req('lowestHz', options.lowestHz, 0.5, 20);
+    if (this.lowestHz < this.fullFloorHz * (1 - 1e-9)) {
+      const factor = Math.max(1, Math.floor(fs / MIN_SAMPLE_RATE_HZ));
+      const rateHz = fs / factor;
+      const longest = this.minCycles / this.lowestHz;
+      const lowHist = req(
+        'lowHistorySeconds',
+        options.lowHistorySeconds ?? Math.max(12, 2.5 * longest),
+        longest,
+        600,
+      );
+      const ring = new Float32Array(Math.round(lowHist * rateHz));
+      const { maxHz, ...rest } = pitchOptions;
+      const lowOptions = {
+        ...rest,
+        minHz: this.lowestHz,
+        maxHz: Math.min(maxHz ?? Infinity, 0.45 * rateHz),
+      };
+      const maxWindow = Math.ceil(longest * rateHz);
+      this.low = {
+        dec: new Decimator(factor),
+        rateHz,
+        ring,
+        window: new Float32Array(ring.length),
+        live: new PitchEstimator(maxWindow, rateHz, {
+          ...lowOptions,
+          maxHarmonics: liveHarmonics,
+          segments: 8,
+        }),
+        settled: new PitchEstimator(ring.length, rateHz, lowOptions),
+        maxWindow,
+        breakScratch: new Float64Array(MAX_BREAKS),
+        writePos: 0,
+        total: 0,
+        probeIn: 0,
+      };
+    }
   }
 
   /**
@@ -156,6 +326,12 @@ export class PitchTracker {
     for (let i = 0; i < frames;) {
       const k = Math.min(frames - i, this.hop - this.sinceReading);
       this.writePos = copyIntoRing(block, i, k, cc, this.channel, this.ring, this.writePos);
+      const low = this.low;
+      if (low) {
+        const made = low.dec.push(block, i, k, cc, this.channel, low.ring, low.writePos);
+        low.total += made;
+        low.writePos = (low.writePos + made) % low.ring.length;
+      }
       this.total += k;
       this.sinceReading += k;
       i += k;
@@ -169,8 +345,27 @@ export class PitchTracker {
     return emitted;
   }
 
-  /** Makes a live reading now over the window the current pitch calls for. */
+  /**
+   * Makes a live reading now over the window the current pitch calls for: `minCycles` periods, on the
+   * full-rate stream for pitches within its reach and on the decimated one below it (with `lowestHz`).
+   */
   readNow(): PitchReading {
+    const low = this.low;
+    if (low && this.hintHz > 0 && this.hintHz < this.fullFloorHz) return this.readLow(low);
+    const r = this.readFull();
+    if (!low || r.kind === 'ok') return r;
+    // Nothing at the full rate. A pitch below its reach? Look on the decimated stream at once when the
+    // full-rate window says the pitch is too low, and every few readings while it hears nothing else.
+    const tooLow = r.reason === 'below-range';
+    if (!tooLow && (r.reason === 'silent' || r.reason === 'clipped' || low.probeIn-- > 0)) return r;
+    low.probeIn = LOW_PROBE_EVERY;
+    const q = this.readLow(low);
+    if (q.kind === 'ok') return q;
+    return tooLow && q.reason === 'warming-up' ? q : r;
+  }
+
+  /** A live reading on the full-rate stream. */
+  private readFull(): PitchReading {
     const fs = this.sampleRateHz;
     const wanted =
       this.hintHz > 0
@@ -185,7 +380,10 @@ export class PitchTracker {
       // Not yet a full window for the lowest pitch we might be hearing: try what there is, and say
       // 'warming-up' rather than 'below-range' if it is not enough.
       const r = this.measure(this.live, n, t);
-      if (r.kind === 'ok' && (n * r.hz) / fs >= 0.9 * this.minCycles) return r;
+      // With a sub-audio side, a low pitch from a part-filled window may be a harmonic of a tone below
+      // the full-rate reach (a 4 Hz triangle's can read as 14 Hz over 0.8 s): wait for the full window.
+      const doubtful = this.low !== null && r.kind === 'ok' && r.hz < 2 * this.fullFloorHz;
+      if (r.kind === 'ok' && !doubtful && (n * r.hz) / fs >= 0.9 * this.minCycles) return r;
       if (r.kind === 'none' && r.reason !== 'below-range' && r.reason !== 'no-pitch') return r;
       return { kind: 'none', reason: 'warming-up', level: r.level, timeSeconds: t };
     }
@@ -199,28 +397,80 @@ export class PitchTracker {
     return r;
   }
 
+  /** A live reading on the decimated stream, over `minCycles` periods of the pitch heard. */
+  private readLow(low: LowTier): PitchReading {
+    const rate = low.rateHz;
+    const wanted =
+      this.hintHz > 0
+        ? Math.min(
+            low.maxWindow,
+            Math.max(
+              Math.round((this.minWindow * rate) / this.sampleRateHz),
+              Math.round((this.minCycles * rate) / this.hintHz),
+            ),
+          )
+        : low.maxWindow;
+    const n = Math.min(wanted, this.lowAvailable(low));
+    const t = this.total / this.sampleRateHz;
+    if (n < 64) return { kind: 'none', reason: 'warming-up', level: this.live.lastLevel(), timeSeconds: t };
+    const r = this.measureLow(low, low.live, low.total - n, n, t, this.hintHz, false);
+    const cycles = r.kind === 'ok' ? (n * r.hz) / rate : 0;
+    if (n < wanted) {
+      // Not yet a full window for the lowest pitch: what there is will do if it holds enough cycles.
+      if (r.kind === 'ok' && cycles >= 0.9 * this.minCycles) {
+        this.hintHz = r.hz;
+        return r;
+      }
+      if (r.kind === 'none' && r.reason !== 'below-range' && r.reason !== 'no-pitch') return r;
+      return { kind: 'none', reason: 'warming-up', level: r.level, timeSeconds: t };
+    }
+    this.hintHz = r.kind === 'ok' ? r.hz : 0;
+    if (r.kind === 'ok' && cycles < 0.9 * this.minCycles && n < low.maxWindow) {
+      return { kind: 'none', reason: 'warming-up', level: r.level, timeSeconds: t };
+    }
+    return r;
+  }
+
+  /** Decimated samples held that the filter made from the stream alone (none of its start-up). */
+  private lowAvailable(low: LowTier): number {
+    return Math.max(0, Math.min(low.total - low.dec.startup, low.ring.length));
+  }
+
+  /** Index in the decimated stream nearest to full-rate stream index `i`. */
+  private lowIndexOf(low: LowTier, i: number): number {
+    return Math.round((i + 0.5 * (low.dec.factor - 1)) / low.dec.factor);
+  }
+
   /**
    * A settled average: the last `seconds` of audio measured as one window, with all harmonics. This is
    * what a calibration step captures.
    *
-   * @param seconds - Span, seconds, from 0.05 to the history length.
+   * @param seconds - Span, seconds, from 0.05 to the history length (the longer sub-audio history with
+   * `lowestHz`).
    */
   averageOfLast(seconds: Seconds): PitchReading {
-    const n = Math.round(
-      req('seconds', seconds, 0.05, this.ring.length / this.sampleRateHz) * this.sampleRateHz,
-    );
+    const fs = this.sampleRateHz;
+    const low = this.low;
+    const longest = Math.max(this.ring.length / fs, low ? low.ring.length / low.rateHz : 0);
+    const n = Math.round(req('seconds', seconds, 0.05, longest) * fs);
     const available = Math.min(this.total, this.ring.length);
-    const t = this.total / this.sampleRateHz;
-    if (available < n) {
+    const t = this.total / fs;
+    if (this.total < n) {
       return { kind: 'none', reason: 'warming-up', level: this.live.lastLevel(), timeSeconds: t };
     }
-    return this.measure(this.settled, n, t);
+    const subAudio = low !== null && this.hintHz > 0 && this.hintHz < this.fullFloorHz;
+    if (n <= available && !subAudio) {
+      const r = this.measure(this.settled, n, t);
+      if (!low || r.kind === 'ok' || (r.reason !== 'below-range' && r.reason !== 'no-pitch')) return r;
+    }
+    return this.averageOfSpan(t - seconds, t);
   }
 
   /**
    * A settled average over an absolute span of the stream's time, as a calibration run asks for it.
    * Returns a `warming-up` reading when the span has not fully arrived, and `no-pitch` when it has already
-   * left the history.
+   * left the history. Sub-audio pitches (with `lowestHz`) are measured on the decimated stream, which
+   * keeps a longer history.
    *
    * @param startSeconds - Span start, seconds since the first sample.
    * @param endSeconds - Span end, seconds, > startSeconds.
@@ -237,10 +487,20 @@ export class PitchTracker {
     const t = e / fs;
     if (e > this.total)
       return { kind: 'none', reason: 'warming-up', level: this.live.lastLevel(), timeSeconds: t };
-    if (s < this.total - this.ring.length || e - s > this.ring.length) {
-      return { kind: 'none', reason: 'no-pitch', level: this.live.lastLevel(), timeSeconds: t };
+    const low = this.low;
+    const fullFits = s >= this.total - this.ring.length && e - s <= this.ring.length;
+    const subAudio = low !== null && this.hintHz > 0 && this.hintHz < this.fullFloorHz;
+    let r: PitchReading = { kind: 'none', reason: 'no-pitch', level: this.live.lastLevel(), timeSeconds: t };
+    if (fullFits && !subAudio) {
+      r = this.measureRange(this.settled, s, e - s, t, 0, true);
+      if (r.kind === 'ok' || (r.reason !== 'below-range' && r.reason !== 'no-pitch')) return r;
     }
-    return this.measureRange(this.settled, s, e - s, t, 0, true);
+    if (!low) return r;
+    const js = this.lowIndexOf(low, s);
+    const je = Math.min(this.lowIndexOf(low, e), low.total);
+    if (js < low.total - this.lowAvailable(low) || je - js < 64) return r;
+    const q = this.measureLow(low, low.settled, js, je - js, t, 0, true);
+    return q.kind === 'ok' || !fullFits ? q : r;
   }
 
   /** Forgets all audio and the frequency hint (after a device change, for example). */
@@ -250,6 +510,13 @@ export class PitchTracker {
     this.sinceReading = 0;
     this.hintHz = 0;
     this.breakCount = 0;
+    const low = this.low;
+    if (low) {
+      low.dec.reset();
+      low.writePos = 0;
+      low.total = 0;
+      low.probeIn = 0;
+    }
   }
 
   private measure(est: PitchEstimator, n: number, t: Seconds): PitchReading {
@@ -282,5 +549,34 @@ export class PitchTracker {
     if (settled) return measureSettled(est, this.window, 0, n, t, this.breakScratch, nb);
     est.setBreaks(this.breakScratch, nb);
     return est.estimate(this.window, 0, n, t, 1, hintHz);
+  }
+
+  /**
+   * Measures samples [start, start+n) of the decimated stream (its own indices), with the stream's breaks
+   * moved onto its time base.
+   */
+  private measureLow(
+    low: LowTier,
+    est: PitchEstimator,
+    start: number,
+    n: number,
+    t: Seconds,
+    hintHz: Hertz,
+    settled: boolean,
+  ): PitchReading {
+    let nb = 0;
+    const kept = Math.min(this.breakCount, this.breakAt.length);
+    for (let q = this.breakCount - kept; q < this.breakCount && nb < MAX_BREAKS; q++) {
+      const b = this.lowIndexOf(low, this.breakAt[q % this.breakAt.length]);
+      if (b > start && b < start + n) low.breakScratch[nb++] = b - start;
+    }
+    const cap = low.ring.length;
+    const first = (((low.writePos - (low.total - start)) % cap) + cap) % cap;
+    const tail = Math.min(n, cap - first);
+    low.window.set(low.ring.subarray(first, first + tail), 0);
+    if (tail < n) low.window.set(low.ring.subarray(0, n - tail), tail);
+    if (settled) return measureSettled(est, low.window, 0, n, t, low.breakScratch, nb);
+    est.setBreaks(low.breakScratch, nb);
+    return est.estimate(low.window, 0, n, t, 1, hintHz);
   }
 }

@@ -109,7 +109,7 @@ export interface LivePass {
 /** Tracker settings of the live pass (a subset of {@link TrackerOptions}). */
 export type LivePassOptions = Pick<
   TrackerOptions,
-  'readingsPerSecond' | 'liveHarmonics' | 'minCycles' | 'minWindowSeconds'
+  'readingsPerSecond' | 'liveHarmonics' | 'minCycles' | 'minWindowSeconds' | 'lowestHz'
 > & {
   /**
    * Read the recording decimated to about 12 kHz (see `decimate.ts`), which is several times faster and
@@ -173,6 +173,8 @@ function passAt(
     ...trackerOptions,
     maxWindowSeconds: 1,
     historySeconds: 1,
+    // Sub-audio pitches: the live pass needs no more of the decimated stream than one window.
+    ...(opts.lowestHz !== undefined ? { lowHistorySeconds: (opts.minCycles ?? 10) / opts.lowestHz } : {}),
   });
   const decimator = factor > 1 ? new Decimator(factor) : null;
   const quietBlock = Math.max(1, Math.round(SILENCE_BLOCK_SECONDS * fs));

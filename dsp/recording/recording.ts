@@ -71,6 +71,12 @@ const MIN_WINDOW_PERIODS = 20;
  * interval of the span's end.
  */
 const EDGE_MARGIN_SECONDS: Seconds = 0.1;
+/** Lowest pitch a recording is measured at, Hz (LFO cores; MIDI note 0 is 8.18 Hz). */
+export const RECORDING_LOWEST_HZ: Hertz = 2;
+/** Below this the precise windows use their own estimator (the default estimator's floor, dsp/pitch/pitch.ts), Hz. */
+const SUB_AUDIO_ESTIMATOR_HZ: Hertz = 10;
+/** Fewest periods a sub-audio step's window holds (20 would need 10 s of a 2 Hz step). */
+const MIN_WINDOW_PERIODS_SUB_AUDIO = 10;
 /** Shortest stretch the plateau detector is asked to see settle, seconds (even with `settleSeconds` 0). */
 const MIN_DETECT_SECONDS: Seconds = 0.25;
 /** Plateaus listed by name in a count-mismatch message before "…". */
@@ -363,17 +369,19 @@ export function analyzeRecording(
   const durationSeconds = source.frameCount / fs;
 
   // ---- 1. Live pass (dsp/recording/recording-input.ts: blocks → tracker → readings, silent windows marked) --------
-  const pass = livePass(
-    source,
-    {
-      readingsPerSecond: rps,
-      liveHarmonics,
-      minCycles: liveMinCycles,
-      minWindowSeconds: liveMinWindow,
-      decimate: opts.decimateLivePass ?? true,
-    },
-    onProgress,
-  );
+  const liveOptions = {
+    readingsPerSecond: rps,
+    liveHarmonics,
+    minCycles: liveMinCycles,
+    minWindowSeconds: liveMinWindow,
+    decimate: opts.decimateLivePass ?? true,
+  };
+  let pass = livePass(source, liveOptions, onProgress);
+  // A recording with stretches below the live windows' reach (a second or more of 'below-range'
+  // readings) is read again following pitches down to RECORDING_LOWEST_HZ; others keep the one pass.
+  if (pass.readings.filter((r) => r.kind === 'none' && r.reason === 'below-range').length >= rps) {
+    pass = livePass(source, { ...liveOptions, lowestHz: RECORDING_LOWEST_HZ }, onProgress);
+  }
   if (!pass.anySignal) {
     return fail('silence', 'silence: every sample of the recording is 0 (nothing was recorded)', expected);
   }
@@ -482,19 +490,34 @@ export function analyzeRecording(
   const estimator = new PitchEstimator(Math.max(64, Math.round(cap * fs)), fs, {
     maxHarmonics: windowHarmonics,
   });
-  const windowSamples = new Float32Array(estimator.maxSamples);
+  let windowSamples = new Float32Array(estimator.maxSamples);
+  // Sub-audio steps: an estimator reaching down to RECORDING_LOWEST_HZ with windows of ten periods, made
+  // only when a recording has such a step (5 s of audio at 2 Hz, at the file's own rate).
+  let lowEstimator: PitchEstimator | null = null;
   const measuredSteps = groups.map((g, index) => {
     const piece = choosePiece(g.pieces, fs);
     const p = piece.plateau;
     let [w0, w1] = windowOf(piece, fs);
     let reading: PitchOk | null = null;
+    const subAudio = p.meanHz < SUB_AUDIO_ESTIMATOR_HZ;
+    const capHere = subAudio ? Math.max(cap, MIN_WINDOW_PERIODS_SUB_AUDIO / p.meanHz) : cap;
     if (w1 - w0 >= minWindowSeconds(p.meanHz)) {
       // The last settled part of the plateau: any creep left after the step has had longest to die out.
-      if (w1 - w0 > cap) w0 = w1 - cap;
+      if (w1 - w0 > capHere) w0 = w1 - capHere;
+      let est = estimator;
+      if (subAudio) {
+        const lowSamples = Math.round((MIN_WINDOW_PERIODS_SUB_AUDIO / RECORDING_LOWEST_HZ) * fs);
+        lowEstimator ??= new PitchEstimator(Math.max(estimator.maxSamples, lowSamples), fs, {
+          maxHarmonics: windowHarmonics,
+          minHz: RECORDING_LOWEST_HZ,
+        });
+        est = lowEstimator;
+        if (windowSamples.length < est.maxSamples) windowSamples = new Float32Array(est.maxSamples);
+      }
       const s0 = Math.max(0, Math.round(w0 * fs));
-      const want = Math.min(source.frameCount - s0, Math.round((w1 - w0) * fs), estimator.maxSamples);
+      const want = Math.min(source.frameCount - s0, Math.round((w1 - w0) * fs), est.maxSamples);
       const n = source.read(s0, windowSamples.subarray(0, Math.max(0, want)));
-      const r = measureSettled(estimator, windowSamples, 0, n, (s0 + n / 2) / fs);
+      const r = measureSettled(est, windowSamples, 0, n, (s0 + n / 2) / fs);
       // A window that disagrees with its own live readings by more than the band has caught something the
       // readings did not (a click at the edge): keep the readings' mean instead.
       if (
@@ -609,7 +632,8 @@ export function analyzeRecording(
 
 /** Shortest window worth measuring at this pitch, seconds. */
 function minWindowSeconds(hz: Hertz): Seconds {
-  return Math.max(MIN_WINDOW_SECONDS, MIN_WINDOW_PERIODS / hz);
+  const periods = hz < SUB_AUDIO_ESTIMATOR_HZ ? MIN_WINDOW_PERIODS_SUB_AUDIO : MIN_WINDOW_PERIODS;
+  return Math.max(MIN_WINDOW_SECONDS, periods / hz);
 }
 
 /** Longest thermal tail allowed for, seconds (the run's default `creepHorizonSeconds`). */

@@ -1091,7 +1091,8 @@ export interface DemoUnit {
 
 /**
  * Demo batch: four OL-3 oscillators built by the Ostlund Lane workshop (an invented two-person shop), back on
- * the bench for calibration. Tuned near C1 (32.703 Hz) at 0 V. Errors are plausible for analog units
+ * the bench for calibration, tuned near C1 (32.703 Hz) at 0 V, and one of its OL-2 LFO cores (2 Hz at 0 V), for
+ * the sub-audio range. Errors are plausible for analog units
  * (docs/facts.md, "What good tracking looks like").
  */
 export const demoUnits: readonly DemoUnit[] = Object.freeze([
@@ -1159,6 +1160,22 @@ export const demoUnits: readonly DemoUnit[] = Object.freeze([
       tailTauSeconds: 1.5,
       jitterCents: 0.01,
       shape: 'saw',
+    },
+  },
+  {
+    id: 'ol2-0208',
+    serial: 'OL2-0208',
+    label: 'LFO core',
+    description:
+      'A slow triangle core that tracks 1 V/oct from 2 Hz at 0 V (32 Hz at 4 V), about 1.5 cents per octave wide. Steps below 20 Hz take several seconds each: ten cycles to read, ten to capture.',
+    options: {
+      hz0: 2,
+      scaleOctPerVolt: 1 + 1.5 / 1200,
+      resetSeconds: 0,
+      tailCentsPerVolt: -0.05,
+      tailTauSeconds: 0.5,
+      jitterCents: 0.003,
+      shape: 'triangle',
     },
   },
 ]);

@@ -65,6 +65,12 @@ interface Glide {
 export const SIM_GLIDE_SECONDS = 0.15;
 
 const SIM_CHUNK = 1024;
+
+/**
+ * Lowest pitch the live path measures, Hz: LFO-range cores (MIDI note 0 is 8.18 Hz). Pitches below the
+ * tracker's full-rate reach (10 Hz) are read on its decimated stream over ten cycles (dsp/pitch/stream.ts).
+ */
+export const LIVE_LOWEST_HZ = 2;
 /** The scale pair's unexpected-pitch guard, cents (dsp/calibration/scale-pair.ts). */
 export { PAIR_GUARD_CENTS } from '../../../dsp/calibration/index.ts';
 
@@ -276,7 +282,7 @@ export class EngineCore {
     // The glide is timed on the stream clock, which restarts with the new tracker: settle it on its
     // target, or the simulator would replay the old voltage until the new clock caught up with the old.
     this.glide = { from: this.glide.to, to: this.glide.to, t0: 0, seconds: 0 };
-    this.tracker = new PitchTracker({ sampleRateHz });
+    this.tracker = new PitchTracker({ sampleRateHz, lowestHz: LIVE_LOWEST_HZ });
     this.sampleRateHz = sampleRateHz;
     this.sourceKind = kind;
     if (kind === 'live') this.sim = null;

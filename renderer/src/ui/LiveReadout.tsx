@@ -57,7 +57,15 @@ export function LiveReadout(props: {
         </span>
       </div>
       <div className="sub">
-        <span>± {ok ? formatUncertainty(ok.uncertaintyCents) : '—'} ¢ (1σ)</span>
+        <span>
+          ± {ok ? formatUncertainty(ok.uncertaintyCents) : '—'} ¢ (1σ)
+          {ok && ok.hz < 20 && (
+            <span data-testid="live-window">
+              {' '}
+              · over the last {ok.windowSeconds.toFixed(1)} s (ten cycles), so a change shows slowly
+            </span>
+          )}
+        </span>
         <span>
           {props.clockPpm !== 0 ? `clock ${props.clockPpm > 0 ? '+' : ''}${props.clockPpm} ppm · ` : ''}A4 =
           440 Hz · middle C = C4 = 261.63 Hz

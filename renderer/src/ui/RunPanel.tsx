@@ -6,6 +6,12 @@
 import { useState, type ReactNode } from 'react';
 import { PLAN_LIMITS, PLAN_PRESETS, formatPlan, parsePlan } from '../../../dsp/calibration/index.ts';
 import { isRunActive, type RunState, type RunStep } from '../../../dsp/calibration/index.ts';
+import {
+  expectedPitch,
+  resolveRunOptions,
+  stepSecondsAt,
+  SUB_AUDIO_HZ,
+} from '../../../dsp/calibration/index.ts';
 import type { RunSnapshot, UserRunEvent } from '../engine/protocol.ts';
 import { RUN_KEYS, redoTarget } from '../hooks/useRunKeys.ts';
 import type { RunAnalysis } from '../lib/analysis.ts';
@@ -32,6 +38,37 @@ function formatCreep(centsPerSecond: number | null): string {
   return `${Math.abs(centsPerSecond) < 0.001 ? '< 0.001' : Math.abs(centsPerSecond).toFixed(3)} cent/s`;
 }
 
+/** The pitch the current step is at: the one expected from the steps captured, else the last one heard, Hz. */
+function currentStepHz(s: RunState): number | null {
+  const exp = expectedPitch(s, s.current);
+  if (exp) return exp.expectedHz;
+  const d = s.detector;
+  const last = d.cents.length - 1;
+  return d.anchorHz !== null && last >= 0 ? d.anchorHz * Math.pow(2, d.cents[last] / 1200) : null;
+}
+
+/** Whole seconds, or tenths under ten. */
+function formatSeconds(sec: number): string {
+  return sec < 10 ? String(Math.round(sec * 10) / 10) : String(Math.round(sec));
+}
+
+/**
+ * How long a sub-audio step takes, in words, when the current step's pitch is below 20 Hz; else null.
+ *
+ * @example subAudioNote(run) // 'Below 20 Hz a step takes longer: about 11 s at 2.00 Hz (ten cycles to read the pitch, then ten to capture it).'
+ */
+export function subAudioNote(s: RunState): string | null {
+  const hz = currentStepHz(s);
+  if (hz === null || !(hz > 0) || hz >= SUB_AUDIO_HZ) return null;
+  return `Below ${SUB_AUDIO_HZ} Hz a step takes longer: about ${Math.round(stepSecondsAt(s.options, hz))} s at ${formatHz(hz, 2)} Hz (ten cycles to read the pitch, then ten to capture it).`;
+}
+
+/** The plan's note on sub-audio steps (default run settings): about how long they take at 2 and 8 Hz. */
+export function subAudioPlanHint(): string {
+  const o = resolveRunOptions();
+  return `steps below ${SUB_AUDIO_HZ} Hz (LFO range, down to 2 Hz) take longer: about ${Math.round(stepSecondsAt(o, 2))} s each at 2 Hz, ${Math.round(stepSecondsAt(o, 8))} s at 8 Hz`;
+}
+
 /**
  * The prompt line for the run's phase: one source for the run's status text (settle and capture
  * countdowns, why the run is paused, an input not yet open, a capture waiting for the pitch to stop creeping).
@@ -47,19 +84,21 @@ export function promptFor(
     ? `The simulator moves to ${v} by itself.`
     : `Set ${v} at the oscillator’s 1 V/oct input and check it with the meter.`;
   const p = s.options.plateau;
+  const slow = s.phase === 'apply-voltage' || s.phase === 'settling' ? subAudioNote(s) : null;
+  const andSlow = slow ? ` ${slow}` : '';
   switch (s.phase) {
     case 'apply-voltage':
       return {
         title: `Apply ${v}`,
         detail: why.waitingForInput
           ? `Waiting for the input to open. ${apply}`
-          : `${apply} Waiting for a steady pitch.`,
+          : `${apply} Waiting for a steady pitch.${andSlow}`,
       };
     case 'settling': {
       const left = Math.max(0, (1 - s.progress) * p.settleSeconds);
       return {
         title: `Settling at ${v}`,
-        detail: `Hold still: waiting for the pitch to stay within ±${p.maxHalfWidthCents} ¢ for ${p.settleSeconds} s (${left.toFixed(1)} s to go).`,
+        detail: `Hold still: waiting for the pitch to stay within ±${p.maxHalfWidthCents} ¢ for ${p.settleSeconds} s (${left.toFixed(1)} s to go).${andSlow}`,
       };
     }
     case 'capturing': {
@@ -69,10 +108,12 @@ export function promptFor(
           detail: `Waiting for the pitch to stop creeping (${formatCreep(s.capture.creepCentsPerSecond)}).`,
         };
       }
-      const left = Math.max(0, (1 - s.progress) * s.options.captureSeconds);
+      // The window is `captureSeconds`, or ten periods of a sub-audio pitch (dsp/calibration/run.ts).
+      const span = s.capture ? s.capture.endSeconds - s.capture.startSeconds : s.options.captureSeconds;
+      const left = Math.max(0, (1 - s.progress) * span);
       return {
         title: `Capturing ${v}`,
-        detail: `Averaging the settled pitch over ${s.options.captureSeconds} s (${left.toFixed(1)} s to go).`,
+        detail: `Averaging the settled pitch over ${formatSeconds(span)} s${span > s.options.captureSeconds + 1e-9 ? ' (ten cycles of this low pitch)' : ''} (${left.toFixed(1)} s to go).`,
       };
     }
     case 'measuring':
@@ -392,6 +433,9 @@ export function RunPanel(p: RunPanelProps) {
         </span>{' '}
         <span className="field-hint">
           · commas between values, ranges like 0-7, stepped ranges like 0:0.5:5; decimal point only
+        </span>{' '}
+        <span className="field-hint" data-testid="plan-sub-audio">
+          · {subAudioPlanHint()}
         </span>
       </p>
       {p.setup}
