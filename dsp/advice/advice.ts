@@ -911,7 +911,12 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
     };
   }
   const items: AdviceItem[] = [];
-  const allWithin = tolerance.verdict === 'within';
+  // Leave every trimmer alone once every step the model uses reads within the tolerance: a further trim lands
+  // somewhat off and cannot be expected to bring the range inside a tolerance it already meets (a verdict the
+  // uncertainty still leaves open is settled by measuring better, not by trimming).
+  const worstReadCents = Math.max(...used.map((i) => Math.abs(stepErr[i])));
+  const settled = worstReadCents <= tol;
+  const allWithin = tolerance.verdict === 'within' || settled;
   const share = tol / 3;
 
   // Suspect steps first: the user must re-check them before trusting anything else.
@@ -1063,23 +1068,32 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
     } else {
       const flat = hAtH < 0;
       const sAfter = scaleItem.status === 'adjust' ? 0 : e;
+      // Read the HF on the octave below the trim step (docs/facts.md: trim HF on an octave near 2–5 kHz): an
+      // interval of one octave carries one octave's worth of whatever scale error the scale trim left, where the
+      // interval from the bottom step would carry all of it into the HF setting.
+      const octaveBelow = usedSorted.filter((i) => volts(i) >= vA && volts(i) < vH);
+      const gIdx = octaveBelow.reduce((b, i) =>
+        Math.abs(volts(i) - (vH - 1)) < Math.abs(volts(b) - (vH - 1)) ? i : b,
+      );
+      const vG = volts(gIdx);
+      const fG = modelHz(model, vG);
       const interval =
-        (CENTS_PER_OCTAVE + sAfter) * (vH - vA) + lowEndCents(model, fH) - lowEndCents(model, fA);
-      const nowInterval = CENTS_PER_OCTAVE * Math.log2(fH / fA);
+        (CENTS_PER_OCTAVE + sAfter) * (vH - vG) + lowEndCents(model, fH) - lowEndCents(model, fG);
+      const nowInterval = CENTS_PER_OCTAVE * Math.log2(fH / fG);
       hfItem = item({
         trimmer: 'hf',
         status: 'adjust',
         direction: flat ? 'more-compensation' : 'less-compensation',
         errorCents: hAtH,
         uncertaintyCents: hfBudget.expanded,
-        target: trimTarget(vA, fA, vH, fH, interval, nowInterval),
+        target: trimTarget(vG, fG, vH, fH, interval, nowInterval),
         text:
           `Trim the HF on the ${fmtV(vH)} step (${fmtHz(fH)} Hz): it is ${fmtCents(hAtH)} ± ${formatUncertainty(hfBudget.expanded)} cents ${flat ? 'flat' : 'sharp'} ` +
           `of the model's line (${fmtCents(hAtTop)} at the top step, ${fmtHz(fTop)} Hz). Turn the HF trimmer to ${flat ? 'add' : 'reduce'} compensation ` +
-          `until the interval from ${fmtV(vA)} to ${fmtV(vH)} reads ${interval.toFixed(1)} cents (now ${nowInterval.toFixed(1)})` +
+          `until the interval from ${fmtV(vG)} to ${fmtV(vH)} reads ${interval.toFixed(1)} cents (now ${nowInterval.toFixed(1)})` +
           (scaleItem.status === 'adjust'
             ? ', after the scale is set'
-            : `: the ${fmtV(vH)} step should then read ${fmtHz(fA * Math.pow(2, interval / CENTS_PER_OCTAVE))} Hz`) +
+            : `: the ${fmtV(vH)} step should then read ${fmtHz(fG * Math.pow(2, interval / CENTS_PER_OCTAVE))} Hz`) +
           '. Then check the scale again: the two interact.' +
           shape,
       });
@@ -1087,20 +1101,47 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   }
   items.push(hfItem);
 
-  // 3. Offset, last, to a target pitch.
+  // 3. Offset, last, to a target pitch read on the step nearest the middle of the range: the offset trimmer moves
+  // every step alike, so setting it there splits whatever scale error remains evenly over the range (common
+  // practice, no source). With no other trim this pass, the target centres the model's errors over the steps used
+  // (the smallest worst error an offset change can give); after a scale or HF trim it puts the middle step on the
+  // target line, and it is always asked for then, because a scale trimmer turns about a pivot that need not be
+  // at 0 V (docs/facts.md, "How technicians calibrate"), so the scale trim moves the tuning by an amount no
+  // reading before it can tell.
   const targetName = targetLabel(targetHz, a4Hz);
+  const otherTrims = scaleItem.status === 'adjust' || hfItem.status === 'adjust';
+  const midVolts = (model.fromVolts + model.toVolts) / 2;
+  const setIdx = usedSorted.reduce((b, i) =>
+    Math.abs(volts(i) - midVolts) < Math.abs(volts(b) - midVolts) ? i : b,
+  );
+  const vSet = volts(setIdx);
+  const modelErrAt = (v: number) => CENTS_PER_OCTAVE * Math.log2(modelHz(model, v) / targetAt(v));
+  const errsNow = usedSorted.map((i) => modelErrAt(volts(i)));
+  const shift = otherTrims ? modelErrAt(vSet) : (Math.max(...errsNow) + Math.min(...errsNow)) / 2;
+  const playingSet = modelHz(model, vSet);
+  const setTargetHz = otherTrims ? targetAt(vSet) : playingSet * Math.pow(2, -shift / CENTS_PER_OCTAVE);
+  const setBudget = derivedBudget(
+    model,
+    steps,
+    predictionSensitivities(model, vSet),
+    `offset at ${fmtV(vSet)}`,
+    'cents',
+    shift,
+    bopts,
+  );
   const uOff = offsetBudget.expanded;
+  const uShift = setBudget.expanded;
   let offsetItem: AdviceItem;
   const offTarget: TrimTarget = {
-    volts: refVolts,
-    hz: targetHz,
-    nowHz: playingRef,
-    fromVolts: refVolts,
-    fromHz: playingRef,
+    volts: vSet,
+    hz: setTargetHz,
+    nowHz: playingSet,
+    fromVolts: vSet,
+    fromHz: playingSet,
     intervalCents: 0,
-    nowIntervalCents: offErr,
+    nowIntervalCents: shift,
   };
-  if (allWithin || Math.abs(offErr) <= share) {
+  if (!otherTrims && (allWithin || Math.abs(shift) <= share)) {
     offsetItem = item({
       trimmer: 'offset',
       status: 'within-tolerance',
@@ -1108,25 +1149,29 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
       uncertaintyCents: uOff,
       text: `The tuning is within tolerance: ${fmtCents(offErr)} ± ${formatUncertainty(uOff)} cents ${offErr > 0 ? 'sharp' : 'flat'} of ${targetName} at ${fmtV(refVolts)}.`,
     });
-  } else if (Math.abs(offErr) <= uOff) {
+  } else if (!otherTrims && Math.abs(shift) <= uShift) {
     offsetItem = item({
       trimmer: 'offset',
       status: 'unresolved',
-      errorCents: offErr,
-      uncertaintyCents: uOff,
-      text: `The tuning error (${fmtSigned(offErr)} ± ${formatUncertainty(uOff)} cents at ${fmtV(refVolts)}) cannot be told from zero: mostly ${offsetBudget.dominant ? budgetSourceName(offsetBudget.dominant) : 'the readings'}.`,
+      errorCents: shift,
+      uncertaintyCents: uShift,
+      text: `The tuning error (${fmtSigned(shift)} ± ${formatUncertainty(uShift)} cents at ${fmtV(vSet)}) cannot be told from zero: mostly ${setBudget.dominant ? budgetSourceName(setBudget.dominant) : 'the readings'}.`,
     });
   } else {
-    const sharp = offErr > 0;
+    const sharp = shift > 0;
     offsetItem = offsetAdjustItem(
-      offErr,
+      shift,
       vBase,
-      { uncertaintyCents: uOff, target: offTarget },
-      `Set the offset last: at ${fmtV(refVolts)} the oscillator plays ${fmtHz(playingRef)} Hz, ${fmtCents(offErr)} ± ${formatUncertainty(uOff)} cents ` +
-        `${sharp ? 'sharp' : 'flat'} of ${targetName}. Turn the offset (tuning) trimmer to ${sharp ? 'lower' : 'raise'} the pitch until the ${fmtV(refVolts)} step reads ` +
-        `${fmtHz(targetHz)} Hz`,
-      scaleItem.status === 'adjust' || hfItem.status === 'adjust'
-        ? ' Trimming the scale or HF moves this, so set it after them and read the step again.'
+      { uncertaintyCents: uShift, target: offTarget },
+      otherTrims
+        ? `Set the offset last, on the ${fmtV(vSet)} step: after the trims above, turn the offset (tuning) trimmer until that step reads ` +
+            `${fmtHz(setTargetHz)} Hz, which puts ${fmtV(refVolts)} on ${targetName}. It reads ${fmtHz(playingSet)} Hz now, ` +
+            `${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents ${sharp ? 'sharp' : 'flat'}, but the trims above move it`
+        : `Set the offset last, on the ${fmtV(vSet)} step: it plays ${fmtHz(playingSet)} Hz. Turn the offset (tuning) trimmer to ` +
+            `${sharp ? 'lower' : 'raise'} the pitch by ${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents, until that step reads ${fmtHz(setTargetHz)} Hz, ` +
+            `which centres the errors of the steps over the range about the line through ${targetName} at ${fmtV(refVolts)}`,
+      otherTrims
+        ? ' A scale trimmer turns about a pivot that need not be at 0 V, so read the step again after the scale and HF trims and set it then.'
         : '',
     );
   }
@@ -1158,7 +1203,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   } else if (hfItem.status === 'adjust') {
     next = `Trim the HF on the ${fmtV(hfItem.target?.volts ?? vB)} step to its target, then measure the scale interval again; repeat scale and HF until both hold.`;
   } else if (offsetItem.status === 'adjust') {
-    next = `Set the offset at ${fmtV(refVolts)} to ${fmtHz(targetHz)} Hz, then run every step again and record the result.`;
+    next = `Set the offset on the ${fmtV(vSet)} step to ${fmtHz(setTargetHz)} Hz, then run every step again and record the result.`;
   } else if (tolerance.verdict === 'within') {
     next =
       `Every step is within ±${tol} cent, uncertainty included: record the readings with the serial number, date, room temperature, ` +
