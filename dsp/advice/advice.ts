@@ -128,6 +128,19 @@ export interface TrimTarget {
   readonly fromHz: Hertz;
   readonly intervalCents: Cents;
   readonly nowIntervalCents: Cents;
+  /**
+   * Set when the target follows a reading taken just before the trim (the HF trim): the interval should then read
+   * `ratio` times the interval from `fromVolts` to `volts` here, as read before turning, plus `plusCents`. This
+   * keeps the trim clear of whatever error the trims before it left (for HF: the top octave as wide as the mean
+   * octave of the scale interval, so a scale trim that landed off does not move the HF setting).
+   * `intervalCents` is the same target when the trims before it landed exactly. Null or absent otherwise.
+   */
+  readonly relativeTo?: {
+    readonly fromVolts: Volts;
+    readonly volts: Volts;
+    readonly ratio: number;
+    readonly plusCents: Cents;
+  } | null;
 }
 
 /** Trim advice for one measurement pass. */
@@ -1080,19 +1093,26 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
       const interval =
         (CENTS_PER_OCTAVE + sAfter) * (vH - vG) + lowEndCents(model, fH) - lowEndCents(model, fG);
       const nowInterval = CENTS_PER_OCTAVE * Math.log2(fH / fG);
+      // The same target taken from the scale interval as read just before the HF trim, so the scale's own landing
+      // error cancels: the top octave should be as wide as the mean octave from vA to vB, once the bends the HF
+      // trim removes (at vA and vB, now) and the low-end term it leaves are accounted for.
+      const ratio = (vH - vG) / (vB - vA);
+      const plusCents = lowEndCents(model, fH) - lowEndCents(model, fG) - ratio * (bend(fB) - bend(fA));
+      const relativeTo = { fromVolts: vA, volts: vB, ratio, plusCents };
       hfItem = item({
         trimmer: 'hf',
         status: 'adjust',
         direction: flat ? 'more-compensation' : 'less-compensation',
         errorCents: hAtH,
         uncertaintyCents: hfBudget.expanded,
-        target: trimTarget(vG, fG, vH, fH, interval, nowInterval),
+        target: { ...trimTarget(vG, fG, vH, fH, interval, nowInterval), relativeTo },
         text:
           `Trim the HF on the ${fmtV(vH)} step (${fmtHz(fH)} Hz): it is ${fmtCents(hAtH)} ± ${formatUncertainty(hfBudget.expanded)} cents ${flat ? 'flat' : 'sharp'} ` +
           `of the model's line (${fmtCents(hAtTop)} at the top step, ${fmtHz(fTop)} Hz). Turn the HF trimmer to ${flat ? 'add' : 'reduce'} compensation ` +
           `until the interval from ${fmtV(vG)} to ${fmtV(vH)} reads ${interval.toFixed(1)} cents (now ${nowInterval.toFixed(1)})` +
           (scaleItem.status === 'adjust'
-            ? ', after the scale is set'
+            ? `, after the scale is set. If the scale trim landed off, aim instead for ${ratio.toPrecision(3)} times the interval from ${fmtV(vA)} to ${fmtV(vB)} as it reads then, ` +
+              `${plusCents < 0 ? 'less' : 'plus'} ${Math.abs(plusCents).toFixed(1)} cents: the top octave as wide as the octaves below it`
             : `: the ${fmtV(vH)} step should then read ${fmtHz(fG * Math.pow(2, interval / CENTS_PER_OCTAVE))} Hz`) +
           '. Then check the scale again: the two interact.' +
           shape,

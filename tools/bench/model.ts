@@ -261,7 +261,13 @@ function applyAdvice(u: Unit, advice: ModelAdvice, m: number): void {
       u.s += ds;
     } else if (it.trimmer === 'hf') {
       const interval = () => CENTS * Math.log2(unitHz(u, t.volts) / unitHz(u, t.fromVolts));
-      const goal = interval() + m * (t.intervalCents - interval());
+      // A target relative to a reading taken just before the trim (the scale interval as it reads now).
+      const rel = t.relativeTo;
+      const aim =
+        rel == null
+          ? t.intervalCents
+          : rel.ratio * CENTS * Math.log2(unitHz(u, rel.volts) / unitHz(u, rel.fromVolts)) + rel.plusCents;
+      const goal = interval() + m * (aim - interval());
       // The HF trimmer changes the equivalent reset time; find the change by the secant method.
       let a = u.resetSeconds;
       let b = u.resetSeconds - 1e-7;
