@@ -10,6 +10,7 @@
  */
 import { adviseFromModel, type ModelAdvice } from '../../dsp/advice/index.ts';
 import {
+  budgetSourceName,
   METER_PRESETS,
   stepFitUncertaintyCents,
   type BudgetOptions,
@@ -335,19 +336,28 @@ function loopCase(): boolean {
       let trims = 0;
       let reached: number | null = initial <= 0.5 ? 0 : null;
       let verdict = '';
+      const trace = [initial];
       for (let pass = 1; pass <= 8; pass++) {
         const steps = measure(u, VOLTS, r, [], true);
         const model = fitOf(steps, budget);
         if (model.kind !== 'ok') break;
         const advice = adviseFromModel({ model, steps, budget, toleranceCents: 0.5, offsetTarget: target });
-        verdict = advice.tolerance.verdict;
+        // The verdict with what holds it open: the largest expanded uncertainty, where, and its main contribution.
+        const big = advice.tolerance.steps.reduce((a, b) => (b.expandedCents > a.expandedCents ? b : a));
+        const dominant = advice.stepBudgets[big.index].dominant;
+        verdict =
+          advice.tolerance.verdict === 'within'
+            ? 'within'
+            : `${advice.tolerance.verdict} (U ${big.expandedCents.toFixed(2)} at ${big.volts} V, ${dominant === null ? '–' : budgetSourceName(dominant)})`;
         if (advice.items.every((i) => i.status !== 'adjust')) break;
         applyAdvice(u, advice, m);
         trims++;
+        trace.push(worstOf(u));
         if (reached === null && worstOf(u) <= 0.5) reached = trims;
       }
       const worst = worstOf(u);
-      // Each pass leaves 30 % of the error, so 3 passes reach ±0.5 cent only from about 0.5/0.3³ ≈ 18 cents.
+      // A trim landing 30 % off leaves 30 % of the error it was asked to remove, so three passes leave at least
+      // 0.3³ = 2.7 % of each trimmer's share: ±0.5 cent is within reach only from about 0.5/0.3³ ≈ 18.5 cents.
       const reachable = initial * 0.3 ** 3 <= 0.5;
       const meets = reached !== null && reached <= 3 && worst <= 0.5;
       if (reachable && !meets) ok = false;
@@ -357,6 +367,7 @@ function loopCase(): boolean {
         m > 1 ? '30 % too far' : '30 % too short',
         reached === null ? 'never' : String(reached),
         String(trims),
+        trace.map((w) => (w >= 10 ? w.toFixed(1) : w.toFixed(2))).join(' → '),
         worst.toFixed(3),
         verdict,
         meets ? 'yes' : reachable ? 'NO' : 'no (beyond 3-pass reach)',
@@ -371,8 +382,9 @@ function loopCase(): boolean {
       'trims',
       'passes to ±0.5',
       'passes until no trim advised',
+      'worst after each pass, cents',
       'final worst true error, cents',
-      'last verdict',
+      'last verdict (largest U, cents, at, mostly)',
       '±0.5 in ≤ 3',
     ],
     rows,
