@@ -866,9 +866,18 @@ const HF_TRIM_MAX_HZ: Hertz = 5000;
  * droop never reads as a scale error), the HF on a named step with its target reading, the offset last with
  * its target pitch, a note per suspect step, and the tolerance verdict over the range with every amount's
  * expanded uncertainty. A trimmer is left alone when its share of the error is within a third of the
- * tolerance, or when the whole range is already within tolerance (uncertainty included); it is "unresolved"
- * when its error is inside its own expanded uncertainty. Steps that fail a plausibility gate get no trim at
- * all, only the message naming the likely cause.
+ * tolerance, or when every step used already reads within the tolerance (a trim lands somewhat off and cannot
+ * be expected to improve on that; a verdict the uncertainty leaves open is settled by measuring better); it is
+ * "unresolved" when its error is inside its own expanded uncertainty. Steps that fail a plausibility gate get
+ * no trim at all, only the message naming the likely cause.
+ *
+ * Each target reading is chosen so that a trim that lands somewhat off disturbs the trims after it as little as
+ * possible: the scale from an interval (immune to the offset and to the pivot the scale trimmer turns about);
+ * the HF on the octave below its step, also stated relative to the scale interval as read just before
+ * ({@link TrimTarget.relativeTo}), so the scale's landing error does not move the HF setting; the offset last,
+ * on the step nearest the middle of the range, so the scale error left over splits evenly. After a scale or HF
+ * trim the offset is always asked for, because the pivot is not known and the scale trim moves the tuning.
+ * With no other trim, the offset's target centres the steps' errors over the range.
  *
  * @param input - Model, steps, budget options, tolerance, target, network.
  * @returns The advice with budgets and the tolerance verdict.
@@ -1185,13 +1194,13 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
       { uncertaintyCents: uShift, target: offTarget },
       otherTrims
         ? `Set the offset last, on the ${fmtV(vSet)} step: after the trims above, turn the offset (tuning) trimmer until that step reads ` +
-            `${fmtHz(setTargetHz)} Hz, which puts ${fmtV(refVolts)} on ${targetName}. It reads ${fmtHz(playingSet)} Hz now, ` +
-            `${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents ${sharp ? 'sharp' : 'flat'}, but the trims above move it`
+            `${fmtHz(setTargetHz)} Hz, which puts ${fmtV(refVolts)} on ${targetName}. Before those trims it reads ${fmtHz(playingSet)} Hz, ` +
+            `${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents ${sharp ? 'sharp' : 'flat'}`
         : `Set the offset last, on the ${fmtV(vSet)} step: it plays ${fmtHz(playingSet)} Hz. Turn the offset (tuning) trimmer to ` +
             `${sharp ? 'lower' : 'raise'} the pitch by ${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents, until that step reads ${fmtHz(setTargetHz)} Hz, ` +
             `which centres the errors of the steps over the range about the line through ${targetName} at ${fmtV(refVolts)}`,
       otherTrims
-        ? ' A scale trimmer turns about a pivot that need not be at 0 V, so read the step again after the scale and HF trims and set it then.'
+        ? ' The scale and HF trims move this step (a scale trimmer turns about a pivot that need not be at 0 V), so read it again after them and set it then.'
         : '',
     );
   }
