@@ -5,7 +5,7 @@
  * through a reset time t, `f = f_c/(1 + f_c·t)`), with the scale trimmer turning about a pivot voltage.
  */
 import { describe, expect, it } from 'vitest';
-import { adviseFromModel, type AdviceItem, type ModelAdvice } from '../dsp/advice/index.ts';
+import { adviseFromModel, scalePivotVolts, type AdviceItem, type ModelAdvice } from '../dsp/advice/index.ts';
 import { fitCalibrationModel, stepFitUncertaintyCents, type BudgetStep } from '../dsp/model/index.ts';
 import { METER_PRESETS } from '../dsp/model/index.ts';
 import { trueHz } from '../dsp/sim/index.ts';
@@ -45,7 +45,7 @@ function measure(u: Unit, sigma: number, seed: number, metered = false): BudgetS
 }
 
 /** Measures the unit and advises; volts read on a 5½-digit meter unless `metered` is false (then nominal, 0.1 %). */
-function advise(u: Unit, tol: number, sigma = 0.005, seed = 3, metered = true): ModelAdvice {
+function advise(u: Unit, tol: number, sigma = 0.005, seed = 3, metered = true, pivot?: number): ModelAdvice {
   const budget = metered ? { meter: METER_PRESETS['5.5-digit'], clockUncertaintyPpm: 1 } : {};
   const steps = measure(u, sigma, seed, metered);
   const m = fitCalibrationModel(
@@ -56,7 +56,14 @@ function advise(u: Unit, tol: number, sigma = 0.005, seed = 3, metered = true): 
     })),
   );
   if (m.kind !== 'ok') throw new Error(`no model: ${m.reason}`);
-  return adviseFromModel({ model: m, steps, budget, toleranceCents: tol, offsetTarget: TARGET });
+  return adviseFromModel({
+    model: m,
+    steps,
+    budget,
+    toleranceCents: tol,
+    offsetTarget: TARGET,
+    ...(pivot === undefined ? {} : { scalePivotVolts: pivot }),
+  });
 }
 
 /** The technician: one trimmer at a time, in order, each landing `land` times the change its target asks for. */
@@ -184,5 +191,34 @@ describe('advice followed literally', () => {
     expect(scale.status).toBe('unresolved');
     expect(scale.uncertaintyCents!).toBeGreaterThan(1);
     expect(scale.text).toContain('more accurate meter');
+  });
+
+  it("sets the offset on the step nearest the scale trimmer's pivot when it is known", () => {
+    const u: Unit = { hz0: C1, s: 1 - 2 / 1200, resetSeconds: 0, pivotVolts: 1 };
+    const off = advise(u, 0.5, 0.005, 3, true, 1.2).items.find((i) => i.trimmer === 'offset')!;
+    expect(off.target!.volts).toBe(1);
+    // 1 V above C1 at 1 V/oct is C2, 65.4064 Hz (docs/facts.md, "Pitch, notes and cents").
+    expect(off.target!.hz).toBeCloseTo(65.4064, 3);
+    expect(off.text).toContain('pivot');
+  });
+});
+
+describe('scalePivotVolts', () => {
+  it.each([
+    // A scale change δe moves the step at V by δe·(V − p) cents (derived): worked examples.
+    [0, 4, 0, 10.4, 0], // pivot at the lower step: it does not move
+    [0, 4, 2.6, -2.6, 2], // −1.3 cents per octave about 2 V
+    [1, 5, -3, 1, 4], // +1 cent per octave about 4 V
+    [0, 4, -6, -10, -6], // −1 cent per octave about −6 V, below the range
+    [0, 4, 6, 2, 6], // −1 cent per octave about 6 V, above the steps
+  ])('steps at %f and %f V moving %f and %f cents turn about %f V', (a, b, da, db, p) => {
+    expect(scalePivotVolts(a, b, da, db)).toBeCloseTo(p, 12);
+  });
+  it('gives no pivot when the two steps moved alike, and names a bad argument', () => {
+    expect(scalePivotVolts(0, 4, 0.2, 0.3)).toBeNull();
+    expect(() => scalePivotVolts(4, 4, 1, 2)).toThrow(
+      'voltsB must be a finite number greater than voltsA (4), got 4',
+    );
+    expect(() => scalePivotVolts(0, 4, NaN, 2)).toThrow('movedCentsA must be a finite number, got NaN');
   });
 });

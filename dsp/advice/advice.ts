@@ -837,6 +837,52 @@ export interface ModelAdviceInput {
   readonly network?: InputNetwork;
   /** Tolerance of a replacement resistor, %. Default 1. */
   readonly resistorTolerancePercent?: number;
+  /**
+   * The voltage the scale trimmer turns about, V, when known (seen during an earlier scale trim, see
+   * {@link scalePivotVolts}). The offset is then set on the step nearest it, which a scale trim leaves where it
+   * is. Default: unknown, and the offset is set on the step nearest the middle of the range.
+   */
+  readonly scalePivotVolts?: Volts;
+}
+
+/**
+ * The voltage a scale trimmer turns about, from how far two steps moved while it was turned (the scale pair
+ * alternates between them): a scale change δe moves the step at V by δe·(V − p) cents, so
+ * `p = (V_B·δ_A − V_A·δ_B)/(δ_A − δ_B)` (derived). Null when the two moves are too close to tell apart
+ * (|δ_A − δ_B| under `minDifferenceCents`), as when the trimmer hardly moved.
+ *
+ * @param voltsA - The lower step's voltage, V, finite.
+ * @param voltsB - The upper step's voltage, V, finite and greater than `voltsA`.
+ * @param movedCentsA - How far the step at `voltsA` moved, cents (after minus before), finite.
+ * @param movedCentsB - How far the step at `voltsB` moved, cents, finite.
+ * @param minDifferenceCents - Smallest |δ_A − δ_B| that decides, cents, ≥ 0. Default 0.5.
+ * @returns The pivot, V, or null.
+ * @throws RangeError for a non-finite value or voltsB not above voltsA.
+ * @example scalePivotVolts(0, 4, 2.6, -2.6) // 2 (the trim narrowed the span by 1.3 cents per octave about 2 V)
+ */
+export function scalePivotVolts(
+  voltsA: Volts,
+  voltsB: Volts,
+  movedCentsA: Cents,
+  movedCentsB: Cents,
+  minDifferenceCents: Cents = 0.5,
+): Volts | null {
+  for (const [name, v] of [
+    ['voltsA', voltsA],
+    ['movedCentsA', movedCentsA],
+    ['movedCentsB', movedCentsB],
+  ] as const) {
+    if (!Number.isFinite(v)) throw new RangeError(`${name} must be a finite number, got ${v}`);
+  }
+  if (!Number.isFinite(voltsB) || !(voltsB > voltsA)) {
+    throw new RangeError(`voltsB must be a finite number greater than voltsA (${voltsA}), got ${voltsB}`);
+  }
+  if (!Number.isFinite(minDifferenceCents) || minDifferenceCents < 0) {
+    throw new RangeError(`minDifferenceCents must be a finite number at least 0, got ${minDifferenceCents}`);
+  }
+  const d = movedCentsA - movedCentsB;
+  if (Math.abs(d) < minDifferenceCents || Math.abs(d) === 0) return null;
+  return (voltsB * movedCentsA - voltsA * movedCentsB) / d;
 }
 
 /** Advice from the model, with everything it was built on. */
@@ -889,6 +935,9 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   if (!Number.isFinite(tol) || tol <= 0)
     throw new RangeError(`toleranceCents must be a finite number greater than 0, got ${tol}`);
   const { a4Hz, vBase } = checkAdviceInput(input);
+  if (input.scalePivotVolts !== undefined && !Number.isFinite(input.scalePivotVolts)) {
+    throw new RangeError(`scalePivotVolts must be a finite number, got ${input.scalePivotVolts}`);
+  }
   const { model, steps } = input;
   const used = model.usedIndices;
   const refVolts = input.offsetTarget?.volts ?? model.fromVolts;
@@ -936,8 +985,17 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   // Leave every trimmer alone once every step the model uses reads within the tolerance: a further trim lands
   // somewhat off and cannot be expected to bring the range inside a tolerance it already meets (a verdict the
   // uncertainty still leaves open is settled by measuring better, not by trimming).
-  const worstReadCents = Math.max(...used.map((i) => Math.abs(stepErr[i])));
-  const settled = worstReadCents <= tol;
+  // "Reads within" counts the reading's own noise (estimator, repeatability, settling; k = 2) but not the
+  // voltage's uncertainty: a trim can only bring the pitch onto the voltages as read.
+  const readingU = (i: number) => {
+    const c = steps[i].components;
+    const u =
+      c === undefined
+        ? steps[i].uncertaintyCents
+        : Math.hypot(c.estimatorCents, c.repeatabilityCents, c.settlingCents);
+    return 2 * u;
+  };
+  const settled = used.every((i) => Math.abs(stepErr[i]) + readingU(i) <= tol);
   const allWithin = tolerance.verdict === 'within' || settled;
   const share = tol / 3;
 
@@ -1131,17 +1189,20 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   items.push(hfItem);
 
   // 3. Offset, last, to a target pitch read on the step nearest the middle of the range: the offset trimmer moves
-  // every step alike, so setting it there splits whatever scale error remains evenly over the range (common
-  // practice, no source). With no other trim this pass, the target centres the model's errors over the steps used
-  // (the smallest worst error an offset change can give); after a scale or HF trim it puts the middle step on the
-  // target line, and it is always asked for then, because a scale trimmer turns about a pivot that need not be
-  // at 0 V (docs/facts.md, "How technicians calibrate"), so the scale trim moves the tuning by an amount no
-  // reading before it can tell.
+  // every step alike, so setting it there splits whatever scale error remains evenly over the range (derived).
+  // With no other trim this pass, the target centres the model's errors over the steps used (the smallest worst
+  // error an offset change can give); after a scale or HF trim it puts the step on the target line, and it is
+  // always asked for then, because a scale trimmer turns about a pivot that need not be at 0 V (docs/facts.md,
+  // "How technicians calibrate"), so the scale trim moves the tuning by an amount no reading before it can tell.
+  // A scale trim landing off moves the set step by m·δe·(step − pivot), which the offset must then take up; with
+  // the pivot unknown the middle step is the best worst case (`npm run bench -- --only loop` tabulates it), and
+  // with the pivot known the step nearest it, which the scale trim leaves where it is.
   const targetName = targetLabel(targetHz, a4Hz);
   const otherTrims = scaleItem.status === 'adjust' || hfItem.status === 'adjust';
-  const midVolts = (model.fromVolts + model.toVolts) / 2;
+  const pivot = input.scalePivotVolts;
+  const setNear = pivot ?? (model.fromVolts + model.toVolts) / 2;
   const setIdx = usedSorted.reduce((b, i) =>
-    Math.abs(volts(i) - midVolts) < Math.abs(volts(b) - midVolts) ? i : b,
+    Math.abs(volts(i) - setNear) < Math.abs(volts(b) - setNear) ? i : b,
   );
   const vSet = volts(setIdx);
   const modelErrAt = (v: number) => CENTS_PER_OCTAVE * Math.log2(modelHz(model, v) / targetAt(v));
@@ -1200,7 +1261,9 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
             `${sharp ? 'lower' : 'raise'} the pitch by ${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents, until that step reads ${fmtHz(setTargetHz)} Hz, ` +
             `which centres the errors of the steps over the range about the line through ${targetName} at ${fmtV(refVolts)}`,
       otherTrims
-        ? ' The scale and HF trims move this step (a scale trimmer turns about a pivot that need not be at 0 V), so read it again after them and set it then.'
+        ? pivot === undefined
+          ? ' The scale and HF trims move this step (a scale trimmer turns about a pivot that need not be at 0 V), so read it again after them and set it then.'
+          : ` It is the step nearest the scale trimmer's pivot (${fmtV(pivot)}), so the scale trim hardly moves it; read it again after the trims above and set it then.`
         : '',
     );
   }
