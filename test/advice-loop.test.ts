@@ -9,6 +9,7 @@ import { adviseFromModel, scalePivotVolts, type AdviceItem, type ModelAdvice } f
 import { fitCalibrationModel, stepFitUncertaintyCents, type BudgetStep } from '../dsp/model/index.ts';
 import { METER_PRESETS } from '../dsp/model/index.ts';
 import { trueHz } from '../dsp/sim/index.ts';
+import { calibrate, CalibrationResultSchema } from '../dsp/calibration/index.ts';
 import { gaussianNoise } from './signals.ts';
 
 // Demo scenario (invented): units from the Ostlund Lane workshop batch, measured 0…7 V from about C1.
@@ -220,5 +221,26 @@ describe('scalePivotVolts', () => {
       'voltsB must be a finite number greater than voltsA (4), got 4',
     );
     expect(() => scalePivotVolts(0, 4, NaN, 2)).toThrow('movedCentsA must be a finite number, got NaN');
+  });
+});
+
+describe('the one result', () => {
+  it('keeps the HF target relative to the scale interval, and validates against its schema', () => {
+    const u: Unit = { hz0: C1, s: 1 + 1 / 1200, resetSeconds: 1.5e-6, pivotVolts: 0 };
+    const cal = calibrate(
+      VOLTS.map((v, i) => ({
+        index: i,
+        volts: v,
+        measuredVolts: v,
+        rawHz: hzOf(u, v),
+        uncertaintyCents: 0.01,
+      })),
+      { toleranceCents: 0.5 },
+    );
+    const hf = cal.result.advice.find((a) => a.trimmer === 'hf')!;
+    expect(hf.status).toBe('adjust');
+    expect(hf.target?.relativeTo?.ratio).toBeCloseTo(0.25, 12); // one octave against the 0…4 V interval
+    const parsed = CalibrationResultSchema.safeParse(JSON.parse(JSON.stringify(cal.result)));
+    expect(parsed.error?.message ?? '').toBe('');
   });
 });
