@@ -183,6 +183,14 @@ describe('advice followed literally', () => {
     expect(a.next).toContain('more accurate meter');
   });
 
+  it('keeps trimming a step that reads within the tolerance by less than its reading noise', () => {
+    // Offset 0.49 cent sharp at every step: inside ±0.5 only by 0.01 cent, less than twice the readings'
+    // 0.02-cent noise (k = 2, GUM 6.2), so it is not taken as done.
+    const u: Unit = { hz0: C1 * 2 ** (0.49 / 1200), s: 1, resetSeconds: 0, pivotVolts: 0 };
+    const a = advise(u, 0.5, 0.02, 5);
+    expect(a.items.find((i) => i.trimmer === 'offset')!.status).toBe('adjust');
+  });
+
   it('with nominal volts at 0.1 %, leaves a 1 cent per octave scale error unresolved rather than trimming on it', () => {
     // Source accuracy 0.1 % (docs/facts.md, common practice) is a gain error common to every step: 0.1 %/√3 of
     // 1200 cents per octave is 0.69 cent per octave standard (GUM 4.3.7), U ≈ 1.4, more than the error itself.
