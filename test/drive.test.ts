@@ -275,10 +275,16 @@ describe('trim loop pass history', () => {
       hfCents: -0.4,
       offsetCents: null,
       withinTolerance: false,
+      trimAdvised: true,
     });
     expect(trimLoopVerdict(rows, 3)).toBe('again');
     expect(trimLoopVerdict([...rows, passFromAdvice(3, advice(0.2, true))], 5)).toBe('done');
     expect(trimLoopVerdict([...rows, passFromAdvice(3, advice(0.9, false))], 3)).toBe('out-of-passes');
+  });
+  it('stops when a pass asks for no trim but cannot prove the tolerance (another pass would only repeat it)', () => {
+    const idle = passFromAdvice(2, { ...advice(0.3, true), allWithinTolerance: false });
+    expect(idle.trimAdvised).toBe(false);
+    expect(trimLoopVerdict([passFromAdvice(1, advice(4.2, false)), idle], 5)).toBe('nothing-to-trim');
   });
 });
 

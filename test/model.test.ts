@@ -171,8 +171,13 @@ describe('adviseFromModel', () => {
     expect(hf.target!.volts).toBe(7); // 4186 Hz: the highest step at or below 5 kHz
     expect(hf.text).toContain('7.000 V step');
     expect(hf.text).toContain('equivalent reset time of 2.0 µs');
-    // The target reading is the step with the droop taken out: 1200 cents per volt above the 0 V step.
-    expect(hf.target!.intervalCents).toBeCloseTo(8400, 1);
+    // The target reading is the top octave with the droop taken out (docs/facts.md: trim HF on an octave near
+    // 2–5 kHz): 1200 cents from the 6 V step to the 7 V step. Now the octave is short by the reset-time error
+    // −1200·log2(1 + f·t) at 4186 Hz less that at 2093 Hz (docs/facts.md, "The exponential converter"), about 7.2 cents.
+    expect(hf.target!.fromVolts).toBe(6);
+    expect(hf.target!.intervalCents).toBeCloseTo(1200, 1);
+    const short = resetTimeErrorCents(C1 * 128, 2e-6) - resetTimeErrorCents(C1 * 64, 2e-6);
+    expect(hf.target!.nowIntervalCents - 1200).toBeCloseTo(short, 1);
   });
 
   it('names a suspect step and says to re-check its voltage', () => {

@@ -121,6 +121,19 @@ describe('one plan, every path, one result', () => {
     expect(numbers(exported)).toEqual(numbers(wavResult));
   });
 
+  it("the scale pair opens on the two steps each trim's advice names in its target reading", () => {
+    const a = runAnalysisOf(calibrator.of(state, {}));
+    const model = resultFromAnalysis(a);
+    let named = 0;
+    for (const t of ['scale', 'hf'] as const) {
+      const target = a.advice.items.find((i) => i.trimmer === t)?.target;
+      if (!target) continue;
+      named++;
+      expect(model.pairs[t]).toEqual({ low: target.fromVolts, high: target.volts });
+    }
+    expect(named).toBeGreaterThan(0);
+  });
+
   it("the app's JSON export of the run carries the one result shape, only wrapped in the unit's details", () => {
     const report: RunReport = {
       result: resultFromAnalysis(runAnalysisOf(calibrator.of(state, {}))),

@@ -128,6 +128,19 @@ export interface TrimTarget {
   readonly fromHz: Hertz;
   readonly intervalCents: Cents;
   readonly nowIntervalCents: Cents;
+  /**
+   * Set when the target follows a reading taken just before the trim (the HF trim): the interval should then read
+   * `ratio` times the interval from `fromVolts` to `volts` here, as read before turning, plus `plusCents`. This
+   * keeps the trim clear of whatever error the trims before it left (for HF: the top octave as wide as the mean
+   * octave of the scale interval, so a scale trim that landed off does not move the HF setting).
+   * `intervalCents` is the same target when the trims before it landed exactly. Null or absent otherwise.
+   */
+  readonly relativeTo?: {
+    readonly fromVolts: Volts;
+    readonly volts: Volts;
+    readonly ratio: number;
+    readonly plusCents: Cents;
+  } | null;
 }
 
 /** Trim advice for one measurement pass. */
@@ -824,6 +837,52 @@ export interface ModelAdviceInput {
   readonly network?: InputNetwork;
   /** Tolerance of a replacement resistor, %. Default 1. */
   readonly resistorTolerancePercent?: number;
+  /**
+   * The voltage the scale trimmer turns about, V, when known (seen during an earlier scale trim, see
+   * {@link scalePivotVolts}). The offset is then set on the step nearest it, which a scale trim leaves where it
+   * is. Default: unknown, and the offset is set on the step nearest the middle of the range.
+   */
+  readonly scalePivotVolts?: Volts;
+}
+
+/**
+ * The voltage a scale trimmer turns about, from how far two steps moved while it was turned (the scale pair
+ * alternates between them): a scale change δe moves the step at V by δe·(V − p) cents, so
+ * `p = (V_B·δ_A − V_A·δ_B)/(δ_A − δ_B)` (derived). Null when the two moves are too close to tell apart
+ * (|δ_A − δ_B| under `minDifferenceCents`), as when the trimmer hardly moved.
+ *
+ * @param voltsA - The lower step's voltage, V, finite.
+ * @param voltsB - The upper step's voltage, V, finite and greater than `voltsA`.
+ * @param movedCentsA - How far the step at `voltsA` moved, cents (after minus before), finite.
+ * @param movedCentsB - How far the step at `voltsB` moved, cents, finite.
+ * @param minDifferenceCents - Smallest |δ_A − δ_B| that decides, cents, ≥ 0. Default 0.5.
+ * @returns The pivot, V, or null.
+ * @throws RangeError for a non-finite value or voltsB not above voltsA.
+ * @example scalePivotVolts(0, 4, 2.6, -2.6) // 2 (the trim narrowed the span by 1.3 cents per octave about 2 V)
+ */
+export function scalePivotVolts(
+  voltsA: Volts,
+  voltsB: Volts,
+  movedCentsA: Cents,
+  movedCentsB: Cents,
+  minDifferenceCents: Cents = 0.5,
+): Volts | null {
+  for (const [name, v] of [
+    ['voltsA', voltsA],
+    ['movedCentsA', movedCentsA],
+    ['movedCentsB', movedCentsB],
+  ] as const) {
+    if (!Number.isFinite(v)) throw new RangeError(`${name} must be a finite number, got ${v}`);
+  }
+  if (!Number.isFinite(voltsB) || !(voltsB > voltsA)) {
+    throw new RangeError(`voltsB must be a finite number greater than voltsA (${voltsA}), got ${voltsB}`);
+  }
+  if (!Number.isFinite(minDifferenceCents) || minDifferenceCents < 0) {
+    throw new RangeError(`minDifferenceCents must be a finite number at least 0, got ${minDifferenceCents}`);
+  }
+  const d = movedCentsA - movedCentsB;
+  if (Math.abs(d) < minDifferenceCents || Math.abs(d) === 0) return null;
+  return (voltsB * movedCentsA - voltsA * movedCentsB) / d;
 }
 
 /** Advice from the model, with everything it was built on. */
@@ -853,9 +912,18 @@ const HF_TRIM_MAX_HZ: Hertz = 5000;
  * droop never reads as a scale error), the HF on a named step with its target reading, the offset last with
  * its target pitch, a note per suspect step, and the tolerance verdict over the range with every amount's
  * expanded uncertainty. A trimmer is left alone when its share of the error is within a third of the
- * tolerance, or when the whole range is already within tolerance (uncertainty included); it is "unresolved"
- * when its error is inside its own expanded uncertainty. Steps that fail a plausibility gate get no trim at
- * all, only the message naming the likely cause.
+ * tolerance, or when every step used already reads within the tolerance (a trim lands somewhat off and cannot
+ * be expected to improve on that; a verdict the uncertainty leaves open is settled by measuring better); it is
+ * "unresolved" when its error is inside its own expanded uncertainty. Steps that fail a plausibility gate get
+ * no trim at all, only the message naming the likely cause.
+ *
+ * Each target reading is chosen so that a trim that lands somewhat off disturbs the trims after it as little as
+ * possible: the scale from an interval (immune to the offset and to the pivot the scale trimmer turns about);
+ * the HF on the octave below its step, also stated relative to the scale interval as read just before
+ * ({@link TrimTarget.relativeTo}), so the scale's landing error does not move the HF setting; the offset last,
+ * on the step nearest the middle of the range, so the scale error left over splits evenly. After a scale or HF
+ * trim the offset is always asked for, because the pivot is not known and the scale trim moves the tuning.
+ * With no other trim, the offset's target centres the steps' errors over the range.
  *
  * @param input - Model, steps, budget options, tolerance, target, network.
  * @returns The advice with budgets and the tolerance verdict.
@@ -867,6 +935,9 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   if (!Number.isFinite(tol) || tol <= 0)
     throw new RangeError(`toleranceCents must be a finite number greater than 0, got ${tol}`);
   const { a4Hz, vBase } = checkAdviceInput(input);
+  if (input.scalePivotVolts !== undefined && !Number.isFinite(input.scalePivotVolts)) {
+    throw new RangeError(`scalePivotVolts must be a finite number, got ${input.scalePivotVolts}`);
+  }
   const { model, steps } = input;
   const used = model.usedIndices;
   const refVolts = input.offsetTarget?.volts ?? model.fromVolts;
@@ -911,7 +982,21 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
     };
   }
   const items: AdviceItem[] = [];
-  const allWithin = tolerance.verdict === 'within';
+  // Leave every trimmer alone once every step the model uses reads within the tolerance: a further trim lands
+  // somewhat off and cannot be expected to bring the range inside a tolerance it already meets (a verdict the
+  // uncertainty still leaves open is settled by measuring better, not by trimming).
+  // "Reads within" counts the reading's own noise (estimator, repeatability, settling; k = 2) but not the
+  // voltage's uncertainty: a trim can only bring the pitch onto the voltages as read.
+  const readingU = (i: number) => {
+    const c = steps[i].components;
+    const u =
+      c === undefined
+        ? steps[i].uncertaintyCents
+        : Math.hypot(c.estimatorCents, c.repeatabilityCents, c.settlingCents);
+    return 2 * u;
+  };
+  const settled = used.every((i) => Math.abs(stepErr[i]) + readingU(i) <= tol);
+  const allWithin = tolerance.verdict === 'within' || settled;
   const share = tol / 3;
 
   // Suspect steps first: the user must re-check them before trusting anything else.
@@ -1063,23 +1148,39 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
     } else {
       const flat = hAtH < 0;
       const sAfter = scaleItem.status === 'adjust' ? 0 : e;
+      // Read the HF on the octave below the trim step (docs/facts.md: trim HF on an octave near 2–5 kHz): an
+      // interval of one octave carries one octave's worth of whatever scale error the scale trim left, where the
+      // interval from the bottom step would carry all of it into the HF setting.
+      const octaveBelow = usedSorted.filter((i) => volts(i) >= vA && volts(i) < vH);
+      const gIdx = octaveBelow.reduce((b, i) =>
+        Math.abs(volts(i) - (vH - 1)) < Math.abs(volts(b) - (vH - 1)) ? i : b,
+      );
+      const vG = volts(gIdx);
+      const fG = modelHz(model, vG);
       const interval =
-        (CENTS_PER_OCTAVE + sAfter) * (vH - vA) + lowEndCents(model, fH) - lowEndCents(model, fA);
-      const nowInterval = CENTS_PER_OCTAVE * Math.log2(fH / fA);
+        (CENTS_PER_OCTAVE + sAfter) * (vH - vG) + lowEndCents(model, fH) - lowEndCents(model, fG);
+      const nowInterval = CENTS_PER_OCTAVE * Math.log2(fH / fG);
+      // The same target taken from the scale interval as read just before the HF trim, so the scale's own landing
+      // error cancels: the top octave should be as wide as the mean octave from vA to vB, once the bends the HF
+      // trim removes (at vA and vB, now) and the low-end term it leaves are accounted for.
+      const ratio = (vH - vG) / (vB - vA);
+      const plusCents = lowEndCents(model, fH) - lowEndCents(model, fG) - ratio * (bend(fB) - bend(fA));
+      const relativeTo = { fromVolts: vA, volts: vB, ratio, plusCents };
       hfItem = item({
         trimmer: 'hf',
         status: 'adjust',
         direction: flat ? 'more-compensation' : 'less-compensation',
         errorCents: hAtH,
         uncertaintyCents: hfBudget.expanded,
-        target: trimTarget(vA, fA, vH, fH, interval, nowInterval),
+        target: { ...trimTarget(vG, fG, vH, fH, interval, nowInterval), relativeTo },
         text:
           `Trim the HF on the ${fmtV(vH)} step (${fmtHz(fH)} Hz): it is ${fmtCents(hAtH)} ± ${formatUncertainty(hfBudget.expanded)} cents ${flat ? 'flat' : 'sharp'} ` +
           `of the model's line (${fmtCents(hAtTop)} at the top step, ${fmtHz(fTop)} Hz). Turn the HF trimmer to ${flat ? 'add' : 'reduce'} compensation ` +
-          `until the interval from ${fmtV(vA)} to ${fmtV(vH)} reads ${interval.toFixed(1)} cents (now ${nowInterval.toFixed(1)})` +
+          `until the interval from ${fmtV(vG)} to ${fmtV(vH)} reads ${interval.toFixed(1)} cents (now ${nowInterval.toFixed(1)})` +
           (scaleItem.status === 'adjust'
-            ? ', after the scale is set'
-            : `: the ${fmtV(vH)} step should then read ${fmtHz(fA * Math.pow(2, interval / CENTS_PER_OCTAVE))} Hz`) +
+            ? `, after the scale is set. If the scale trim landed off, aim instead for ${ratio.toPrecision(3)} times the interval from ${fmtV(vA)} to ${fmtV(vB)} as it reads then, ` +
+              `${plusCents < 0 ? 'less' : 'plus'} ${Math.abs(plusCents).toFixed(1)} cents: the top octave as wide as the octaves below it`
+            : `: the ${fmtV(vH)} step should then read ${fmtHz(fG * Math.pow(2, interval / CENTS_PER_OCTAVE))} Hz`) +
           '. Then check the scale again: the two interact.' +
           shape,
       });
@@ -1087,20 +1188,50 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   }
   items.push(hfItem);
 
-  // 3. Offset, last, to a target pitch.
+  // 3. Offset, last, to a target pitch read on the step nearest the middle of the range: the offset trimmer moves
+  // every step alike, so setting it there splits whatever scale error remains evenly over the range (derived).
+  // With no other trim this pass, the target centres the model's errors over the steps used (the smallest worst
+  // error an offset change can give); after a scale or HF trim it puts the step on the target line, and it is
+  // always asked for then, because a scale trimmer turns about a pivot that need not be at 0 V (docs/facts.md,
+  // "How technicians calibrate"), so the scale trim moves the tuning by an amount no reading before it can tell.
+  // A scale trim landing off moves the set step by m·δe·(step − pivot), which the offset must then take up; with
+  // the pivot unknown the middle step is the best worst case (`npm run bench -- --only loop` tabulates it), and
+  // with the pivot known the step nearest it, which the scale trim leaves where it is.
   const targetName = targetLabel(targetHz, a4Hz);
+  const otherTrims = scaleItem.status === 'adjust' || hfItem.status === 'adjust';
+  const pivot = input.scalePivotVolts;
+  const setNear = pivot ?? (model.fromVolts + model.toVolts) / 2;
+  const setIdx = usedSorted.reduce((b, i) =>
+    Math.abs(volts(i) - setNear) < Math.abs(volts(b) - setNear) ? i : b,
+  );
+  const vSet = volts(setIdx);
+  const modelErrAt = (v: number) => CENTS_PER_OCTAVE * Math.log2(modelHz(model, v) / targetAt(v));
+  const errsNow = usedSorted.map((i) => modelErrAt(volts(i)));
+  const shift = otherTrims ? modelErrAt(vSet) : (Math.max(...errsNow) + Math.min(...errsNow)) / 2;
+  const playingSet = modelHz(model, vSet);
+  const setTargetHz = otherTrims ? targetAt(vSet) : playingSet * Math.pow(2, -shift / CENTS_PER_OCTAVE);
+  const setBudget = derivedBudget(
+    model,
+    steps,
+    predictionSensitivities(model, vSet),
+    `offset at ${fmtV(vSet)}`,
+    'cents',
+    shift,
+    bopts,
+  );
   const uOff = offsetBudget.expanded;
+  const uShift = setBudget.expanded;
   let offsetItem: AdviceItem;
   const offTarget: TrimTarget = {
-    volts: refVolts,
-    hz: targetHz,
-    nowHz: playingRef,
-    fromVolts: refVolts,
-    fromHz: playingRef,
+    volts: vSet,
+    hz: setTargetHz,
+    nowHz: playingSet,
+    fromVolts: vSet,
+    fromHz: playingSet,
     intervalCents: 0,
-    nowIntervalCents: offErr,
+    nowIntervalCents: shift,
   };
-  if (allWithin || Math.abs(offErr) <= share) {
+  if (!otherTrims && (allWithin || Math.abs(shift) <= share)) {
     offsetItem = item({
       trimmer: 'offset',
       status: 'within-tolerance',
@@ -1108,25 +1239,31 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
       uncertaintyCents: uOff,
       text: `The tuning is within tolerance: ${fmtCents(offErr)} ± ${formatUncertainty(uOff)} cents ${offErr > 0 ? 'sharp' : 'flat'} of ${targetName} at ${fmtV(refVolts)}.`,
     });
-  } else if (Math.abs(offErr) <= uOff) {
+  } else if (!otherTrims && Math.abs(shift) <= uShift) {
     offsetItem = item({
       trimmer: 'offset',
       status: 'unresolved',
-      errorCents: offErr,
-      uncertaintyCents: uOff,
-      text: `The tuning error (${fmtSigned(offErr)} ± ${formatUncertainty(uOff)} cents at ${fmtV(refVolts)}) cannot be told from zero: mostly ${offsetBudget.dominant ? budgetSourceName(offsetBudget.dominant) : 'the readings'}.`,
+      errorCents: shift,
+      uncertaintyCents: uShift,
+      text: `The tuning error (${fmtSigned(shift)} ± ${formatUncertainty(uShift)} cents at ${fmtV(vSet)}) cannot be told from zero: mostly ${setBudget.dominant ? budgetSourceName(setBudget.dominant) : 'the readings'}.`,
     });
   } else {
-    const sharp = offErr > 0;
+    const sharp = shift > 0;
     offsetItem = offsetAdjustItem(
-      offErr,
+      shift,
       vBase,
-      { uncertaintyCents: uOff, target: offTarget },
-      `Set the offset last: at ${fmtV(refVolts)} the oscillator plays ${fmtHz(playingRef)} Hz, ${fmtCents(offErr)} ± ${formatUncertainty(uOff)} cents ` +
-        `${sharp ? 'sharp' : 'flat'} of ${targetName}. Turn the offset (tuning) trimmer to ${sharp ? 'lower' : 'raise'} the pitch until the ${fmtV(refVolts)} step reads ` +
-        `${fmtHz(targetHz)} Hz`,
-      scaleItem.status === 'adjust' || hfItem.status === 'adjust'
-        ? ' Trimming the scale or HF moves this, so set it after them and read the step again.'
+      { uncertaintyCents: uShift, target: offTarget },
+      otherTrims
+        ? `Set the offset last, on the ${fmtV(vSet)} step: after the trims above, turn the offset (tuning) trimmer until that step reads ` +
+            `${fmtHz(setTargetHz)} Hz, which puts ${fmtV(refVolts)} on ${targetName}. Before those trims it reads ${fmtHz(playingSet)} Hz, ` +
+            `${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents ${sharp ? 'sharp' : 'flat'}`
+        : `Set the offset last, on the ${fmtV(vSet)} step: it plays ${fmtHz(playingSet)} Hz. Turn the offset (tuning) trimmer to ` +
+            `${sharp ? 'lower' : 'raise'} the pitch by ${fmtCents(shift)} ± ${formatUncertainty(uShift)} cents, until that step reads ${fmtHz(setTargetHz)} Hz, ` +
+            `which centres the errors of the steps over the range about the line through ${targetName} at ${fmtV(refVolts)}`,
+      otherTrims
+        ? pivot === undefined
+          ? ' The scale and HF trims move this step (a scale trimmer turns about a pivot that need not be at 0 V), so read it again after them and set it then.'
+          : ` It is the step nearest the scale trimmer's pivot (${fmtV(pivot)}), so the scale trim hardly moves it; read it again after the trims above and set it then.`
         : '',
     );
   }
@@ -1158,7 +1295,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
   } else if (hfItem.status === 'adjust') {
     next = `Trim the HF on the ${fmtV(hfItem.target?.volts ?? vB)} step to its target, then measure the scale interval again; repeat scale and HF until both hold.`;
   } else if (offsetItem.status === 'adjust') {
-    next = `Set the offset at ${fmtV(refVolts)} to ${fmtHz(targetHz)} Hz, then run every step again and record the result.`;
+    next = `Set the offset on the ${fmtV(vSet)} step to ${fmtHz(setTargetHz)} Hz, then run every step again and record the result.`;
   } else if (tolerance.verdict === 'within') {
     next =
       `Every step is within ±${tol} cent, uncertainty included: record the readings with the serial number, date, room temperature, ` +

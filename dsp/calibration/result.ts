@@ -251,6 +251,11 @@ export const ResultAdviceSchema = z.strictObject({
       fromHz: z.number().finite().positive(),
       intervalCents: finite(),
       nowIntervalCents: finite(),
+      /** A target that follows the interval from `fromVolts` to `volts` as read just before the trim (the HF trim). */
+      relativeTo: z
+        .strictObject({ fromVolts: finite(), volts: finite(), ratio: finite(), plusCents: finite() })
+        .nullable()
+        .optional(),
     })
     .nullable()
     .optional(),

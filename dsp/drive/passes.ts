@@ -18,6 +18,8 @@ export interface PassRow {
   readonly offsetCents: Cents | null;
   /** True when scale, HF and offset were all within tolerance. */
   readonly withinTolerance: boolean;
+  /** True when the pass's advice asked for at least one trim. */
+  readonly trimAdvised: boolean;
 }
 
 /**
@@ -36,15 +38,18 @@ export function passFromAdvice(pass: number, advice: TrimAdvice): PassRow {
     hfCents: of('hf'),
     offsetCents: of('offset'),
     withinTolerance: advice.allWithinTolerance,
+    trimAdvised: advice.items.some((i) => i.status === 'adjust'),
   };
 }
 
 /** What the loop does after a pass. */
-export type LoopVerdict = 'again' | 'done' | 'out-of-passes';
+export type LoopVerdict = 'again' | 'done' | 'nothing-to-trim' | 'out-of-passes';
 
 /**
- * The loop's verdict after the latest pass: `done` when it was within tolerance, `out-of-passes` when
- * `maxPasses` are done, else `again`.
+ * The loop's verdict after the latest pass: `done` when it was within tolerance, `nothing-to-trim` when it
+ * was not proven within tolerance but its advice asks for no trim (the readings cannot decide, or every step
+ * already reads within the tolerance: another pass would only repeat it), `out-of-passes` when `maxPasses`
+ * are done, else `again`.
  *
  * @param rows - The history so far.
  * @param maxPasses - Most passes, integer in [1, 50].
@@ -55,5 +60,6 @@ export function trimLoopVerdict(rows: readonly PassRow[], maxPasses: number): Lo
     throw new RangeError(`maxPasses must be an integer in [1, 50], got ${maxPasses}`);
   const last = rows[rows.length - 1];
   if (last?.withinTolerance) return 'done';
+  if (last !== undefined && !last.trimAdvised) return 'nothing-to-trim';
   return rows.length >= maxPasses ? 'out-of-passes' : 'again';
 }

@@ -8,8 +8,9 @@
  * matching uncertainty components (the engine's contract). The audio path's own accuracy is measured by the
  * engine cases above.
  */
-import { adviseFromModel, type ModelAdvice } from '../../dsp/advice/index.ts';
+import { adviseFromModel, scalePivotVolts, type ModelAdvice } from '../../dsp/advice/index.ts';
 import {
+  budgetSourceName,
   METER_PRESETS,
   stepFitUncertaintyCents,
   type BudgetOptions,
@@ -248,20 +249,42 @@ function droopCase(seeds: number): boolean {
   return ok;
 }
 
-/** The technician: follows each adjust item to its target reading, landing `m` times the change asked for. */
-function applyAdvice(u: Unit, advice: ModelAdvice, m: number): void {
+/**
+ * The technician: follows each adjust item to its target reading, landing `m` times the change asked for, and
+ * returns the scale trimmer's pivot as seen from how far the two steps of the scale interval moved while it was
+ * turned (null when no scale trim was asked for or the steps moved alike).
+ */
+function applyAdvice(u: Unit, advice: ModelAdvice, m: number, r: () => number): number | null {
+  let pivotSeen: number | null = null;
   for (const it of advice.items) {
     if (it.status !== 'adjust' || !it.target) continue;
     const t = it.target;
     if (it.trimmer === 'scale') {
       const now = CENTS * Math.log2(unitHz(u, t.volts) / unitHz(u, t.fromVolts));
       const ds = (m * (t.intervalCents - now)) / (CENTS * (t.volts - t.fromVolts));
+      // The two steps the technician alternates between, read before and after (with the readings' noise).
+      const read = (v: number) =>
+        CENTS * Math.log2(unitHz(u, v)) +
+        Math.hypot(NOISE.estimatorCents, NOISE.repeatabilityCents) * gaussian(r);
+      const before = [read(t.fromVolts), read(t.volts)];
       // Turning the scale trimmer keeps the pitch at the pivot.
       u.hz0 *= Math.pow(2, -ds * u.pivotVolts);
       u.s += ds;
+      pivotSeen = scalePivotVolts(
+        t.fromVolts,
+        t.volts,
+        read(t.fromVolts) - before[0],
+        read(t.volts) - before[1],
+      );
     } else if (it.trimmer === 'hf') {
       const interval = () => CENTS * Math.log2(unitHz(u, t.volts) / unitHz(u, t.fromVolts));
-      const goal = interval() + m * (t.intervalCents - interval());
+      // A target relative to a reading taken just before the trim (the scale interval as it reads now).
+      const rel = t.relativeTo;
+      const aim =
+        rel == null
+          ? t.intervalCents
+          : rel.ratio * CENTS * Math.log2(unitHz(u, rel.volts) / unitHz(u, rel.fromVolts)) + rel.plusCents;
+      const goal = interval() + m * (aim - interval());
       // The HF trimmer changes the equivalent reset time; find the change by the secant method.
       let a = u.resetSeconds;
       let b = u.resetSeconds - 1e-7;
@@ -287,6 +310,48 @@ function applyAdvice(u: Unit, advice: ModelAdvice, m: number): void {
       u.hz0 *= Math.pow(2, (-m * now) / CENTS);
     }
   }
+  return pivotSeen;
+}
+
+/**
+ * Why the step the offset is set on matters when the scale trimmer's pivot is unknown: the line part alone
+ * (offset a cents at 0 V, scale e cents per octave, pivot p), three passes of a scale trim landing m times the
+ * change asked for about p, then the offset set to the target line on one step, landing m times too. The scale
+ * trim moves that step by m·δe·(step − p), which the offset then takes up (and lands 30 % off of). The worst
+ * |error| over 0…7 V after three passes, the worse of m = 0.7 and 1.3, for each choice of step; the last row is
+ * the worst over these units with the pivot anywhere from 0 to 7 V.
+ */
+function pivotTable(units: readonly { name: string; a: number; e: number; p: number }[]): void {
+  const after3 = (a0: number, e0: number, p: number, vSet: number, m: number) => {
+    let a = a0;
+    let e = e0;
+    for (let k = 0; k < 3; k++) {
+      const de = -m * e;
+      a -= de * p;
+      e += de;
+      a -= m * (a + e * vSet);
+    }
+    return Math.max(...VOLTS.map((v) => Math.abs(a + e * v)));
+  };
+  const worst = (a: number, e: number, p: number, vSet: number) =>
+    Math.max(after3(a, e, p, vSet, 0.7), after3(a, e, p, vSet, 1.3));
+  const rows = units
+    .filter((x) => x.e !== 0)
+    .map((x) => [
+      x.name.includes('pivot') ? x.name : `${x.name}, pivot ${x.p} V`,
+      ...VOLTS.map((v) => worst(x.a, x.e, x.p, v).toFixed(2)),
+    ]);
+  rows.push([
+    'worst of these, pivot anywhere 0…7 V',
+    ...VOLTS.map((v) =>
+      Math.max(...units.flatMap((x) => VOLTS.map((p) => worst(x.a, x.e, p, v)))).toFixed(2),
+    ),
+  ]);
+  table(
+    'Offset set on which step? Line part only (HF left out): worst |error| over 0…7 V after three passes, trims landing 30 % off; the advice sets it on the middle step (3 V)',
+    ['unit', ...VOLTS.map((v) => `set on ${v} V`)],
+    rows,
+  );
 }
 
 /** Closed loop: advice followed literally, trims landing 30 % long or short, until every step holds ±0.5 cent. */
@@ -321,27 +386,52 @@ function loopCase(): boolean {
     Math.max(...VOLTS.map((v) => Math.abs(CENTS * Math.log2(unitHz(u, v) / (target.hz * Math.pow(2, v)))))); // prettier-ignore
   const rows: string[][] = [];
   let ok = true;
-  for (const { name, u: start } of units) {
+  /** Follows the advice pass by pass; with `seePivot`, the pivot seen in the first scale trim goes to the later advice. */
+  const follow = (start: Unit, m: number, seePivot: boolean) => {
+    const u = { ...start };
+    const r = rng(77);
+    // The technician's own readings of the two scale steps, on a stream of their own (the runs stay comparable).
+    const rPivot = rng(78);
     const initial = worstOf(start);
+    let trims = 0;
+    let reached: number | null = initial <= 0.5 ? 0 : null;
+    let verdict = '';
+    let pivot: number | null = null;
+    const trace = [initial];
+    for (let pass = 1; pass <= 8; pass++) {
+      const steps = measure(u, VOLTS, r, [], true);
+      const model = fitOf(steps, budget);
+      if (model.kind !== 'ok') break;
+      const advice = adviseFromModel({
+        model,
+        steps,
+        budget,
+        toleranceCents: 0.5,
+        offsetTarget: target,
+        ...(seePivot && pivot !== null ? { scalePivotVolts: pivot } : {}),
+      });
+      // The verdict with what holds it open: the largest expanded uncertainty, where, and its main contribution.
+      const big = advice.tolerance.steps.reduce((a, b) => (b.expandedCents > a.expandedCents ? b : a));
+      const dominant = advice.stepBudgets[big.index].dominant;
+      verdict =
+        advice.tolerance.verdict === 'within'
+          ? 'within'
+          : `${advice.tolerance.verdict} (U ${big.expandedCents.toFixed(2)} at ${big.volts} V, ${dominant === null ? '–' : budgetSourceName(dominant)})`;
+      if (advice.items.every((i) => i.status !== 'adjust')) break;
+      const seen = applyAdvice(u, advice, m, rPivot);
+      if (pivot === null) pivot = seen;
+      trims++;
+      trace.push(worstOf(u));
+      if (reached === null && worstOf(u) <= 0.5) reached = trims;
+    }
+    return { initial, trims, reached, verdict, trace, pivot, worst: worstOf(u) };
+  };
+  for (const { name, u: start } of units) {
     for (const m of [1.3, 0.7]) {
-      const u = { ...start };
-      const r = rng(77);
-      let trims = 0;
-      let reached: number | null = initial <= 0.5 ? 0 : null;
-      let verdict = '';
-      for (let pass = 1; pass <= 8; pass++) {
-        const steps = measure(u, VOLTS, r, [], true);
-        const model = fitOf(steps, budget);
-        if (model.kind !== 'ok') break;
-        const advice = adviseFromModel({ model, steps, budget, toleranceCents: 0.5, offsetTarget: target });
-        verdict = advice.tolerance.verdict;
-        if (advice.items.every((i) => i.status !== 'adjust')) break;
-        applyAdvice(u, advice, m);
-        trims++;
-        if (reached === null && worstOf(u) <= 0.5) reached = trims;
-      }
-      const worst = worstOf(u);
-      // Each pass leaves 30 % of the error, so 3 passes reach ±0.5 cent only from about 0.5/0.3³ ≈ 18 cents.
+      const { initial, trims, reached, verdict, trace, worst } = follow(start, m, false);
+      const known = follow(start, m, true);
+      // A trim landing 30 % off leaves 30 % of the error it was asked to remove, so three passes leave at least
+      // 0.3³ = 2.7 % of each trimmer's share: ±0.5 cent is within reach only from about 0.5/0.3³ ≈ 18.5 cents.
       const reachable = initial * 0.3 ** 3 <= 0.5;
       const meets = reached !== null && reached <= 3 && worst <= 0.5;
       if (reachable && !meets) ok = false;
@@ -351,9 +441,14 @@ function loopCase(): boolean {
         m > 1 ? '30 % too far' : '30 % too short',
         reached === null ? 'never' : String(reached),
         String(trims),
+        trace.map((w) => (w >= 10 ? w.toFixed(1) : w.toFixed(2))).join(' → '),
         worst.toFixed(3),
         verdict,
         meets ? 'yes' : reachable ? 'NO' : 'no (beyond 3-pass reach)',
+        `${known.reached === null ? 'never' : known.reached}, ${known.worst.toFixed(3)}` +
+          (known.pivot === null
+            ? ''
+            : ` (seen ${(Math.abs(known.pivot) < 0.005 ? 0 : known.pivot).toFixed(2)} V)`),
       ]);
     }
   }
@@ -365,11 +460,21 @@ function loopCase(): boolean {
       'trims',
       'passes to ±0.5',
       'passes until no trim advised',
+      'worst after each pass, cents',
       'final worst true error, cents',
-      'last verdict',
+      'last verdict (largest U, cents, at, mostly)',
       '±0.5 in ≤ 3',
+      'pivot seen in the first scale trim and given to the later advice: passes to ±0.5, final worst',
     ],
     rows,
+  );
+  pivotTable(
+    units.map(({ name, u }) => ({
+      name,
+      a: CENTS * Math.log2(u.hz0 / c1),
+      e: CENTS * (u.s - 1),
+      p: u.pivotVolts,
+    })),
   );
   return ok;
 }

@@ -624,9 +624,11 @@ export function useDrive(deps: DriveDeps): DriveApi {
         const verdict =
           v === 'done'
             ? `Pass ${passNo}: scale, HF and offset are within tolerance. Done.`
-            : v === 'out-of-passes'
-              ? `Pass ${passNo} of ${h.loopPasses}: the loop is over; trim and start it again if the errors still move.`
-              : `Pass ${passNo} done: trim now; pass ${passNo + 1} starts in a moment.`;
+            : v === 'nothing-to-trim'
+              ? `Pass ${passNo}: no trim is advised; the advice says what would settle the verdict.`
+              : v === 'out-of-passes'
+                ? `Pass ${passNo} of ${h.loopPasses}: the loop is over; trim and start it again if the errors still move.`
+                : `Pass ${passNo} done: trim now; pass ${passNo + 1} starts in a moment.`;
         if (v !== 'again') {
           endHandsOff({ passes, verdict });
           return;

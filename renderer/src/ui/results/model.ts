@@ -93,6 +93,15 @@ function pair(low: number, high: number): { low: number; high: number } | null {
   return Number.isFinite(low) && Number.isFinite(high) && high > low ? { low, high } : null;
 }
 
+/** The pair each trim's advice names in its target reading (the HF on the octave below its step), else `fallback`'s. */
+function adviceTargetPairs(a: RunAnalysis, fallback: ResultModel['pairs']): ResultModel['pairs'] {
+  const of = (t: 'scale' | 'hf') => {
+    const target = a.advice.items.find((i) => i.trimmer === t && i.target)?.target;
+    return target ? pair(target.fromVolts, target.volts) : null;
+  };
+  return { scale: of('scale') ?? fallback.scale, hf: of('hf') ?? fallback.hf };
+}
+
 /** Rows sorted by voltage, ties in order of play. */
 function byVolts(rows: ResultRow[]): ResultRow[] {
   return rows.sort((a, b) => a.volts - b.volts || a.step - b.step);
@@ -152,7 +161,8 @@ export function resultFromAnalysis(a: RunAnalysis): ResultModel {
     })),
     next: a.advice.next,
     caution: a.advice.caution,
-    pairs:
+    pairs: adviceTargetPairs(
+      a,
       a.fit.kind !== 'ok'
         ? { scale: null, hf: null }
         : a.bends.kind === 'ok'
@@ -161,6 +171,7 @@ export function resultFromAnalysis(a: RunAnalysis): ResultModel {
               hf: pair(a.bends.middle.fromVolts, a.fit.toVolts),
             }
           : { scale: pair(a.fit.fromVolts, a.fit.toVolts), hf: pair(a.fit.fromVolts, a.fit.toVolts) },
+    ),
     source: a.result,
   };
 }
