@@ -85,6 +85,11 @@ const OPTIONS = {
   },
   'fit-from': { type: 'string', value: 'V', help: 'lowest control voltage the fit and advice use' },
   'fit-to': { type: 'string', value: 'V', help: 'highest control voltage the fit and advice use' },
+  pivot: {
+    type: 'string',
+    value: 'V',
+    help: 'voltage the scale trimmer turns about, if known: the offset is then set on that step',
+  },
   divider: {
     type: 'string',
     value: 'SERIES,SHUNT',
@@ -119,6 +124,8 @@ export interface AnalyzeOptions {
   /** Fit range, V (inclusive); undefined when not given. */
   readonly fitFromVolts?: Volts;
   readonly fitToVolts?: Volts;
+  /** The voltage the scale trimmer turns about, V; undefined when not given. */
+  readonly scalePivotVolts?: Volts;
   /** The input network, for resistor values in the scale advice. */
   readonly network?: InputNetwork;
   /** Meter readings per step, the budget's options and the tolerance (`cli/model-options.ts`). */
@@ -137,6 +144,9 @@ settled steps in order, one per voltage, and prints the error table, the trackin
 fit (octaves per volt, scale error) and which trimmer to turn. --fit-from and --fit-to
 narrow the fit to a range of voltages; --divider or --summer describe the network from
 the 1 V/oct input to the converter, for resistor values that would correct the scale.
+--pivot names the voltage the scale trimmer turns about (the step that holds still while
+you turn it), when you know it: the offset is then set on that step, which later scale
+trims leave in place. Without it the offset is set on the middle step.
 
 Every figure comes from one model: a line plus, where the steps support it, an HF term
 (an equivalent reset time) and a low-end term, chosen by AICc. A step that disagrees
@@ -215,6 +225,10 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
       EXIT_USAGE,
     );
   }
+  const scalePivotVolts =
+    values.pivot === undefined
+      ? undefined
+      : parseNumberOption('pivot', values.pivot, -MAX_CONTROL_VOLTS, MAX_CONTROL_VOLTS, 'V');
   if (values.divider !== undefined && values.summer !== undefined) {
     throw new CliError('give one input network: --divider or --summer, not both', EXIT_USAGE);
   }
@@ -231,6 +245,7 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
       [
         ['fit-from', fitFromVolts],
         ['fit-to', fitToVolts],
+        ['pivot', scalePivotVolts],
         ['divider', values.divider],
         ['summer', values.summer],
       ] as const
@@ -260,6 +275,7 @@ export function parseAnalyzeArgs(args: readonly string[]): AnalyzeOptions | 'hel
     ...(trueHz === undefined ? {} : { trueHz }),
     ...(fitFromVolts === undefined ? {} : { fitFromVolts }),
     ...(fitToVolts === undefined ? {} : { fitToVolts }),
+    ...(scalePivotVolts === undefined ? {} : { scalePivotVolts }),
     ...(network === undefined ? {} : { network }),
     ...(points === undefined ? {} : { model }),
   };
@@ -368,6 +384,7 @@ function analyzeOpened(opts: AnalyzeOptions, layout: WavLayout, source: SampleSo
         ...(opts.clockPpm === undefined ? {} : { clockPpm: opts.clockPpm }),
         ...(opts.fitFromVolts === undefined ? {} : { fitFromVolts: opts.fitFromVolts }),
         ...(opts.fitToVolts === undefined ? {} : { fitToVolts: opts.fitToVolts }),
+        ...(opts.scalePivotVolts === undefined ? {} : { scalePivotVolts: opts.scalePivotVolts }),
         ...(opts.network === undefined ? {} : { network: opts.network }),
         ...(opts.model?.measuredVolts === undefined ? {} : { measuredVolts: opts.model.measuredVolts }),
         ...(opts.model === undefined ? {} : { budget: opts.model.budget }),

@@ -136,6 +136,22 @@ describe('spanmeter analyze: calibration options', () => {
     expect((await json()).fit).toMatchObject({ fromVolts: 0, toVolts: 6 });
   });
 
+  it('--pivot 2: the offset is set on the 2 V step and the result says which pivot the advice assumed', async () => {
+    type WithTarget = Omit<Out, 'advice'> & {
+      scalePivotVolts?: number;
+      advice: { trimmer: string; target?: { volts: number } | null }[];
+    };
+    const withPivot = (await json('--pivot', '2')) as unknown as WithTarget;
+    const plain = (await json()) as unknown as WithTarget;
+    expect(withPivot.scalePivotVolts).toBe(2);
+    expect(plain.scalePivotVolts).toBeUndefined();
+    // A scale trim moves the step at V by δe·(V − pivot) (derived, scalePivotVolts in dsp/advice/advice.ts): the
+    // step at the pivot stays put, so the offset is set there.
+    expect(withPivot.advice.find((a) => a.trimmer === 'offset')?.target?.volts).toBe(2);
+    const refused = await cliInProcess('analyze', pass, '--points', POINTS.join(','), '--pivot', '13');
+    expect(refused.stderr).toBe("spanmeter analyze: --pivot must be a number from -12 to 12 V, got '13'\n");
+  });
+
   it('--true-hz recovers a known clock error within 0.5 ppm', async () => {
     const r = await cliInProcess('analyze', ref, '--true-hz', '1000', '--json');
     expect(r.stderr).toBe('');

@@ -13,6 +13,7 @@ import {
 } from '../renderer/src/lib/setup.ts';
 import { calibrate } from '../dsp/calibration/index.ts';
 import { runAnalysisOf } from '../renderer/src/lib/analysis.ts';
+import { pairPivotVolts } from '../renderer/src/ui/ScalePairPanel.tsx';
 
 describe('parseOhms', () => {
   // Multiplier suffixes k = 10³, M = 10⁶ (SI prefixes); the letter as the decimal point (4k02, 2M2, 4R7)
@@ -68,12 +69,14 @@ describe('setupOptions', () => {
         topology: 'divider',
         firstOhms: '100k',
         secondOhms: '1.8k',
+        scalePivotVolts: '2,5',
       }),
     ).toEqual({
       clockPpm: -12.5,
       fitFromVolts: 1,
       fitToVolts: 5,
       network: { topology: 'divider', seriesOhms: 100_000, shuntOhms: 1800 },
+      scalePivotVolts: 2.5,
       problems: [],
     });
     expect(
@@ -90,6 +93,7 @@ describe('setupOptions', () => {
       topology: 'divider',
       firstOhms: '100k',
       secondOhms: 'lots',
+      scalePivotVolts: 'middle',
     });
     expect(o.clockPpm).toBe(0);
     expect(o.network).toBeUndefined();
@@ -97,8 +101,19 @@ describe('setupOptions', () => {
     expect(o.problems).toEqual([
       "Clock correction: '2000' is not a number of ppm (−1000 to 1000).",
       'Fit range: from 5 V is above to 1 V; every step is fitted.',
+      "Scale pivot: 'middle' is not a voltage (−12 to 12 V).",
       "Shunt Rsh: 'lots' is not a resistance: type ohms like 470, 100k, 1.8k, 4k02 or 2.2M.",
     ]);
+  });
+
+  it('the Scale pair’s pivot: the step that held still while the trimmer turned', () => {
+    // A scale change δe moves the step at V by δe·(V − p) cents (derived; scalePivotVolts, dsp/advice).
+    // Narrowing by 1.3 cents per octave about 2 V: 0 V rises 2.6 cents and 4 V falls 2.6.
+    const up = (hz: number, c: number) => hz * Math.pow(2, c / 1200);
+    const first = { low: 65.406, high: 1046.5 };
+    expect(pairPivotVolts(first, { low: up(65.406, 2.6), high: up(1046.5, -2.6) }, 0, 4)).toBeCloseTo(2, 9);
+    // Moves too alike to tell (under 0.5 cent apart): no pivot yet.
+    expect(pairPivotVolts(first, { low: up(65.406, 0.1), high: up(1046.5, 0.2) }, 0, 4)).toBeNull();
   });
 });
 

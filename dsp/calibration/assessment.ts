@@ -42,6 +42,8 @@ export interface AssessOptions {
   readonly tempC?: Celsius;
   /** Tolerance of a replacement resistor, %. Default 1. */
   readonly resistorTolerancePercent?: number;
+  /** The voltage the scale trimmer turns about, V, when known. Default: unknown. */
+  readonly scalePivotVolts?: Volts;
 }
 
 /** What {@link assessSteps} returns. */
@@ -109,6 +111,7 @@ export function assessSteps(steps: readonly BudgetStep[], opts: AssessOptions = 
     ...(opts.resistorTolerancePercent === undefined
       ? {}
       : { resistorTolerancePercent: opts.resistorTolerancePercent }),
+    ...(opts.scalePivotVolts === undefined ? {} : { scalePivotVolts: opts.scalePivotVolts }),
   });
   return { model, advice, refusal: advice.refusal, flags, likelyVolts, stepBudgets: advice.stepBudgets };
 }

@@ -81,6 +81,12 @@ export interface CalibrationOptions {
   readonly fitToVolts?: Volts;
   /** The input network, for resistor values in the scale advice (`dsp/advice/advice.ts`). */
   readonly network?: InputNetwork;
+  /**
+   * The voltage the scale trimmer turns about, V, within ±12, when it is known (measured while turning it,
+   * `scalePivotVolts` in dsp/advice/advice.ts): the offset is then set on the step nearest it, which a scale
+   * trim leaves in place. Default: unknown (the offset is set on the middle step).
+   */
+  readonly scalePivotVolts?: Volts;
 }
 
 /** Options of {@link calibrate}. */
@@ -138,10 +144,13 @@ export function checkCalibrationOptions(opts: CalibrationOptions): CalibrationOp
   }
   // inputNetworkGain checks every resistance and throws a RangeError naming the bad one.
   if (opts.network !== undefined) inputNetworkGain(opts.network);
+  const pivot = opts.scalePivotVolts;
+  if (pivot !== undefined) checkNumber('scalePivotVolts', pivot, -MAX_VOLTS, MAX_VOLTS);
   return {
     ...(from === undefined ? {} : { fitFromVolts: from }),
     ...(to === undefined ? {} : { fitToVolts: to }),
     ...(opts.network === undefined ? {} : { network: opts.network }),
+    ...(pivot === undefined ? {} : { scalePivotVolts: pivot }),
   };
 }
 
@@ -365,6 +374,7 @@ export function calibrate(steps: readonly CapturedStep[], opts: CalibrateOptions
     clockPpm,
     fitFromVolts: calibration.fitFromVolts ?? null,
     fitToVolts: calibration.fitToVolts ?? null,
+    ...(calibration.scalePivotVolts === undefined ? {} : { scalePivotVolts: calibration.scalePivotVolts }),
     steps: steps.map((s, i): ResultStep => {
       const row = rows ? rows[i] : null;
       const note = nearestNote(hz[i], a4Hz);

@@ -271,6 +271,8 @@ export const CalibrationResultSchema = z.strictObject({
   /** The fit range asked for, V (inclusive); null for no limit (or not recorded). */
   fitFromVolts: volts().nullable(),
   fitToVolts: volts().nullable(),
+  /** The scale trimmer's pivot the advice assumed, V; absent when it was not known. */
+  scalePivotVolts: volts().optional(),
   /** Steps in plan (or recording) order. */
   steps: z.array(ResultStepSchema).max(512),
   /** The tracking fit; null with fewer than two steps at distinct voltages, or without volts. */

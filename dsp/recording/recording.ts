@@ -117,6 +117,8 @@ export interface RecordingOptions {
    * advice carries resistor values that would correct the scale, with the nearest E24 and E96 values.
    */
   readonly network?: InputNetwork;
+  /** The voltage the scale trimmer turns about, V, when known (see `CalibrationOptions`). Default: unknown. */
+  readonly scalePivotVolts?: Volts;
   /** Meter, source accuracy, clock uncertainty and temperature for the uncertainty budget (`dsp/model/budget.ts`). */
   readonly budget?: BudgetOptions;
   /** Tolerance over the range in use, cents, > 0 (`dsp/model/tolerance.ts`). Default 1. */

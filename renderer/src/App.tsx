@@ -146,6 +146,7 @@ export function App() {
         ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
         ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
         ...(setup.network === undefined ? {} : { network: setup.network }),
+        ...(setup.scalePivotVolts === undefined ? {} : { scalePivotVolts: setup.scalePivotVolts }),
         toleranceCents: setup.toleranceCents,
       },
     });
@@ -406,6 +407,7 @@ export function App() {
                 config={pairConfig}
                 onConfig={setPairConfig}
                 onReset={() => client.send({ type: 'scale-pair-reset' })}
+                onUsePivot={(volts) => setSetupForm((f) => ({ ...f, scalePivotVolts: String(volts) }))}
                 simulated={audio.source === 'sim'}
               />
             )}

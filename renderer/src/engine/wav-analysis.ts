@@ -25,6 +25,7 @@ const REQUEST_OPTIONS = [
   'fitFromVolts',
   'fitToVolts',
   'network',
+  'scalePivotVolts',
   'toleranceCents',
 ] as const;
 

@@ -63,6 +63,7 @@ export function useWavAnalysis(
           ...(setup.fitFromVolts === undefined ? {} : { fitFromVolts: setup.fitFromVolts }),
           ...(setup.fitToVolts === undefined ? {} : { fitToVolts: setup.fitToVolts }),
           ...(setup.network === undefined ? {} : { network: setup.network }),
+          ...(setup.scalePivotVolts === undefined ? {} : { scalePivotVolts: setup.scalePivotVolts }),
           ...(setup.toleranceCents === undefined ? {} : { toleranceCents: setup.toleranceCents }),
         },
       });

@@ -23,6 +23,8 @@ export interface SetupForm {
   readonly firstOhms: string;
   /** Shunt (divider) or feedback (summer) resistor, e.g. `1.8k`. */
   readonly secondOhms: string;
+  /** The voltage the scale trimmer turns about, V (the scale pair measures it); '' when not known. */
+  readonly scalePivotVolts: string;
 }
 
 /** An empty Setup: no clock correction, every step fitted, no network. */
@@ -33,6 +35,7 @@ export const DEFAULT_SETUP: SetupForm = Object.freeze({
   topology: 'none',
   firstOhms: '',
   secondOhms: '',
+  scalePivotVolts: '',
 });
 
 /** What the Setup gives the analysis, and what is wrong with it. */
@@ -107,6 +110,17 @@ export function setupOptions(form: SetupForm): SetupOptions {
     fitFromVolts = undefined;
     fitToVolts = undefined;
   }
+  let scalePivotVolts: number | undefined;
+  if (form.scalePivotVolts.trim() !== '') {
+    const v = parseNumber(form.scalePivotVolts);
+    if (v === null || Math.abs(v) > FIT_VOLTS_LIMIT) {
+      problems.push(
+        `Scale pivot: '${form.scalePivotVolts.trim()}' is not a voltage (−${FIT_VOLTS_LIMIT} to ${FIT_VOLTS_LIMIT} V).`,
+      );
+    } else {
+      scalePivotVolts = v;
+    }
+  }
   let network: InputNetwork | undefined;
   if (form.topology !== 'none') {
     const names = RESISTOR_NAMES[form.topology];
@@ -129,6 +143,7 @@ export function setupOptions(form: SetupForm): SetupOptions {
     ...(fitFromVolts === undefined ? {} : { fitFromVolts }),
     ...(fitToVolts === undefined ? {} : { fitToVolts }),
     ...(network === undefined ? {} : { network }),
+    ...(scalePivotVolts === undefined ? {} : { scalePivotVolts }),
     problems,
   };
 }
@@ -154,6 +169,7 @@ export function setupSummary(form: SetupForm): string {
         : `summer ${form.firstOhms.trim()}, ${form.secondOhms.trim()}`,
     );
   }
+  if (o.scalePivotVolts !== undefined) parts.push(`scale pivot ${o.scalePivotVolts} V`);
   const used = parts.length > 0 ? parts.join(' · ') : 'no clock correction, every step fitted, no network';
   return o.problems.length > 0
     ? `${used} · ${o.problems.length} field${o.problems.length === 1 ? '' : 's'} ignored (invalid)`
@@ -203,6 +219,7 @@ export function parseStoredSetup(json: string | null): SetupForm {
     topology,
     firstOhms: text('firstOhms'),
     secondOhms: text('secondOhms'),
+    scalePivotVolts: text('scalePivotVolts'),
   };
 }
 

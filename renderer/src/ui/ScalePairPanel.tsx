@@ -8,6 +8,7 @@ import { useState } from 'react';
 import type { ScalePairConfig, ScalePairView } from '../engine/protocol.ts';
 import { numberOrNull } from '../lib/fields.ts';
 import { formatCents, formatHz } from '../../../dsp/format/index.ts';
+import { scalePivotVolts } from '../../../dsp/advice/index.ts';
 import { NumberField } from './NumberField.tsx';
 
 const VOLT_RULE = { min: -12, max: 12, unit: 'V', optional: false } as const;
@@ -27,11 +28,34 @@ export function pairStatusText(v: ScalePairView | null): string {
   return v.status === 'settled' ? 'Both voltages settled.' : 'Settling after a switch…';
 }
 
+/** Both sides' pitches, Hz, when both have settled. */
+type PairHz = { readonly low: number; readonly high: number };
+
+/**
+ * The voltage the scale trimmer turns about, from how far each side moved since `first` (derived in
+ * `scalePivotVolts`, dsp/advice/advice.ts), or null while the two moves are too close to tell apart.
+ */
+export function pairPivotVolts(
+  first: PairHz,
+  now: PairHz,
+  voltsLow: number,
+  voltsHigh: number,
+): number | null {
+  const moved = (a: number, b: number) => 1200 * Math.log2(b / a);
+  try {
+    return scalePivotVolts(voltsLow, voltsHigh, moved(first.low, now.low), moved(first.high, now.high));
+  } catch {
+    return null;
+  }
+}
+
 export function ScalePairPanel(props: {
   view: ScalePairView | null;
   config: ScalePairConfig;
   onConfig(c: ScalePairConfig): void;
   onReset(): void;
+  /** Puts a measured pivot into the Setup, for the advice. */
+  onUsePivot?(volts: number): void;
   simulated: boolean;
 }) {
   const [low, setLow] = useState(String(props.config.voltsLow));
@@ -47,6 +71,13 @@ export function ScalePairPanel(props: {
     (lo !== props.config.voltsLow || hi !== props.config.voltsHigh || t !== props.config.toleranceCents);
   const v = props.view;
   const r = v && !v.unexpected ? v.result : null;
+  // The first settled pair is where the trimmer started; how far each side has moved since gives its pivot.
+  const [first, setFirst] = useState<PairHz | null>(null);
+  const now: PairHz | null = r && v?.low && v.high ? { low: v.low.hz, high: v.high.hz } : null;
+  if (now && first === null) setFirst(now);
+  const pivot =
+    now && first ? pairPivotVolts(first, now, props.config.voltsLow, props.config.voltsHigh) : null;
+  const pivotShown = pivot !== null && Math.abs(pivot) <= 12 ? Math.round(pivot * 10) / 10 : null;
   return (
     <div className="pair-panel">
       <p className="intro">
@@ -76,7 +107,14 @@ export function ScalePairPanel(props: {
         >
           Use these
         </button>
-        <button onClick={props.onReset}>Start over</button>
+        <button
+          onClick={() => {
+            setFirst(null);
+            props.onReset();
+          }}
+        >
+          Start over
+        </button>
       </div>
       {changed && (
         <p className="message warn small">
@@ -119,6 +157,16 @@ export function ScalePairPanel(props: {
       </div>
       <p className={v?.unexpected ? 'message warn' : 'dim'} role="status" data-testid="pair-status">
         {pairStatusText(v)}
+      </p>
+      <p className="dim small" data-testid="pair-pivot">
+        {pivotShown === null
+          ? 'Pivot: turn the scale trimmer a little, and the step that holds still shows here (keep the offset trimmer where it is).'
+          : `Pivot: the scale trimmer turns about ${pivotShown.toFixed(1)} V (from how far each side moved since the first reading; a drifting unit blurs it).`}{' '}
+        {pivotShown !== null && props.onUsePivot && (
+          <button onClick={() => props.onUsePivot?.(pivotShown)} data-testid="pair-use-pivot">
+            Use {pivotShown.toFixed(1)} V for the advice
+          </button>
+        )}
       </p>
     </div>
   );

@@ -115,6 +115,24 @@ export function SetupPanel(p: SetupPanelProps) {
           </div>
         </fieldset>
         <fieldset>
+          <legend>Scale trimmer pivot (optional)</legend>
+          <div className="row">
+            <NumberField
+              label="Pivot, V"
+              value={p.form.scalePivotVolts}
+              onChange={(t) => set({ scalePivotVolts: t })}
+              rule={{ min: -12, max: 12, unit: 'V' }}
+              placeholder="unknown"
+              testId="setup-pivot"
+            />
+          </div>
+          <p className="dim small">
+            The voltage whose pitch holds still while the scale trimmer turns. The Scale pair measures it.
+            With it the offset is set on that step, which later scale trims leave in place; without it, on the
+            middle step.
+          </p>
+        </fieldset>
+        <fieldset>
           <legend>Input network</legend>
           <div className="row">
             <label className="field">
