@@ -393,6 +393,19 @@ export interface TrimAdviceInput {
 /** Frequency above which high-frequency error shows clearly (docs/facts.md: trim HF near 2–5 kHz). */
 const HF_CHECK_HZ: Hertz = 2000;
 
+/**
+ * The HF item when no step reaches {@link HF_CHECK_HZ}. A unit whose steps all lie far below it may be an LFO
+ * core that never plays in the audio range, where there is no HF error to trim: say so rather than send it
+ * looking for a step it cannot play.
+ */
+function hfUnresolvedText(topHz: Hertz): string {
+  const lead = `The highest step is ${fmtHz(topHz)} Hz: HF error shows near 2–5 kHz`;
+  return topHz < 200
+    ? `${lead}. If the oscillator plays that high, add a step there before judging the HF trim; one that never ` +
+        'does (an LFO core) has no HF error to trim.'
+    : `${lead}, so add a step there before judging the HF trim.`;
+}
+
 function item(partial: Partial<AdviceItem> & Pick<AdviceItem, 'trimmer' | 'status' | 'text'>): AdviceItem {
   return {
     direction: 'none',
@@ -654,9 +667,7 @@ export function adviseTrim(input: TrimAdviceInput): TrimAdvice {
     hfItem = item({
       trimmer: 'hf',
       status: 'unresolved',
-      text:
-        `The highest step is ${fmtHz(bends.highest.hz)} Hz: HF error shows near 2–5 kHz, so add a step there ` +
-        'before judging the HF trim.',
+      text: hfUnresolvedText(bends.highest.hz),
     });
   } else {
     const c =
@@ -1108,7 +1119,7 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
         ? item({
             trimmer: 'hf',
             status: allWithin ? 'within-tolerance' : 'unresolved',
-            text: `The highest step is ${fmtHz(fTop)} Hz: HF error shows near 2–5 kHz, so add a step there before judging the HF trim.`,
+            text: hfUnresolvedText(fTop),
           })
         : item({
             trimmer: 'hf',
