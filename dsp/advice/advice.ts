@@ -1273,7 +1273,8 @@ export function adviseFromModel(input: ModelAdviceInput): ModelAdvice {
             `which centres the errors of the steps over the range about the line through ${targetName} at ${fmtV(refVolts)}`,
       otherTrims
         ? pivot === undefined
-          ? ' The scale and HF trims move this step (a scale trimmer turns about a pivot that need not be at 0 V), so read it again after them and set it then.'
+          ? ' The scale and HF trims move this step (a scale trimmer turns about a pivot that need not be at 0 V), so read it again after them and set it then.' +
+            ' The step that holds still while you turn the scale trimmer is that pivot (the Scale pair shows it): with it given, the offset is set there and later scale trims leave it in place.'
           : ` It is the step nearest the scale trimmer's pivot (${fmtV(pivot)}), so the scale trim hardly moves it; read it again after the trims above and set it then.`
         : '',
     );
