@@ -91,6 +91,10 @@ export function unreachableControls(page: Page): Promise<Unreachable[]> {
     const sel =
       'button, input:not([type="hidden"]), select, textarea, a[href], summary, [tabindex]:not([tabindex="-1"])';
     const out: { what: string; rect: number[] }[] = [];
+    // A closed <details> keeps its controls laid out but out of reach until opened: open every one, so the
+    // controls inside are checked where they really appear, and close them again afterwards.
+    const closed = Array.from(document.querySelectorAll<HTMLDetailsElement>('details:not([open])'));
+    for (const d of closed) d.open = true;
     for (const el of Array.from(document.querySelectorAll<HTMLElement>(sel))) {
       if (el.closest('.print-report')) continue;
       const st = getComputedStyle(el);
@@ -104,6 +108,7 @@ export function unreachableControls(page: Page): Promise<Unreachable[]> {
         out.push({ what, rect: [r.left, r.top, r.right, r.bottom].map(Math.round) });
       }
     }
+    for (const d of closed) d.open = false;
     window.scrollTo(0, 0);
     return out;
   });
