@@ -58,6 +58,8 @@ export interface RefineResult {
   breaks: number;
   /** How many of `breaks` were found in the data. */
   foundBreaks: number;
+  /** Harmonics left out of the fit as too close to a hum line to separate. */
+  humLeftOut: number;
 }
 
 /** Most break positions a window can be given. */
@@ -83,6 +85,7 @@ export function emptyRefineResult(): RefineResult {
     dof: 0,
     breaks: 0,
     foundBreaks: 0,
+    humLeftOut: 0,
   };
 }
 
@@ -400,6 +403,8 @@ export class HarmonicRefiner {
       for (let j = 1; j < K; j++) if (Math.abs(this.humG[j]) < Math.abs(this.humG[keep])) keep = j;
       this.active[keep] = 1;
     }
+    let humLeftOut = 0;
+    for (let j = 0; j < K; j++) if (!this.active[j]) humLeftOut++;
 
     // Segment coefficients.
     const ms = this.maxSegments;
@@ -628,6 +633,7 @@ export class HarmonicRefiner {
     out.dof = dofOut;
     out.breaks = breaks;
     out.foundBreaks = found;
+    out.humLeftOut = humLeftOut;
     return out;
   }
 
