@@ -270,14 +270,14 @@ export class PitchEstimator {
     const cb = coarse.buf;
     cb.set(this.work.subarray(c0, c0 + lc));
     let [mpmHz, clarity] = coarse.det.findPitch(cb, fs);
-    // A period longer than the range allows, or none, from the centre: a dropout or two there can fool
-    // the coarse stage (a 56 Hz saw with two 10 ms gaps 0.14 s apart read as 3.1 Hz, clarity 0.9995).
-    // The window's first and last parts are tried too, and an in-range answer from either is taken.
-    if (!(mpmHz >= o.minHz * 0.97) && count >= lc + lc / 4) {
+    // A clear period longer than the range allows from the centre: a dropout or two there can fool the
+    // coarse stage (a 56 Hz saw with two 10 ms gaps 0.14 s apart read as 3.1 Hz, clarity 0.9995). The
+    // window's first and last parts are tried too, and an in-range answer from either is taken.
+    if (mpmHz > 0 && mpmHz < o.minHz * 0.97 && clarity >= 0.5 && count >= lc + lc / 4) {
       for (const s0 of [0, count - lc]) {
         cb.set(this.work.subarray(s0, s0 + lc));
         const [h, c] = coarse.det.findPitch(cb, fs);
-        if (h >= o.minHz * 0.97 && c >= 0.5 && c > (mpmHz >= o.minHz * 0.97 ? clarity : 0)) {
+        if (h >= o.minHz * 0.97 && c >= 0.5 && (mpmHz < o.minHz * 0.97 || c > clarity)) {
           mpmHz = h;
           clarity = c;
         }
@@ -336,14 +336,15 @@ export class PitchEstimator {
     // A second pass centred on the first pass's answer, where the phase model is exact. Skipped only when
     // a hinted first pass landed within ~0.05 cent of its centre (its bias is a few per cent of that offset).
     if (!hinted || Math.abs(r.hz / f - 1) > 3e-5) pass(r.hz);
-    // A harmonic left out as too close to a hum line: the "hum" may be the tone's own skirt (a sine at
+    // The harmonics left out as too close to a hum line tell ten times more about the frequency than the
+    // ones fitted (information k²·power): the "hum" may be the tone's own skirt (a sine at
     // 177 Hz broken by a 2 ms dropout shows a line-like shoulder at 180 Hz; with its fundamental left out,
     // the fit read noise at the second harmonic, 5 cents off, stating ±0.9). The fit is made again without
     // hum handling, and taken instead when its own residuals give a standard error under a quarter of the
     // first fit's: the first fit then rests on noise (400–1500 times larger on such sines), while with real
     // hum the two stay within 1.5 of each other and the fit without hum handling carries the hum's beat
     // (a triangle at 58 Hz with 60 Hz hum at −30 dB; set on these cases, no published source).
-    if (this.refined.ok && this.refined.humLeftOut > 0) {
+    if (this.refined.ok && this.refined.humLeftOutShare > 10) {
       const alt = this.refiner.refine(
         this.work,
         count,

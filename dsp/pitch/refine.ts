@@ -58,8 +58,12 @@ export interface RefineResult {
   breaks: number;
   /** How many of `breaks` were found in the data. */
   foundBreaks: number;
-  /** Harmonics left out of the fit as too close to a hum line to separate. */
-  humLeftOut: number;
+  /**
+   * Information on the frequency (k²·power) of the harmonics left out as too close to a hum line to
+   * separate, over that of the harmonics fitted; 0 when none was left out. Well above 1, the fit rests
+   * on harmonics far weaker than the ones left out.
+   */
+  humLeftOutShare: number;
 }
 
 /** Most break positions a window can be given. */
@@ -85,7 +89,7 @@ export function emptyRefineResult(): RefineResult {
     dof: 0,
     breaks: 0,
     foundBreaks: 0,
-    humLeftOut: 0,
+    humLeftOutShare: 0,
   };
 }
 
@@ -403,8 +407,6 @@ export class HarmonicRefiner {
       for (let j = 1; j < K; j++) if (Math.abs(this.humG[j]) < Math.abs(this.humG[keep])) keep = j;
       this.active[keep] = 1;
     }
-    let humLeftOut = 0;
-    for (let j = 0; j < K; j++) if (!this.active[j]) humLeftOut++;
 
     // Segment coefficients.
     const ms = this.maxSegments;
@@ -436,12 +438,17 @@ export class HarmonicRefiner {
     let strongest = -1;
     let strongestPow = 0;
     let explained = 0;
+    let infoIn = 0;
+    let infoOut = 0;
     for (let j = 0; j < K; j++) {
       if (!this.active[j]) {
+        let p = 0;
         for (let m = 0; m < M; m++) {
           const idx = j * ms + m;
-          explained += (2 * (this.re[idx] * this.re[idx] + this.im[idx] * this.im[idx])) / M;
+          p += this.re[idx] * this.re[idx] + this.im[idx] * this.im[idx];
         }
+        explained += (2 * p) / M;
+        infoOut += this.hk[j] * this.hk[j] * p;
         continue;
       }
       const h = this.humFor[j];
@@ -473,6 +480,7 @@ export class HarmonicRefiner {
       }
       // Amplitude of harmonic = 2·|coefficient|; its power A²/2 (rotation across segments does not matter).
       explained += (2 * pow) / M;
+      infoIn += this.hk[j] * this.hk[j] * pow;
       if (pow > strongestPow) {
         strongestPow = pow;
         strongest = j;
@@ -633,7 +641,7 @@ export class HarmonicRefiner {
     out.dof = dofOut;
     out.breaks = breaks;
     out.foundBreaks = found;
-    out.humLeftOut = humLeftOut;
+    out.humLeftOutShare = infoOut > 0 ? infoOut / infoIn : 0;
     return out;
   }
 
