@@ -1,4 +1,8 @@
-import { describe, expect, it } from 'vitest';
+import { rmSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { cliInProcess } from './cli-run.ts';
+import { tempDir, writeWavFile } from './helpers/wav.ts';
 import { estimatePitch } from '../dsp/pitch/index.ts';
 import { withDropouts } from '../dsp/sim/index.ts';
 import { addNoise, centsError, tone, type Shape } from './signals.ts';
@@ -105,4 +109,23 @@ describe('dropouts that fool the coarse stage or look like hum', () => {
       );
     },
   );
+});
+
+describe('the command line says when a reading spans a break', () => {
+  const dir = tempDir('gaps');
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('analyze on a recording with three 20 ms dropouts: right pitch, flag spans-break, a breaks line', async () => {
+    // Tolerance: the target, 0.01 cent with 0.5–20 ms dropouts; truth from the generator.
+    const hz = 249.95789075792135;
+    const { samples } = brokenSecond('sine', hz, 1.3368554874323308, 20, [0.30999, 0.61679, 0.94403], 1001);
+    const file = writeWavFile(join(dir, 'ostlund-lane-vco3-dropouts.wav'), [samples], FS);
+    const json = await cliInProcess('analyze', '--json', file);
+    expect(json.code, json.stderr).toBe(0);
+    const step = JSON.parse(json.stdout).steps[0];
+    expect(step.flags).toEqual(['spans-break']);
+    expect(Math.abs(centsError(step.hz, hz))).toBeLessThan(0.01);
+    const text = await cliInProcess('analyze', file);
+    expect(text.stdout).toMatch(/^breaks +3 in the signal/m);
+  });
 });
