@@ -461,6 +461,8 @@ function analyzeOpened(opts: AnalyzeOptions, layout: WavLayout, source: SampleSo
         measuredVolts: null,
         rawHz: r.hz,
         uncertaintyCents: r.uncertaintyCents,
+        // A window that held a break in the signal says so (each side was fitted with its own phase).
+        flags: (r.breaks ?? 0) > 0 ? ['spans-break'] : [],
         capture: {
           source: 'window',
           startSeconds: 0,

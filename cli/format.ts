@@ -74,6 +74,13 @@ export function formatStepReport(step: AnalysisStep): string {
         `clarity ${r.clarity.toFixed(3)}`,
     ],
   );
+  const breaks = r.breaks ?? 0;
+  if (breaks > 0) {
+    rows.push([
+      'breaks',
+      `${breaks} in the signal (samples missing): each unbroken stretch fitted on its own, flag spans-break`,
+    ]);
+  }
   const width = Math.max(...rows.map(([l]) => l.length)) + 2;
   return rows.map(([l, v]) => `${l.padEnd(width)}${v}`).join('\n');
 }

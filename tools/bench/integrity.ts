@@ -372,7 +372,7 @@ function lfoLiveCase(): boolean {
  */
 export function integrityCases(quick: boolean, want: (name: string) => boolean): [string, boolean][] {
   const out: [string, boolean][] = [];
-  if (want('dropouts')) out.push(['dropouts', dropoutCase(quick ? 4 : 12)]);
+  if (want('dropouts')) out.push(['dropouts', dropoutCase(quick ? 4 : 40)]);
   if (want('wander')) out.push(['wander', wanderCase(quick ? 12 : 40)]);
   if (want('tails')) out.push(['tails', tailCase(quick)]);
   if (want('lfo')) out.push(['LFO', lfoCase()]);
