@@ -37,13 +37,13 @@ function sine(hz: number, fs: number, seconds: number, amp = 0.5, phase = 0): Fl
 }
 
 describe('decimationFactorFor', () => {
-  it('keeps at least 11.025 kHz: 4 at 44.1 and 48 kHz, 8 at 96 kHz, none below 22.05 kHz', () => {
-    expect(decimationFactorFor(44_100)).toBe(4);
-    expect(decimationFactorFor(48_000)).toBe(4);
-    expect(decimationFactorFor(88_200)).toBe(8);
-    expect(decimationFactorFor(96_000)).toBe(8);
-    expect(decimationFactorFor(192_000)).toBe(16);
-    expect(decimationFactorFor(22_050)).toBe(2);
+  it('keeps at least 22.05 kHz: 2 at 44.1 and 48 kHz, 4 at 96 kHz, none below 44.1 kHz', () => {
+    expect(decimationFactorFor(44_100)).toBe(2);
+    expect(decimationFactorFor(48_000)).toBe(2);
+    expect(decimationFactorFor(88_200)).toBe(4);
+    expect(decimationFactorFor(96_000)).toBe(4);
+    expect(decimationFactorFor(192_000)).toBe(8);
+    expect(decimationFactorFor(22_050)).toBe(1);
     expect(decimationFactorFor(16_000)).toBe(1);
     expect(() => decimationFactorFor(Number.NaN)).toThrow(/sampleRateHz must be a positive number, got NaN/);
   });

@@ -1,6 +1,6 @@
 /**
  * Decimation for the live pass over a recording: a linear-phase low-pass FIR (Kaiser-windowed sinc) that
- * keeps every D-th output, so the tracker that only finds the steps works on a quarter (at 48 kHz) of the
+ * keeps every D-th output, so the tracker that only finds the steps works on half (at 48 kHz) of the
  * samples. A linear-phase filter delays every frequency by the same time and changes no frequency, so
  * readings of the decimated signal are readings of the same pitch, later by a known delay. The precise
  * measurement of each step still reads the recording at its own rate.
@@ -9,8 +9,12 @@
  */
 import type { Hertz } from '../math/index.ts';
 
-/** The lowest sample rate decimation may go down to, Hz: its passband (0.4·fs) still reaches 4.4 kHz. */
-export const MIN_DECIMATED_RATE_HZ: Hertz = 11025;
+/**
+ * The lowest sample rate decimation may go down to, Hz: its passband (0.4·fs) still reaches 8.8 kHz. Not lower:
+ * at about 12 kHz the tracker's break search took a tone beating with nearby mains hum for dropouts, and its
+ * readings went a cent off (a 100 Hz sine with −35 dB of 60 Hz hum); at 24 kHz they match the full rate.
+ */
+export const MIN_DECIMATED_RATE_HZ: Hertz = 22050;
 /** Largest decimation factor used. */
 const MAX_FACTOR = 16;
 /** Stop-band attenuation of the anti-alias filter, dB. */
@@ -22,10 +26,10 @@ const STOP_FRACTION = 0.55;
 
 /**
  * The decimation factor for a recording at `sampleRateHz`: the largest power of two, at most 16, that
- * leaves at least {@link MIN_DECIMATED_RATE_HZ}. 1 (no decimation) below 22.05 kHz.
+ * leaves at least {@link MIN_DECIMATED_RATE_HZ}. 1 (no decimation) below 44.1 kHz.
  *
- * @example decimationFactorFor(48000) // 4
- * @example decimationFactorFor(96000) // 8
+ * @example decimationFactorFor(48000) // 2
+ * @example decimationFactorFor(96000) // 4
  * @example decimationFactorFor(16000) // 1
  */
 export function decimationFactorFor(sampleRateHz: Hertz): number {

@@ -112,8 +112,8 @@ export type LivePassOptions = Pick<
   'readingsPerSecond' | 'liveHarmonics' | 'minCycles' | 'minWindowSeconds' | 'lowestHz'
 > & {
   /**
-   * Read the recording decimated to about 12 kHz (see `decimate.ts`), which is several times faster and
-   * changes no pitch; a recording with its sound above 4.4 kHz is read at its own rate anyway. Default true.
+   * Read the recording decimated to about 24 kHz (see `decimate.ts`), which is faster and changes no
+   * pitch; a recording with its sound above 8.8 kHz is read at its own rate anyway. Default true.
    */
   readonly decimate?: boolean;
 };
@@ -121,7 +121,7 @@ export type LivePassOptions = Pick<
 /**
  * Reads a recording once from start to end in blocks, runs the live tracker over it and marks its silent
  * stretches. Memory: one block, the tracker's one-second ring, and the readings (one object per reading).
- * The tracker reads the recording decimated to about 12 kHz unless `opts.decimate` is false or the sound
+ * The tracker reads the recording decimated to about 24 kHz unless `opts.decimate` is false or the sound
  * lies mostly above the decimated passband (then the pass is made again at the file's own rate); readings
  * are stamped in the recording's own time either way.
  *
@@ -139,8 +139,8 @@ export function livePass(
 ): LivePass {
   const factor = opts.decimate === false ? 1 : decimationFactorFor(source.sampleRateHz);
   if (factor > 1) {
-    // Decimated, the pass sees a quarter of the samples; a file whose sound lies mostly above the
-    // decimated passband (a step over about 4.8 kHz) is read again at its own rate.
+    // Decimated, the pass sees half the samples (at 48 kHz); a file whose sound lies mostly above the
+    // decimated passband (a step over about 9.6 kHz) is read again at its own rate.
     let reported = 0;
     const quick = passAt(source, opts, factor, (f) => onProgress?.((reported = f)));
     if (quick !== null) return quick;

@@ -138,7 +138,7 @@ export interface RecordingOptions {
   /** Shortest live window, seconds, 0.05…1. Default 0.1. */
   readonly liveMinWindowSeconds?: Seconds;
   /**
-   * Let the live pass read the recording decimated to about 12 kHz (several times faster; the steps are
+   * Let the live pass read the recording decimated to about 24 kHz (faster; the steps are
    * still measured at the file's own rate). Default true; see `livePass`.
    */
   readonly decimateLivePass?: boolean;
@@ -502,7 +502,9 @@ export function analyzeRecording(
     let [w0, w1] = windowOf(piece, fs);
     let reading: PitchOk | null = null;
     const subAudio = p.meanHz < SUB_AUDIO_ESTIMATOR_HZ;
-    const capHere = subAudio ? Math.max(cap, MIN_WINDOW_PERIODS_SUB_AUDIO / p.meanHz) : cap;
+    // Ten periods by the plateau's mean pitch, with 1 % to spare: the mean is read from the live pass and may sit
+    // a hair above the pitch the window then holds.
+    const capHere = subAudio ? Math.max(cap, (1.01 * MIN_WINDOW_PERIODS_SUB_AUDIO) / p.meanHz) : cap;
     if (w1 - w0 >= minWindowSeconds(p.meanHz)) {
       // The last settled part of the plateau: any creep left after the step has had longest to die out.
       if (w1 - w0 > capHere) w0 = w1 - capHere;
