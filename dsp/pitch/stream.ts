@@ -532,23 +532,7 @@ export class PitchTracker {
     hintHz = est === this.live ? this.hintHz : 0,
     settled = false,
   ): PitchReading {
-    // Breaks inside the window, as positions from its start.
-    let nb = 0;
-    const kept = Math.min(this.breakCount, this.breakAt.length);
-    for (let q = this.breakCount - kept; q < this.breakCount && nb < MAX_BREAKS; q++) {
-      const b = this.breakAt[q % this.breakAt.length];
-      if (b > start && b < start + n) this.breakScratch[nb++] = b - start;
-    }
-    const cap = this.ring.length;
-    // Ring index of stream sample `start`.
-    const first = (((this.writePos - (this.total - start)) % cap) + cap) % cap;
-    const tail = Math.min(n, cap - first);
-    this.window.set(this.ring.subarray(first, first + tail), 0);
-    if (tail < n) this.window.set(this.ring.subarray(0, n - tail), tail);
-    // A settled average carries the oscillator's repeatability from sub-windows (dsp/pitch/settled.ts).
-    if (settled) return measureSettled(est, this.window, 0, n, t, this.breakScratch, nb);
-    est.setBreaks(this.breakScratch, nb);
-    return est.estimate(this.window, 0, n, t, 1, hintHz);
+    return this.measureIn(null, est, start, n, t, hintHz, settled);
   }
 
   /**
@@ -564,19 +548,44 @@ export class PitchTracker {
     hintHz: Hertz,
     settled: boolean,
   ): PitchReading {
+    return this.measureIn(low, est, start, n, t, hintHz, settled);
+  }
+
+  /**
+   * Copies samples [start, start+n) out of the full-rate ring (`low` null) or the decimated one, in that
+   * stream's own indices, with the breaks inside moved onto its time base, and measures them: a settled
+   * average with its repeatability (dsp/pitch/settled.ts), or one reading.
+   */
+  private measureIn(
+    low: LowTier | null,
+    est: PitchEstimator,
+    start: number,
+    n: number,
+    t: Seconds,
+    hintHz: Hertz,
+    settled: boolean,
+  ): PitchReading {
+    const ring = low ? low.ring : this.ring;
+    const window = low ? low.window : this.window;
+    const scratch = low ? low.breakScratch : this.breakScratch;
+    const total = low ? low.total : this.total;
+    const writePos = low ? low.writePos : this.writePos;
+    // Breaks inside the window, as positions from its start.
     let nb = 0;
     const kept = Math.min(this.breakCount, this.breakAt.length);
     for (let q = this.breakCount - kept; q < this.breakCount && nb < MAX_BREAKS; q++) {
-      const b = this.lowIndexOf(low, this.breakAt[q % this.breakAt.length]);
-      if (b > start && b < start + n) low.breakScratch[nb++] = b - start;
+      const at = this.breakAt[q % this.breakAt.length];
+      const b = low ? this.lowIndexOf(low, at) : at;
+      if (b > start && b < start + n) scratch[nb++] = b - start;
     }
-    const cap = low.ring.length;
-    const first = (((low.writePos - (low.total - start)) % cap) + cap) % cap;
+    const cap = ring.length;
+    // Ring index of stream sample `start`.
+    const first = (((writePos - (total - start)) % cap) + cap) % cap;
     const tail = Math.min(n, cap - first);
-    low.window.set(low.ring.subarray(first, first + tail), 0);
-    if (tail < n) low.window.set(low.ring.subarray(0, n - tail), tail);
-    if (settled) return measureSettled(est, low.window, 0, n, t, low.breakScratch, nb);
-    est.setBreaks(low.breakScratch, nb);
-    return est.estimate(low.window, 0, n, t, 1, hintHz);
+    window.set(ring.subarray(first, first + tail), 0);
+    if (tail < n) window.set(ring.subarray(0, n - tail), tail);
+    if (settled) return measureSettled(est, window, 0, n, t, scratch, nb);
+    est.setBreaks(scratch, nb);
+    return est.estimate(window, 0, n, t, 1, hintHz);
   }
 }
