@@ -394,13 +394,19 @@ export interface TrimAdviceInput {
 const HF_CHECK_HZ: Hertz = 2000;
 
 /**
+ * Below this top step, Hz, a unit may never play in the range where HF error shows (an LFO core): more than
+ * three octaves under {@link HF_CHECK_HZ}. Our choice, no source.
+ */
+const LFO_TOP_HZ: Hertz = 200;
+
+/**
  * The HF item when no step reaches {@link HF_CHECK_HZ}. A unit whose steps all lie far below it may be an LFO
  * core that never plays in the audio range, where there is no HF error to trim: say so rather than send it
  * looking for a step it cannot play.
  */
 function hfUnresolvedText(topHz: Hertz): string {
   const lead = `The highest step is ${fmtHz(topHz)} Hz: HF error shows near 2–5 kHz`;
-  return topHz < 200
+  return topHz < LFO_TOP_HZ
     ? `${lead}. If the oscillator plays that high, add a step there before judging the HF trim; one that never ` +
         'does (an LFO core) has no HF error to trim.'
     : `${lead}, so add a step there before judging the HF trim.`;
