@@ -15,7 +15,7 @@ import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { CliError } from '../../cli/errors.ts';
-import { cliBundle, writeSteppedRecording } from './shared.ts';
+import { BARE_PITCHY_PASS, cliBundle, writeSteppedRecording } from './shared.ts';
 import { modelBenchCases } from './model.ts';
 import { integrityCases } from './integrity.ts';
 
@@ -449,20 +449,7 @@ function recordingCase(runs: number): boolean {
     const { file, seconds, points } = writeSteppedRecording(dir);
     const bundle = cliBundle();
     const cwd = process.cwd();
-    const bare = [
-      '--input-type=module',
-      '-e',
-      `import { readFileSync } from 'node:fs';
-       import wavefile from 'wavefile';
-       import { PitchDetector } from 'pitchy';
-       const w = new wavefile.WaveFile(readFileSync(${JSON.stringify(file)}));
-       const fs = w.fmt.sampleRate;
-       const ch = w.getSamples(false, Float32Array)[0].map((v) => v / 32768);
-       const det = PitchDetector.forFloat32Array(8192);
-       let n = 0;
-       for (let i = 8192; i <= ch.length; i += fs / 20) { det.findPitch(ch.subarray(i - 8192, i), fs); n++; }
-       if (n === 0) process.exit(3);`,
-    ];
+    const bare = ['--input-type=module', '-e', BARE_PITCHY_PASS, file];
     const ours: number[] = [];
     const theirs: number[] = [];
     const oursCpu: number[] = [];

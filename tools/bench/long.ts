@@ -7,14 +7,15 @@
  *   against a bare pitchy pass over the same file (read in blocks, 8192-sample windows at 20 per second on
  *   one channel, the pass `recording` uses).
  * - `user`: the 15 s stereo stepped recording of the `recording` case, run as a user runs it, `npm run
- *   analyze -- FILE --points …`, process start and npm included (target ≥ 20× real time).
+ *   analyze -- FILE --points …`, process start and npm included (target ≥ 20× real time), beside two
+ *   references run through npm the same way: the bare pitchy pass over the same file, and Node started alone.
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { SAW6, writeLongToneWav } from '../../test/long-wav.ts';
-import { cliBundle, writeSteppedRecording } from './shared.ts';
+import { BARE_PITCHY_PASS, cliBundle, writeSteppedRecording } from './shared.ts';
 
 interface Timed {
   readonly ms: number;
@@ -137,46 +138,75 @@ function longCase(quick: boolean): boolean {
   return ok;
 }
 
+/**
+ * A throw-away package inside the project (so that its scripts resolve `pitchy` and `wavefile` from the
+ * project's node_modules) whose npm scripts are the two references of the `user` case: Node started alone, and
+ * the bare pitchy pass.
+ */
+function referencePackage(): string {
+  const base = join(process.cwd(), 'build', 'bench');
+  mkdirSync(base, { recursive: true });
+  const dir = mkdtempSync(join(base, 'npm-reference-'));
+  writeFileSync(
+    join(dir, 'package.json'),
+    JSON.stringify({
+      name: 'spanmeter-bench-reference',
+      private: true,
+      scripts: { 'node-alone': 'node -e 0', 'bare-pitchy': 'node bare-pitchy.mjs' },
+    }),
+  );
+  writeFileSync(join(dir, 'bare-pitchy.mjs'), BARE_PITCHY_PASS);
+  return dir;
+}
+
 function userCase(runs: number): boolean {
   const dir = mkdtempSync(join(tmpdir(), 'spanmeter-bench-user-'));
+  const refs = referencePackage();
   try {
     const { file, seconds, points } = writeSteppedRecording(dir);
     const npm = process.platform === 'win32' ? 'npm.cmd' : 'npm';
-    const ms: number[] = [];
-    const cpu: number[] = [];
-    let failure = '';
-    for (let k = 0; k < runs; k++) {
-      const r = timed(
-        npm,
+    // Each command run the same way, through npm, in turn: ours, then the two references.
+    const commands: [string, string[], string][] = [
+      [
+        'npm run analyze -- FILE --points 0,1,2,3,4',
         ['run', '-s', 'analyze', '--', file, '--points', points.join(','), '--json'],
         process.cwd(),
-      );
-      if (r.status !== 0) failure = r.stderr.trim().split('\n')[0] ?? 'failed';
-      ms.push(r.ms);
-      if (r.cpuMs !== null) cpu.push(r.cpuMs);
+      ],
+      ['reference: npm run of a bare pitchy pass over FILE', ['run', '-s', 'bare-pitchy', '--', file], refs],
+      ['reference: npm run of `node -e 0` (npm and Node start alone)', ['run', '-s', 'node-alone'], refs],
+    ];
+    const ms: number[][] = commands.map(() => []);
+    const cpu: number[][] = commands.map(() => []);
+    let failure = '';
+    for (let k = 0; k < runs; k++) {
+      commands.forEach(([, args, cwd], c) => {
+        const r = timed(npm, args, cwd);
+        if (r.status !== 0) failure ||= `${commands[c][0]}: ${r.stderr.trim().split('\n')[0] ?? 'failed'}`;
+        ms[c].push(r.ms);
+        if (r.cpuMs !== null) cpu[c].push(r.cpuMs);
+      });
     }
-    const best = Math.min(...ms);
-    const sorted = [...ms].sort((a, b) => a - b);
-    const speed = (seconds * 1000) / best;
+    const best = (xs: number[]) => Math.min(...xs);
+    const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+    const speed = (seconds * 1000) / best(ms[0]);
     const ok = failure === '' && speed >= 20;
     printTable(
-      `As a user runs it: npm run analyze on a ${seconds.toFixed(1)} s stereo 16-bit stepped recording, npm and process start included, best and median of ${runs} (target ≥ 20× real time)`,
+      `As a user runs it: npm run analyze on a ${seconds.toFixed(1)} s stereo 16-bit stepped recording, npm and process start included, best and median of ${runs}, beside two references run the same way (target ≥ 20× real time, that is ${((seconds * 1000) / 20).toFixed(0)} ms)`,
       ['command', 'best ms', 'median ms', 'best CPU ms', 'speed', 'meets'],
-      [
-        [
-          'npm run analyze -- FILE --points 0,1,2,3,4',
-          best.toFixed(0),
-          sorted[Math.floor(runs / 2)].toFixed(0),
-          cpu.length > 0 ? Math.min(...cpu).toFixed(0) : 'n/a',
-          `${speed.toFixed(0)}×`,
-          ok ? 'yes' : 'NO',
-        ],
-      ],
+      commands.map(([label], c) => [
+        label,
+        best(ms[c]).toFixed(0),
+        median(ms[c]).toFixed(0),
+        cpu[c].length > 0 ? best(cpu[c]).toFixed(0) : 'n/a',
+        c === 2 ? '–' : `${((seconds * 1000) / best(ms[c])).toFixed(0)}×`,
+        c === 0 ? (ok ? 'yes' : 'NO') : '',
+      ]),
     );
     if (failure) console.log(`\nfailure: ${failure}`);
     return ok;
   } finally {
     rmSync(dir, { recursive: true, force: true });
+    rmSync(refs, { recursive: true, force: true });
   }
 }
 

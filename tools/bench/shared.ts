@@ -1,6 +1,7 @@
 /**
- * Pieces the benchmark's process-level cases share: where the command-line bundle is, and the 15 s stereo
- * stepped recording that the whole-file and as-a-user cases both time.
+ * Pieces the benchmark's process-level cases share: where the command-line bundle is, the 15 s stereo
+ * stepped recording that the whole-file and as-a-user cases both time, and the bare pitchy pass they are
+ * compared with.
  */
 import { existsSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -42,3 +43,21 @@ export function writeSteppedRecording(dir: string): SteppedRecording {
   writeFileSync(file, encodeWav(sim.samples, sim.sampleRateHz, '16', 2));
   return { file, seconds: sim.samples.length / sim.sampleRateHz, points };
 }
+
+/**
+ * The reference the whole-file cases are compared with, as the source of an ES module: a bare pass of pitchy
+ * over one channel of the WAV named by its first argument (wavefile decode of the whole file, 8192-sample
+ * windows at 20 per second), nothing else. Run it as `node --input-type=module -e SOURCE FILE`, or from a file
+ * inside the project (so that `pitchy` and `wavefile` resolve).
+ */
+export const BARE_PITCHY_PASS = `import { readFileSync } from 'node:fs';
+import wavefile from 'wavefile';
+import { PitchDetector } from 'pitchy';
+const w = new wavefile.WaveFile(readFileSync(process.argv.at(-1)));
+const fs = w.fmt.sampleRate;
+const ch = w.getSamples(false, Float32Array)[0].map((v) => v / 32768);
+const det = PitchDetector.forFloat32Array(8192);
+let n = 0;
+for (let i = 8192; i <= ch.length; i += fs / 20) { det.findPitch(ch.subarray(i - 8192, i), fs); n++; }
+if (n === 0) process.exit(3);
+`;
