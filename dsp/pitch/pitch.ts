@@ -16,7 +16,13 @@ import FFT from 'fft.js';
 import { PitchDetector } from 'pitchy';
 import { conditionInto, levelOf, type ConditionStats } from './condition.ts';
 import type { NoPitchReason, PitchReading, SignalLevel } from './reading.ts';
-import { emptyRefineResult, HarmonicRefiner, HUM_LINES_HZ, type RefineResult } from './refine.ts';
+import {
+  DOUBLE_ZERO,
+  emptyRefineResult,
+  HarmonicRefiner,
+  HUM_LINES_HZ,
+  type RefineResult,
+} from './refine.ts';
 import type { Decibels, Hertz, Seconds } from '../math/index.ts';
 
 /** Lowest supported sample rate, Hz. */
@@ -183,7 +189,12 @@ export class PitchEstimator {
   readonly maxSamples: number;
   private readonly opts: Resolved;
   private readonly work: Float64Array;
-  private readonly stats: ConditionStats = { badSamples: 0, peak: 0, clippedFraction: 0, rms: 0 };
+  private readonly stats: ConditionStats = {
+    badSamples: 0,
+    peak: DOUBLE_ZERO,
+    clippedFraction: DOUBLE_ZERO,
+    rms: DOUBLE_ZERO,
+  };
   private readonly refiner: HarmonicRefiner;
   private readonly refined: RefineResult = emptyRefineResult();
   /** The fit without hum handling, when the first one left a harmonic out for hum. */

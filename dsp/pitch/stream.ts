@@ -16,7 +16,7 @@
 
 import { MIN_SAMPLE_RATE_HZ, PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
 import type { PitchReading } from './reading.ts';
-import { MAX_BREAKS } from './refine.ts';
+import { DOUBLE_ZERO, MAX_BREAKS } from './refine.ts';
 import { measureSettled } from './settled.ts';
 import type { Hertz, Seconds } from '../math/index.ts';
 
@@ -214,7 +214,7 @@ export class PitchTracker {
   private writePos = 0;
   private total = 0;
   private sinceReading = 0;
-  private hintHz: Hertz = 0;
+  private hintHz: Hertz = DOUBLE_ZERO;
   // Breaks in the stream (dropped blocks), as stream sample indices, newest last (a small ring).
   private readonly breakAt = new Float64Array(64);
   private breakCount = 0;
