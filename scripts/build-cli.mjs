@@ -55,6 +55,29 @@ if (process.argv[1] !== undefined && import.meta.url === pathToFileURL(process.a
 }
 `;
 
+/**
+ * An esbuild plugin that gives zod only its English messages. zod's namespace object re-exports every one of its
+ * translations (`z.locales`), so the bundle would carry all of them (about 400 kB of the 1.35 MB, read and
+ * deserialised at every start); the command line never switches zod's language, and English is the one zod
+ * configures itself with. When zod moves its files, the filter no longer matches and the bundle simply carries
+ * them all again.
+ */
+const zodEnglishOnly = {
+  name: 'zod-english-only',
+  setup(b) {
+    b.onResolve({ filter: /^\.\.\/locales\/index\.js$/ }, (args) =>
+      /[\\/]node_modules[\\/]zod[\\/]/.test(args.importer)
+        ? { path: join(dirname(args.importer), '..', 'locales', 'en.js'), namespace: 'zod-english-only' }
+        : undefined,
+    );
+    b.onLoad({ filter: /.*/, namespace: 'zod-english-only' }, (args) => ({
+      contents: `export { default as en } from ${JSON.stringify(args.path)};`,
+      loader: 'js',
+      resolveDir: dirname(args.path),
+    }));
+  },
+};
+
 /** CommonJS's function wrapper around the bundle; the program (LAUNCHER) builds the very same string. */
 function wrap(code) {
   return '(function (exports, require, module, __filename, __dirname) {' + code + '\n})';
@@ -129,6 +152,7 @@ export async function buildCli() {
     sourcemap: false,
     logLevel: 'warning',
     absWorkingDir: ROOT,
+    plugins: [zodEnglishOnly],
   });
   mkdirSync(dirname(BUNDLE), { recursive: true });
   const code = result.outputFiles[0].text;
