@@ -104,6 +104,8 @@ export interface LivePass {
   readonly meanLevel: number;
   /** Frames read. */
   readonly frameCount: number;
+  /** True when the pass stopped early on `stopAfterBelowRange` below-range readings (the rest was not read). */
+  readonly stoppedBelowRange?: boolean;
 }
 
 /** Tracker settings of the live pass (a subset of {@link TrackerOptions}). */
@@ -116,6 +118,12 @@ export type LivePassOptions = Pick<
    * pitch; a recording with its sound above 8.8 kHz is read at its own rate anyway. Default true.
    */
   readonly decimate?: boolean;
+  /**
+   * Stop reading once this many readings have said the pitch is below the tracker's reach ('below-range'):
+   * the caller then reads the recording again following lower pitches, and the rest of this pass would be
+   * wasted. The pass comes back with `stoppedBelowRange` set. Default: never stop.
+   */
+  readonly stopAfterBelowRange?: number;
 };
 
 /**
@@ -151,6 +159,31 @@ export function livePass(
 }
 
 /**
+ * Progress of a task made of passes whose number is not known in advance (a pass may have to be made again):
+ * each new pass carries on from where the bar stands, over what is left of it, so the bar never goes back.
+ * The last pass ends it at 1.
+ *
+ * @example
+ * const bar = monotoneProgress(show);
+ * const first = bar.pass(); first(0.5);  // shows 0.5
+ * const again = bar.pass(); again(0.5);  // shows 0.75
+ */
+export function monotoneProgress(onProgress?: (fraction: number) => void): {
+  pass(): (fraction: number) => void;
+} {
+  let shown = 0;
+  return {
+    pass() {
+      const from = shown;
+      return (f) => {
+        shown = from + (1 - from) * Math.min(1, Math.max(0, f));
+        onProgress?.(shown);
+      };
+    },
+  };
+}
+
+/**
  * A decimated block whose signal kept less than this fraction of its energy (about its mean) through the
  * anti-alias filter had most of its sound above the passband: the pass is made again without decimation.
  */
@@ -167,7 +200,7 @@ function passAt(
   onProgress?: (fraction: number) => void,
 ): LivePass | null {
   const fs = source.sampleRateHz;
-  const { decimate: _d, ...trackerOptions } = opts;
+  const { decimate: _d, stopAfterBelowRange: _s, ...trackerOptions } = opts;
   const tracker = new PitchTracker({
     sampleRateHz: fs / factor,
     ...trackerOptions,
@@ -185,6 +218,12 @@ function passAt(
   const quietRuns: number[] = [];
   const scan = new Float64Array(2);
   const raw: PitchReading[] = [];
+  const stopAfter = opts.stopAfterBelowRange ?? Infinity;
+  let belowRange = 0;
+  const keep = (r: PitchReading): void => {
+    raw.push(r);
+    if (r.kind === 'none' && r.reason === 'below-range') belowRange++;
+  };
   let runStart = -1;
   let anySignal = false;
   let sum = 0;
@@ -218,12 +257,13 @@ function passAt(
       ) {
         return null;
       }
-      tracker.push(y, (r) => raw.push(r));
+      tracker.push(y, keep);
     } else {
-      tracker.push(x, (r) => raw.push(r));
+      tracker.push(x, keep);
     }
     done += got;
     onProgress?.(total > 0 ? done / total : 1);
+    if (belowRange >= stopAfter) break;
   }
   if (runStart >= 0) quietRuns.push(runStart, done);
 
@@ -251,7 +291,15 @@ function passAt(
       readings.push(r);
     }
   }
-  return { readings, centreAt, quietRuns, anySignal, meanLevel: done > 0 ? sum / done : 0, frameCount: done };
+  return {
+    readings,
+    centreAt,
+    quietRuns,
+    anySignal,
+    meanLevel: done > 0 ? sum / done : 0,
+    frameCount: done,
+    ...(belowRange >= stopAfter ? { stoppedBelowRange: true } : {}),
+  };
 }
 
 /** Sum of squares of `y` about its mean. */

@@ -50,7 +50,13 @@ import type { PitchOk, PitchReading, StepFlag, UncertaintyComponents } from '../
 import type { CalibrationResult } from '../calibration/index.ts';
 import { measureSettled } from '../pitch/index.ts';
 import type { InputNetwork, TrimAdvice } from '../advice/index.ts';
-import { arraySource, describeNoSignal, livePass, type SampleSource } from './recording-input.ts';
+import {
+  arraySource,
+  describeNoSignal,
+  livePass,
+  monotoneProgress,
+  type SampleSource,
+} from './recording-input.ts';
 import type { ErrorTable } from '../calibration/index.ts';
 import type { Cents, Hertz, Ppm, Seconds, Volts } from '../math/index.ts';
 
@@ -378,11 +384,13 @@ export function analyzeRecording(
     minWindowSeconds: liveMinWindow,
     decimate: opts.decimateLivePass ?? true,
   };
-  let pass = livePass(source, liveOptions, onProgress);
   // A recording with stretches below the live windows' reach (a second or more of 'below-range'
-  // readings) is read again following pitches down to RECORDING_LOWEST_HZ; others keep the one pass.
-  if (pass.readings.filter((r) => r.kind === 'none' && r.reason === 'below-range').length >= rps) {
-    pass = livePass(source, { ...liveOptions, lowestHz: RECORDING_LOWEST_HZ }, onProgress);
+  // readings) is read again following pitches down to RECORDING_LOWEST_HZ; others keep the one pass. The
+  // first pass stops as soon as it has seen that second, and the progress bar carries on from there.
+  const bar = monotoneProgress(onProgress);
+  let pass = livePass(source, { ...liveOptions, stopAfterBelowRange: rps }, bar.pass());
+  if (pass.stoppedBelowRange === true) {
+    pass = livePass(source, { ...liveOptions, lowestHz: RECORDING_LOWEST_HZ }, bar.pass());
   }
   if (!pass.anySignal) {
     return fail('silence', 'silence: every sample of the recording is 0 (nothing was recorded)', expected);
