@@ -1,17 +1,9 @@
-// The live pass's decimator (dsp/recording/decimate.ts): its filter meets the Kaiser design it claims, it
+// The decimator (dsp/pitch/decimate.ts) as the recording's live pass uses it: its filter meets the Kaiser design it claims, it
 // changes no pitch, its output does not depend on how the input is cut into blocks, and a recording read
 // decimated gives the same steps as one read at its own rate.
 import { describe, expect, it } from 'vitest';
-import {
-  Decimator,
-  PASS_FRACTION,
-  analyzeRecording,
-  arraySource,
-  decimationFactorFor,
-  decimationTaps,
-  livePass,
-} from '../dsp/recording/index.ts';
-import { estimatePitch } from '../dsp/pitch/index.ts';
+import { analyzeRecording, arraySource, decimationFactorFor, livePass } from '../dsp/recording/index.ts';
+import { Decimator, PASS_FRACTION, cicTaps, decimationTaps, estimatePitch } from '../dsp/pitch/index.ts';
 import { findDemoUnit, planSchedule, renderOscillator } from '../dsp/sim/index.ts';
 import { rng } from './helpers/random.ts';
 
@@ -72,6 +64,23 @@ describe('decimationTaps: a Kaiser-windowed sinc', () => {
   });
 });
 
+describe('cicTaps: three cascaded moving averages', () => {
+  for (const d of [1, 2, 3, 6, 48]) {
+    it(`factor ${d}: 3D − 2 symmetric taps, unity gain at DC, nulls on every multiple of the output rate`, () => {
+      // A third-order CIC filter is a box of D taps convolved with itself twice; its response
+      // |sin(πfD)/(D·sin(πf))|³ is zero at f = k/D for k = 1 … D − 1 (Hogenauer, IEEE Trans. ASSP 29(2), 1981).
+      const h = cicTaps(d);
+      expect(h.length).toBe(3 * d - 2);
+      for (let k = 0; k < h.length; k++) expect(h[k]).toBe(h[h.length - 1 - k]);
+      expect(gainAt(h, 0)).toBeCloseTo(1, 12);
+      for (let k = 1; k < d; k++) expect(gainAt(h, k / d)).toBeLessThan(1e-9);
+    });
+  }
+  it('refuses a factor that is not a positive integer', () => {
+    expect(() => cicTaps(0)).toThrow(/factor must be an integer from 1 to 1024, got 0/);
+  });
+});
+
 describe('Decimator', () => {
   it('gives the same output however the input is cut into blocks', () => {
     const r = rng(11);
@@ -94,6 +103,29 @@ describe('Decimator', () => {
     expect(nb).toBe(na);
     expect(na).toBe(Math.ceil(x.length / 4));
     for (let i = 0; i < na; i++) expect(b[i]).toBe(a[i]);
+  });
+
+  it('takes taps of even length too (a CIC filter by an even factor), with a half-sample delay', () => {
+    // The same comparison as below with cicTaps(6), 16 taps: output m holds input time m·6 − 7.5.
+    const fs = 48_000;
+    const x = sine(20, fs, 1);
+    const d = new Decimator(6, cicTaps(6));
+    expect(d.delayFrames).toBe(7.5);
+    const y = new Float32Array(d.outputLength(x.length));
+    const n = d.push(x, y);
+    expect(n).toBe(8000);
+    for (const m of [1000, 4001, 7000]) {
+      const t = (m * 6 - d.delayFrames) / fs;
+      // The CIC filter's gain at 20 Hz is 1 − 4·10⁻⁵ (its sinc³ response, same source): within 1e-4.
+      expect(Math.abs(y[m] - 0.5 * Math.sin(2 * Math.PI * 20 * t))).toBeLessThan(1e-4);
+    }
+  });
+
+  it('refuses taps that are not symmetric (they would move the pitch with frequency)', () => {
+    expect(() => new Decimator(2, Float64Array.from([0.5, 0.3, 0.2]))).toThrow(
+      /taps must be symmetric \(linear phase\): tap 0 is 0.5, tap 2 is 0.2/,
+    );
+    expect(() => new Decimator(0, cicTaps(1))).toThrow(/factor must be a positive integer, got 0/);
   });
 
   it('changes no pitch: a 1 kHz sine at 48 kHz reads 1 kHz at 12 kHz, delayed by half the filter', () => {

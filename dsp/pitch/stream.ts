@@ -14,6 +14,7 @@
  * the first readings at each window size (warm-up), `push` allocates only the reading objects it emits.
  */
 
+import { Decimator, cicTaps } from './decimate.ts';
 import { MIN_SAMPLE_RATE_HZ, PitchEstimator, checkSampleRate, type PitchOptions } from './pitch.ts';
 import type { PitchReading } from './reading.ts';
 import { DOUBLE_ZERO, MAX_BREAKS } from './refine.ts';
@@ -50,96 +51,12 @@ export interface TrackerOptions extends Omit<PitchOptions, 'timeSeconds' | 'hint
   readonly lowHistorySeconds?: Seconds;
 }
 
-/**
- * A streaming decimator by an integer factor D: three cascaded moving averages of D samples (a third-order
- * CIC filter, E. B. Hogenauer, "An economical class of digital filters for decimation and interpolation",
- * IEEE Trans. ASSP 29(2), 1981), evaluated directly as one FIR of 3D − 2 taps so that no integrator
- * accumulates rounding. Its nulls sit on every multiple of the output rate, where the aliases of the band a
- * sub-audio tone's harmonics occupy come from; it is linear-phase, so it delays every frequency alike and
- * moves no pitch.
- */
-class Decimator {
-  readonly factor: number;
-  private readonly taps: Float64Array;
-  private readonly hist: Float64Array;
-  private pos = 0;
-  private phase = 0;
-
-  constructor(factor: number) {
-    this.factor = factor;
-    // The kernel: a box of D convolved with itself twice, normalised to unit gain at DC.
-    const box = new Float64Array(factor).fill(1);
-    let k: Float64Array = box;
-    for (let pass = 0; pass < 2; pass++) {
-      const next = new Float64Array(k.length + factor - 1);
-      for (let i = 0; i < k.length; i++) for (let j = 0; j < factor; j++) next[i + j] += k[i];
-      k = next;
-    }
-    const norm = factor * factor * factor;
-    for (let i = 0; i < k.length; i++) k[i] /= norm;
-    this.taps = k;
-    this.hist = new Float64Array(k.length);
-  }
-
-  /** Output samples the filter gives before its history is full (they see zeros before the stream). */
-  get startup(): number {
-    return Math.ceil((this.taps.length - this.factor) / this.factor);
-  }
-
-  /** Input index (of the full-rate stream) at the centre of output sample `j`. */
-  centreOf(j: number): number {
-    return j * this.factor - 0.5 * (this.factor - 1);
-  }
-
-  /**
-   * Takes frames `[from, from + count)` of channel `channel` of an interleaved block; writes each output
-   * sample into `ring` from `writePos`, wrapping. Returns the number of output samples written.
-   */
-  push(
-    block: ArrayLike<number>,
-    from: number,
-    count: number,
-    cc: number,
-    channel: number,
-    ring: Float32Array,
-    writePos: number,
-  ): number {
-    const L = this.taps.length;
-    const D = this.factor;
-    const h = this.hist;
-    const taps = this.taps;
-    const cap = ring.length;
-    let w = writePos;
-    let out = 0;
-    for (let i = from; i < from + count; i++) {
-      const x = block[i * cc + channel];
-      h[this.pos] = Number.isFinite(x) ? x : Number.NaN;
-      this.pos = this.pos + 1 === L ? 0 : this.pos + 1;
-      if (++this.phase < D) continue;
-      this.phase = 0;
-      let acc = 0;
-      let q = this.pos;
-      for (let t = 0; t < L; t++) {
-        acc += taps[t] * h[q];
-        q = q + 1 === L ? 0 : q + 1;
-      }
-      ring[w] = acc;
-      w = w + 1 === cap ? 0 : w + 1;
-      out++;
-    }
-    return out;
-  }
-
-  reset(): void {
-    this.hist.fill(0);
-    this.pos = 0;
-    this.phase = 0;
-  }
-}
-
 /** The decimated side of a tracker, for sub-audio pitches. */
 interface LowTier {
+  /** A CIC decimator (`cicTaps`): its nulls sit on every multiple of the output rate, where aliases come from. */
   readonly dec: Decimator;
+  /** The decimator's output for one push (at most one hop of input). */
+  readonly decOut: Float32Array;
   readonly rateHz: number;
   readonly ring: Float32Array;
   readonly window: Float32Array;
@@ -271,8 +188,10 @@ export class PitchTracker {
         maxHz: Math.min(maxHz ?? Infinity, 0.45 * rateHz),
       };
       const maxWindow = Math.ceil(longest * rateHz);
+      const dec = new Decimator(factor, cicTaps(factor));
       this.low = {
-        dec: new Decimator(factor),
+        dec,
+        decOut: new Float32Array(dec.outputLength(this.hop)),
         rateHz,
         ring,
         window: new Float32Array(ring.length),
@@ -325,12 +244,14 @@ export class PitchTracker {
     // at a time would, and each reading sees the same history.
     for (let i = 0; i < frames;) {
       const k = Math.min(frames - i, this.hop - this.sinceReading);
+      const from = this.writePos;
       this.writePos = copyIntoRing(block, i, k, cc, this.channel, this.ring, this.writePos);
       const low = this.low;
       if (low) {
-        const made = low.dec.push(block, i, k, cc, this.channel, low.ring, low.writePos);
-        low.total += made;
-        low.writePos = (low.writePos + made) % low.ring.length;
+        // The samples just written to the full-rate ring, in one or two pieces, through the decimator.
+        const tail = Math.min(k, this.ring.length - from);
+        this.pushLow(low, this.ring.subarray(from, from + tail));
+        if (tail < k) this.pushLow(low, this.ring.subarray(0, k - tail));
       }
       this.total += k;
       this.sinceReading += k;
@@ -431,14 +352,24 @@ export class PitchTracker {
     return r;
   }
 
-  /** Decimated samples held that the filter made from the stream alone (none of its start-up). */
-  private lowAvailable(low: LowTier): number {
-    return Math.max(0, Math.min(low.total - low.dec.startup, low.ring.length));
+  /** Decimates `x` (full-rate samples of the analysed channel) into the sub-audio ring. */
+  private pushLow(low: LowTier, x: Float32Array): void {
+    const made = low.dec.push(x, low.decOut);
+    low.writePos = copyIntoRing(low.decOut, 0, made, 1, 0, low.ring, low.writePos);
+    low.total += made;
   }
 
-  /** Index in the decimated stream nearest to full-rate stream index `i`. */
+  /** Decimated samples held that the filter made from the stream alone (none of its start-up). */
+  private lowAvailable(low: LowTier): number {
+    return Math.max(0, Math.min(low.total - low.dec.startupOutputs, low.ring.length));
+  }
+
+  /**
+   * Index in the decimated stream nearest to full-rate stream index `i`: output m holds the input around
+   * m·D − delay (dsp/pitch/decimate.ts).
+   */
   private lowIndexOf(low: LowTier, i: number): number {
-    return Math.round((i + 0.5 * (low.dec.factor - 1)) / low.dec.factor);
+    return Math.round((i + low.dec.delayFrames) / low.dec.factor);
   }
 
   /**

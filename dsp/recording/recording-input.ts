@@ -15,10 +15,10 @@
  * Pure: no Node or DOM APIs.
  */
 import type { PitchReading } from '../pitch/index.ts';
-import { PitchTracker, type TrackerOptions } from '../pitch/index.ts';
+import { Decimator, PitchTracker, type TrackerOptions } from '../pitch/index.ts';
 import type { Hertz, Seconds } from '../math/index.ts';
 import { readWavFrames, type ByteSource, type WavLayout } from '../io/index.ts';
-import { Decimator, decimationFactorFor } from './decimate.ts';
+import { decimationFactorFor } from './decimate.ts';
 
 /** One channel of a recording, read a stretch at a time. */
 export interface SampleSource {
