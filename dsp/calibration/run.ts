@@ -44,7 +44,12 @@ import {
 } from './plateau.ts';
 import { fitThermalTail } from './tail.ts';
 import { PLAN_LIMITS, validatePlanVolts, type Plan } from './plan.ts';
-import type { PitchReading, StepFlag, UncertaintyComponents } from '../pitch/index.ts';
+import {
+  combinedCents,
+  type PitchReading,
+  type StepFlag,
+  type UncertaintyComponents,
+} from '../pitch/index.ts';
 import type { Cents, Hertz, Seconds, Volts } from '../math/index.ts';
 
 /** Settings of a run. */
@@ -910,9 +915,8 @@ function storeLiveMean(s: RunState): void {
   });
 }
 
-function rss(c: UncertaintyComponents): number {
-  return Math.sqrt(c.estimatorCents ** 2 + c.repeatabilityCents ** 2 + c.settlingCents ** 2);
-}
+/** The combined standard uncertainty, computed as every path computes it (`combinedCents`, dsp/pitch/reading.ts). */
+const rss = combinedCents;
 
 /** The host's components, when they are well formed (dof may be Infinity or, from JSON, null). */
 function okComponents(v: unknown): UncertaintyComponents | null {

@@ -94,6 +94,29 @@ function warmUp(coarse: Coarse): void {
   coarse.det.findPitch(b, 48000);
 }
 
+/**
+ * What a window's estimate decided from its spectrum: the harmonics it fitted and the hum lines it handled.
+ * Sub-windows of a settled measurement are fitted with the whole window's plan (dsp/pitch/settled.ts), so that
+ * their scatter measures the oscillator, not the choices a short window's coarse spectrum would make.
+ */
+export interface HarmonicPlan {
+  /** Harmonic numbers fitted, ascending. */
+  readonly harmonics: Int32Array;
+  /** Hum lines handled (bit h: HUM_LINES_HZ[h], dsp/pitch/refine.ts); 0 when the fit without hum handling was kept. */
+  readonly humMask: number;
+}
+
+/** A reading made with a given {@link HarmonicPlan}: a frequency and its standard uncertainty, or why not. */
+export type PlannedReading =
+  | {
+      readonly kind: 'ok';
+      readonly hz: Hertz;
+      readonly uncertaintyCents: number;
+      /** Breaks the window spans (as for a {@link PitchReading}); absent when none. */
+      readonly breaks?: number;
+    }
+  | { readonly kind: 'none'; readonly reason: NoPitchReason };
+
 /** Options of the pitch estimator. All have defaults. */
 export interface PitchOptions {
   /** Lowest fundamental to report, Hz. Default 10. */
@@ -211,6 +234,10 @@ export class PitchEstimator {
   // field as a double from the start: a field that starts as 0 changes its storage when the first double
   // lands in it, and the other estimators' compiled code then fails its shape checks call after call.
   private noiseFloor = Number.NaN;
+  /** The plan of the last window that gave a frequency (harmonics in `planHarmonics`), or none (count 0). */
+  private readonly planHarmonics: Int32Array;
+  private planCount = 0;
+  private planHum = 0;
 
   /**
    * @param maxSamples - Longest window, samples (integer ≥ 64).
@@ -233,6 +260,7 @@ export class PitchEstimator {
     this.fftOut = new Float64Array(2 * nfft);
     this.spec = new Float64Array(nfft / 2 + 1);
     this.harmonics = new Int32Array(this.opts.maxHarmonics);
+    this.planHarmonics = new Int32Array(this.opts.maxHarmonics);
   }
 
   /**
@@ -261,6 +289,7 @@ export class PitchEstimator {
     const fs = this.sampleRateHz;
     const o = this.opts;
     const st = this.stats;
+    this.planCount = 0;
     conditionInto(src, start, count, this.work, st, stride);
     const level = levelOf(st);
     const none = (reason: NoPitchReason, coarseHz?: number): PitchReading => {
@@ -345,6 +374,7 @@ export class PitchEstimator {
     const kCount = this.chooseHarmonics(f, periods);
     if (kCount === 0) return none('no-pitch', f);
     const humMask = this.humPresent(f);
+    let humUsed = humMask;
     const power = st.rms * st.rms;
     const pass = (centreHz: number) =>
       this.refiner.refine(
@@ -385,7 +415,10 @@ export class PitchEstimator {
         o.segments,
         0,
       );
-      if (alt.ok && 4 * alt.stdErrHz < this.refined.stdErrHz) Object.assign(this.refined, alt);
+      if (alt.ok && 4 * alt.stdErrHz < this.refined.stdErrHz) {
+        Object.assign(this.refined, alt);
+        humUsed = 0;
+      }
     }
     this.refiner.setBreaks(NO_BREAKS, 0);
     const res = this.refined;
@@ -393,6 +426,9 @@ export class PitchEstimator {
     if (res.explainedFraction < 0.3) return none('no-pitch', res.hz);
     if (res.hz < o.minHz * EDGE) return none('below-range', res.hz);
     if (res.hz > o.maxHz) return none('above-range', res.hz);
+    this.planHarmonics.set(this.harmonics.subarray(0, kCount));
+    this.planCount = kCount;
+    this.planHum = humUsed;
     return {
       kind: 'ok',
       hz: res.hz,
@@ -402,6 +438,91 @@ export class PitchEstimator {
       windowSeconds: count / fs,
       harmonicsUsed: res.harmonicsUsed,
       timeSeconds,
+      ...(res.breaks > 0 ? { breaks: res.breaks } : {}),
+    };
+  }
+
+  /**
+   * The plan of the last {@link estimate} call, when it gave a frequency: the harmonics it fitted and the hum
+   * lines it handled (a copy). Null after a call that gave none.
+   *
+   * @example est.estimate(x, 0, x.length); est.lastPlan()?.harmonics.length // e.g. 24
+   */
+  lastPlan(): HarmonicPlan | null {
+    if (this.planCount === 0) return null;
+    return { harmonics: this.planHarmonics.slice(0, this.planCount), humMask: this.planHum };
+  }
+
+  /**
+   * Measures `count` samples of `src` from `start` with a given plan, centred on `centreHz`: the same
+   * conditioning and level checks as {@link estimate}, then the phase-slope fit of the plan's harmonics with
+   * its hum handling, without a coarse stage or a spectrum of its own. For the sub-windows of a settled
+   * measurement, whose whole window made the plan (dsp/pitch/settled.ts). Breaks given by {@link setBreaks}
+   * apply to this call.
+   *
+   * @param centreHz - Where to centre the fit: the whole window's frequency, Hz (> 0).
+   * @param plan - From {@link lastPlan}; harmonics above the estimator's limit are not fitted.
+   * @throws RangeError for a count outside 0…maxSamples or a centre that is not a positive frequency.
+   */
+  estimateWithPlan(
+    src: ArrayLike<number>,
+    start: number,
+    count: number,
+    centreHz: Hertz,
+    plan: HarmonicPlan,
+  ): PlannedReading {
+    if (!Number.isInteger(count) || count < 0 || count > this.maxSamples) {
+      throw new RangeError(`count must be an integer from 0 to ${this.maxSamples}, got ${count}`);
+    }
+    if (!(centreHz > 0) || !Number.isFinite(centreHz)) {
+      throw new RangeError(`centreHz must be a positive frequency, got ${centreHz}`);
+    }
+    const fs = this.sampleRateHz;
+    const o = this.opts;
+    const st = this.stats;
+    this.planCount = 0;
+    conditionInto(src, start, count, this.work, st, 1);
+    const level = levelOf(st);
+    const none = (reason: NoPitchReason): PlannedReading => {
+      this.refiner.setBreaks(NO_BREAKS, 0);
+      return { kind: 'none', reason };
+    };
+    if (st.badSamples > 0) return none('bad-samples');
+    if (count < 64) return none('warming-up');
+    if (!(level.rmsDbfs >= o.silenceDbfs)) return none('silent');
+    if (st.clippedFraction > o.clippedFractionLimit) return none('clipped');
+    if ((count * centreHz) / fs < 3) return none('below-range');
+    const limit = this.harmonicLimitHz();
+    let k = 0;
+    for (let j = 0; j < plan.harmonics.length && k < this.harmonics.length; j++) {
+      if (plan.harmonics[j] * centreHz < limit) this.harmonics[k++] = plan.harmonics[j];
+    }
+    if (k === 0) return none('no-pitch');
+    const power = st.rms * st.rms;
+    const pass = (hz: number) =>
+      this.refiner.refine(
+        this.work,
+        count,
+        fs,
+        hz,
+        this.harmonics,
+        k,
+        power,
+        this.refined,
+        o.segments,
+        plan.humMask,
+      );
+    const r = pass(centreHz);
+    if (r.ok && Math.abs(r.hz / centreHz - 1) > 3e-5) pass(r.hz);
+    this.refiner.setBreaks(NO_BREAKS, 0);
+    const res = this.refined;
+    if (!res.ok || res.explainedFraction < 0.3) return { kind: 'none', reason: 'no-pitch' };
+    if (res.hz < o.minHz * EDGE) return { kind: 'none', reason: 'below-range' };
+    if (res.hz > o.maxHz) return { kind: 'none', reason: 'above-range' };
+    return {
+      kind: 'ok',
+      hz: res.hz,
+      uncertaintyCents: (CENTS_PER_LN * res.stdErrHz) / res.hz,
       ...(res.breaks > 0 ? { breaks: res.breaks } : {}),
     };
   }

@@ -31,7 +31,7 @@
 import { MAX_CLOCK_PPM } from '../io/index.ts';
 import type { BendAnalysisOk, TrackingFitOk } from '../model/index.ts';
 import { A4_HZ, CENTS_PER_OCTAVE, nearestNote, type NearestNote } from '../math/index.ts';
-import { PitchEstimator } from '../pitch/index.ts';
+import { combinedCents, PitchEstimator } from '../pitch/index.ts';
 import type { BudgetOptions } from '../model/index.ts';
 import {
   calibrate,
@@ -559,9 +559,7 @@ export function analyzeRecording(
       piece,
       group: g,
       rawHz: reading ? reading.hz : p.meanHz,
-      uncertaintyCents: reading
-        ? Math.sqrt(reading.uncertaintyCents ** 2 + components.settlingCents ** 2)
-        : p.standardErrorCents,
+      uncertaintyCents: reading ? combinedCents(components) : p.standardErrorCents,
       reading,
       windowStartSeconds: reading ? w0 : piece.startSeconds,
       windowEndSeconds: reading ? w1 : piece.endSeconds,
