@@ -64,6 +64,11 @@ export interface RefineResult {
    * on harmonics far weaker than the ones left out.
    */
   humLeftOutShare: number;
+  /**
+   * When the fit failed only for want of degrees of freedom (too few segments kept after breaks and robust
+   * re-weighting), the frequency it reached, Hz: a better centre to fit again from. 0 otherwise.
+   */
+  provisionalHz: number;
 }
 
 /** Most break positions a window can be given. */
@@ -100,6 +105,7 @@ export function emptyRefineResult(): RefineResult {
     breaks: 0,
     foundBreaks: 0,
     humLeftOutShare: DOUBLE_ZERO,
+    provisionalHz: DOUBLE_ZERO,
   };
 }
 
@@ -356,6 +362,7 @@ export class HarmonicRefiner {
     humMask = 0b111111,
   ): RefineResult {
     out.ok = false;
+    out.provisionalHz = DOUBLE_ZERO;
     const K = Math.min(harmonicCount, this.maxHarmonics);
     const periods = (n * f0Hz) / fs;
     if (K < 1 || periods < 2 || n > this.maxSamples) return out;
@@ -635,7 +642,10 @@ export class HarmonicRefiner {
     const breaks = this.countBreaks(M);
     const hz = f0Hz + deltaA + delta;
     // var(d) = s² / (4π² Σ w k² Δt²)  (weighted least squares with unknown scale).
-    if (!(dofOut >= 1)) return out;
+    if (!(dofOut >= 1)) {
+      if (Number.isFinite(hz) && hz > 0) out.provisionalHz = hz;
+      return out;
+    }
     // A break found in the data is placed only to a segment: a trace of a mixed segment may stay in the
     // fit. Its reading states 1.5 times the standard error (set on the benchmark's dropout table so that
     // 90 % of readings fall within 2σ; no published source).
