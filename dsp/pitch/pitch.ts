@@ -376,19 +376,7 @@ export class PitchEstimator {
     const humMask = this.humPresent(f);
     let humUsed = humMask;
     const power = st.rms * st.rms;
-    const pass = (centreHz: number) =>
-      this.refiner.refine(
-        this.work,
-        count,
-        fs,
-        centreHz,
-        this.harmonics,
-        kCount,
-        power,
-        this.refined,
-        o.segments,
-        humMask,
-      );
+    const pass = (centreHz: number) => this.fitAt(count, centreHz, kCount, power, humMask);
     let r = pass(f);
     // A fit that failed only for want of degrees of freedom may have started too far off: a centre a few cents
     // from the tone turns its phases by a ramp that, with breaks in the window, costs the robust fit too many
@@ -508,19 +496,7 @@ export class PitchEstimator {
     }
     if (k === 0) return none('no-pitch');
     const power = st.rms * st.rms;
-    const pass = (hz: number) =>
-      this.refiner.refine(
-        this.work,
-        count,
-        fs,
-        hz,
-        this.harmonics,
-        k,
-        power,
-        this.refined,
-        o.segments,
-        plan.humMask,
-      );
+    const pass = (hz: number) => this.fitAt(count, hz, k, power, plan.humMask);
     const r = pass(centreHz);
     if (r.ok && Math.abs(r.hz / centreHz - 1) > 3e-5) pass(r.hz);
     this.refiner.setBreaks(NO_BREAKS, 0);
@@ -551,6 +527,31 @@ export class PitchEstimator {
   /** Level of the last analysed window (for meters). */
   lastLevel(): SignalLevel {
     return levelOf(this.stats);
+  }
+
+  /**
+   * The phase-slope fit of the conditioned window (`count` samples in `work`) centred on `centreHz`, with the
+   * first `harmonicCount` entries of `harmonics` and the hum lines of `humMask`, into `refined`.
+   */
+  private fitAt(
+    count: number,
+    centreHz: number,
+    harmonicCount: number,
+    power: number,
+    humMask: number,
+  ): RefineResult {
+    return this.refiner.refine(
+      this.work,
+      count,
+      this.sampleRateHz,
+      centreHz,
+      this.harmonics,
+      harmonicCount,
+      power,
+      this.refined,
+      this.opts.segments,
+      humMask,
+    );
   }
 
   /** Hann-windowed power spectrum of the conditioned window into `spec` (bins 0…nfft/2). */
