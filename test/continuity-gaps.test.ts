@@ -4,32 +4,10 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { cliInProcess } from './cli-run.ts';
 import { tempDir, writeWavFile } from './helpers/wav.ts';
 import { estimatePitch } from '../dsp/pitch/index.ts';
-import { withDropouts } from '../dsp/sim/index.ts';
-import { addNoise, centsError, tone, type Shape } from './signals.ts';
+import { centsError } from './signals.ts';
+import { DROPOUT_FS, brokenSecond, expectOnDropoutTarget } from './helpers/dropouts.ts';
 
-const FS = 48000;
-
-/**
- * One second of a tone at 40 dB SNR with samples cut out at the given times (no marker in the data), as
- * an interface overrun leaves it. The truth is the generator's frequency (a Fourier series, see signals.ts).
- */
-function brokenSecond(
-  shape: Shape,
-  hz: number,
-  phase: number,
-  gapMs: number,
-  atSeconds: number[],
-  seed: number,
-) {
-  const x = tone(shape, hz, FS, 1.2 + (atSeconds.length * gapMs) / 1000, { phase });
-  addNoise(x, 40, seed);
-  const { samples, breaks } = withDropouts(
-    x,
-    FS,
-    atSeconds.map((a) => ({ atSeconds: a, seconds: gapMs / 1000 })),
-  );
-  return { samples: samples.subarray(0, FS), breaks: breaks.filter((b) => b < FS) };
-}
+const FS = DROPOUT_FS;
 
 describe('dropouts that leave only a small phase step', () => {
   // The layout the benchmark's dropout table once missed (20 ms × 3 per window, one of its sine trials):
@@ -48,15 +26,7 @@ describe('dropouts that leave only a small phase step', () => {
       1001,
     );
     expect(breaks).toHaveLength(3);
-    const r = estimatePitch(samples, FS);
-    expect(r.kind).toBe('ok');
-    if (r.kind !== 'ok') return;
-    const e = centsError(r.hz, hz);
-    expect(Math.abs(e), `error ${e} cent`).toBeLessThan(0.01);
-    expect(Math.abs(e), `error ${e} cent, stated ${r.uncertaintyCents}`).toBeLessThanOrEqual(
-      2 * r.uncertaintyCents,
-    );
-    expect(r.breaks).toBe(3);
+    expect(expectOnDropoutTarget(samples, hz).breaks).toBe(3);
   });
 
   it('the same gaps with other noise: never more than 0.01 cent off, and flagged', () => {
@@ -90,6 +60,16 @@ describe('dropouts that fool the coarse stage or look like hum', () => {
     expect(r.breaks).toBeGreaterThanOrEqual(2);
   });
 
+  it('a sine whose dropouts bend its spectrum is fitted again from nearer, not given up', () => {
+    // The bench's dropout table, seed 93, trial 9. The spectrum of this broken sine put its centre 2.8 cents
+    // high; the phase fit from there kept under one degree of freedom and the window read "no pitch". It is
+    // now fitted again from where that fit got to.
+    const hz = 103.7614124138108;
+    const cuts = [0.23798916448528568, 0.6872444012202322, 0.9569287025214483];
+    const { samples } = brokenSecond('sine', hz, 3.618401206098497, 20, cuts, 1009);
+    expect(expectOnDropoutTarget(samples, hz).breaks ?? 0).toBeGreaterThanOrEqual(1);
+  });
+
   it.each([
     { hz: 176.75395577791446, phase: 1.1028695851564407, gapMs: 2, at: [0.33072, 0.89297], seed: 1025 },
     { hz: 56.9676038953688, phase: 0.006576562765985727, gapMs: 10, at: [0.37753, 0.77438], seed: 1037 },
@@ -99,14 +79,7 @@ describe('dropouts that fool the coarse stage or look like hum', () => {
       // A sine 3 Hz from 180 or 60 Hz, broken by dropouts, shows a line-like shoulder on the mains line;
       // taken for hum, the fundamental was left out and the fit read noise: 5–10 cents off.
       const { samples } = brokenSecond('sine', hz, phase, gapMs, at, seed);
-      const r = estimatePitch(samples, FS);
-      expect(r.kind).toBe('ok');
-      if (r.kind !== 'ok') return;
-      const e = centsError(r.hz, hz);
-      expect(Math.abs(e), `error ${e} cent`).toBeLessThan(0.01);
-      expect(Math.abs(e), `error ${e} cent, stated ${r.uncertaintyCents}`).toBeLessThanOrEqual(
-        2 * r.uncertaintyCents,
-      );
+      expectOnDropoutTarget(samples, hz);
     },
   );
 });

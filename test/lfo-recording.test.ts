@@ -60,6 +60,7 @@ describe('a recording in the LFO range', () => {
 
 describe('monotoneProgress', () => {
   it('starts each pass where the bar stands and ends the last at 1', () => {
+    // A progress bar that never goes back: common practice, no source. The values are exact by construction.
     const shown: number[] = [];
     const bar = monotoneProgress((f) => shown.push(f));
     const a = bar.pass();

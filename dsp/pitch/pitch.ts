@@ -299,10 +299,8 @@ export class PitchEstimator {
         ? { kind: 'none', reason, level, timeSeconds }
         : { kind: 'none', reason, level, timeSeconds, coarseHz };
     };
-    if (st.badSamples > 0) return none('bad-samples');
-    if (count < 64) return none('warming-up');
-    if (!(level.rmsDbfs >= o.silenceDbfs)) return none('silent');
-    if (st.clippedFraction > o.clippedFractionLimit) return none('clipped');
+    const refused = this.refusal(count, level);
+    if (refused !== null) return none(refused);
 
     // Coarse: McLeod pitch method on the central part of the window.
     const hint = hintHz > 0 ? hintHz : 0;
@@ -484,10 +482,8 @@ export class PitchEstimator {
       this.refiner.setBreaks(NO_BREAKS, 0);
       return { kind: 'none', reason };
     };
-    if (st.badSamples > 0) return none('bad-samples');
-    if (count < 64) return none('warming-up');
-    if (!(level.rmsDbfs >= o.silenceDbfs)) return none('silent');
-    if (st.clippedFraction > o.clippedFractionLimit) return none('clipped');
+    const refused = this.refusal(count, level);
+    if (refused !== null) return none(refused);
     if ((count * centreHz) / fs < 3) return none('below-range');
     const limit = this.harmonicLimitHz();
     let k = 0;
@@ -527,6 +523,17 @@ export class PitchEstimator {
   /** Level of the last analysed window (for meters). */
   lastLevel(): SignalLevel {
     return levelOf(this.stats);
+  }
+
+  /** Why the conditioned window (`count` samples, at `level`) cannot be measured at all, or null. */
+  private refusal(count: number, level: SignalLevel): NoPitchReason | null {
+    const o = this.opts;
+    const st = this.stats;
+    if (st.badSamples > 0) return 'bad-samples';
+    if (count < 64) return 'warming-up';
+    if (!(level.rmsDbfs >= o.silenceDbfs)) return 'silent';
+    if (st.clippedFraction > o.clippedFractionLimit) return 'clipped';
+    return null;
   }
 
   /**

@@ -334,7 +334,7 @@ export class PitchTracker {
     const n = Math.min(wanted, this.lowAvailable(low));
     const t = this.total / this.sampleRateHz;
     if (n < 64) return { kind: 'none', reason: 'warming-up', level: this.live.lastLevel(), timeSeconds: t };
-    const r = this.measureLow(low, low.live, low.total - n, n, t, this.hintHz, false);
+    const r = this.measureIn(low, low.live, low.total - n, n, t, this.hintHz, false);
     const cycles = r.kind === 'ok' ? (n * r.hz) / rate : 0;
     if (n < wanted) {
       // Not yet a full window for the lowest pitch: what there is will do if it holds enough cycles.
@@ -430,7 +430,7 @@ export class PitchTracker {
     const js = this.lowIndexOf(low, s);
     const je = Math.min(this.lowIndexOf(low, e), low.total);
     if (js < low.total - this.lowAvailable(low) || je - js < 64) return r;
-    const q = this.measureLow(low, low.settled, js, je - js, t, 0, true);
+    const q = this.measureIn(low, low.settled, js, je - js, t, 0, true);
     return q.kind === 'ok' || !fullFits ? q : r;
   }
 
@@ -464,22 +464,6 @@ export class PitchTracker {
     settled = false,
   ): PitchReading {
     return this.measureIn(null, est, start, n, t, hintHz, settled);
-  }
-
-  /**
-   * Measures samples [start, start+n) of the decimated stream (its own indices), with the stream's breaks
-   * moved onto its time base.
-   */
-  private measureLow(
-    low: LowTier,
-    est: PitchEstimator,
-    start: number,
-    n: number,
-    t: Seconds,
-    hintHz: Hertz,
-    settled: boolean,
-  ): PitchReading {
-    return this.measureIn(low, est, start, n, t, hintHz, settled);
   }
 
   /**

@@ -15,7 +15,7 @@ import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { CliError } from '../../cli/errors.ts';
-import { BARE_PITCHY_PASS, cliBundle, writeSteppedRecording } from './shared.ts';
+import { BARE_PITCHY_PASS, cliBundle, table, writeSteppedRecording } from './shared.ts';
 import { modelBenchCases } from './model.ts';
 import { integrityCases } from './integrity.ts';
 
@@ -89,15 +89,6 @@ function fmtC(c: number): string {
 function ratio(ours: Errors, theirs: Errors): string {
   if (theirs.worst === 0) return '–';
   return (Math.abs(ours.worst) / Math.abs(theirs.worst)).toExponential(1);
-}
-
-function table(title: string, header: string[], rows: string[][]): void {
-  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i].length)));
-  const line = (cells: string[]) => '| ' + cells.map((c, i) => c.padEnd(widths[i])).join(' | ') + ' |';
-  console.log(`\n### ${title}\n`);
-  console.log(line(header));
-  console.log('|' + widths.map((w) => '-'.repeat(w + 2)).join('|') + '|');
-  for (const r of rows) console.log(line(r));
 }
 
 const cleanCache = new Map<string, Float64Array>();

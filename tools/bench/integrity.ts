@@ -11,15 +11,7 @@ import { createOscillatorStream, trueHz, withDropouts } from '../../dsp/sim/inde
 import { PitchTracker } from '../../dsp/pitch/index.ts';
 import { feedReading } from '../../renderer/src/engine/run-host.ts';
 import { addNoise, centsError, rng, tone, type Shape } from '../../test/signals.ts';
-
-function table(title: string, header: string[], rows: string[][]): void {
-  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i].length)));
-  const line = (cells: string[]) => '| ' + cells.map((c, i) => c.padEnd(widths[i])).join(' | ') + ' |';
-  console.log(`\n### ${title}\n`);
-  console.log(line(header));
-  console.log('|' + widths.map((w) => '-'.repeat(w + 2)).join('|') + '|');
-  for (const r of rows) console.log(line(r));
-}
+import { table } from './shared.ts';
 
 function fmt(c: number): string {
   if (c === 0) return '0';

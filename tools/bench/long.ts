@@ -15,7 +15,7 @@ import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { SAW6, writeLongToneWav } from '../../test/long-wav.ts';
-import { BARE_PITCHY_PASS, cliBundle, writeSteppedRecording } from './shared.ts';
+import { BARE_PITCHY_PASS, cliBundle, table, writeSteppedRecording } from './shared.ts';
 
 interface Timed {
   readonly ms: number;
@@ -40,17 +40,6 @@ function timed(cmd: string, args: string[], cwd: string): Timed {
   const sys = /System time \(seconds\): ([\d.]+)/.exec(err);
   const cpuMs = user && sys ? 1000 * (Number(user[1]) + Number(sys[1])) : null;
   return { ms, status: r.status, maxRssMb: rss ? Number(rss[1]) / 1024 : null, cpuMs, stderr: err };
-}
-
-function row(cells: string[]): string {
-  return `| ${cells.join(' | ')} |`;
-}
-
-function printTable(title: string, header: string[], rows: string[][]): void {
-  console.log(`\n### ${title}\n`);
-  console.log(row(header));
-  console.log(row(header.map(() => '---')));
-  for (const r of rows) console.log(row(r));
 }
 
 /** A bare pitchy pass over a float WAV read in blocks: 8192-sample windows at 20 per second, channel 1. */
@@ -119,7 +108,7 @@ function longCase(quick: boolean): boolean {
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
-  printTable(
+  table(
     `${seconds / 60} minutes of 48 kHz stereo 32-bit float, read in blocks (targets: ≥ 50× real time, peak memory < 300 MB)`,
     [
       'file',
@@ -190,7 +179,7 @@ function userCase(runs: number): boolean {
     const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
     const speed = (seconds * 1000) / best(ms[0]);
     const ok = failure === '' && speed >= 20;
-    printTable(
+    table(
       `As a user runs it: npm run analyze on a ${seconds.toFixed(1)} s stereo 16-bit stepped recording, npm and process start included, best and median of ${runs}, beside two references run the same way (target ≥ 20× real time, that is ${((seconds * 1000) / 20).toFixed(0)} ms)`,
       ['command', 'best ms', 'median ms', 'best CPU ms', 'speed', 'meets'],
       commands.map(([label], c) => [

@@ -19,6 +19,7 @@ import {
 import { fitCalibrationModel } from '../../dsp/model/index.ts';
 import { bulkResistanceAlpha } from '../../dsp/sim/index.ts';
 import { rng } from '../../test/helpers/random.ts';
+import { table } from './shared.ts';
 
 const CENTS = 1200;
 
@@ -87,15 +88,6 @@ function fitOf(steps: readonly BudgetStep[], opts: BudgetOptions = {}) {
       uncertaintyCents: stepFitUncertaintyCents(s, opts),
     })),
   );
-}
-
-function table(title: string, header: string[], rows: string[][]): void {
-  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((row) => row[i].length)));
-  const line = (cells: string[]) => '| ' + cells.map((c, i) => c.padEnd(widths[i])).join(' | ') + ' |';
-  console.log(`\n### ${title}\n`);
-  console.log(line(header));
-  console.log('|' + widths.map((w) => '-'.repeat(w + 2)).join('|') + '|');
-  for (const row of rows) console.log(line(row));
 }
 
 const VOLTS = [0, 1, 2, 3, 4, 5, 6, 7];

@@ -1,12 +1,22 @@
 /**
- * Pieces the benchmark's process-level cases share: where the command-line bundle is, the 15 s stereo
- * stepped recording that the whole-file and as-a-user cases both time, and the bare pitchy pass they are
- * compared with.
+ * Pieces the benchmark's cases share: how a table of results is printed, where the command-line bundle is, the
+ * 15 s stereo stepped recording that the whole-file and as-a-user cases both time, and the bare pitchy pass they
+ * are compared with.
  */
 import { existsSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { findDemoUnit, planSchedule, renderOscillator } from '../../dsp/sim/index.ts';
 import { encodeWav } from '../../cli/simulate.ts';
+
+/** Prints one table of results in Markdown, columns padded to their widest cell, under a `###` title. */
+export function table(title: string, header: string[], rows: string[][]): void {
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i].length)));
+  const line = (cells: string[]) => '| ' + cells.map((c, i) => c.padEnd(widths[i])).join(' | ') + ' |';
+  console.log(`\n### ${title}\n`);
+  console.log(line(header));
+  console.log('|' + widths.map((w) => '-'.repeat(w + 2)).join('|') + '|');
+  for (const r of rows) console.log(line(r));
+}
 
 /**
  * The command-line bundle the process-level cases run (`build/cli/spanmeter.mjs`). `scripts/bench.mjs` builds it
